@@ -1,0 +1,125 @@
+/**
+ * The one analysis call behind every front (CLI, language server, library):
+ * text and config in, a FileReport out. Pure: no LSP, no VS Code, no file system writes.
+ */
+import { analyzeModel } from './analysis';
+import type { Analysis } from './analysis/types';
+import { DEFAULT_CONFIG, type ResolvedConfig } from './config';
+import type { CompiledModel } from './model/compiled';
+import { compileSpec } from './model/compile';
+import { RULES } from './rules/registry';
+import type { Finding, FindingInput, Rule, RuleContext } from './rules/types';
+import { parseJsonSpec } from './spec/json';
+import { LineIndex } from './spec/lines';
+import type { ParsedSpec } from './spec/types';
+
+export interface AnalyzeOptions {
+  config?: ResolvedConfig;
+  /** Checked between phases; when it returns true the call stops early and the report says so. */
+  isCancelled?: () => boolean;
+}
+
+export interface FileReport {
+  path: string;
+  text: string;
+  lines: LineIndex;
+  spec: ParsedSpec;
+  /** Sorted by position; severities resolved through the config. */
+  findings: Finding[];
+  model?: CompiledModel;
+  analysis?: Analysis;
+  /** Why there is no model or analysis, when there is none. */
+  notAnalysed?: string;
+  /** Rules whose check failed unexpectedly (a bug of ours), with the error text. */
+  internalErrors: string[];
+  cancelled?: boolean;
+}
+
+/** Analyses a JSON spec (`*.mdp.json`). Never throws for any input text. */
+export function analyzeJsonText(path: string, text: string, options: AnalyzeOptions = {}): FileReport {
+  const config = options.config ?? DEFAULT_CONFIG;
+  const parsed = parseJsonSpec(text);
+  return analyzeParsed(path, text, parsed.spec, parsed.findings, config, options);
+}
+
+/**
+ * Runs compilation, analysis and every enabled rule on an already parsed spec. Loader findings
+ * (schema problems and the like) are merged in. Exported for the TypeScript-spec loader.
+ */
+export function analyzeParsed(
+  path: string,
+  text: string,
+  spec: ParsedSpec,
+  loaderFindings: Finding[],
+  config: ResolvedConfig,
+  options: AnalyzeOptions = {},
+  prebuiltModel?: { model?: CompiledModel; reason?: string },
+): FileReport {
+  const lines = new LineIndex(text);
+  const report: FileReport = { path, text, lines, spec, findings: [], internalErrors: [] };
+  const findings: Finding[] = [];
+  for (const f of loaderFindings) {
+    const severity = config.rules[f.rule];
+    if (severity === 'off') continue;
+    findings.push(severity ? { ...f, severity } : f);
+  }
+
+  const compiled = prebuiltModel ?? compileSpec(spec);
+  report.model = compiled.model;
+  if (!compiled.model) report.notAnalysed = compiled.reason;
+
+  const enabled = RULES.filter((rule) => config.rules[rule.id] !== 'off');
+  if (compiled.model && enabled.some((rule) => rule.needs === 'analysis') && !options.isCancelled?.()) {
+    try {
+      report.analysis = analyzeModel(compiled.model, { precision: config.precision });
+    } catch (error) {
+      report.notAnalysed = `the analysis failed: ${errorText(error)}`;
+      report.internalErrors.push(report.notAnalysed);
+    }
+  }
+
+  for (const rule of enabled) {
+    if (options.isCancelled?.()) {
+      report.cancelled = true;
+      break;
+    }
+    if (rule.needs === 'model' && !report.model) continue;
+    if (rule.needs === 'analysis' && !report.analysis) continue;
+    runRule(rule, report, config, findings);
+  }
+
+  findings.sort((a, b) => a.span.start - b.span.start || a.span.end - b.span.end || a.rule.localeCompare(b.rule));
+  report.findings = findings;
+  return report;
+}
+
+function runRule(rule: Rule, report: FileReport, config: ResolvedConfig, out: Finding[]): void {
+  const ctx: RuleContext = {
+    text: report.text,
+    spec: report.spec,
+    model: report.model,
+    analysis: report.analysis,
+    config,
+    threshold(name: string): number {
+      const configured = config.thresholds[`${rule.id}.${name}`];
+      if (configured !== undefined) return configured;
+      const spec = rule.thresholds?.[name];
+      if (!spec) throw new Error(`rule ${rule.id} has no threshold named ${name}`);
+      return spec.default;
+    },
+    report(input: FindingInput): void {
+      const severity = config.rules[rule.id] ?? input.severity ?? rule.defaultSeverity;
+      if (severity === 'off') return;
+      out.push({ ...input, rule: rule.id, severity });
+    },
+  };
+  try {
+    rule.check(ctx);
+  } catch (error) {
+    report.internalErrors.push(`rule ${rule.id} failed: ${errorText(error)}`);
+  }
+}
+
+function errorText(error: unknown): string {
+  return error instanceof Error ? error.message : String(error);
+}

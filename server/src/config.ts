@@ -1,0 +1,50 @@
+import type { Severity } from './rules/types';
+
+/** The contents of `episcope.config.json` (schema: schemas/config.schema.json). */
+export interface EpiscopeConfig {
+  /** Severity per rule id, or "off" to disable the rule. */
+  rules?: Record<string, Severity | 'off'>;
+  /** Thresholds keyed `rule-id.name`, e.g. `"reward-loop.probabilityGap": 0.2`. */
+  thresholds?: Record<string, number>;
+  /** Findings to suppress: a rule id and a path glob relative to the config file, with a reason. */
+  ignore?: Array<{ rule: string; path: string; reason: string }>;
+  /** Cap on states enumerated from a TypeScript model. */
+  stateCap?: number;
+  /** Monte Carlo rollouts per spec (0 = none for exact models). */
+  rollouts?: number;
+  seed?: number;
+  /** Half-width target of the value bounds (relative for values above 1 in magnitude). */
+  precision?: number;
+}
+
+export interface ResolvedConfig {
+  rules: Record<string, Severity | 'off'>;
+  thresholds: Record<string, number>;
+  ignore: Array<{ rule: string; path: string; reason: string }>;
+  stateCap: number;
+  rollouts: number;
+  seed: number;
+  precision: number;
+}
+
+export const DEFAULT_CONFIG: ResolvedConfig = {
+  rules: {},
+  thresholds: {},
+  ignore: [],
+  stateCap: 200_000,
+  rollouts: 0,
+  seed: 1,
+  precision: 1e-6,
+};
+
+export function resolveConfig(config: EpiscopeConfig | undefined): ResolvedConfig {
+  return {
+    rules: { ...(config?.rules ?? {}) },
+    thresholds: { ...(config?.thresholds ?? {}) },
+    ignore: [...(config?.ignore ?? [])],
+    stateCap: config?.stateCap ?? DEFAULT_CONFIG.stateCap,
+    rollouts: config?.rollouts ?? DEFAULT_CONFIG.rollouts,
+    seed: config?.seed ?? DEFAULT_CONFIG.seed,
+    precision: config?.precision ?? DEFAULT_CONFIG.precision,
+  };
+}

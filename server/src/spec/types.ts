@@ -1,0 +1,123 @@
+/**
+ * The parsed form of a spec, common to JSON and TypeScript sources. Every value keeps the span of
+ * the text it came from, so that each finding can point at the exact key or value.
+ */
+
+/** A half-open range of UTF-16 offsets into the document text. */
+export interface Span {
+  start: number;
+  end: number;
+}
+
+export type TerminalKind = 'goal' | 'failure' | 'neutral';
+export const TERMINAL_KINDS: readonly TerminalKind[] = ['goal', 'failure', 'neutral'];
+export type Objective = 'maximize' | 'minimize';
+export type TermDirection = 'bonus' | 'penalty' | 'either';
+
+export interface Located<T> {
+  value: T;
+  span: Span;
+}
+
+/** One component of an outcome's reward; `term` is null for a plain numeric reward. */
+export interface RewardPart {
+  term: string | null;
+  value: number;
+  span: Span;
+}
+
+export interface SpecOutcome {
+  state: string;
+  stateSpan: Span;
+  probability: number;
+  probabilitySpan: Span;
+  reward: RewardPart[];
+  /** The whole outcome (for a bare state id, the id itself). */
+  span: Span;
+}
+
+/**
+ * One (from, action) pair of the spec. A transition whose `from` or `action` is an array is
+ * expanded into one entry per combination; `sourceIndex` is then shared by the entries.
+ */
+export interface SpecTransition {
+  sourceIndex: number;
+  from: string;
+  fromSpan: Span;
+  action: string;
+  actionSpan: Span;
+  outcomes: SpecOutcome[];
+  toSpan: Span;
+  /** The whole transition object. */
+  span: Span;
+}
+
+export interface SpecState {
+  id: string;
+  /** The state's key in `states`. */
+  span: Span;
+  terminal?: TerminalKind;
+  terminalSpan?: Span;
+  /** The state's own action set, when it narrows the default one. */
+  actions?: Located<string>[];
+  actionsSpan?: Span;
+  /** A readable rendering of the state (for generated states of TypeScript models). */
+  label?: string;
+}
+
+export interface RewardTermSpec {
+  name: string;
+  direction: TermDirection;
+  shaping: boolean;
+  span: Span;
+}
+
+export interface StartEntry {
+  state: string;
+  probability: number;
+  span: Span;
+}
+
+export interface PotentialEntry {
+  state: string;
+  value: number;
+  span: Span;
+}
+
+export interface ParsedSpec {
+  format: 'json' | 'ts';
+  /** The span of the whole document's root value (fallback location for findings). */
+  rootSpan: Span;
+  name?: Located<string>;
+  objective: Objective;
+  objectiveSpan?: Span;
+  discount?: Located<number>;
+  horizon?: Located<number>;
+  start: StartEntry[];
+  startSpan?: Span;
+  /** The default action set of every state. */
+  actions: Located<string>[];
+  actionsSpan?: Span;
+  rewardTerms: RewardTermSpec[];
+  rewardTermsSpan?: Span;
+  states: SpecState[];
+  statesSpan?: Span;
+  potential: PotentialEntry[];
+  shapingSpan?: Span;
+  transitions: SpecTransition[];
+  transitionsSpan?: Span;
+}
+
+export function emptySpec(format: 'json' | 'ts', rootSpan: Span): ParsedSpec {
+  return {
+    format,
+    rootSpan,
+    objective: 'maximize',
+    start: [],
+    actions: [],
+    rewardTerms: [],
+    states: [],
+    potential: [],
+    transitions: [],
+  };
+}
