@@ -15,6 +15,8 @@ import type { ParsedSpec } from './spec/types';
 
 export interface AnalyzeOptions {
   config?: ResolvedConfig;
+  /** Whether TypeScript model code may run (false: static checks only, as with `--no-exec`). */
+  exec?: boolean;
   /** Checked between phases; when it returns true the call stops early and the report says so. */
   isCancelled?: () => boolean;
 }
@@ -33,6 +35,19 @@ export interface FileReport {
   /** Rules whose check failed unexpectedly (a bug of ours), with the error text. */
   internalErrors: string[];
   cancelled?: boolean;
+}
+
+/** True for the file names Episcope analyses (`*.mdp.json`, `*.mdp.ts`). */
+export function isSpecPath(path: string): boolean {
+  return path.endsWith('.mdp.json') || path.endsWith('.mdp.ts');
+}
+
+/**
+ * Analyses a spec of either format; the fronts (CLI, language server) call this. Never rejects
+ * for any input text.
+ */
+export async function analyzeFile(path: string, text: string, options: AnalyzeOptions = {}): Promise<FileReport> {
+  return analyzeJsonText(path, text, options);
 }
 
 /** Analyses a JSON spec (`*.mdp.json`). Never throws for any input text. */
