@@ -12,6 +12,7 @@ import type { Finding, FindingInput, Rule, RuleContext } from './rules/types';
 import { parseJsonSpec } from './spec/json';
 import { LineIndex } from './spec/lines';
 import type { ParsedSpec } from './spec/types';
+import { suppressReport, type SuppressedFinding } from './suppress';
 
 export interface AnalyzeOptions {
   config?: ResolvedConfig;
@@ -35,6 +36,8 @@ export interface FileReport {
   /** Rules whose check failed unexpectedly (a bug of ours), with the error text. */
   internalErrors: string[];
   cancelled?: boolean;
+  /** Findings hidden by a config `ignore` entry or an `episcope-ignore` comment (see suppress.ts). */
+  suppressed?: SuppressedFinding[];
 }
 
 /** True for the file names Episcope analyses (`*.mdp.json`, `*.mdp.ts`). */
@@ -105,6 +108,7 @@ export function analyzeParsed(
 
   findings.sort((a, b) => a.span.start - b.span.start || a.span.end - b.span.end || a.rule.localeCompare(b.rule));
   report.findings = findings;
+  suppressReport(report, config);
   return report;
 }
 

@@ -25,6 +25,11 @@ export interface ResolvedConfig {
   rollouts: number;
   seed: number;
   precision: number;
+  /**
+   * The folder of the config file, which `ignore` path globs are relative to (absolute, or in the
+   * same form as the paths the front analyses). Undefined: globs are matched against the path as given.
+   */
+  baseDir?: string;
 }
 
 export const DEFAULT_CONFIG: ResolvedConfig = {
