@@ -1,0 +1,216 @@
+/**
+ * The command line's grammar as data: one table of options, one table of commands, and a small
+ * hand-written parser over them. Adding a flag is one entry in OPTIONS plus its name in the
+ * commands that accept it; adding a subcommand is one entry in the command table of main.ts.
+ */
+
+export type OptionValue = string | number | boolean;
+
+export interface OptionSpec {
+  /** Long name without the dashes, e.g. "fail-on". */
+  name: string;
+  /** One-letter alias without the dash, e.g. "h". */
+  short?: string;
+  /** "flag" takes no value; "choice" takes one of `choices`; "integer" a whole number; "string" any text. */
+  kind: 'flag' | 'choice' | 'integer' | 'string';
+  choices?: readonly string[];
+  /** Shown in the usage text, e.g. FILE or N. */
+  valueName?: string;
+  /** The value when the option is not given (flags default to false). */
+  defaultValue?: OptionValue;
+  description: string;
+}
+
+export interface CommandSpec {
+  name: string;
+  /** What follows the command name in the usage line, e.g. "[paths...]". */
+  operands: string;
+  summary: string;
+  /** Names of the options (from OPTIONS) this command accepts, besides the global ones. */
+  options: readonly string[];
+  /** Lower and upper bound on the number of operands. */
+  minOperands: number;
+  maxOperands: number;
+}
+
+/** Every option the command line knows; commands pick theirs by name. */
+export const OPTIONS: readonly OptionSpec[] = [
+  { name: 'help', short: 'h', kind: 'flag', description: 'show this help and exit' },
+  { name: 'version', short: 'V', kind: 'flag', description: 'print the version and exit' },
+  {
+    name: 'format',
+    kind: 'choice',
+    choices: ['text', 'json'],
+    valueName: 'FORMAT',
+    defaultValue: 'text',
+    description: 'output format: text (for people) or json (version 1 contract)',
+  },
+  {
+    name: 'values',
+    kind: 'flag',
+    description: 'include per-state value bounds and best actions (json format)',
+  },
+  {
+    name: 'fail-on',
+    kind: 'choice',
+    choices: ['error', 'warning', 'info', 'never'],
+    valueName: 'LEVEL',
+    defaultValue: 'error',
+    description: 'exit 1 when a finding has this severity or a higher one',
+  },
+];
+
+/** Options every command accepts. */
+export const GLOBAL_OPTIONS: readonly string[] = ['help', 'version'];
+
+export interface ParsedArgs {
+  command?: string;
+  operands: string[];
+  options: Record<string, OptionValue>;
+}
+
+/** A mistake in the command line; the message is one line meant for the user. */
+export class UsageError extends Error {}
+
+const optionByName = new Map(OPTIONS.map((o) => [o.name, o]));
+const optionByShort = new Map(OPTIONS.filter((o) => o.short).map((o) => [o.short as string, o]));
+
+export function findOption(name: string): OptionSpec | undefined {
+  return optionByName.get(name);
+}
+
+/**
+ * Parses argv (without the node and script paths). The first operand names the command; options
+ * may come before or after it. `--name=value` and `--name value` both work; `--` ends options.
+ * Throws UsageError with a one-line message on any mistake.
+ */
+export function parseArgs(argv: readonly string[], commands: readonly CommandSpec[]): ParsedArgs {
+  const result: ParsedArgs = { operands: [], options: {} };
+  const seen: OptionSpec[] = [];
+  let optionsEnded = false;
+
+  for (let i = 0; i < argv.length; i++) {
+    const arg = argv[i];
+    if (optionsEnded || arg === '-' || !arg.startsWith('-')) {
+      if (result.command === undefined) {
+        if (!commands.some((c) => c.name === arg)) throw new UsageError(`unknown command '${arg}'`);
+        result.command = arg;
+      } else {
+        result.operands.push(arg);
+      }
+      continue;
+    }
+    if (arg === '--') {
+      optionsEnded = true;
+      continue;
+    }
+
+    let option: OptionSpec | undefined;
+    let inlineValue: string | undefined;
+    if (arg.startsWith('--')) {
+      const eq = arg.indexOf('=');
+      const name = eq >= 0 ? arg.slice(2, eq) : arg.slice(2);
+      inlineValue = eq >= 0 ? arg.slice(eq + 1) : undefined;
+      option = optionByName.get(name);
+      if (!option) throw new UsageError(`unknown option '--${name}'`);
+    } else {
+      if (arg.length !== 2) throw new UsageError(`unknown option '${arg}' (short options cannot be combined)`);
+      option = optionByShort.get(arg.slice(1));
+      if (!option) throw new UsageError(`unknown option '${arg}'`);
+    }
+
+    if (option.kind === 'flag') {
+      if (inlineValue !== undefined) throw new UsageError(`option '--${option.name}' takes no value`);
+      result.options[option.name] = true;
+    } else {
+      let raw = inlineValue;
+      if (raw === undefined) {
+        if (i + 1 >= argv.length) throw new UsageError(`option '--${option.name}' needs a value (${describeValue(option)})`);
+        raw = argv[++i];
+      }
+      result.options[option.name] = convertValue(option, raw);
+    }
+    seen.push(option);
+  }
+
+  // Options are checked against the command only after it is known, since they may precede it.
+  const command = commands.find((c) => c.name === result.command);
+  for (const option of seen) {
+    if (GLOBAL_OPTIONS.includes(option.name)) continue;
+    if (!command) throw new UsageError(`option '--${option.name}' needs a command`);
+    if (!command.options.includes(option.name)) {
+      throw new UsageError(`option '--${option.name}' does not apply to '${command.name}'`);
+    }
+  }
+  if (command && !result.options.help) {
+    const n = result.operands.length;
+    if (n < command.minOperands) throw new UsageError(`'${command.name}' needs ${command.operands}`);
+    if (n > command.maxOperands) {
+      throw new UsageError(`'${command.name}' takes at most ${command.maxOperands} operand${command.maxOperands === 1 ? '' : 's'}, got ${n}`);
+    }
+  }
+  if (command) {
+    for (const name of command.options) {
+      const option = optionByName.get(name);
+      if (option && !(name in result.options)) result.options[name] = option.defaultValue ?? (option.kind === 'flag' ? false : '');
+    }
+  }
+  return result;
+}
+
+function convertValue(option: OptionSpec, raw: string): OptionValue {
+  switch (option.kind) {
+    case 'choice':
+      if (!option.choices?.includes(raw)) {
+        throw new UsageError(`option '--${option.name}' must be one of ${option.choices?.join(', ')}; got '${raw}'`);
+      }
+      return raw;
+    case 'integer': {
+      if (!/^-?\d+$/.test(raw) || !Number.isSafeInteger(Number(raw))) {
+        throw new UsageError(`option '--${option.name}' needs a whole number; got '${raw}'`);
+      }
+      return Number(raw);
+    }
+    default:
+      return raw;
+  }
+}
+
+function describeValue(option: OptionSpec): string {
+  if (option.kind === 'choice') return `one of ${option.choices?.join(', ')}`;
+  if (option.kind === 'integer') return 'a whole number';
+  return option.valueName ?? 'a value';
+}
+
+/** The usage line and option list of one command, or of the whole tool when `command` is absent. */
+export function usageText(tool: string, version: string, commands: readonly CommandSpec[], command?: CommandSpec): string {
+  const lines: string[] = [];
+  if (command) {
+    lines.push(`Usage: ${tool} ${command.name} ${command.operands}${command.options.length ? ' [options]' : ''}`.trimEnd(), '');
+    lines.push(command.summary, '');
+    const names = [...command.options, ...GLOBAL_OPTIONS];
+    lines.push('Options:', ...optionLines(names));
+  } else {
+    lines.push(`${tool} ${version}: static checks and exact value analysis of reinforcement-learning environment specs.`, '');
+    lines.push(`Usage: ${tool} <command> [options]`, '');
+    lines.push('Commands:');
+    const width = Math.max(...commands.map((c) => `${c.name} ${c.operands}`.length));
+    for (const c of commands) lines.push(`  ${`${c.name} ${c.operands}`.padEnd(width)}  ${c.summary}`);
+    lines.push('', 'Global options:', ...optionLines(GLOBAL_OPTIONS), '');
+    lines.push(`Run '${tool} <command> --help' for a command's options.`);
+  }
+  return lines.join('\n') + '\n';
+}
+
+function optionLines(names: readonly string[]): string[] {
+  const rows = names.map((name) => {
+    const o = optionByName.get(name);
+    if (!o) throw new Error(`option table has no '${name}'`);
+    const value = o.kind === 'flag' ? '' : ` ${o.choices ? o.choices.join('|') : (o.valueName ?? 'VALUE')}`;
+    const left = `${o.short ? `-${o.short}, ` : '    '}--${o.name}${value}`;
+    const right = o.defaultValue !== undefined && o.kind !== 'flag' ? `${o.description} (default: ${o.defaultValue})` : o.description;
+    return [left, right] as const;
+  });
+  const width = Math.max(...rows.map(([left]) => left.length));
+  return rows.map(([left, right]) => `  ${left.padEnd(width)}  ${right}`);
+}

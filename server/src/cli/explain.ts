@@ -1,0 +1,48 @@
+/**
+ * `episcope explain RULE`: a rule's documentation from the registry, with its thresholds, their
+ * defaults and why the defaults are what they are. Without a rule: the list of rules.
+ */
+import type { Rule } from '../rules/types';
+
+export function explainRule(rule: Rule): string {
+  const lines = [`${rule.id} (default severity: ${rule.defaultSeverity})`, '', rule.summary, '', rule.documentation.trim()];
+  const thresholds = Object.entries(rule.thresholds ?? {});
+  if (thresholds.length > 0) {
+    lines.push('', 'Thresholds (set in episcope.config.json under "thresholds"):');
+    for (const [name, spec] of thresholds) {
+      lines.push(`  ${rule.id}.${name} = ${spec.default}`, `    ${spec.description}`);
+    }
+  }
+  return lines.join('\n') + '\n';
+}
+
+export function listRules(rules: readonly Rule[]): string {
+  if (rules.length === 0) return 'No rules are registered.\n';
+  const idWidth = Math.max(...rules.map((r) => r.id.length));
+  const severityWidth = Math.max(...rules.map((r) => r.defaultSeverity.length));
+  const rows = rules.map((r) => `  ${r.id.padEnd(idWidth)}  ${r.defaultSeverity.padEnd(severityWidth)}  ${r.summary}`);
+  return ['Rules (id, default severity, what it finds):', ...rows, '', "Run 'episcope explain RULE' for one rule's documentation."].join('\n') + '\n';
+}
+
+/** The registered rule ids closest to a mistyped one (edit distance at most 3), best first. */
+export function suggestRules(id: string, rules: readonly Rule[]): string[] {
+  return rules
+    .map((r) => ({ id: r.id, distance: editDistance(id, r.id) }))
+    .filter((r) => r.distance <= 3)
+    .sort((a, b) => a.distance - b.distance || a.id.localeCompare(b.id))
+    .slice(0, 3)
+    .map((r) => r.id);
+}
+
+/** Levenshtein distance, by the classic two-row dynamic programme. */
+function editDistance(a: string, b: string): number {
+  let previous = Array.from({ length: b.length + 1 }, (_, j) => j);
+  for (let i = 1; i <= a.length; i++) {
+    const current = [i];
+    for (let j = 1; j <= b.length; j++) {
+      current[j] = Math.min(previous[j] + 1, current[j - 1] + 1, previous[j - 1] + (a[i - 1] === b[j - 1] ? 0 : 1));
+    }
+    previous = current;
+  }
+  return previous[b.length];
+}

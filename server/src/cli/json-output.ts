@@ -1,0 +1,248 @@
+/**
+ * The `--format json` output, version 1 (the contract in DESIGN.md, "CLI contract"). Pure:
+ * FileReport in, plain object out, so that the baseline comparison can read the same shape back.
+ *
+ * Contract fields are never renamed or retyped. Fields marked "additive" go beyond the contract;
+ * readers must ignore fields they do not know.
+ */
+import type { FileReport } from '../analyze';
+import type { Analysis, Interval, ReachAtStart } from '../analysis/types';
+import type { CompiledModel } from '../model/compiled';
+import { TERMINAL_OF_CODE } from '../model/compiled';
+import type { Finding, Severity } from '../rules/types';
+import type { Span } from '../spec/types';
+import type { LineIndex } from '../spec/lines';
+import { jsonLower, jsonPoint, jsonProbability, jsonUpper, roundNearest, type JsonNumber } from './numbers';
+
+export const JSON_OUTPUT_VERSION = 1;
+
+export interface JsonInterval {
+  lower: JsonNumber;
+  upper: JsonNumber;
+}
+
+export interface JsonReach {
+  goal: number;
+  failure: number;
+  none: number;
+  /** Additive: probability of ending in a neutral terminal. */
+  neutral: number;
+}
+
+/** A 1-based range; endColumn is the column just after the last character (as in SARIF). */
+export interface JsonRange {
+  line: number;
+  column: number;
+  endLine: number;
+  endColumn: number;
+}
+
+export interface JsonTraceStep {
+  state: string;
+  /** Absent on a trace's last state when no action follows it. */
+  action?: string;
+  /** Additive: where the step is written, when it is written anywhere. */
+  line?: number;
+  column?: number;
+}
+
+export interface JsonFinding extends JsonRange {
+  rule: string;
+  severity: Severity;
+  message: string;
+  /** Always present; empty when the finding has no trace. */
+  trace: JsonTraceStep[];
+  /** Additive: related locations (e.g. each transition of a loop), when there are any. */
+  related?: Array<JsonRange & { message: string }>;
+}
+
+export interface JsonStateValues {
+  optimal: JsonInterval;
+  random: JsonInterval;
+  worst: JsonInterval;
+  /** Actions that attain the optimal value; empty on terminals. */
+  best: string[];
+  /** Additive: a readable rendering, for generated states of TypeScript models. */
+  label?: string;
+  /** Additive: the terminal kind, on terminal states. */
+  terminal?: 'goal' | 'failure' | 'neutral';
+  /** Additive: whether some policy reaches the state from the start. */
+  reachable: boolean;
+  /** Additive: bounds on Q*(s, a) per action offered in the state. */
+  q: Record<string, JsonInterval>;
+  /** Additive: the best achievable probability of ending in a goal from this state. */
+  maxGoalReach: number;
+}
+
+export interface JsonAnalysis {
+  states: number;
+  /** The number of (state, action) pairs that have outcomes. */
+  transitions: number;
+  exact: boolean;
+  start: {
+    optimal: JsonInterval;
+    worst: JsonInterval;
+    random: JsonInterval;
+    reach: { optimal: JsonReach; random: JsonReach };
+    /** Additive: the best achievable probability of ending in a goal. */
+    maxGoalReach: number;
+    /** Additive: expected number of steps until the episode ends ("inf" when it may never end). */
+    expectedLength: { optimal: JsonNumber; random: JsonNumber };
+  };
+  /** Additive: the number of outcomes (state, action, next state) in the model. */
+  outcomes: number;
+  /** Additive: the objective, discount and (when set) horizon the values are computed under. */
+  objective: 'maximize' | 'minimize';
+  discount: number;
+  horizon?: number;
+  /** Additive: the largest width of any reported finite bound. */
+  precision: number;
+  /** Additive: each reward term's expected discounted total under the optimal policy, and its share. */
+  terms: Array<{ term: string; value: JsonNumber; share: number }>;
+  /** Present with --values: per state id. */
+  values?: Record<string, JsonStateValues>;
+}
+
+export interface JsonFile {
+  path: string;
+  findings: JsonFinding[];
+  /** Absent when the spec could not be compiled. */
+  analysis?: JsonAnalysis;
+  /** Additive: why there is no analysis, when there is none. */
+  notAnalysed?: string;
+  /** Additive: failures of Episcope itself while checking this file (a bug of ours; exit code 2). */
+  internalErrors?: string[];
+}
+
+export interface JsonOutput {
+  version: 1;
+  files: JsonFile[];
+  /** Additive: finding counts over all files. */
+  summary: { files: number; error: number; warning: number; info: number };
+}
+
+export interface JsonOptions {
+  /** Include per-state values (`--values`). */
+  values?: boolean;
+  /** The path as shown to the user (relative to the working folder); defaults to report.path. */
+  displayPath?: string;
+}
+
+/** Serialises one file's report. */
+export function fileReportToJson(report: FileReport, options: JsonOptions = {}): JsonFile {
+  const file: JsonFile = {
+    path: options.displayPath ?? report.path,
+    findings: report.findings.map((f) => findingToJson(f, report.lines)),
+  };
+  if (report.analysis && report.model) file.analysis = analysisToJson(report.analysis, report.model, options.values ?? false);
+  if (!report.analysis && report.notAnalysed) file.notAnalysed = report.notAnalysed;
+  if (report.internalErrors.length > 0) file.internalErrors = [...report.internalErrors];
+  return file;
+}
+
+/** Wraps serialised files into the top-level object, with the additive summary. */
+export function jsonOutput(files: JsonFile[]): JsonOutput {
+  const summary = { files: files.length, error: 0, warning: 0, info: 0 };
+  for (const file of files) for (const f of file.findings) summary[f.severity]++;
+  return { version: JSON_OUTPUT_VERSION, files, summary };
+}
+
+export function rangeToJson(span: Span, lines: LineIndex): JsonRange {
+  const start = lines.position(span.start);
+  const end = lines.position(Math.max(span.start, span.end));
+  return { line: start.line + 1, column: start.character + 1, endLine: end.line + 1, endColumn: end.character + 1 };
+}
+
+export function findingToJson(finding: Finding, lines: LineIndex): JsonFinding {
+  const out: JsonFinding = {
+    rule: finding.rule,
+    severity: finding.severity,
+    message: finding.message,
+    ...rangeToJson(finding.span, lines),
+    trace: (finding.trace ?? []).map((step) => {
+      const s: JsonTraceStep = { state: step.state };
+      if (step.action !== undefined) s.action = step.action;
+      if (step.span) {
+        const p = lines.position(step.span.start);
+        s.line = p.line + 1;
+        s.column = p.character + 1;
+      }
+      return s;
+    }),
+  };
+  if (finding.related && finding.related.length > 0) {
+    out.related = finding.related.map((r) => ({ message: r.message, ...rangeToJson(r.span, lines) }));
+  }
+  return out;
+}
+
+export function intervalToJson(interval: Interval): JsonInterval {
+  return { lower: jsonLower(interval.lower), upper: jsonUpper(interval.upper) };
+}
+
+function reachToJson(reach: ReachAtStart): JsonReach {
+  return {
+    goal: jsonProbability(reach.goal),
+    failure: jsonProbability(reach.failure),
+    none: jsonProbability(reach.none),
+    neutral: jsonProbability(reach.neutral),
+  };
+}
+
+export function analysisToJson(analysis: Analysis, model: CompiledModel, withValues: boolean): JsonAnalysis {
+  const start = analysis.start;
+  const out: JsonAnalysis = {
+    states: model.stateCount,
+    transitions: model.choiceCount,
+    exact: analysis.exact,
+    start: {
+      optimal: intervalToJson(start.optimal),
+      worst: intervalToJson(start.worst),
+      random: intervalToJson(start.random),
+      reach: { optimal: reachToJson(start.reach.optimal), random: reachToJson(start.reach.random) },
+      maxGoalReach: jsonProbability(start.maxGoalReach),
+      expectedLength: { optimal: jsonPoint(start.expectedLength.optimal), random: jsonPoint(start.expectedLength.random) },
+    },
+    outcomes: model.outcomeCount,
+    objective: model.maximize ? 'maximize' : 'minimize',
+    discount: model.discount,
+    precision: analysis.precision,
+    terms: analysis.termShares.map((t) => ({ term: t.term, value: jsonPoint(t.value), share: Number.isNaN(t.share) ? 0 : roundNearest(t.share) })),
+  };
+  if (model.horizon !== undefined) out.horizon = model.horizon;
+  if (withValues) out.values = stateValuesToJson(analysis, model);
+  return out;
+}
+
+function stateValuesToJson(analysis: Analysis, model: CompiledModel): Record<string, JsonStateValues> {
+  // A null-prototype object, so that a state named "__proto__" is an ordinary key.
+  const values: Record<string, JsonStateValues> = Object.create(null);
+  const bounds = (b: { lower: Float64Array; upper: Float64Array }, i: number): JsonInterval => ({
+    lower: jsonLower(b.lower[i]),
+    upper: jsonUpper(b.upper[i]),
+  });
+  for (let s = 0; s < model.stateCount; s++) {
+    const best: string[] = [];
+    const q: Record<string, JsonInterval> = Object.create(null);
+    for (let c = model.choiceStart[s]; c < model.choiceStart[s + 1]; c++) {
+      const action = model.actionNames[model.choiceAction[c]];
+      q[action] = bounds(analysis.q, c);
+      if (analysis.isBest[c]) best.push(action);
+    }
+    const entry: JsonStateValues = {
+      optimal: bounds(analysis.optimal.values, s),
+      random: bounds(analysis.random.values, s),
+      worst: bounds(analysis.worst.values, s),
+      best,
+      reachable: analysis.reachable[s] === 1,
+      q,
+      maxGoalReach: jsonProbability(analysis.maxGoalReach[s]),
+    };
+    const terminal = TERMINAL_OF_CODE[model.terminal[s]];
+    if (terminal) entry.terminal = terminal;
+    const label = model.stateLabels?.[s];
+    if (label !== undefined) entry.label = label;
+    values[model.stateIds[s]] = entry;
+  }
+  return values;
+}

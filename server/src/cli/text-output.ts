@@ -1,0 +1,119 @@
+/**
+ * The text output, for a person at a terminal: one line per finding in the `file:line:col` form
+ * that editors and terminals turn into links, the trace state by state, then the start's return
+ * ranges per file and a summary line.
+ */
+import type { JsonFile, JsonInterval, JsonReach } from './json-output';
+import { parseJsonNumber, textInterval, textProbability, type JsonNumber } from './numbers';
+import type { Severity } from '../rules/types';
+
+export interface Style {
+  severity(severity: Severity, text: string): string;
+  path(text: string): string;
+  dim(text: string): string;
+}
+
+export const PLAIN_STYLE: Style = {
+  severity: (_severity, text) => text,
+  path: (text) => text,
+  dim: (text) => text,
+};
+
+const ANSI: Record<Severity, string> = { error: '\u001b[31m', warning: '\u001b[33m', info: '\u001b[36m' };
+const RESET = '\u001b[0m';
+
+export const COLOR_STYLE: Style = {
+  severity: (severity, text) => `${ANSI[severity]}${text}${RESET}`,
+  path: (text) => `\u001b[1m${text}${RESET}`,
+  dim: (text) => `\u001b[2m${text}${RESET}`,
+};
+
+/**
+ * Colour only for a terminal, and never when NO_COLOR is set to a non-empty value (the NO_COLOR
+ * convention, no-color.org).
+ */
+export function chooseStyle(isTTY: boolean | undefined, env: Record<string, string | undefined>): Style {
+  return isTTY && !env.NO_COLOR ? COLOR_STYLE : PLAIN_STYLE;
+}
+
+/** The findings and return ranges of one file, as lines of text (ending in a newline). */
+export function formatFileText(file: JsonFile, style: Style): string {
+  const lines: string[] = [];
+  for (const f of file.findings) {
+    lines.push(`${style.path(`${file.path}:${f.line}:${f.column}`)} ${style.severity(f.severity, f.severity)} ${f.rule} ${f.message}`);
+    if (f.trace.length > 0) {
+      const width = Math.max(...f.trace.map((step) => step.state.length));
+      for (const step of f.trace) {
+        const action = step.action !== undefined ? `  --${step.action}-->` : '';
+        lines.push(style.dim(`    ${step.state.padEnd(width)}${action}`.trimEnd()));
+      }
+    }
+  }
+  lines.push(...summariseStart(file, style));
+  for (const error of file.internalErrors ?? []) lines.push(`${style.path(file.path)} internal error: ${error}`);
+  return lines.join('\n') + '\n';
+}
+
+function summariseStart(file: JsonFile, style: Style): string[] {
+  const a = file.analysis;
+  if (!a) {
+    return [`${style.path(file.path)}: not analysed${file.notAnalysed ? `: ${file.notAnalysed}` : ''}`];
+  }
+  const facts = [
+    `${a.states} state${a.states === 1 ? '' : 's'}`,
+    `${a.transitions} transition${a.transitions === 1 ? '' : 's'}`,
+    a.objective,
+    `discount ${a.discount}`,
+  ];
+  if (a.horizon !== undefined) facts.push(`horizon ${a.horizon}`);
+  const header = `${style.path(file.path)}: ${facts.join(', ')}`;
+
+  const reach = a.start.reach;
+  const showNeutral = reach.optimal.neutral > 0 || reach.random.neutral > 0;
+  const showNone = reach.optimal.none > 0 || reach.random.none > 0;
+  const columns = ['return from start', 'goal', 'failure'];
+  if (showNeutral) columns.push('neutral');
+  if (showNone) columns.push(a.horizon !== undefined ? 'cut/never' : 'never ends');
+  const reachCells = (r?: JsonReach): string[] => {
+    if (!r) return [];
+    const cells = [textProbability(r.goal), textProbability(r.failure)];
+    if (showNeutral) cells.push(textProbability(r.neutral));
+    if (showNone) cells.push(textProbability(r.none));
+    return cells;
+  };
+  const rows: string[][] = [
+    ['', ...columns],
+    ['optimal', interval(a.start.optimal), ...reachCells(reach.optimal)],
+    ['random', interval(a.start.random), ...reachCells(reach.random)],
+    ['worst', interval(a.start.worst)],
+  ];
+  const widths = rows[0].map((_, i) => Math.max(...rows.map((r) => (r[i] ?? '').length)));
+  const table = rows.map((r) => `  ${r.map((cell, i) => cell.padEnd(widths[i])).join('  ')}`.trimEnd());
+  const tail = [`  best goal reach ${textProbability(a.start.maxGoalReach)}`];
+  const length = a.start.expectedLength;
+  tail.push(`  expected steps  optimal ${steps(length.optimal)}, random ${steps(length.random)}`);
+  if (!a.exact) tail.push(style.dim(`  bounds at most ${a.precision.toPrecision(2)} wide`));
+  return [header, ...table, ...tail];
+}
+
+function interval(i: JsonInterval): string {
+  return textInterval(parseJsonNumber(i.lower), parseJsonNumber(i.upper));
+}
+
+function steps(n: JsonNumber): string {
+  const x = parseJsonNumber(n);
+  return Number.isFinite(x) ? String(Number(x.toPrecision(4))) : 'unbounded';
+}
+
+/** The closing line: counts per severity over all files. */
+export function formatSummary(files: readonly JsonFile[], style: Style): string {
+  const counts: Record<Severity, number> = { error: 0, warning: 0, info: 0 };
+  for (const file of files) for (const f of file.findings) counts[f.severity]++;
+  const part = (severity: Severity, word: string) => {
+    const n = counts[severity];
+    const text = `${n} ${word}${n === 1 ? '' : 's'}`;
+    return n > 0 ? style.severity(severity, text) : text;
+  };
+  const fileCount = `${files.length} file${files.length === 1 ? '' : 's'} checked`;
+  return `${fileCount}: ${part('error', 'error')}, ${part('warning', 'warning')}, ${part('info', 'info')}\n`;
+}
