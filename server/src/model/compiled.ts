@@ -130,7 +130,7 @@ export class ModelBuilder {
       this.prob.push(o.probability);
       this.reward.push(o.reward);
       this.potentialReward.push(o.shaping ?? 0);
-      if (o.shaping) this.hasPotential = true;
+      if (o.shaping !== undefined) this.hasPotential = true;
       for (const [name, value] of o.terms ?? []) {
         const t = this.term(name);
         this.termReward[t][k] = (this.termReward[t][k] ?? 0) + value;

@@ -50,6 +50,11 @@ export interface SpecTransition {
   toSpan: Span;
   /** The whole transition object. */
   span: Span;
+  /**
+   * True when part of the transition could not be read (a `schema` finding says why): its
+   * outcomes may be missing, so outcome rules skip it and the compiler refuses the spec.
+   */
+  incomplete?: boolean;
 }
 
 export interface SpecState {
@@ -75,13 +80,19 @@ export interface RewardTermSpec {
 export interface StartEntry {
   state: string;
   probability: number;
+  /** Where the state is named. */
   span: Span;
+  /** Where the probability is written, when it is written (the map form of `start`). */
+  probabilitySpan?: Span;
 }
 
 export interface PotentialEntry {
   state: string;
   value: number;
+  /** Where the state is named. */
   span: Span;
+  /** Where the value is written. */
+  valueSpan?: Span;
 }
 
 export interface ParsedSpec {
