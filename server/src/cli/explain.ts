@@ -4,7 +4,10 @@
  */
 import type { Rule } from '../rules/types';
 
-export function explainRule(rule: Rule): string {
+/** What `explain` needs of a rule; front rules (e.g. `suppression`) have no check of their own. */
+export type DocumentedRule = Pick<Rule, 'id' | 'defaultSeverity' | 'summary' | 'documentation' | 'thresholds'>;
+
+export function explainRule(rule: DocumentedRule): string {
   const lines = [`${rule.id} (default severity: ${rule.defaultSeverity})`, '', rule.summary, '', rule.documentation.trim()];
   const thresholds = Object.entries(rule.thresholds ?? {});
   if (thresholds.length > 0) {
@@ -16,7 +19,7 @@ export function explainRule(rule: Rule): string {
   return lines.join('\n') + '\n';
 }
 
-export function listRules(rules: readonly Rule[]): string {
+export function listRules(rules: readonly DocumentedRule[]): string {
   if (rules.length === 0) return 'No rules are registered.\n';
   const idWidth = Math.max(...rules.map((r) => r.id.length));
   const severityWidth = Math.max(...rules.map((r) => r.defaultSeverity.length));
@@ -25,7 +28,7 @@ export function listRules(rules: readonly Rule[]): string {
 }
 
 /** The registered rule ids closest to a mistyped one (edit distance at most 3), best first. */
-export function suggestRules(id: string, rules: readonly Rule[]): string[] {
+export function suggestRules(id: string, rules: readonly DocumentedRule[]): string[] {
   return rules
     .map((r) => ({ id: r.id, distance: editDistance(id, r.id) }))
     .filter((r) => r.distance <= 3)

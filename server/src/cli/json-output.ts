@@ -96,7 +96,7 @@ export interface JsonAnalysis {
   discount: number;
   horizon?: number;
   /** Additive: the largest width of any reported finite bound. */
-  precision: number;
+  precision: JsonNumber;
   /** Additive: each reward term's expected discounted total under the optimal policy, and its share. */
   terms: Array<{ term: string; value: JsonNumber; share: number }>;
   /** Present with --values: per state id. */
@@ -206,7 +206,7 @@ export function analysisToJson(analysis: Analysis, model: CompiledModel, withVal
     outcomes: model.outcomeCount,
     objective: model.maximize ? 'maximize' : 'minimize',
     discount: model.discount,
-    precision: analysis.precision,
+    precision: jsonPoint(analysis.precision),
     terms: analysis.termShares.map((t) => ({ term: t.term, value: jsonPoint(t.value), share: Number.isNaN(t.share) ? 0 : roundNearest(t.share) })),
   };
   if (model.horizon !== undefined) out.horizon = model.horizon;

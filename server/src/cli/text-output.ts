@@ -92,7 +92,7 @@ function summariseStart(file: JsonFile, style: Style): string[] {
   const tail = [`  best goal reach ${textProbability(a.start.maxGoalReach)}`];
   const length = a.start.expectedLength;
   tail.push(`  expected steps  optimal ${steps(length.optimal)}, random ${steps(length.random)}`);
-  if (!a.exact) tail.push(style.dim(`  bounds at most ${a.precision.toPrecision(2)} wide`));
+  if (!a.exact && typeof a.precision === 'number') tail.push(style.dim(`  bounds at most ${a.precision.toPrecision(2)} wide`));
   return [header, ...table, ...tail];
 }
 

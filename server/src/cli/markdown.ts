@@ -1,0 +1,139 @@
+/**
+ * `--format markdown`: a short pull-request comment. With a baseline: new findings, fixed findings
+ * and the specs whose start values moved, most important first. Without one: the findings and the
+ * start's return ranges. GitHub-flavoured Markdown tables; long lists are cut with a count.
+ */
+import { SEVERITY_ORDER, type Severity } from '../rules/types';
+import type { Comparison, FindingChange, SpecShift, ValueShift } from './baseline';
+import { midpoint } from './baseline';
+import type { JsonInterval, JsonOutput } from './json-output';
+import { parseJsonNumber, textInterval, textProbability } from './numbers';
+
+export interface MarkdownOptions {
+  /** Most rows per table before the rest is summarised in one line. */
+  maxRows?: number;
+  /** The --fail-on level, to say which new findings fail the check. */
+  failOn?: Severity | 'never';
+}
+
+const SAFETY =
+  '_Passing checks means the spec is well-posed, not that a trained policy is safe: for robots, vehicles or plant control follow the applicable safety standards, local codes and licensed engineering practice._';
+
+const ICON: Record<Severity, string> = { error: '🔴 error', warning: '🟠 warning', info: '🔵 info' };
+
+/** The markdown summary of a run, compared with a baseline when one is given. */
+export function markdownReport(current: JsonOutput, comparison?: Comparison, options: MarkdownOptions = {}): string {
+  const maxRows = options.maxRows ?? 25;
+  return (comparison ? comparisonMarkdown(current, comparison, maxRows, options.failOn) : plainMarkdown(current, maxRows)).join('\n') + '\n';
+}
+
+function comparisonMarkdown(current: JsonOutput, comparison: Comparison, maxRows: number, failOn?: Severity | 'never'): string[] {
+  const { newFindings, fixedFindings } = comparison;
+  const moved = comparison.specs.filter((s) => s.status !== 'unchanged');
+  const headline = [
+    `${newFindings.length} new finding${newFindings.length === 1 ? '' : 's'}`,
+    `${fixedFindings.length} fixed`,
+    `${moved.length} spec${moved.length === 1 ? '' : 's'} with changed returns`,
+  ].join(', ');
+  const out = [`## Episcope: ${headline}`, ''];
+  if (newFindings.length === 0 && fixedFindings.length === 0 && moved.length === 0) {
+    out.push(`No change against the baseline: ${comparison.unchangedFindings} finding${comparison.unchangedFindings === 1 ? '' : 's'} as before in ${current.files.length} file${current.files.length === 1 ? '' : 's'}.`, '');
+  }
+  if (newFindings.length > 0) {
+    const failing = failOn && failOn !== 'never' ? newFindings.filter((c) => SEVERITY_ORDER[c.finding.severity] >= SEVERITY_ORDER[failOn]).length : 0;
+    const note = failing > 0 ? ` (${failing} at or above \`--fail-on ${failOn}\`)` : '';
+    out.push(`### New findings${note}`, '', ...findingTable(newFindings, maxRows), '');
+  }
+  if (fixedFindings.length > 0) out.push('### Fixed findings', '', ...findingTable(fixedFindings, maxRows), '');
+  if (moved.length > 0) {
+    out.push('### Start values that moved', '', '| Spec | Optimal return | Random return | Goal reach (optimal) | Goal reach (random) |', '|---|---|---|---|---|');
+    for (const spec of moved.slice(0, maxRows)) out.push(shiftRow(spec));
+    if (moved.length > maxRows) out.push(`| _and ${moved.length - maxRows} more_ | | | | |`);
+    out.push('');
+  }
+  if (comparison.unchangedFindings > 0 && (newFindings.length > 0 || fixedFindings.length > 0)) {
+    out.push(`${comparison.unchangedFindings} finding${comparison.unchangedFindings === 1 ? '' : 's'} unchanged from the baseline.`, '');
+  }
+  out.push(SAFETY);
+  return out;
+}
+
+function plainMarkdown(current: JsonOutput, maxRows: number): string[] {
+  const all: FindingChange[] = current.files.flatMap((file) => file.findings.map((finding) => ({ path: file.path, finding })));
+  all.sort((a, b) => SEVERITY_ORDER[b.finding.severity] - SEVERITY_ORDER[a.finding.severity] || a.path.localeCompare(b.path) || a.finding.line - b.finding.line);
+  const count = (severity: Severity) => all.filter((c) => c.finding.severity === severity).length;
+  const plural = (n: number, word: string) => `${n} ${word}${n === 1 ? '' : 's'}`;
+  const out = [
+    `## Episcope: ${plural(count('error'), 'error')}, ${plural(count('warning'), 'warning')}, ${count('info')} info in ${plural(current.files.length, 'file')}`,
+    '',
+  ];
+  if (all.length > 0) out.push(...findingTable(all, maxRows), '');
+  const analysed = current.files.filter((f) => f.analysis);
+  if (analysed.length > 0) {
+    out.push('### Returns from the start', '', '| Spec | Optimal return | Random return | Worst return | Goal reach (optimal) | Best goal reach |', '|---|---|---|---|---|---|');
+    for (const file of analysed.slice(0, maxRows)) {
+      const s = file.analysis!.start;
+      out.push(`| ${code(file.path)} | ${interval(s.optimal)} | ${interval(s.random)} | ${interval(s.worst)} | ${textProbability(s.reach.optimal.goal)} | ${s.maxGoalReach !== undefined ? textProbability(s.maxGoalReach) : ''} |`);
+    }
+    if (analysed.length > maxRows) out.push(`| _and ${analysed.length - maxRows} more_ | | | | | |`);
+    out.push('');
+  }
+  const notAnalysed = current.files.filter((f) => !f.analysis && f.notAnalysed);
+  if (notAnalysed.length > 0) out.push(`Not analysed: ${notAnalysed.map((f) => `${code(f.path)} (${cell(f.notAnalysed ?? '')})`).join(', ')}.`, '');
+  out.push(SAFETY);
+  return out;
+}
+
+function findingTable(changes: FindingChange[], maxRows: number): string[] {
+  const rows = ['| Severity | Rule | Where | Message |', '|---|---|---|---|'];
+  for (const { path, finding } of changes.slice(0, maxRows)) {
+    rows.push(`| ${ICON[finding.severity]} | ${code(finding.rule)} | ${code(`${path}:${finding.line}:${finding.column}`)} | ${cell(finding.message)} |`);
+  }
+  if (changes.length > maxRows) rows.push(`| | | | _and ${changes.length - maxRows} more_ |`);
+  return rows;
+}
+
+function shiftRow(spec: SpecShift): string {
+  const name = spec.status === 'added' ? `${code(spec.path)} (new)` : spec.status === 'removed' ? `${code(spec.path)} (removed)` : code(spec.path);
+  return `| ${name} | ${intervalShift(spec.optimal)} | ${intervalShift(spec.random)} | ${probabilityShift(spec.goalOptimal)} | ${probabilityShift(spec.goalRandom)} |`;
+}
+
+function intervalShift(shift: ValueShift<JsonInterval>): string {
+  const { before, after } = shift;
+  if (!before && !after) return '';
+  if (!before) return `— → ${interval(after!)}`;
+  if (!after) return `${interval(before)} → —`;
+  const same = interval(before) === interval(after);
+  if (same) return interval(after);
+  const m0 = midpoint(parseJsonNumber(before.lower), parseJsonNumber(before.upper));
+  const m1 = midpoint(parseJsonNumber(after.lower), parseJsonNumber(after.upper));
+  const delta = Number.isFinite(m0) && Number.isFinite(m1) ? ` (${signed(m1 - m0)})` : '';
+  return `${interval(before)} → **${interval(after)}**${delta}`;
+}
+
+function probabilityShift(shift: ValueShift<number>): string {
+  const { before, after } = shift;
+  if (before === undefined && after === undefined) return '';
+  if (before === undefined) return `— → ${textProbability(after!)}`;
+  if (after === undefined) return `${textProbability(before)} → —`;
+  if (Math.abs(after - before) <= 1e-9) return textProbability(after);
+  return `${textProbability(before)} → **${textProbability(after)}** (${signed(after - before)})`;
+}
+
+function signed(x: number): string {
+  const text = String(Number(x.toPrecision(3)));
+  return x > 0 ? `+${text}` : text.replace('-', '−');
+}
+
+function interval(i: JsonInterval): string {
+  return textInterval(parseJsonNumber(i.lower), parseJsonNumber(i.upper));
+}
+
+function code(text: string): string {
+  return `\`${text.replace(/`/g, "'")}\``;
+}
+
+/** Text for a table cell: one line, pipes escaped, HTML neutralised. */
+function cell(text: string): string {
+  return text.replace(/\s+/g, ' ').replace(/\\/g, '\\\\').replace(/\|/g, '\\|').replace(/</g, '&lt;').replace(/>/g, '&gt;').trim();
+}
