@@ -15,6 +15,8 @@ const common = {
   logLevel: 'warning',
   // VS Code provides `vscode`; esbuild is a native-binary package that must stay a real dependency.
   external: ['vscode', 'esbuild'],
+  // Prefer ES module builds: jsonc-parser's UMD build requires its parts dynamically, which a bundle cannot resolve.
+  mainFields: ['module', 'main'],
 };
 
 await Promise.all(

@@ -20,6 +20,11 @@ export interface AnalyzeOptions {
   exec?: boolean;
   /** Checked between phases; when it returns true the call stops early and the report says so. */
   isCancelled?: () => boolean;
+  /**
+   * Compute the analysis (value bounds, reach probabilities) even when no enabled rule needs it,
+   * because the front shows it (the CLI's return ranges, hovers). Default: only when a rule needs it.
+   */
+  analysis?: boolean;
 }
 
 export interface FileReport {
@@ -87,7 +92,8 @@ export function analyzeParsed(
   if (!compiled.model) report.notAnalysed = compiled.reason;
 
   const enabled = RULES.filter((rule) => config.rules[rule.id] !== 'off');
-  if (compiled.model && enabled.some((rule) => rule.needs === 'analysis') && !options.isCancelled?.()) {
+  const analysisWanted = options.analysis === true || enabled.some((rule) => rule.needs === 'analysis');
+  if (compiled.model && analysisWanted && !options.isCancelled?.()) {
     try {
       report.analysis = analyzeModel(compiled.model, { precision: config.precision });
     } catch (error) {

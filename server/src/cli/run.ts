@@ -131,7 +131,7 @@ async function runCheck(args: ParsedArgs, io: CliIo): Promise<number> {
   let internalError = false;
   for (const file of files) {
     const text = await readSpecFile(file);
-    const report = await analyzeFile(file.absolute, text, { config: DEFAULT_CONFIG });
+    const report = await analyzeFile(file.absolute, text, { config: DEFAULT_CONFIG, analysis: true });
     // Only the serialised form is kept, so memory does not grow with the models of earlier files.
     const json = fileReportToJson(report, { values: withValues, displayPath: file.display });
     results.push(json);

@@ -54,6 +54,9 @@ export function formatFileText(file: JsonFile, style: Style): string {
   return lines.join('\n') + '\n';
 }
 
+/** Probabilities at or below this are shown as columns only when another policy needs them. */
+const VISIBLE_PROBABILITY = 1e-12;
+
 function summariseStart(file: JsonFile, style: Style): string[] {
   const a = file.analysis;
   if (!a) {
@@ -69,8 +72,9 @@ function summariseStart(file: JsonFile, style: Style): string[] {
   const header = `${style.path(file.path)}: ${facts.join(', ')}`;
 
   const reach = a.start.reach;
-  const showNeutral = reach.optimal.neutral > 0 || reach.random.neutral > 0;
-  const showNone = reach.optimal.none > 0 || reach.random.none > 0;
+  // Columns that would show only rounding noise are left out.
+  const showNeutral = reach.optimal.neutral > VISIBLE_PROBABILITY || reach.random.neutral > VISIBLE_PROBABILITY;
+  const showNone = reach.optimal.none > VISIBLE_PROBABILITY || reach.random.none > VISIBLE_PROBABILITY;
   const columns = ['return from start', 'goal', 'failure'];
   if (showNeutral) columns.push('neutral');
   if (showNone) columns.push(a.horizon !== undefined ? 'cut/never' : 'never ends');
