@@ -61,10 +61,10 @@ describe('argument parser', () => {
   });
 
   it('documents every option in the help of the commands that take it', () => {
-    const help = usageText('episcope', '0.0.0', COMMANDS, COMMANDS[0]);
+    const help = usageText('episcope', COMMANDS, COMMANDS[0]);
     for (const name of COMMANDS[0].options) expect(help).toContain(`--${name}`);
     expect(help).toContain('(default: error)');
-    const top = usageText('episcope', '0.0.0', COMMANDS);
+    const top = usageText('episcope', COMMANDS);
     for (const c of COMMANDS) expect(top).toContain(`${c.name} ${c.operands}`);
     expect(new Set(OPTIONS.map((o) => o.name)).size).toBe(OPTIONS.length);
   });

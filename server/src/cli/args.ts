@@ -183,7 +183,7 @@ function describeValue(option: OptionSpec): string {
 }
 
 /** The usage line and option list of one command, or of the whole tool when `command` is absent. */
-export function usageText(tool: string, version: string, commands: readonly CommandSpec[], command?: CommandSpec): string {
+export function usageText(tool: string, commands: readonly CommandSpec[], command?: CommandSpec): string {
   const lines: string[] = [];
   if (command) {
     lines.push(`Usage: ${tool} ${command.name} ${command.operands}${command.options.length ? ' [options]' : ''}`.trimEnd(), '');
@@ -191,7 +191,7 @@ export function usageText(tool: string, version: string, commands: readonly Comm
     const names = [...command.options, ...GLOBAL_OPTIONS];
     lines.push('Options:', ...optionLines(names));
   } else {
-    lines.push(`${tool} ${version}: static checks and exact value analysis of reinforcement-learning environment specs.`, '');
+    lines.push(`${tool}: static checks and exact value analysis of reinforcement-learning environment specs.`, '');
     lines.push(`Usage: ${tool} <command> [options]`, '');
     lines.push('Commands:');
     const width = Math.max(...commands.map((c) => `${c.name} ${c.operands}`.length));

@@ -8,6 +8,7 @@ import { analyzeFile } from '../analyze';
 import { DEFAULT_CONFIG } from '../config';
 import { RULES } from '../rules/registry';
 import { SUPPRESSION_RULE } from '../suppress';
+import { CONFIG_RULE } from '../config-file';
 import { SEVERITY_ORDER, type Severity } from '../rules/types';
 import { UsageError, parseArgs, usageText, type CommandSpec, type ParsedArgs } from './args';
 import { explainRule, listRules, suggestRules, type DocumentedRule } from './explain';
@@ -62,16 +63,16 @@ const COMMANDS: readonly Command[] = [
   },
 ];
 
-/** Every rule `explain` knows: the registry's, sorted by id, and the fronts' own (`suppression`). */
+/** Every rule `explain` knows: the registry's and the fronts' own (`config`, `suppression`), sorted by id. */
 export function documentedRules(): DocumentedRule[] {
-  return [...RULES, SUPPRESSION_RULE].sort((a, b) => a.id.localeCompare(b.id));
+  return [...RULES, CONFIG_RULE, SUPPRESSION_RULE].sort((a, b) => a.id.localeCompare(b.id));
 }
 
 /** The help text of the tool, or of one command. */
 export function usageFor(commandName?: string): string {
   const command = COMMANDS.find((c) => c.name === commandName);
   if (commandName !== undefined && !command) throw new Error(`no command '${commandName}'`);
-  return usageText(TOOL_NAME, VERSION, COMMANDS, command);
+  return usageText(TOOL_NAME, COMMANDS, command);
 }
 
 /** Runs the command line; resolves to the exit code. Never rejects. */
@@ -90,11 +91,11 @@ export async function runCli(argv: readonly string[], io: CliIo): Promise<number
       return EXIT_OK;
     }
     if (args.options.help) {
-      io.stdout.write(usageText(TOOL_NAME, VERSION, COMMANDS, command));
+      io.stdout.write(usageText(TOOL_NAME, COMMANDS, command));
       return EXIT_OK;
     }
     if (!command) {
-      io.stderr.write(usageText(TOOL_NAME, VERSION, COMMANDS));
+      io.stderr.write(usageText(TOOL_NAME, COMMANDS));
       return EXIT_ERROR;
     }
     return await command.run(args, io);
