@@ -45,7 +45,7 @@ describe('argument parser', () => {
     const cases: Array<[string[], string]> = [
       [['lint'], "unknown command 'lint'"],
       [['check', '--colour'], "unknown option '--colour'"],
-      [['check', '--format', 'xml'], "option '--format' must be one of text, json; got 'xml'"],
+      [['check', '--format', 'xml'], "option '--format' must be one of text, json, sarif, markdown; got 'xml'"],
       [['check', '--format'], "option '--format' needs a value (one of text, json)"],
       [['check', '--values=yes'], "option '--values' takes no value"],
       [['explain', '--format', 'json'], "option '--format' does not apply to 'explain'"],

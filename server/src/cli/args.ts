@@ -40,10 +40,10 @@ export const OPTIONS: readonly OptionSpec[] = [
   {
     name: 'format',
     kind: 'choice',
-    choices: ['text', 'json'],
+    choices: ['text', 'json', 'sarif', 'markdown'],
     valueName: 'FORMAT',
     defaultValue: 'text',
-    description: 'output format: text (for people) or json (version 1 contract)',
+    description: 'output format: text (for people), json (version 1 contract), sarif (SARIF 2.1.0 for code scanning) or markdown (a pull-request comment)',
   },
   {
     name: 'values',
@@ -56,7 +56,25 @@ export const OPTIONS: readonly OptionSpec[] = [
     choices: ['error', 'warning', 'info', 'never'],
     valueName: 'LEVEL',
     defaultValue: 'error',
-    description: 'exit 1 when a finding has this severity or a higher one',
+    description: 'exit 1 when a finding has this severity or a higher one (with --baseline: a new finding)',
+  },
+  {
+    name: 'baseline',
+    kind: 'string',
+    valueName: 'FILE',
+    description: "compare with an earlier '--format json' output: report new and fixed findings and moved start values",
+  },
+  {
+    name: 'report',
+    kind: 'string',
+    valueName: 'FILE.html',
+    description: 'also write a self-contained HTML report with plots of the return ranges, reach probabilities and state values',
+  },
+  {
+    name: 'config',
+    kind: 'string',
+    valueName: 'FILE',
+    description: 'the config file to use for every spec (default: the nearest episcope.config.json above each spec)',
   },
 ];
 

@@ -5,7 +5,6 @@
  */
 import { version as packageVersion } from '../../../package.json';
 import { analyzeFile } from '../analyze';
-import { DEFAULT_CONFIG } from '../config';
 import { RULES } from '../rules/registry';
 import { SUPPRESSION_RULE } from '../suppress';
 import { CONFIG_RULE } from '../config-file';
@@ -13,6 +12,7 @@ import { SEVERITY_ORDER, type Severity } from '../rules/types';
 import { UsageError, parseArgs, usageText, type CommandSpec, type ParsedArgs } from './args';
 import { explainRule, listRules, suggestRules, type DocumentedRule } from './explain';
 import { PathError, collectSpecFiles, readSpecFile } from './files';
+import { CheckGate, GateError } from './gate';
 import { fileReportToJson, jsonOutput, type JsonFile } from './json-output';
 import { chooseStyle, formatFileText, formatSummary } from './text-output';
 
@@ -47,7 +47,7 @@ const COMMANDS: readonly Command[] = [
     name: 'check',
     operands: '[paths...]',
     summary: 'check spec files (*.mdp.json, *.mdp.ts) and folders of them; default: the current folder',
-    options: ['format', 'values', 'fail-on'],
+    options: ['format', 'values', 'fail-on', 'baseline', 'report', 'config'],
     minOperands: 0,
     maxOperands: Infinity,
     run: runCheck,
@@ -100,7 +100,7 @@ export async function runCli(argv: readonly string[], io: CliIo): Promise<number
     }
     return await command.run(args, io);
   } catch (error) {
-    if (error instanceof PathError) {
+    if (error instanceof PathError || error instanceof GateError) {
       io.stderr.write(`${TOOL_NAME}: ${error.message}\n`);
       return EXIT_ERROR;
     }
@@ -116,7 +116,7 @@ function usageError(io: CliIo, message: string): number {
 }
 
 async function runCheck(args: ParsedArgs, io: CliIo): Promise<number> {
-  const format = args.options.format as 'text' | 'json';
+  const format = args.options.format as 'text' | 'json' | 'sarif' | 'markdown';
   const failOn = args.options['fail-on'] as Severity | 'never';
   const withValues = args.options.values === true;
   const operands = args.operands.length > 0 ? args.operands : ['.'];
@@ -127,27 +127,55 @@ async function runCheck(args: ParsedArgs, io: CliIo): Promise<number> {
     return EXIT_ERROR;
   }
 
+  const gate = CheckGate.open(
+    {
+      format,
+      failOn,
+      baseline: optionalString(args.options.baseline),
+      report: optionalString(args.options.report),
+      config: optionalString(args.options.config),
+      operands,
+      cwd: io.cwd,
+      toolName: TOOL_NAME,
+      toolVersion: VERSION,
+      stderr: io.stderr,
+    },
+    files,
+  );
   const style = chooseStyle(io.stdout.isTTY, io.env);
   const results: JsonFile[] = [];
   let internalError = false;
   for (const file of files) {
     const text = await readSpecFile(file);
-    const report = await analyzeFile(file.absolute, text, { config: DEFAULT_CONFIG, analysis: true });
+    gate.started(file.display);
+    const report = await analyzeFile(file.absolute, text, { config: gate.configFor(file.absolute), analysis: true });
     // Only the serialised form is kept, so memory does not grow with the models of earlier files.
     const json = fileReportToJson(report, { values: withValues, displayPath: file.display });
     results.push(json);
+    gate.finished(report, json);
     if (report.internalErrors.length > 0) internalError = true;
     if (format === 'text') io.stdout.write(formatFileText(json, style));
   }
+  for (const json of gate.extraFiles()) {
+    results.push(json);
+    if (format === 'text') io.stdout.write(formatFileText(json, style));
+  }
 
-  if (format === 'json') io.stdout.write(`${JSON.stringify(jsonOutput(results), null, 2)}\n`);
+  const rendered = gate.render(results);
+  if (rendered !== undefined) io.stdout.write(rendered);
+  else if (format === 'json') io.stdout.write(`${JSON.stringify(jsonOutput(results), null, 2)}\n`);
   else io.stdout.write(formatSummary(results, style));
+  gate.writeReport();
 
   if (internalError) {
     io.stderr.write(`${TOOL_NAME}: internal errors occurred while checking (see the output); please report them\n`);
     return EXIT_ERROR;
   }
-  return failsAt(results, failOn) ? EXIT_FINDINGS : EXIT_OK;
+  return gate.exitCode(results) ?? (failsAt(results, failOn) ? EXIT_FINDINGS : EXIT_OK);
+}
+
+function optionalString(value: unknown): string | undefined {
+  return typeof value === 'string' && value !== '' ? value : undefined;
 }
 
 /** True when some finding is at or above the --fail-on level. */
