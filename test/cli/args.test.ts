@@ -46,7 +46,7 @@ describe('argument parser', () => {
       [['lint'], "unknown command 'lint'"],
       [['check', '--colour'], "unknown option '--colour'"],
       [['check', '--format', 'xml'], "option '--format' must be one of text, json, sarif, markdown; got 'xml'"],
-      [['check', '--format'], "option '--format' needs a value (one of text, json)"],
+      [['check', '--format'], "option '--format' needs a value (one of text, json, sarif, markdown)"],
       [['check', '--values=yes'], "option '--values' takes no value"],
       [['explain', '--format', 'json'], "option '--format' does not apply to 'explain'"],
       [['explain', 'a', 'b'], "'explain' takes at most 1 operand, got 2"],
