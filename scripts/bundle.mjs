@@ -1,9 +1,14 @@
 // Bundles every entry point with esbuild into dist/. Type-checking is separate (`npm run typecheck`).
 import { build } from 'esbuild';
+import { createRequire } from 'node:module';
 
 /** Each entry: source, output name, and whether it runs as a script with a shebang. */
 const entries = [
   { in: 'server/src/cli/main.ts', out: 'cli', shebang: true },
+  // The language server (started by the VS Code client), its analysis worker, and the VS Code client.
+  { in: 'server/src/lsp/standalone.ts', out: 'server' },
+  { in: 'server/src/lsp/worker.ts', out: 'analysis-worker' },
+  { in: 'client/src/extension.ts', out: 'client' },
 ];
 
 const common = {
@@ -29,3 +34,9 @@ await Promise.all(
     }),
   ),
 );
+
+// Rule pages (dist/docs/rules/<id>.md), linked from editor diagnostics; generated from the registry so they never go stale.
+const ruleDocs = await build({ ...common, entryPoints: ['server/src/lsp/rule-docs.ts'], write: false, outfile: 'rule-docs.js', sourcemap: false });
+const ruleDocsModule = { exports: {} };
+new Function('module', 'exports', 'require', ruleDocs.outputFiles[0].text)(ruleDocsModule, ruleDocsModule.exports, createRequire(import.meta.url));
+ruleDocsModule.exports.writeRuleDocs('dist/docs/rules');

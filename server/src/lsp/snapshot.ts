@@ -1,0 +1,386 @@
+/**
+ * Turns a FileReport into what the language server keeps of it: LSP diagnostics with fixes,
+ * a compact hover index and value tables of typed arrays (moved between threads without copying),
+ * the summary lens and the fixed hovers on `discount` and `horizon`. Runs inside the analysis worker.
+ */
+import { existsSync } from 'node:fs';
+import { join } from 'node:path';
+import { pathToFileURL } from 'node:url';
+import {
+  DiagnosticSeverity,
+  DiagnosticTag,
+  type Diagnostic,
+  type DiagnosticRelatedInformation,
+  type Range,
+} from 'vscode-languageserver-types';
+import type { Analysis } from '../analysis/types';
+import type { FileReport } from '../analyze';
+import { TERMINAL_CODE, stateName, type CompiledModel } from '../model/compiled';
+import type { Finding } from '../rules/types';
+import type { ParsedSpec, Span } from '../spec/types';
+import { formatDuration, formatInterval, formatNumber, formatProbability, plural } from './format';
+import {
+  TOKEN_STATE,
+  type AnalysisSnapshot,
+  type DiagnosticData,
+  type FixedHover,
+  type HoverIndex,
+  type ValueTables,
+} from './protocol';
+
+/** Rules whose findings mark text that never takes effect, shown faded by editors. */
+const UNNECESSARY_BY_RULE = new Set(['unreachable-state', 'terminal-has-transitions']);
+/** Related locations beyond this many are left out: editors list them all, and a long trace drowns the message. */
+const MAX_RELATED = 40;
+
+export interface SnapshotInput {
+  uri: string;
+  version: number;
+  report: FileReport;
+  docsFolder?: string;
+  durationMs: number;
+}
+
+export function buildSnapshot(input: SnapshotInput): AnalysisSnapshot {
+  const { report, uri, version } = input;
+  const lines = report.lines;
+  const toRange = (span: Span): Range => ({ start: lines.position(span.start), end: lines.position(span.end) });
+  const docLink = ruleDocLinker(input.docsFolder);
+  const diagnostics = report.findings.map((finding) => toDiagnostic(finding, uri, version, toRange, docLink));
+  const analysis = report.analysis;
+  const model = report.model;
+  const snapshot: AnalysisSnapshot = {
+    uri,
+    version,
+    diagnostics,
+    rootOffset: report.spec.rootSpan.start,
+    lens: analysis ? lensLines(analysis, model?.maximize ?? true) : [],
+    status: statusLine(report, input.durationMs),
+    notAnalysed: report.notAnalysed,
+    fixedHovers: model ? fixedHovers(report.text, report.spec, model, analysis) : [],
+    internalErrors: report.internalErrors,
+    stateCount: model?.stateCount,
+    durationMs: input.durationMs,
+    cancelled: report.cancelled === true,
+  };
+  if (model) snapshot.hoverIndex = buildHoverIndex(report.spec, model);
+  if (model && analysis) snapshot.values = valueTables(model, analysis);
+  return snapshot;
+}
+
+/** Every ArrayBuffer reachable from the snapshot's typed arrays, each once, for a zero-copy transfer. */
+export function transferList(snapshot: AnalysisSnapshot): ArrayBuffer[] {
+  const buffers = new Set<ArrayBuffer>();
+  const visit = (value: unknown): void => {
+    if (ArrayBuffer.isView(value)) {
+      if (value.buffer instanceof ArrayBuffer) buffers.add(value.buffer);
+    } else if (value && typeof value === 'object' && !Array.isArray(value)) {
+      for (const inner of Object.values(value)) visit(inner);
+    }
+  };
+  visit(snapshot.hoverIndex);
+  visit(snapshot.values);
+  return [...buffers];
+}
+
+function ruleDocLinker(docsFolder: string | undefined): (rule: string) => string | undefined {
+  const cache = new Map<string, string | undefined>();
+  return (rule) => {
+    if (!docsFolder) return undefined;
+    if (!cache.has(rule)) {
+      const file = join(docsFolder, `${rule}.md`);
+      cache.set(rule, existsSync(file) ? pathToFileURL(file).href : undefined);
+    }
+    return cache.get(rule);
+  };
+}
+
+const SEVERITY = { error: DiagnosticSeverity.Error, warning: DiagnosticSeverity.Warning, info: DiagnosticSeverity.Information };
+
+function toDiagnostic(
+  finding: Finding,
+  uri: string,
+  version: number,
+  toRange: (span: Span) => Range,
+  docLink: (rule: string) => string | undefined,
+): Diagnostic {
+  const related: DiagnosticRelatedInformation[] = [];
+  for (const r of finding.related ?? []) related.push({ location: { uri, range: toRange(r.span) }, message: r.message });
+  (finding.trace ?? []).forEach((step, i) => {
+    if (!step.span) return;
+    const text = step.action ? `${step.state} → ${step.action}` : step.state;
+    related.push({ location: { uri, range: toRange(step.span) }, message: `trace ${i + 1}: ${text}` });
+  });
+  const tags: DiagnosticTag[] = [];
+  const findingTags = finding.tags ?? (UNNECESSARY_BY_RULE.has(finding.rule) ? ['unnecessary'] : []);
+  if (findingTags.includes('unnecessary')) tags.push(DiagnosticTag.Unnecessary);
+  if (findingTags.includes('deprecated')) tags.push(DiagnosticTag.Deprecated);
+  const data: DiagnosticData = {
+    rule: finding.rule,
+    version,
+    fixes: (finding.fixes ?? []).map((fix) => ({
+      title: fix.title,
+      edits: fix.edits.map((edit) => ({ start: edit.span.start, end: edit.span.end, newText: edit.newText })),
+    })),
+  };
+  const diagnostic: Diagnostic = {
+    range: toRange(finding.span),
+    severity: SEVERITY[finding.severity],
+    source: 'episcope',
+    code: finding.rule,
+    message: finding.message,
+    data,
+  };
+  const href = docLink(finding.rule);
+  if (href) diagnostic.codeDescription = { href };
+  if (related.length > 0) diagnostic.relatedInformation = related.slice(0, MAX_RELATED);
+  if (tags.length > 0) diagnostic.tags = tags;
+  return diagnostic;
+}
+
+function statusLine(report: FileReport, durationMs: number): string {
+  const model = report.model;
+  if (!model) return report.notAnalysed ? `not analysed: ${report.notAnalysed}` : 'not analysed';
+  const parts = [plural(model.stateCount, 'state'), plural(model.choiceCount, 'state-action pair')];
+  if (report.analysis) parts.push(report.analysis.exact ? 'exact' : `bounds within ${formatNumber(report.analysis.precision)}`);
+  else if (report.notAnalysed) parts.push(`no values: ${report.notAnalysed}`);
+  parts.push(formatDuration(durationMs));
+  return parts.join(' · ');
+}
+
+/** The summary lens: the start's return ranges under the three policies, then where episodes end. */
+export function lensLines(analysis: Analysis, maximize: boolean): string[] {
+  const start = analysis.start;
+  const noun = maximize ? 'Return' : 'Cost';
+  const horizon = analysis.model.horizon;
+  const within = horizon !== undefined ? ` within ${plural(horizon, 'step')}` : '';
+  const returns =
+    `${noun}${within} from the start: optimal ${formatInterval(start.optimal.lower, start.optimal.upper)}` +
+    ` · random ${formatInterval(start.random.lower, start.random.upper)}` +
+    ` · worst ${formatInterval(start.worst.lower, start.worst.upper)}`;
+  const optimal = start.reach.optimal;
+  const reach =
+    `Goal reach: optimal ${formatProbability(optimal.goal)} · random ${formatProbability(start.reach.random.goal)}` +
+    ` · best possible ${formatProbability(start.maxGoalReach)}` +
+    (optimal.failure > 0 ? ` · failure under optimal ${formatProbability(optimal.failure)}` : '') +
+    (optimal.none > 0 ? ` · never ends${horizon !== undefined ? ' or cut' : ''} ${formatProbability(optimal.none)}` : '');
+  return [returns, reach];
+}
+
+/**
+ * The hover index: state references (declaration keys, start entries, from/to, potentials) and
+ * transition objects, in offsets of the analysed text. A span shared by several states (generated
+ * states of TypeScript models point at the function that made them) is left out, as it names none.
+ */
+export function buildHoverIndex(spec: ParsedSpec, model: CompiledModel): HoverIndex {
+  const tokens: Array<{ start: number; end: number; state: number }> = [];
+  const add = (id: string, span: Span | undefined): void => {
+    const state = model.stateIndex.get(id);
+    if (state !== undefined && span && span.end > span.start) tokens.push({ start: span.start, end: span.end, state });
+  };
+  for (const s of spec.states) add(s.id, s.span);
+  for (const s of spec.start) add(s.state, s.span);
+  for (const p of spec.potential) add(p.state, p.span);
+  for (const t of spec.transitions) {
+    add(t.from, t.fromSpan);
+    for (const o of t.outcomes) add(o.state, o.stateSpan);
+  }
+  tokens.sort((a, b) => a.start - b.start || a.end - b.end);
+  const kept: typeof tokens = [];
+  for (let i = 0; i < tokens.length; i++) {
+    const token = tokens[i];
+    let j = i;
+    let ambiguous = false;
+    while (j + 1 < tokens.length && tokens[j + 1].start === token.start && tokens[j + 1].end === token.end) {
+      j++;
+      if (tokens[j].state !== token.state) ambiguous = true;
+    }
+    i = j;
+    const previous = kept[kept.length - 1];
+    if (ambiguous || (previous && previous.end > token.start)) continue;
+    kept.push(token);
+  }
+
+  // Transitions that share a span (a `from` or `action` array) form one group with every choice they define.
+  const choicesOfTransition: number[][] = spec.transitions.map(() => []);
+  for (let c = 0; c < model.choiceCount; c++) {
+    const t = model.choiceTransition[c];
+    if (t >= 0 && t < choicesOfTransition.length) choicesOfTransition[t].push(c);
+  }
+  const groups = new Map<number, { start: number; end: number; choices: number[] }>();
+  spec.transitions.forEach((t, index) => {
+    let group = groups.get(t.span.start);
+    if (!group) {
+      group = { start: t.span.start, end: t.span.end, choices: [] };
+      groups.set(t.span.start, group);
+    }
+    group.choices.push(...choicesOfTransition[index]);
+  });
+  const ordered = [...groups.values()].filter((g) => g.choices.length > 0).sort((a, b) => a.start - b.start);
+  const disjoint: typeof ordered = [];
+  for (const g of ordered) {
+    const previous = disjoint[disjoint.length - 1];
+    if (!previous || previous.end <= g.start) disjoint.push(g);
+  }
+  const choiceStart = new Int32Array(disjoint.length + 1);
+  let total = 0;
+  disjoint.forEach((g, i) => {
+    choiceStart[i] = total;
+    total += g.choices.length;
+  });
+  choiceStart[disjoint.length] = total;
+  const choices = new Int32Array(total);
+  disjoint.forEach((g, i) => choices.set(g.choices, choiceStart[i]));
+
+  return {
+    tokenStart: Int32Array.from(kept, (t) => t.start),
+    tokenEnd: Int32Array.from(kept, (t) => t.end),
+    tokenKind: new Uint8Array(kept.length).fill(TOKEN_STATE),
+    tokenTarget: Int32Array.from(kept, (t) => t.state),
+    transitionStart: Int32Array.from(disjoint, (g) => g.start),
+    transitionEnd: Int32Array.from(disjoint, (g) => g.end),
+    transitionChoiceStart: choiceStart,
+    transitionChoices: choices,
+  };
+}
+
+/**
+ * Copies the figures hovers need out of the model and analysis. Copies (not views) so that the
+ * transfer moves exactly these buffers and nothing else the analysis allocated.
+ */
+function valueTables(model: CompiledModel, analysis: Analysis): ValueTables {
+  const f = (a: Float64Array): Float64Array => Float64Array.from(a);
+  const reach = (r: Analysis['optimal']['reach']) => ({ goal: f(r.goal), failure: f(r.failure), neutral: f(r.neutral), none: f(r.none) });
+  const names: string[] = [];
+  const nameStart = new Int32Array(model.stateCount + 1);
+  let length = 0;
+  for (let s = 0; s < model.stateCount; s++) {
+    const name = stateName(model, s);
+    nameStart[s] = length;
+    names.push(name);
+    length += name.length;
+  }
+  nameStart[model.stateCount] = length;
+  return {
+    stateCount: model.stateCount,
+    discount: model.discount,
+    horizon: model.horizon,
+    maximize: model.maximize,
+    precision: analysis.precision,
+    exact: analysis.exact,
+    actionNames: [...model.actionNames],
+    stateNames: names.join(''),
+    stateNameStart: nameStart,
+    terminal: Uint8Array.from(model.terminal),
+    reachable: Uint8Array.from(analysis.reachable),
+    choiceStart: Int32Array.from(model.choiceStart),
+    choiceAction: Int32Array.from(model.choiceAction),
+    optimalLower: f(analysis.optimal.values.lower),
+    optimalUpper: f(analysis.optimal.values.upper),
+    worstLower: f(analysis.worst.values.lower),
+    worstUpper: f(analysis.worst.values.upper),
+    randomLower: f(analysis.random.values.lower),
+    randomUpper: f(analysis.random.values.upper),
+    qLower: f(analysis.q.lower),
+    qUpper: f(analysis.q.upper),
+    isBest: Uint8Array.from(analysis.isBest),
+    maxGoalReach: f(analysis.maxGoalReach),
+    optimalReach: reach(analysis.optimal.reach),
+    randomReach: reach(analysis.random.reach),
+    optimalLength: f(analysis.optimal.expectedLength),
+    randomLength: f(analysis.random.expectedLength),
+  };
+}
+
+/** Hovers on `discount` and `horizon`: what they mean for this spec's goals. */
+function fixedHovers(text: string, spec: ParsedSpec, model: CompiledModel, analysis: Analysis | undefined): FixedHover[] {
+  const hovers: FixedHover[] = [];
+  const goals = nearestGoals(model);
+  const lines: string[] = [];
+  if (spec.discount) {
+    const discount = spec.discount.value;
+    const effective = discount < 1 ? `1/(1 − ${formatNumber(discount)}) = ${formatNumber(1 / (1 - discount))} steps` : '∞ (undiscounted)';
+    lines.push(`**discount ${formatNumber(discount)}** · effective horizon ${effective}`);
+    if (goals.length === 0) lines.push('', 'No goal terminal is reachable from the start.');
+    for (const goal of goals) {
+      const weight = discount ** (goal.distance - 1);
+      lines.push(
+        '',
+        `Goal ${quote(model.stateIds[goal.state])}: ${plural(goal.distance, 'step')} from the start at the nearest; entering it pays ` +
+          `${formatNumber(goal.reward)}, worth ${formatNumber(goal.reward * weight)} seen from the start ` +
+          `(${formatNumber(discount)}^${goal.distance - 1} = ${formatNumber(weight)} of its size).`,
+      );
+    }
+    if (analysis) {
+      lines.push('', `Optimal ${model.maximize ? 'return' : 'cost'} from the start: ${formatInterval(analysis.start.optimal.lower, analysis.start.optimal.upper)}.`);
+    }
+    hovers.push({ ...propertyRange(text, 'discount', spec.discount.span), markdown: lines.join('\n') });
+  }
+  if (spec.horizon) {
+    const horizon = spec.horizon.value;
+    const out = [`**horizon ${horizon}** · episodes are cut after ${plural(horizon, 'step')} (truncation, not termination); values count the steps left.`];
+    for (const goal of goals) {
+      out.push('', `Goal ${quote(model.stateIds[goal.state])}: ${plural(goal.distance, 'step')} from the start at the nearest${goal.distance > horizon ? ', beyond the time limit' : ''}.`);
+    }
+    hovers.push({ ...propertyRange(text, 'horizon', spec.horizon.span), markdown: out.join('\n') });
+  }
+  return hovers;
+}
+
+function quote(id: string): string {
+  return `\`${id.replace(/`/g, "'")}\``;
+}
+
+/** The property `name: value` around a value span, so a hover on the key or the value answers. */
+function propertyRange(text: string, name: string, valueSpan: Span): { start: number; end: number } {
+  const before = text.slice(Math.max(0, valueSpan.start - 200), valueSpan.start);
+  const match = new RegExp(`["']?${name}["']?\\s*:\\s*$`).exec(before);
+  const start = match ? valueSpan.start - before.length + match.index : valueSpan.start;
+  return { start, end: valueSpan.end };
+}
+
+/**
+ * The goals nearest to the start by number of steps (breadth-first search over outcomes with
+ * positive probability), with the best reward paid on entering each along a shortest route.
+ */
+export function nearestGoals(model: CompiledModel, limit = 3): Array<{ state: number; distance: number; reward: number }> {
+  const distance = new Int32Array(model.stateCount).fill(-1);
+  const queue = new Int32Array(model.stateCount);
+  let head = 0;
+  let tail = 0;
+  for (const s of model.startState) {
+    if (distance[s] === -1) {
+      distance[s] = 0;
+      queue[tail++] = s;
+    }
+  }
+  while (head < tail) {
+    const s = queue[head++];
+    for (let c = model.choiceStart[s]; c < model.choiceStart[s + 1]; c++) {
+      for (let k = model.outcomeStart[c]; k < model.outcomeStart[c + 1]; k++) {
+        const t = model.outcomeTarget[k];
+        if (model.outcomeProb[k] > 0 && distance[t] === -1) {
+          distance[t] = distance[s] + 1;
+          queue[tail++] = t;
+        }
+      }
+    }
+  }
+  const best = new Map<number, number>();
+  const better = (a: number, b: number): boolean => (model.maximize ? a > b : a < b);
+  for (let s = 0; s < model.stateCount; s++) {
+    if (distance[s] < 0) continue;
+    for (let c = model.choiceStart[s]; c < model.choiceStart[s + 1]; c++) {
+      for (let k = model.outcomeStart[c]; k < model.outcomeStart[c + 1]; k++) {
+        const t = model.outcomeTarget[k];
+        if (model.terminal[t] !== TERMINAL_CODE.goal || model.outcomeProb[k] <= 0 || distance[t] !== distance[s] + 1) continue;
+        const previous = best.get(t);
+        if (previous === undefined || better(model.outcomeReward[k], previous)) best.set(t, model.outcomeReward[k]);
+      }
+    }
+  }
+  return [...best.entries()]
+    .map(([state, reward]) => ({ state, distance: distance[state], reward }))
+    .sort((a, b) => a.distance - b.distance || a.state - b.state)
+    .slice(0, limit);
+}

@@ -1,0 +1,46 @@
+/**
+ * The analysis worker (bundled as dist/analysis-worker.js): runs the pipeline off the language
+ * server's main thread, so hovers and edits are answered while a large spec is analysed. One job at
+ * a time; the main thread cancels a job by writing its id into the shared cancel cell, which the
+ * pipeline checks between phases (and terminates the worker if that does not come soon enough).
+ */
+import { parentPort, workerData } from 'node:worker_threads';
+import { analyzeFile } from '../analyze';
+import type { AnalysisJob, WorkerReply } from './protocol';
+import { buildSnapshot, transferList } from './snapshot';
+
+const port = parentPort;
+if (!port) throw new Error('analysis-worker.js must run as a worker thread');
+const cancelCell = new Int32Array((workerData as { cancelBuffer: SharedArrayBuffer }).cancelBuffer);
+
+port.on('message', (job: AnalysisJob) => {
+  void runJob(job);
+});
+post({ kind: 'ready' });
+
+async function runJob(job: AnalysisJob): Promise<void> {
+  const started = performance.now();
+  try {
+    const report = await analyzeFile(job.path, job.text, {
+      config: job.config,
+      exec: job.exec,
+      // Hovers and the summary lens show values even when no enabled rule needs them.
+      analysis: true,
+      isCancelled: () => Atomics.load(cancelCell, 0) === job.jobId,
+    });
+    const snapshot = buildSnapshot({
+      uri: job.uri,
+      version: job.version,
+      report,
+      docsFolder: job.docsFolder,
+      durationMs: performance.now() - started,
+    });
+    post({ kind: 'done', jobId: job.jobId, snapshot }, transferList(snapshot));
+  } catch (error) {
+    post({ kind: 'failed', jobId: job.jobId, error: error instanceof Error ? (error.stack ?? error.message) : String(error) });
+  }
+}
+
+function post(reply: WorkerReply, transfer: ArrayBuffer[] = []): void {
+  port!.postMessage(reply, transfer);
+}
