@@ -1,0 +1,224 @@
+/**
+ * Whether the finite-horizon optimum needs to see the time. With a horizon the optimal policy is in
+ * general non-stationary (Pardo, Tavakoli, Levdik and Kormushev, 2018, "Time limits in reinforcement
+ * learning"): the best action at a state may depend on the steps left. A policy that does not see time
+ * can act optimally only if, at every state the optimal behaviour visits, some action is best for every
+ * number of steps left at which the state is visited.
+ *
+ * This walks forward in time from the start over the states that some optimal (time-dependent) policy
+ * visits, keeps per state the set of actions that were best at every visit so far, and reports the first
+ * state where that set becomes empty.
+ */
+import type { CompiledModel } from '../model/compiled';
+import type { FiniteHorizonSolution } from './types';
+
+export interface TimeFlip {
+  state: number;
+  /** Steps left at the visit where no action stays best, and at the latest earlier visit. */
+  stepsLeft: number;
+  earlierStepsLeft: number;
+  /** The earliest steps-left value at which the state was visited (the start of the agreeing range). */
+  firstStepsLeft: number;
+  /** An action best at every earlier visit, and the best action now. */
+  earlierChoice: number;
+  bestChoice: number;
+  /** Q of both choices with `stepsLeft` steps left, and with `earlierStepsLeft` steps left. */
+  qNow: { earlier: number; best: number };
+  qEarlier: { earlier: number; best: number };
+  /** A path (state, choice) of optimal behaviour from the start to the state at the flip. */
+  path: Array<{ state: number; choice: number; outcome: number }>;
+}
+
+/** At most this many (time, state) visits are kept for drawing paths (80 MB of Int32). */
+const LAYER_BUDGET = 20_000_000;
+
+export interface TimeDependence {
+  flips: TimeFlip[];
+  /** How many states need time to be acted on optimally. */
+  flippedStates: number;
+}
+
+/**
+ * Finds the states where the best action changes with the steps left. `tieTolerance` is relative to
+ * the largest value magnitude (at least 1): Q values closer than that count as equally good.
+ */
+export function findTimeFlips(
+  model: CompiledModel,
+  solution: FiniteHorizonSolution,
+  tieTolerance: number,
+  maxFlips = 20,
+): TimeDependence {
+  const n = model.stateCount;
+  const horizon = solution.horizon;
+  let scale = 1;
+  for (let i = 0; i < solution.value.length; i++) {
+    const v = Math.abs(solution.value[i]);
+    if (v > scale && Number.isFinite(v)) scale = v;
+  }
+  const tolerance = tieTolerance * scale;
+  const q = new Float64Array(maxChoices(model));
+  const stillBest = new Uint8Array(model.choiceCount);
+  const seenAt = new Int32Array(n).fill(-1);
+  const firstSeen = new Int32Array(n).fill(-1);
+  const flipped = new Uint8Array(n);
+  const layers: Int32Array[] = [];
+  let stored = 0;
+  let current: number[] = [];
+  const queued = new Int32Array(n).fill(-1);
+  for (let i = 0; i < model.startState.length; i++) {
+    const s = model.startState[i];
+    if (model.startProb[i] > 0 && model.terminal[s] === 0 && queued[s] !== 0) {
+      queued[s] = 0;
+      current.push(s);
+    }
+  }
+  const flips: TimeFlip[] = [];
+  let flippedStates = 0;
+  for (let t = 0; t < horizon && current.length > 0; t++) {
+    const k = horizon - t;
+    const next: number[] = [];
+    current.sort((a, b) => a - b);
+    for (const s of current) {
+      const first = model.choiceStart[s];
+      const count = model.choiceStart[s + 1] - first;
+      let best = -Infinity;
+      for (let i = 0; i < count; i++) {
+        q[i] = (model.maximize ? 1 : -1) * qValue(model, solution, first + i, k);
+        if (q[i] > best) best = q[i];
+      }
+      let agreeing = 0;
+      for (let i = 0; i < count; i++) {
+        const isBest = q[i] >= best - tolerance;
+        if (isBest) {
+          // Optimal behaviour may take any best action, so every one of them carries the visit on.
+          for (let o = model.outcomeStart[first + i]; o < model.outcomeStart[first + i + 1]; o++) {
+            const target = model.outcomeTarget[o];
+            if (model.outcomeProb[o] > 0 && model.terminal[target] === 0 && queued[target] !== t + 1) {
+              queued[target] = t + 1;
+              next.push(target);
+            }
+          }
+        }
+        if (seenAt[s] < 0) stillBest[first + i] = isBest ? 1 : 0;
+        else if (!isBest) stillBest[first + i] = 0;
+        if (stillBest[first + i]) agreeing++;
+      }
+      if (agreeing === 0 && !flipped[s]) {
+        flipped[s] = 1;
+        flippedStates++;
+        if (flips.length < maxFlips) {
+          flips.push(describeFlip(model, solution, s, k, seenAt[s], firstSeen[s], tolerance, layers, t));
+        }
+      }
+      if (firstSeen[s] < 0) firstSeen[s] = k;
+      seenAt[s] = k;
+    }
+    // The layers serve only to show a path to a flip; beyond a budget they are dropped to bound memory.
+    stored += current.length;
+    layers.push(stored <= LAYER_BUDGET ? Int32Array.from(current) : new Int32Array(0));
+    current = next;
+  }
+  return { flips, flippedStates };
+}
+
+function maxChoices(model: CompiledModel): number {
+  let most = 1;
+  for (let s = 0; s < model.stateCount; s++) most = Math.max(most, model.choiceStart[s + 1] - model.choiceStart[s]);
+  return most;
+}
+
+/** Q of a choice with k steps left: expected reward plus the discounted value with k - 1 steps left. */
+export function qValue(model: CompiledModel, solution: FiniteHorizonSolution, choice: number, k: number): number {
+  const n = model.stateCount;
+  let total = 0;
+  for (let o = model.outcomeStart[choice]; o < model.outcomeStart[choice + 1]; o++) {
+    const target = model.outcomeTarget[o];
+    const later = model.terminal[target] !== 0 ? 0 : solution.value[(k - 1) * n + target];
+    total += model.outcomeProb[o] * (model.outcomeReward[o] + model.discount * later);
+  }
+  return total;
+}
+
+function bestOf(model: CompiledModel, solution: FiniteHorizonSolution, state: number, k: number, among?: (c: number) => boolean): number {
+  let best = -1;
+  let bestValue = -Infinity;
+  for (let c = model.choiceStart[state]; c < model.choiceStart[state + 1]; c++) {
+    if (among && !among(c)) continue;
+    const value = (model.maximize ? 1 : -1) * qValue(model, solution, c, k);
+    if (value > bestValue) {
+      bestValue = value;
+      best = c;
+    }
+  }
+  return best;
+}
+
+function describeFlip(
+  model: CompiledModel,
+  solution: FiniteHorizonSolution,
+  state: number,
+  k: number,
+  earlierK: number,
+  firstK: number,
+  tolerance: number,
+  layers: Int32Array[],
+  t: number,
+): TimeFlip {
+  // The action that was best with earlierK steps left and loses least now stands for "what a
+  // time-blind policy would have kept doing".
+  const bestNow = bestOf(model, solution, state, k);
+  const qBestEarlier = (model.maximize ? 1 : -1) * qValue(model, solution, bestOf(model, solution, state, earlierK), earlierK);
+  const earlierChoice = bestOf(
+    model,
+    solution,
+    state,
+    k,
+    (c) => (model.maximize ? 1 : -1) * qValue(model, solution, c, earlierK) >= qBestEarlier - tolerance,
+  );
+  return {
+    state,
+    stepsLeft: k,
+    earlierStepsLeft: earlierK,
+    firstStepsLeft: firstK,
+    earlierChoice,
+    bestChoice: bestNow,
+    qNow: { earlier: qValue(model, solution, earlierChoice, k), best: qValue(model, solution, bestNow, k) },
+    qEarlier: { earlier: qValue(model, solution, earlierChoice, earlierK), best: qValue(model, solution, bestNow, earlierK) },
+    path: pathBack(model, solution, state, t, layers, tolerance),
+  };
+}
+
+/** Walks the stored layers back from (t, state) to the start along best choices. */
+function pathBack(
+  model: CompiledModel,
+  solution: FiniteHorizonSolution,
+  state: number,
+  t: number,
+  layers: Int32Array[],
+  tolerance: number,
+): Array<{ state: number; choice: number; outcome: number }> {
+  const horizon = solution.horizon;
+  const path: Array<{ state: number; choice: number; outcome: number }> = [{ state, choice: -1, outcome: -1 }];
+  let target = state;
+  for (let time = t - 1; time >= 0; time--) {
+    const k = horizon - time;
+    let found = false;
+    for (const s of layers[time]) {
+      const best = (model.maximize ? 1 : -1) * qValue(model, solution, bestOf(model, solution, s, k), k);
+      for (let c = model.choiceStart[s]; c < model.choiceStart[s + 1] && !found; c++) {
+        if ((model.maximize ? 1 : -1) * qValue(model, solution, c, k) < best - tolerance) continue;
+        for (let o = model.outcomeStart[c]; o < model.outcomeStart[c + 1]; o++) {
+          if (model.outcomeTarget[o] === target && model.outcomeProb[o] > 0) {
+            path.push({ state: s, choice: c, outcome: o });
+            target = s;
+            found = true;
+            break;
+          }
+        }
+      }
+      if (found) break;
+    }
+    if (!found) break;
+  }
+  return path.reverse();
+}

@@ -1,0 +1,122 @@
+import { stateName, type CompiledModel } from '../model/compiled';
+import { recoverPotential, type PotentialConflict, type ShapingStep } from '../analysis/shaping';
+import { actionOf, describeStep, formatAmount, formatSigned, outcomeSpan } from './incentive-text';
+import type { RelatedLocation, Rule, TraceStep } from './types';
+import type { ParsedSpec } from '../spec/types';
+
+export const shapingNotPotential: Rule = {
+  id: 'shaping-not-potential',
+  defaultSeverity: 'warning',
+  summary: 'The reward terms marked `shaping` cannot be written as discount*Phi(next) - Phi(state).',
+  needs: 'model',
+  thresholds: {
+    tolerance: {
+      default: 1e-9,
+      description:
+        'Relative tolerance of each equation discount*Phi(next) - Phi(state) = amount, relative to the largest ' +
+        'shaping amount or potential involved (at least 1). 1e-9 absorbs binary rounding of decimal numbers ' +
+        'and of the discount while still catching any amount a person would write differently. Raise it ' +
+        '(for example to 1e-4) if you write shaping amounts rounded to a few digits by hand.',
+    },
+  },
+  documentation: `
+**What it finds.** Shaping rewards speed up learning without changing what is optimal only when they are
+*potential-based*: F(s, a, s') = discount * Phi(s') - Phi(s) for some function Phi of the state (Ng, Harada
+and Russell, 1999, Theorem 1). Any other "progress" bonus can be farmed: a policy that walks back and forth
+across a rewarded step collects the bonus on every lap. This rule decides exactly (up to the tolerance below)
+whether the terms you marked \`"shaping": true\` in \`rewardTerms\` have that form.
+
+**How it decides.** Every outcome with positive probability is one equation discount*Phi(s') - Phi(s) = F,
+where F is the sum of the shaping terms on that outcome (0 where none is written: those outcomes count
+too). Terminals get Phi = 0, the episodic convention under which shaping cannot change the optimal policy
+(a potential on a terminal is never paid back; see terminal-potential). The equations are solved along a
+spanning tree of each connected part of the transition graph and every other outcome is checked against
+the result. With discount < 1 a part without terminals is fixed by going once around one of its loops.
+
+**When it fires.** Some outcome contradicts the potential the rest implies. The message gives two
+derivations of Phi at one state that disagree, step by step with the amounts; with discount 1 they close a
+cycle and the message gives the net shaping around it (a potential nets 0 around every cycle, so this is
+what a policy gains per lap). When the terms are potential-based, nothing is reported and the recovered
+Phi is shown on hover.
+
+**Fix.** Compute the shaping from a potential: give each state a Phi and pay discount*Phi(s') - Phi(s), or
+move the shaping into \`shaping.potential\`, which Episcope turns into exactly that.
+`.trim(),
+  check(ctx) {
+    const model = ctx.model;
+    if (!model) return;
+    if (!ctx.spec.rewardTerms.some((t) => t.shaping)) return;
+    const recovery = recoverPotential(ctx.spec, model, ctx.threshold('tolerance'));
+    if (recovery.shapingTerms.length === 0 || !recovery.conflict) return;
+    const conflict = recovery.conflict;
+    const failed = conflict.second.steps[conflict.second.steps.length - 1];
+    ctx.report({
+      message: messageFor(model, recovery.shapingTerms, conflict, recovery.inconsistentOutcomes),
+      span: outcomeSpan(ctx.spec, model, failed.choice, failed.outcome),
+      trace: traceOf(ctx.spec, model, conflict),
+      related: relatedOf(ctx.spec, model, conflict),
+    });
+  },
+};
+
+function messageFor(model: CompiledModel, terms: string[], conflict: PotentialConflict, inconsistent: number): string {
+  const names = terms.map((t) => `'${t}'`).join(', ');
+  const form = model.discount === 1 ? "Phi(s') - Phi(s)" : `${formatAmount(model.discount)}*Phi(s') - Phi(s)`;
+  const more = inconsistent > 1 ? ` (${inconsistent} outcomes disagree with the potential the others imply)` : '';
+  if (conflict.net !== undefined) {
+    const cycle = [...conflict.first.steps, ...[...conflict.second.steps].reverse()];
+    return (
+      `shaping ${names} is not of the form ${form}: around the cycle ${cycle.map((s) => stepText(model, s)).join(', ')} ` +
+      `it nets ${formatSigned(conflict.net)}, where a potential-based term nets 0, so a policy gains ` +
+      `${formatAmount(Math.abs(conflict.net))} per lap in ${conflict.net > 0 ? 'this' : 'the opposite'} direction${more}`
+    );
+  }
+  const state = stateName(model, conflict.state);
+  const anchor =
+    conflict.anchor.kind === 'terminal'
+      ? 'with Phi = 0 on terminals'
+      : conflict.anchor.kind === 'loop'
+        ? `with Phi(${stateName(model, conflict.anchor.state)}) = ${formatAmount(conflict.anchor.value)} fixed by the loop ` +
+          conflict.anchor.steps.map((s) => stepText(model, s)).join(', ')
+        : '';
+  const gap = Math.abs(conflict.first.value - conflict.second.value);
+  return (
+    `shaping ${names} is not of the form ${form} ${anchor}: ` +
+    `${derivationText(model, conflict.first.steps)} gives Phi(${state}) = ${formatAmount(conflict.first.value)}, but ` +
+    `${derivationText(model, conflict.second.steps)} gives Phi(${state}) = ${formatAmount(conflict.second.value)}; ` +
+    `the shaping pays ${formatAmount(gap)} more along one of these routes than a potential allows, which can change the optimal policy${more}`
+  ).replace('  ', ' ');
+}
+
+function stepText(model: CompiledModel, step: ShapingStep): string {
+  return `${describeStep(model, step.choice, step.outcome)} (${formatSigned(step.amount)})`;
+}
+
+/** Derivations run from the anchor to the state; read from the state outwards they follow the transitions. */
+function derivationText(model: CompiledModel, steps: readonly ShapingStep[]): string {
+  if (steps.length === 0) return 'the anchor';
+  const shown = [...steps].reverse().slice(0, 8).map((s) => stepText(model, s));
+  if (steps.length > 8) shown.push(`and ${steps.length - 8} more`);
+  return shown.join(', ');
+}
+
+function allSteps(conflict: PotentialConflict): ShapingStep[] {
+  return [...[...conflict.first.steps].reverse(), ...conflict.second.steps];
+}
+
+function traceOf(spec: ParsedSpec, model: CompiledModel, conflict: PotentialConflict): TraceStep[] {
+  return allSteps(conflict).map((step) => ({
+    state: stateName(model, step.from),
+    action: actionOf(model, step.choice),
+    span: outcomeSpan(spec, model, step.choice, step.outcome),
+  }));
+}
+
+function relatedOf(spec: ParsedSpec, model: CompiledModel, conflict: PotentialConflict): RelatedLocation[] {
+  return allSteps(conflict)
+    .slice(0, 20)
+    .map((step) => ({
+      span: outcomeSpan(spec, model, step.choice, step.outcome),
+      message: `${describeStep(model, step.choice, step.outcome)}: shaping ${formatSigned(step.amount)}`,
+    }));
+}
