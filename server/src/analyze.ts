@@ -3,6 +3,7 @@
  * text and config in, a FileReport out. Pure: no LSP, no VS Code, no file system writes.
  */
 import { analyzeModel } from './analysis';
+import { DEFAULT_STEP_CAP, exactModelRollouts, type RolloutReport } from './analysis/rollouts';
 import type { Analysis } from './analysis/types';
 import { DEFAULT_CONFIG, type ResolvedConfig } from './config';
 import type { CompiledModel } from './model/compiled';
@@ -13,6 +14,7 @@ import { parseJsonSpec } from './spec/json';
 import { LineIndex } from './spec/lines';
 import type { ParsedSpec } from './spec/types';
 import { suppressReport, type SuppressedFinding } from './suppress';
+import { analyzeTypeScriptText } from './sandbox/analyze-typescript';
 
 export interface AnalyzeOptions {
   config?: ResolvedConfig;
@@ -43,6 +45,11 @@ export interface FileReport {
   cancelled?: boolean;
   /** Findings hidden by a config `ignore` entry or an `episcope-ignore` comment (see suppress.ts). */
   suppressed?: SuppressedFinding[];
+  /**
+   * Monte Carlo figures (analysis/rollouts.ts): for sampled TypeScript models always, for exactly
+   * analysed models when config `rollouts` > 0 (optimal and random policy).
+   */
+  rollouts?: RolloutReport;
 }
 
 /** True for the file names Episcope analyses (`*.mdp.json`, `*.mdp.ts`). */
@@ -55,6 +62,7 @@ export function isSpecPath(path: string): boolean {
  * for any input text.
  */
 export async function analyzeFile(path: string, text: string, options: AnalyzeOptions = {}): Promise<FileReport> {
+  if (path.endsWith('.mdp.ts')) return analyzeTypeScriptText(path, text, options);
   return analyzeJsonText(path, text, options);
 }
 
@@ -100,6 +108,10 @@ export function analyzeParsed(
       report.notAnalysed = `the analysis failed: ${errorText(error)}`;
       report.internalErrors.push(report.notAnalysed);
     }
+  }
+  if (report.model && report.analysis && config.rollouts > 0 && !options.isCancelled?.()) {
+    const stepCap = config.thresholds['episode-never-ends.stepCap'] ?? DEFAULT_STEP_CAP;
+    report.rollouts = exactModelRollouts(report.model, report.analysis, { episodes: config.rollouts, seed: config.seed, stepCap });
   }
 
   for (const rule of enabled) {

@@ -117,6 +117,8 @@ export interface ParsedSpec {
   shapingSpan?: Span;
   transitions: SpecTransition[];
   transitionsSpan?: Span;
+  /** For `*.mdp.ts` specs: member positions, randomness sites and what running the model found. */
+  typescript?: import('./typescript-evidence').TypeScriptEvidence;
 }
 
 export function emptySpec(format: 'json' | 'ts', rootSpan: Span): ParsedSpec {

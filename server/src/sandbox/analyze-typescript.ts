@@ -1,0 +1,355 @@
+/**
+ * The TypeScript-spec pipeline: static reading (ts-morph), then, when execution is allowed, the
+ * model code in the sandbox: an enumerable model is enumerated into a CompiledModel and gets the
+ * same exact analysis and rules as a JSON spec; a sampled model gets seeded rollouts. Never throws.
+ */
+import { isAbsolute, relative, resolve } from 'node:path';
+import { END_NONE, summarizeEpisodes, type EpisodeRecords, type RolloutReport } from '../analysis/rollouts';
+import { analyzeParsed, type AnalyzeOptions, type FileReport } from '../analyze';
+import { DEFAULT_CONFIG, type ResolvedConfig } from '../config';
+import type { CompiledModel } from '../model/compiled';
+import { episodeNeverEnds } from '../rules/episode-never-ends';
+import { describeCall, modelError } from '../rules/model-error';
+import { findRule } from '../rules/registry';
+import type { Finding } from '../rules/types';
+import { LineIndex } from '../spec/lines';
+import { applyField, readTypeScriptSpec, type TypeScriptReading } from '../spec/typescript';
+import type { LocatedProblem, RandomnessSite, TypeScriptEvidence } from '../spec/typescript-evidence';
+import type { ParsedSpec, Span } from '../spec/types';
+import type { SourceLocation } from './bundle';
+import { ModelSandbox, type ModelFailure, type RandomnessUse } from './host';
+import type { ModelDescription } from './protocol';
+import type { Enumeration, ModelFunction } from './runtime';
+
+/** Rollouts of a sampled model when the config asks for none (config.rollouts = 0). */
+export const DEFAULT_SAMPLED_ROLLOUTS = 1000;
+/** Choices called twice to check that an enumerable model is deterministic. */
+const RECHECKED_STATES = 200;
+/** Episodes replayed to check that a sampled model is deterministic. */
+const REPLAYED_EPISODES = 16;
+
+function threshold(config: ResolvedConfig, rule: { id: string; thresholds?: Record<string, { default: number }> }, name: string): number {
+  return config.thresholds[`${rule.id}.${name}`] ?? rule.thresholds![name].default;
+}
+
+/** Analyses a `*.mdp.ts` spec. */
+export async function analyzeTypeScriptText(path: string, text: string, options: AnalyzeOptions = {}): Promise<FileReport> {
+  const config = options.config ?? DEFAULT_CONFIG;
+  const reading = readTypeScriptSpec(text);
+  const evidence = reading.spec.typescript!;
+  const findings: Finding[] = [...reading.findings];
+  let prebuilt: { model?: CompiledModel; reason?: string };
+  let rollouts: RolloutReport | undefined;
+  if (options.exec === false) {
+    evidence.notExecuted = 'the model code was not run (static checks only: --no-exec, or a workspace that is not trusted)';
+    prebuilt = { reason: evidence.notExecuted };
+  } else if (!reading.found || reading.syntaxErrors) {
+    evidence.notExecuted = 'the model code was not run because the spec could not be read';
+    prebuilt = { reason: evidence.notExecuted };
+  } else {
+    try {
+      const run = await runModel(path, text, reading, config, options, findings);
+      prebuilt = run.prebuilt;
+      rollouts = run.rollouts;
+    } catch (error) {
+      prebuilt = { reason: `running the model failed: ${error instanceof Error ? error.message : String(error)}` };
+    }
+  }
+  const report = analyzeParsed(path, text, reading.spec, findings, config, options, prebuilt);
+  if (rollouts) report.rollouts = { ...report.rollouts, ...rollouts };
+  if (options.isCancelled?.()) report.cancelled = true;
+  return report;
+}
+
+interface RunResult {
+  prebuilt: { model?: CompiledModel; reason?: string };
+  rollouts?: RolloutReport;
+}
+
+async function runModel(
+  path: string,
+  text: string,
+  reading: TypeScriptReading,
+  config: ResolvedConfig,
+  options: AnalyzeOptions,
+  findings: Finding[],
+): Promise<RunResult> {
+  const { spec } = reading;
+  const evidence = spec.typescript!;
+  const place = new Placer(path, text, spec);
+  const limits = { callTimeoutMs: threshold(config, modelError, 'callTimeoutMs'), memoryMb: threshold(config, modelError, 'memoryMb') };
+  const isCancelled = options.isCancelled ?? (() => false);
+  const started = await ModelSandbox.start(path, text, limits, isCancelled);
+  evidence.executed = true;
+  addRandomness(evidence, started.randomness, place);
+  if (started.failure) {
+    place.failure(evidence, started.failure);
+    return { prebuilt: { reason: 'the model code failed (see model-error)' } };
+  }
+  const { sandbox, description } = started.value!;
+  try {
+    const fieldProblems = applyDescription(spec, reading, description);
+    for (const problem of fieldProblems) findings.push(problem);
+    const members = description.members;
+    if (members.actions !== 'function' || (members.outcomes !== 'function' && members.sample !== 'function')) {
+      if (!reading.findings.some((f) => f.rule === 'schema')) {
+        evidence.modelErrors.push({
+          kind: 'malformed',
+          phase: 'load',
+          message: 'the default export needs an actions(state) function and outcomes(state, action) or sample(state, action, rng)',
+          span: spec.rootSpan,
+        });
+      }
+      return { prebuilt: { reason: 'the spec does not define its dynamics' } };
+    }
+    if (spec.discount === undefined || fieldProblems.length > 0) return { prebuilt: { reason: 'the spec has no valid discount' } };
+    const declaredTerms = spec.rewardTerms.map((t) => t.name);
+    if (members.outcomes === 'function') {
+      evidence.form = 'enumerable';
+      const began = Date.now();
+      const enumerated = await sandbox.enumerate({ stateCap: config.stateCap, declaredTerms, recheckChoices: RECHECKED_STATES });
+      addRandomness(evidence, enumerated.randomness, place);
+      if (enumerated.failure) {
+        place.failure(evidence, enumerated.failure);
+        return { prebuilt: { reason: 'the model code failed (see model-error)' } };
+      }
+      const result = enumerated.value!;
+      const producer = (evidence.members.outcomes ?? evidence.members.start)?.nameSpan ?? spec.rootSpan;
+      evidence.enumeration = {
+        states: result.stateKeys.length,
+        choices: result.choiceAction.length,
+        outcomes: result.outcomesListed,
+        milliseconds: Date.now() - began,
+        capped: result.capped,
+        cap: config.stateCap,
+        firstBeyondCap: result.firstBeyondCap,
+        span: producer,
+      };
+      if (result.problem) {
+        place.failure(evidence, sandbox.locate(result.problem), findings);
+        return { prebuilt: { reason: 'the model code failed (see model-error)' } };
+      }
+      for (const site of result.nondeterminism) {
+        const call = describeCall({ phase: site.phase, state: site.state, action: site.action });
+        evidence.nondeterminism.push({
+          message: `${call} answered differently when called again with the same arguments: first ${site.first}, then ${site.second}`,
+          span: place.memberName(site.phase),
+        });
+      }
+      if (evidence.nondeterminism.length > 0) return { prebuilt: { reason: 'the model is not deterministic (see nondeterministic-model)' } };
+      if (spec.start.length === 0) {
+        spec.start = Array.from(result.startStates, (s, i) => ({ state: result.stateKeys[s], probability: result.startProbs[i], span: place.memberName('start') }));
+      }
+      if (!result.capped) return { prebuilt: { model: compiledFromEnumeration(result, spec, evidence, producer) } };
+      // Past the cap: estimate by sampling the listed outcomes.
+    } else {
+      evidence.form = 'sampled';
+    }
+    const stats = await sampleByRollouts(sandbox, spec, config, declaredTerms, evidence, place, findings);
+    return {
+      prebuilt: { reason: evidence.form === 'sampled' ? 'a sampled model has no exact values; see the rollout estimates' : 'enumeration stopped at the state cap; see the rollout estimates' },
+      rollouts: stats ? { random: stats } : undefined,
+    };
+  } finally {
+    await sandbox.close();
+  }
+}
+
+async function sampleByRollouts(
+  sandbox: ModelSandbox,
+  spec: ParsedSpec,
+  config: ResolvedConfig,
+  declaredTerms: string[],
+  evidence: TypeScriptEvidence,
+  place: Placer,
+  findings: Finding[],
+) {
+  const episodes = config.rollouts > 0 ? config.rollouts : DEFAULT_SAMPLED_ROLLOUTS;
+  const stepCap = threshold(config, episodeNeverEnds, 'stepCap');
+  const common = { seed: config.seed, discount: spec.discount!.value, horizon: spec.horizon?.value, stepCap, declaredTerms };
+  const ran = await sandbox.rollouts({ ...common, episodes, fingerprintEpisodes: REPLAYED_EPISODES });
+  addRandomness(evidence, ran.randomness, place);
+  if (ran.failure) {
+    place.failure(evidence, ran.failure);
+    return undefined;
+  }
+  const run = ran.value!;
+  if (run.problem) {
+    place.failure(evidence, sandbox.locate(run.problem), findings);
+    return undefined;
+  }
+  if (run.firstNonFinite) {
+    const problem = place.problem({ ...run.firstNonFinite, location: undefined });
+    findings.push(nonFiniteFinding(problem, run.nonFiniteEpisodes, episodes));
+  }
+  const replay = await sandbox.rollouts({ ...common, episodes: Math.min(REPLAYED_EPISODES, episodes), fingerprintEpisodes: REPLAYED_EPISODES });
+  addRandomness(evidence, replay.randomness, place);
+  const again = replay.value?.fingerprints ?? [];
+  const differs = again.findIndex((hash, i) => hash !== run.fingerprints[i]);
+  if (differs >= 0) {
+    evidence.nondeterminism.push({
+      message: `episode ${differs} of seed ${config.seed} took a different trajectory when replayed with the same seed`,
+      span: place.memberName(evidence.form === 'sampled' ? 'sample' : 'outcomes'),
+    });
+  }
+  const finite = onlyFinite(run.records);
+  const stats = summarizeEpisodes(finite, { policy: 'random', seed: config.seed, stepCap });
+  evidence.rollouts = stats;
+  return stats;
+}
+
+/** Drops episodes whose return is not finite (they are reported by non-finite-reward). */
+function onlyFinite(records: EpisodeRecords): EpisodeRecords {
+  const keep: number[] = [];
+  for (let i = 0; i < records.returns.length; i++) if (Number.isFinite(records.returns[i])) keep.push(i);
+  if (keep.length === records.returns.length) return records;
+  return {
+    returns: Float64Array.from(keep, (i) => records.returns[i]),
+    lengths: Int32Array.from(keep, (i) => records.lengths[i]),
+    ends: Uint8Array.from(keep, (i) => records.ends[i] ?? END_NONE),
+  };
+}
+
+function nonFiniteFinding(problem: LocatedProblem, episodes: number | undefined, total: number | undefined): Finding {
+  const rule = findRule('non-finite-reward');
+  const share = episodes !== undefined && total ? `; ${episodes} of ${total} rollouts got a non-finite reward and are left out of the estimates` : '';
+  return {
+    rule: 'non-finite-reward',
+    severity: rule?.defaultSeverity ?? 'error',
+    message: `${describeCall(problem)} gave ${problem.message.replace(/^outcome (\d+) has /, 'in outcome $1 ')}: a return with it is not a number${share}`,
+    span: problem.span,
+  };
+}
+
+/** Values of fields that are not literals in the source, taken from the running code. */
+function applyDescription(spec: ParsedSpec, reading: TypeScriptReading, description: ModelDescription): Finding[] {
+  const problems: Finding[] = [];
+  const evidence = spec.typescript!;
+  const fields: Array<keyof ModelDescription> = ['name', 'objective', 'discount', 'horizon', 'rewardTerms'];
+  for (const field of fields) {
+    const member = evidence.members[field];
+    const statically = member !== undefined && !reading.dynamicFields.has(field);
+    if (statically && !reading.dynamicFields.has('...')) continue;
+    const value = description[field];
+    if (value === undefined) continue;
+    const span = member?.span ?? spec.rootSpan;
+    for (const message of applyField(spec, field, value, span, span)) {
+      problems.push({ rule: 'schema', severity: findRule('schema')?.defaultSeverity ?? 'error', message, span });
+    }
+  }
+  if (spec.discount === undefined && !reading.findings.some((f) => f.rule === 'schema')) {
+    problems.push({ rule: 'schema', severity: 'error', message: 'the spec has no discount (0 <= discount <= 1)', span: spec.rootSpan });
+  }
+  return problems;
+}
+
+function addRandomness(evidence: TypeScriptEvidence, uses: RandomnessUse[], place: Placer): void {
+  for (const use of uses) {
+    const located = place.location(use.location, 'load');
+    const site: RandomnessSite = { api: use.api, count: use.count, span: located.span, elsewhere: located.elsewhere };
+    const known = evidence.runtimeRandomness.find((r) => r.api === site.api && r.span.start === site.span.start);
+    if (known) known.count = (known.count ?? 0) + use.count;
+    else evidence.runtimeRandomness.push(site);
+  }
+}
+
+/** Turns source locations and model failures into spans of the spec's text. */
+class Placer {
+  private readonly lines: LineIndex;
+  private readonly file: string;
+
+  constructor(
+    file: string,
+    private readonly text: string,
+    private readonly spec: ParsedSpec,
+  ) {
+    this.lines = new LineIndex(text);
+    this.file = resolve(file);
+  }
+
+  /** The name of the member that defines a model function, else the whole definition. */
+  memberName(phase: ModelFunction | string): Span {
+    const members = this.spec.typescript!.members;
+    return (members[phase] ?? (phase === 'start' ? members.startDistribution : undefined))?.nameSpan ?? this.spec.rootSpan;
+  }
+
+  /** A span for a source location: its line in the spec, or the member's name with "file:line:col". */
+  location(location: SourceLocation | undefined, phase: ModelFunction | string): { span: Span; elsewhere?: string } {
+    if (!location) return { span: this.memberName(phase) };
+    if (resolve(location.file) === this.file) {
+      const start = this.lines.offset({ line: location.line, character: 0 });
+      const next = this.lines.offset({ line: location.line + 1, character: 0 });
+      const lineText = this.text.slice(start, next).replace(/\s+$/, '');
+      const indent = lineText.length - lineText.trimStart().length;
+      return { span: { start: start + indent, end: start + Math.max(indent + 1, lineText.length) } };
+    }
+    const shown = isAbsolute(location.file) ? relative(resolve(this.file, '..'), location.file) || location.file : location.file;
+    return { span: this.memberName(phase), elsewhere: `${shown}:${location.line + 1}:${location.column + 1}` };
+  }
+
+  problem(failure: ModelFailure): LocatedProblem {
+    const { span, elsewhere } = this.location(failure.location, failure.phase);
+    return {
+      kind: failure.kind,
+      phase: failure.phase,
+      message: failure.message,
+      span,
+      elsewhere,
+      state: failure.state,
+      action: failure.action,
+      episode: failure.episode,
+      step: failure.step,
+    };
+  }
+
+  /** Records a failure as model-error evidence (or a non-finite-reward finding). */
+  failure(evidence: TypeScriptEvidence, failure: ModelFailure, findings?: Finding[]): void {
+    if (failure.kind === 'cancelled') return;
+    const problem = this.problem(failure);
+    if (failure.kind === 'non-finite-reward' && findings) {
+      findings.push(nonFiniteFinding(problem, undefined, undefined));
+      evidence.nonFiniteRewards.push(problem);
+      return;
+    }
+    evidence.modelErrors.push(problem);
+  }
+}
+
+/**
+ * The CompiledModel of an enumeration. State ids are the canonical keys; every state points at
+ * the function that produced it (`start` for start states, `outcomes` for the others).
+ */
+function compiledFromEnumeration(result: Enumeration, spec: ParsedSpec, evidence: TypeScriptEvidence, producer: Span): CompiledModel {
+  const stateCount = result.stateKeys.length;
+  const startSpan = (evidence.members.start ?? evidence.members.startDistribution)?.nameSpan ?? producer;
+  const stateSpan = new Array<Span>(stateCount).fill(producer);
+  for (const s of result.startStates) stateSpan[s] = startSpan;
+  // A string state's key is quoted JSON; its label is the bare string.
+  const stateLabels = result.stateKeys.map((key) => (key.startsWith('"') ? (JSON.parse(key) as string) : undefined));
+  const choiceCount = result.choiceAction.length;
+  return {
+    stateCount,
+    choiceCount,
+    outcomeCount: result.outcomeTarget.length,
+    stateIds: result.stateKeys,
+    stateIndex: new Map(result.stateKeys.map((key, i) => [key, i])),
+    stateLabels: stateLabels.some((label) => label !== undefined) ? stateLabels : undefined,
+    terminal: result.terminal,
+    actionNames: result.actionNames,
+    choiceStart: result.choiceStart,
+    choiceAction: result.choiceAction,
+    choiceTransition: new Int32Array(choiceCount).fill(-1),
+    outcomeStart: result.outcomeStart,
+    outcomeTarget: result.outcomeTarget,
+    outcomeProb: result.outcomeProb,
+    outcomeReward: result.outcomeReward,
+    termNames: result.termNames,
+    outcomeTermReward: result.termRewards,
+    startState: result.startStates,
+    startProb: result.startProbs,
+    discount: spec.discount!.value,
+    horizon: spec.horizon?.value,
+    maximize: spec.objective !== 'minimize',
+    stateSpan,
+  };
+}

@@ -1,0 +1,688 @@
+/**
+ * Drives a TypeScript model's functions: canonical state keys, breadth-first enumeration, sampled
+ * rollouts and the checks of what the functions return. It runs inside the sandbox worker, and the
+ * benchmark calls the same functions directly to measure what the sandbox costs. It must not import
+ * anything that needs the host (file system, esbuild, ts-morph).
+ */
+import { END_FAILURE, END_GOAL, END_NEUTRAL, END_NONE, END_STEP_CAP, Xoshiro128, type EpisodeRecords } from '../analysis/rollouts';
+
+/** What a model function did wrong; `phase` names the function. */
+export interface RuntimeProblem {
+  kind: 'threw' | 'malformed' | 'exit' | 'dead-end' | 'non-finite-reward';
+  phase: ModelFunction;
+  message: string;
+  /** The stack of a thrown error (generated positions; the host maps them to the source). */
+  stack?: string;
+  /** The state (canonical JSON where it has one) the function was called with. */
+  state?: string;
+  action?: string;
+  episode?: number;
+  step?: number;
+}
+
+export type ModelFunction = 'load' | 'start' | 'actions' | 'outcomes' | 'terminal' | 'sample';
+export const PHASE_CODES: readonly ModelFunction[] = ['load', 'start', 'actions', 'outcomes', 'terminal', 'sample'];
+
+/**
+ * Progress shared with the host (a SharedArrayBuffer in the worker): [0] calls made, [1] phase
+ * code of the running function, [2] state index or episode, [3] step. The host watches [0] to tell
+ * a hung call from a slow run, and reads the rest to say where it hung.
+ */
+export type Progress = Int32Array;
+
+/** Thrown by `process.exit` inside the worker, so the call is reported with its stack. */
+export class ModelExitCall extends Error {
+  /** `call` is what the model called, e.g. "process.exit(1)". */
+  constructor(call: string) {
+    super(`called ${call}`);
+  }
+}
+
+class MalformedValue extends Error {}
+
+const OBJECT_PROTOTYPE = Object.prototype;
+
+/**
+ * The canonical key of a plain JSON value: JSON with object keys sorted, so equal states get equal
+ * keys whatever the property order. Throws MalformedValue for anything that is not plain data.
+ */
+export function canonicalKey(value: unknown, path = 'state', depth = 0): string {
+  switch (typeof value) {
+    case 'number':
+      if (!Number.isFinite(value)) throw new MalformedValue(`${path} is ${value}, not a finite number`);
+      return value === 0 ? '0' : String(value);
+    case 'string':
+      return JSON.stringify(value);
+    case 'boolean':
+      return value ? 'true' : 'false';
+    case 'object': {
+      if (value === null) return 'null';
+      if (depth > 64) throw new MalformedValue(`${path} is nested more than 64 levels deep (a cycle?)`);
+      if (Array.isArray(value)) {
+        let out = '[';
+        for (let i = 0; i < value.length; i++) {
+          if (i > 0) out += ',';
+          out += canonicalKey(value[i], `${path}[${i}]`, depth + 1);
+        }
+        return out + ']';
+      }
+      const proto = Object.getPrototypeOf(value);
+      if (proto !== OBJECT_PROTOTYPE && proto !== null) {
+        const kind = (value as object).constructor?.name ?? 'object';
+        throw new MalformedValue(`${path} is a ${kind}; states must be plain JSON values (objects, arrays, numbers, strings)`);
+      }
+      const keys = Object.keys(value);
+      let sorted = true;
+      for (let i = 1; i < keys.length; i++) {
+        if (keys[i - 1] > keys[i]) {
+          sorted = false;
+          break;
+        }
+      }
+      if (!sorted) keys.sort();
+      let out = '{';
+      let first = true;
+      for (const key of keys) {
+        const item = (value as Record<string, unknown>)[key];
+        if (item === undefined) continue;
+        if (!first) out += ',';
+        first = false;
+        out += JSON.stringify(key) + ':' + canonicalKey(item, `${path}.${key}`, depth + 1);
+      }
+      return out + '}';
+    }
+    default:
+      throw new MalformedValue(`${path} is ${value === undefined ? 'undefined' : `a ${typeof value}`}; states must be plain JSON values`);
+  }
+}
+
+/** Freezes a plain value in depth, so that model code that changes a stored state fails loudly. */
+function deepFreeze(value: unknown): void {
+  if (typeof value !== 'object' || value === null || Object.isFrozen(value)) return;
+  Object.freeze(value);
+  for (const key of Object.keys(value)) deepFreeze((value as Record<string, unknown>)[key]);
+}
+
+/** A readable rendering of any state for messages, cut at 200 characters. */
+export function describeValue(value: unknown): string {
+  let text: string;
+  try {
+    text = canonicalKey(value);
+  } catch {
+    try {
+      text = JSON.stringify(value) ?? String(value);
+    } catch {
+      text = String(value);
+    }
+  }
+  return text.length > 200 ? `${text.slice(0, 199)}…` : text;
+}
+
+/** The `rng` handed to model code: a callable float source with helpers, backed by xoshiro128**. */
+export interface ModelRng {
+  (): number;
+  int(n: number): number;
+  pick<T>(items: readonly T[]): T;
+  chance(p: number): boolean;
+  normal(mean?: number, standardDeviation?: number): number;
+  readonly generator: Xoshiro128;
+}
+
+export function createModelRng(generator: Xoshiro128): ModelRng {
+  const rng = (() => generator.nextFloat()) as ModelRng;
+  rng.int = (n) => generator.nextInt(n);
+  rng.pick = (items) => items[generator.nextInt(items.length)];
+  rng.chance = (p) => generator.nextFloat() < p;
+  // Box-Muller transform (Box and Muller, Annals of Mathematical Statistics 29(2), 1958).
+  rng.normal = (mean = 0, standardDeviation = 1) => {
+    const u = 1 - generator.nextFloat();
+    const v = generator.nextFloat();
+    return mean + standardDeviation * Math.sqrt(-2 * Math.log(u)) * Math.cos(2 * Math.PI * v);
+  };
+  (rng as { generator: Xoshiro128 }).generator = generator;
+  return rng;
+}
+
+/** The model functions, as found on the default export. */
+export interface ModelFunctions {
+  start?: unknown;
+  startDistribution?: unknown;
+  actions?: (state: unknown) => unknown;
+  outcomes?: (state: unknown, action: unknown) => unknown;
+  terminal?: (state: unknown) => unknown;
+  sample?: (state: unknown, action: unknown, rng: ModelRng) => unknown;
+}
+
+export const TERMINAL_CODES: Record<string, number> = { goal: END_GOAL, failure: END_FAILURE, neutral: END_NEUTRAL };
+
+function terminalCode(value: unknown, what: string): number {
+  if (value === undefined || value === null || value === false) return 0;
+  const code = typeof value === 'string' ? TERMINAL_CODES[value] : undefined;
+  if (code === undefined) throw new MalformedValue(`${what} is ${describeValue(value)}; expected "goal", "failure", "neutral" or undefined`);
+  return code;
+}
+
+/** Adds a reward (number or term map) into `terms` and returns its scalar total. */
+function readReward(reward: unknown, termIndex: Map<string, number> | undefined, termValues: number[] | undefined, strictTerms: boolean, what: string): number {
+  if (typeof reward === 'number') return reward;
+  if (typeof reward !== 'object' || reward === null || Array.isArray(reward)) {
+    throw new MalformedValue(`${what} is ${describeValue(reward)}; expected a number or an object of reward terms`);
+  }
+  let total = 0;
+  for (const term of Object.keys(reward)) {
+    const value = (reward as Record<string, unknown>)[term];
+    if (typeof value !== 'number') throw new MalformedValue(`${what}.${term} is ${describeValue(value)}; expected a number`);
+    total += value;
+    if (termIndex && termValues) {
+      let index = termIndex.get(term);
+      if (index === undefined) {
+        if (strictTerms) throw new MalformedValue(`${what} names the reward term "${term}", which rewardTerms does not declare`);
+        index = termIndex.size;
+        termIndex.set(term, index);
+      }
+      termValues[index] = (termValues[index] ?? 0) + value;
+    }
+  }
+  return total;
+}
+
+function actionName(action: unknown, what: string): string {
+  if (typeof action === 'string') return action;
+  if (typeof action === 'number' && Number.isFinite(action)) return String(action);
+  throw new MalformedValue(`${what} is ${describeValue(action)}; actions must be strings or numbers`);
+}
+
+function listOf(value: unknown, what: string): unknown[] {
+  if (Array.isArray(value)) return value;
+  if (value && typeof (value as { then?: unknown }).then === 'function') {
+    throw new MalformedValue(`${what} is a Promise; model functions must return their value synchronously`);
+  }
+  throw new MalformedValue(`${what} is ${describeValue(value)}; expected an array`);
+}
+
+function problemOf(error: unknown, phase: ModelFunction, context: Partial<RuntimeProblem>): RuntimeProblem {
+  if (error instanceof MalformedValue) return { kind: 'malformed', phase, message: error.message, ...context };
+  if (error instanceof ModelExitCall) return { kind: 'exit', phase, message: error.message, stack: error.stack, ...context };
+  if (error instanceof Error) {
+    return { kind: 'threw', phase, message: `${error.name}: ${error.message}`, stack: error.stack, ...context };
+  }
+  return { kind: 'threw', phase, message: `threw ${describeValue(error)}`, ...context };
+}
+
+/** Result of a breadth-first enumeration, in the worker's compact form (CSR arrays). */
+export interface Enumeration {
+  stateKeys: string[];
+  terminal: Uint8Array;
+  actionNames: string[];
+  choiceStart: Int32Array;
+  choiceAction: Int32Array;
+  outcomeStart: Int32Array;
+  outcomeTarget: Int32Array;
+  outcomeProb: Float64Array;
+  outcomeReward: Float64Array;
+  termNames: string[];
+  /** Per term, its part of each outcome's reward. */
+  termRewards: Float64Array[];
+  startStates: Int32Array;
+  startProbs: Float64Array;
+  /** True when the state cap stopped the enumeration; `stateKeys` then lists the states found so far. */
+  capped: boolean;
+  /** The first state that did not fit under the cap. */
+  firstBeyondCap?: string;
+  problem?: RuntimeProblem;
+  /** Choices whose repeated call gave a different answer. */
+  nondeterminism: Array<{ phase: ModelFunction; state: string; action?: string; first: string; second: string }>;
+  outcomesListed: number;
+}
+
+export interface EnumerationOptions {
+  stateCap: number;
+  /** Declared reward terms; other term names are malformed when any are declared. */
+  declaredTerms: string[];
+  /** How many choices to call twice to check that the model is deterministic. */
+  recheckChoices: number;
+  progress: Progress;
+  /** Receives the key of each state as it is expanded (the host shows it when a call hangs). */
+  onExpand?: (key: string) => void;
+}
+
+/**
+ * Breadth-first enumeration of every state reachable from the start: each state's key is its
+ * canonical JSON, `terminal` is asked first, then `actions`, then `outcomes` for each action.
+ * Zero-probability outcomes are dropped. Stops at the first problem or when the cap is reached.
+ */
+export function enumerateModel(model: ModelFunctions, options: EnumerationOptions): Enumeration {
+  const { progress } = options;
+  const keys: string[] = [];
+  const values: unknown[] = [];
+  const index = new Map<string, number>();
+  const terminal: number[] = [];
+  const choiceStart: number[] = [];
+  const choiceAction: number[] = [];
+  const outcomeStart: number[] = [];
+  const target: number[] = [];
+  const prob: number[] = [];
+  const reward: number[] = [];
+  const termIndex = new Map<string, number>();
+  for (const term of options.declaredTerms) termIndex.set(term, termIndex.size);
+  const strictTerms = options.declaredTerms.length > 0;
+  const termColumns: number[][] = options.declaredTerms.map(() => []);
+  const termScratch: number[] = [];
+  const actionIndex = new Map<string, number>();
+  const actionNames: string[] = [];
+  const startStates: number[] = [];
+  const startProbs: number[] = [];
+  let capped = false;
+  let firstBeyondCap: string | undefined;
+  let problem: RuntimeProblem | undefined;
+  let phase: ModelFunction = 'start';
+  let current = -1;
+  let currentAction: string | undefined;
+
+  const addState = (value: unknown, what: string): number => {
+    const key = canonicalKey(value, what);
+    const known = index.get(key);
+    if (known !== undefined) return known;
+    if (keys.length >= options.stateCap) {
+      capped = true;
+      firstBeyondCap = key;
+      return -1;
+    }
+    deepFreeze(value);
+    const id = keys.length;
+    keys.push(key);
+    values.push(value);
+    index.set(key, id);
+    return id;
+  };
+
+  try {
+    if (model.startDistribution !== undefined) {
+      const entries = listOf(model.startDistribution, 'startDistribution');
+      let sum = 0;
+      entries.forEach((entry, i) => {
+        const e = entry as { state?: unknown; probability?: unknown };
+        if (typeof e !== 'object' || e === null || typeof e.probability !== 'number' || !(e.probability >= 0 && e.probability <= 1)) {
+          throw new MalformedValue(`startDistribution[${i}] needs a state and a probability between 0 and 1`);
+        }
+        sum += e.probability;
+        if (e.probability > 0) {
+          startStates.push(addState(e.state, `startDistribution[${i}].state`));
+          startProbs.push(e.probability);
+        }
+      });
+      if (Math.abs(sum - 1) > 1e-9) throw new MalformedValue(`the startDistribution probabilities add up to ${sum}, not 1`);
+    } else {
+      if (model.start === undefined) throw new MalformedValue('the model has no start state (give `start` or `startDistribution`)');
+      startStates.push(addState(model.start, 'start'));
+      startProbs.push(1);
+    }
+    if (capped) throw new MalformedValue(`the state cap (${options.stateCap}) is below the number of start states`);
+
+    const { actions, outcomes } = model as Required<Pick<ModelFunctions, 'actions' | 'outcomes'>>;
+    const terminalOf = model.terminal;
+    for (current = 0; current < keys.length && !capped; current++) {
+      const state = values[current];
+      progress[2] = current;
+      options.onExpand?.(keys[current]);
+      currentAction = undefined;
+      choiceStart.push(choiceAction.length);
+      if (terminalOf) {
+        phase = 'terminal';
+        progress[1] = 4;
+        progress[0]++;
+        const code = terminalCode(terminalOf(state), 'the returned terminal kind');
+        terminal.push(code);
+        if (code !== 0) continue;
+      } else terminal.push(0);
+      phase = 'actions';
+      progress[1] = 2;
+      progress[0]++;
+      const list = listOf(actions(state), 'the returned action list');
+      if (list.length === 0) {
+        problem = { kind: 'dead-end', phase, message: 'actions() returned no action for a state that is not terminal', state: keys[current] };
+        break;
+      }
+      const firstChoice = choiceAction.length;
+      phase = 'outcomes';
+      progress[1] = 3;
+      for (let a = 0; a < list.length; a++) {
+        const action = list[a];
+        const name = actionName(action, `action ${a}`);
+        currentAction = name;
+        let actionId = actionIndex.get(name);
+        if (actionId === undefined) {
+          actionId = actionNames.length;
+          actionNames.push(name);
+          actionIndex.set(name, actionId);
+        }
+        // A linear scan is cheapest for the few actions states usually have.
+        for (let b = firstChoice; b < choiceAction.length; b++) {
+          if (choiceAction[b] === actionId) throw new MalformedValue(`actions() lists "${name}" twice`);
+        }
+        choiceAction.push(actionId);
+        outcomeStart.push(target.length);
+        progress[0]++;
+        const outs = listOf(outcomes(state, action), 'the returned outcome list');
+        if (outs.length === 0) throw new MalformedValue('outcomes() returned an empty list; every action needs at least one outcome');
+        let sum = 0;
+        for (let o = 0; o < outs.length; o++) {
+          const out = outs[o] as { state?: unknown; probability?: unknown; reward?: unknown };
+          if (typeof out !== 'object' || out === null) throw new MalformedValue(`outcome ${o} is ${describeValue(out)}; expected { state, probability, reward }`);
+          const p = out.probability;
+          if (typeof p !== 'number' || Number.isNaN(p)) throw new MalformedValue(`outcome ${o} has probability ${describeValue(p)}; expected a number`);
+          if (p < 0 || p > 1) throw new MalformedValue(`outcome ${o} has probability ${p}, outside [0, 1]`);
+          sum += p;
+          if (p === 0) continue;
+          termScratch.length = 0;
+          const r = readReward(out.reward, termIndex, termScratch, strictTerms, `outcome ${o}'s reward`);
+          if (!Number.isFinite(r)) {
+            problem = { kind: 'non-finite-reward', phase, message: `outcome ${o} has reward ${r}`, state: keys[current], action: name };
+            break;
+          }
+          const next = addState(out.state, `outcome ${o}'s state`);
+          if (next < 0) break;
+          target.push(next);
+          prob.push(p);
+          reward.push(r);
+          for (let t = 0; t < termIndex.size; t++) {
+            let column = termColumns[t];
+            if (!column) {
+              column = new Array<number>(target.length - 1).fill(0);
+              termColumns[t] = column;
+            }
+            column.push(termScratch[t] ?? 0);
+          }
+        }
+        if (problem || capped) break;
+        if (Math.abs(sum - 1) > 1e-9) throw new MalformedValue(`the outcome probabilities add up to ${sum}, not 1`);
+      }
+      if (problem) break;
+    }
+  } catch (error) {
+    problem = problemOf(error, phase, { state: current >= 0 ? keys[current] : undefined, action: currentAction });
+  }
+
+  const result: Enumeration = {
+    stateKeys: keys,
+    terminal: Uint8Array.from(terminal),
+    actionNames,
+    choiceStart: Int32Array.from([...choiceStart, choiceAction.length]),
+    choiceAction: Int32Array.from(choiceAction),
+    outcomeStart: Int32Array.from([...outcomeStart, target.length]),
+    outcomeTarget: Int32Array.from(target),
+    outcomeProb: Float64Array.from(prob),
+    outcomeReward: Float64Array.from(reward),
+    termNames: [...termIndex.keys()],
+    termRewards: [...termIndex.keys()].map((_, t) => Float64Array.from(termColumns[t] ?? new Array<number>(target.length).fill(0))),
+    startStates: Int32Array.from(startStates),
+    startProbs: Float64Array.from(startProbs),
+    capped,
+    firstBeyondCap,
+    problem,
+    nondeterminism: [],
+    outcomesListed: target.length,
+  };
+  if (!problem && !capped) recheckDeterminism(model, values, result, options);
+  return result;
+}
+
+/**
+ * Calls `actions` and `outcomes` again on evenly spread states and compares the answers with the
+ * enumerated ones; a model that answers differently cannot be analysed exactly.
+ */
+function recheckDeterminism(model: ModelFunctions, values: unknown[], result: Enumeration, options: EnumerationOptions): void {
+  const stateCount = result.stateKeys.length;
+  const picks = Math.min(options.recheckChoices, stateCount);
+  if (picks <= 0) return;
+  const stride = stateCount / picks;
+  const render = (list: unknown[]) => list.map((a) => actionName(a, 'action')).join(', ');
+  for (let i = 0; i < picks; i++) {
+    const s = Math.floor(i * stride);
+    if (result.terminal[s] !== 0) continue;
+    const state = values[s];
+    let phase: ModelFunction = 'actions';
+    try {
+      const list = listOf(model.actions!(state), 'the returned action list');
+      const first = listedActions(result, s).join(', ');
+      const second = render(list);
+      if (first !== second) {
+        result.nondeterminism.push({ phase, state: result.stateKeys[s], first: `[${first}]`, second: `[${second}]` });
+        continue;
+      }
+      phase = 'outcomes';
+      for (let c = result.choiceStart[s]; c < result.choiceStart[s + 1]; c++) {
+        const action = list[c - result.choiceStart[s]];
+        const again = listOf(model.outcomes!(state, action), 'the returned outcome list');
+        const firstText = renderChoice(result, c);
+        const secondText = again
+          .filter((o) => (o as { probability: number }).probability !== 0)
+          .map((o) => {
+            const out = o as { state: unknown; probability: number; reward: unknown };
+            return `${canonicalKey(out.state)} p=${out.probability} r=${readReward(out.reward, undefined, undefined, false, 'reward')}`;
+          })
+          .join('; ');
+        if (firstText !== secondText) {
+          result.nondeterminism.push({ phase, state: result.stateKeys[s], action: result.actionNames[result.choiceAction[c]], first: firstText, second: secondText });
+          break;
+        }
+      }
+    } catch (error) {
+      result.problem = problemOf(error, phase, { state: result.stateKeys[s] });
+      return;
+    }
+  }
+}
+
+function listedActions(result: Enumeration, s: number): string[] {
+  const out: string[] = [];
+  for (let c = result.choiceStart[s]; c < result.choiceStart[s + 1]; c++) out.push(result.actionNames[result.choiceAction[c]]);
+  return out;
+}
+
+function renderChoice(result: Enumeration, c: number): string {
+  const parts: string[] = [];
+  for (let k = result.outcomeStart[c]; k < result.outcomeStart[c + 1]; k++) {
+    parts.push(`${result.stateKeys[result.outcomeTarget[k]]} p=${result.outcomeProb[k]} r=${result.outcomeReward[k]}`);
+  }
+  return parts.join('; ');
+}
+
+export interface RolloutOptions {
+  episodes: number;
+  seed: number;
+  /** First episode index (batches of one run continue the numbering). */
+  firstEpisode?: number;
+  discount: number;
+  horizon?: number;
+  /** Cap on steps per episode without a horizon. */
+  stepCap: number;
+  declaredTerms: string[];
+  /** Episodes (from the first) whose trajectories are fingerprinted for the determinism check. */
+  fingerprintEpisodes: number;
+  progress: Progress;
+}
+
+export interface RolloutRun {
+  records: EpisodeRecords;
+  /** Episodes with a non-finite reward (their return is NaN). */
+  nonFiniteEpisodes: number;
+  firstNonFinite?: RuntimeProblem;
+  problem?: RuntimeProblem;
+  /** FNV-1a hashes of the first episodes' trajectories (states, actions, rewards). */
+  fingerprints: string[];
+  /** How many episodes ran before a problem stopped the run. */
+  completed: number;
+}
+
+/**
+ * Seeded rollouts under the uniformly random policy. The model draws from `rng` (stream 0 of the
+ * episode), the policy from its own stream 1. A model with `outcomes` but no `sample` is sampled by
+ * drawing an outcome by its probability.
+ */
+export function rolloutModel(model: ModelFunctions, options: RolloutOptions): RolloutRun {
+  const { episodes, seed, discount, progress } = options;
+  const firstEpisode = options.firstEpisode ?? 0;
+  const limit = options.horizon ?? options.stepCap;
+  const returns = new Float64Array(episodes);
+  const lengths = new Int32Array(episodes);
+  const ends = new Uint8Array(episodes);
+  const generator = new Xoshiro128();
+  const rng = createModelRng(generator);
+  const chooser = new Xoshiro128();
+  const strictTerms = options.declaredTerms.length > 0;
+  const termIndex = strictTerms ? new Map(options.declaredTerms.map((t, i) => [t, i])) : undefined;
+  const scratch: number[] = [];
+  const fingerprints: string[] = [];
+  let nonFiniteEpisodes = 0;
+  let firstNonFinite: RuntimeProblem | undefined;
+  let phase: ModelFunction = 'start';
+  let e = 0;
+  let t = 0;
+  let state: unknown;
+  let action: unknown;
+
+  const actions = model.actions!;
+  const terminalOf = model.terminal;
+  const sample = model.sample;
+  const outcomes = model.outcomes;
+  const startFunction = typeof model.start === 'function' ? (model.start as (rng: ModelRng) => unknown) : undefined;
+  const startDistribution = model.startDistribution;
+
+  try {
+    for (e = 0; e < episodes; e++) {
+      const episode = firstEpisode + e;
+      generator.seedEpisode(seed, episode, 0);
+      chooser.seedEpisode(seed, episode, 1);
+      progress[2] = episode;
+      t = 0;
+      progress[3] = 0;
+      phase = 'start';
+      progress[1] = 1;
+      progress[0]++;
+      if (startFunction) state = startFunction(rng);
+      else if (startDistribution !== undefined) state = drawStart(listOf(startDistribution, 'startDistribution'), generator);
+      else state = structuredClone(model.start);
+      let hash = e < options.fingerprintEpisodes ? fnv(0x811c9dc5, describeValue(state)) : 0;
+      let total = 0;
+      let weight = 1;
+      let end = END_NONE;
+      let nonFinite = false;
+      let code = 0;
+      if (terminalOf) {
+        phase = 'terminal';
+        code = terminalCode(terminalOf(state), 'the returned terminal kind');
+      }
+      while (code === 0) {
+        if (t >= limit) {
+          end = options.horizon === undefined ? END_STEP_CAP : END_NONE;
+          break;
+        }
+        phase = 'actions';
+        progress[1] = 2;
+        progress[3] = t;
+        progress[0]++;
+        const list = actions(state);
+        if (!Array.isArray(list)) listOf(list, 'the returned action list');
+        const count = (list as unknown[]).length;
+        if (count === 0) {
+          return stopped({ kind: 'dead-end', phase, message: 'actions() returned no action for a state that is not terminal', state: describeValue(state), episode, step: t });
+        }
+        action = (list as unknown[])[chooser.nextInt(count)];
+        let reward: unknown;
+        let next: unknown;
+        let said: unknown;
+        if (sample) {
+          phase = 'sample';
+          progress[1] = 5;
+          progress[0]++;
+          const result = sample(state, action, rng) as { state?: unknown; reward?: unknown; terminal?: unknown };
+          if (typeof result !== 'object' || result === null || !('state' in result)) {
+            throw new MalformedValue(`sample() returned ${describeValue(result)}; expected { state, reward, terminal? }`);
+          }
+          next = result.state;
+          reward = result.reward;
+          said = result.terminal;
+        } else {
+          phase = 'outcomes';
+          progress[1] = 3;
+          progress[0]++;
+          const outs = listOf(outcomes!(state, action), 'the returned outcome list');
+          const drawn = drawOutcome(outs, generator.nextFloat());
+          next = drawn.state;
+          reward = drawn.reward;
+        }
+        const r = typeof reward === 'number' ? reward : readReward(reward, termIndex, scratch, strictTerms, 'the reward');
+        if (!Number.isFinite(r) && !nonFinite) {
+          nonFinite = true;
+          nonFiniteEpisodes++;
+          firstNonFinite ??= { kind: 'non-finite-reward', phase, message: `the reward is ${r}`, state: describeValue(state), action: String(action), episode, step: t };
+        }
+        total += weight * r;
+        weight *= discount;
+        if (hash !== 0) hash = fnv(fnv(hash, String(action)), `${r}|${describeValue(next)}`);
+        state = next;
+        t++;
+        code = terminalCode(said, 'the returned terminal kind');
+        if (code === 0 && terminalOf) {
+          phase = 'terminal';
+          progress[1] = 4;
+          code = terminalCode(terminalOf(state), 'the returned terminal kind');
+        }
+      }
+      if (code !== 0) end = code;
+      returns[e] = nonFinite ? NaN : total;
+      lengths[e] = t;
+      ends[e] = end;
+      if (e < options.fingerprintEpisodes) fingerprints.push((hash >>> 0).toString(16));
+    }
+  } catch (error) {
+    return stopped(problemOf(error, phase, { state: describeValue(state), action: action === undefined ? undefined : String(action), episode: firstEpisode + e, step: t }));
+  }
+  return { records: { returns, lengths, ends }, nonFiniteEpisodes, firstNonFinite, fingerprints, completed: episodes };
+
+  function stopped(problem: RuntimeProblem): RolloutRun {
+    return {
+      records: { returns: returns.slice(0, e), lengths: lengths.slice(0, e), ends: ends.slice(0, e) },
+      nonFiniteEpisodes,
+      firstNonFinite,
+      problem,
+      fingerprints,
+      completed: e,
+    };
+  }
+}
+
+function drawStart(entries: unknown[], generator: Xoshiro128): unknown {
+  const u = generator.nextFloat();
+  let cumulative = 0;
+  for (const entry of entries) {
+    const e = entry as { state: unknown; probability: number };
+    cumulative += e.probability;
+    if (u < cumulative) return structuredClone(e.state);
+  }
+  return structuredClone((entries[entries.length - 1] as { state: unknown }).state);
+}
+
+function drawOutcome(outs: unknown[], u: number): { state: unknown; reward: unknown } {
+  let cumulative = 0;
+  for (let i = 0; i < outs.length; i++) {
+    const out = outs[i] as { state: unknown; probability: unknown; reward: unknown };
+    if (typeof out !== 'object' || out === null || typeof out.probability !== 'number') {
+      throw new MalformedValue(`outcome ${i} is ${describeValue(out)}; expected { state, probability, reward }`);
+    }
+    cumulative += out.probability;
+    if (u < cumulative || i === outs.length - 1) return out;
+  }
+  throw new MalformedValue('outcomes() returned an empty list; every action needs at least one outcome');
+}
+
+/** FNV-1a, 32 bits (Fowler, Noll and Vo), over the UTF-16 code units of `text`. */
+function fnv(hash: number, text: string): number {
+  let h = hash;
+  for (let i = 0; i < text.length; i++) {
+    h ^= text.charCodeAt(i);
+    h = Math.imul(h, 0x01000193);
+  }
+  return h | 1;
+}

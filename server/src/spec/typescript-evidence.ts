@@ -1,0 +1,74 @@
+/**
+ * What the TypeScript loader learns about a `*.mdp.ts` spec besides the ParsedSpec fields: where
+ * each member of the default export is written, the unseeded randomness seen in the source and
+ * at run time, and what running the model found. The TypeScript rules (model-error,
+ * unseeded-randomness, nondeterministic-model, enumeration-limit, episode-never-ends) read it.
+ */
+import type { RolloutStats } from '../analysis/rollouts';
+import type { Span } from './types';
+
+/** One member of the `defineMdp({...})` object. */
+export interface TypeScriptMember {
+  name: string;
+  /** The property's name (where findings about the member point). */
+  nameSpan: Span;
+  /** The whole property. */
+  span: Span;
+  /** Written as a function (method, arrow, function expression, or a reference to a function declaration). */
+  isFunction: boolean;
+}
+
+/** A problem found by running model code, placed in the spec's text. */
+export interface LocatedProblem {
+  kind: string;
+  /** The model function that was running ("load" for the module's own code). */
+  phase: string;
+  message: string;
+  span: Span;
+  /** "file:line:column" (1-based) when the problem lies in another file than the spec. */
+  elsewhere?: string;
+  state?: string;
+  action?: string;
+  episode?: number;
+  step?: number;
+}
+
+export interface RandomnessSite {
+  /** The API called, e.g. "Math.random". */
+  api: string;
+  span: Span;
+  /** Calls counted at run time (absent for sites found by reading the source). */
+  count?: number;
+  elsewhere?: string;
+}
+
+export interface NondeterminismSite {
+  message: string;
+  span: Span;
+}
+
+export interface TypeScriptEvidence {
+  members: Record<string, TypeScriptMember>;
+  /** "enumerable" with `outcomes`, "sampled" with `sample`. */
+  form: 'enumerable' | 'sampled' | 'unknown';
+  /** Whether the model code ran; `notExecuted` says why not. */
+  executed: boolean;
+  notExecuted?: string;
+  staticRandomness: RandomnessSite[];
+  runtimeRandomness: RandomnessSite[];
+  modelErrors: LocatedProblem[];
+  nonFiniteRewards: Array<LocatedProblem & { episodes?: number }>;
+  nondeterminism: NondeterminismSite[];
+  enumeration?: {
+    states: number;
+    choices: number;
+    outcomes: number;
+    milliseconds: number;
+    capped: boolean;
+    cap: number;
+    firstBeyondCap?: string;
+    span: Span;
+  };
+  /** Rollouts of the model code itself (sampled models, or enumerable ones past the state cap). */
+  rollouts?: RolloutStats;
+}
