@@ -6,6 +6,7 @@
  */
 import { readFileSync, statSync, writeFileSync } from 'node:fs';
 import * as path from 'node:path';
+import packageJson from '../../../package.json';
 import type { FileReport } from '../analyze';
 import { CONFIG_RULE, findConfigFile, loadConfigFile, type ConfigFile } from '../config-file';
 import { DEFAULT_CONFIG, type ResolvedConfig } from '../config';
@@ -133,6 +134,7 @@ export class CheckGate {
         toolName: this.options.toolName,
         toolVersion: this.options.toolVersion,
         rules: [...RULES, SUPPRESSION_RULE, CONFIG_RULE],
+        informationUri: (packageJson as { homepage?: string }).homepage,
       });
       return `${JSON.stringify(log, null, 2)}\n`;
     }

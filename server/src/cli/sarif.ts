@@ -29,6 +29,8 @@ export interface SarifOptions {
   toolVersion: string;
   /** Every rule that may appear in results (registry and front rules). */
   rules: readonly FrontRule[];
+  /** Where to learn about the tool (the package's homepage), when it has one. */
+  informationUri?: string;
 }
 
 type SarifLevel = 'error' | 'warning' | 'note';
@@ -115,6 +117,7 @@ export function toSarif(output: JsonOutput, options: SarifOptions): SarifLog {
             name: options.toolName,
             version: options.toolVersion,
             semanticVersion: options.toolVersion,
+            ...(options.informationUri ? { informationUri: options.informationUri } : {}),
             rules: rules.map(ruleDescriptor),
           },
         },
@@ -179,9 +182,11 @@ function fingerprint(key: string, occurrence: number): string {
 
 function ruleDescriptor(rule: FrontRule): Record<string, unknown> {
   const documentation = rule.documentation.trim();
+  const name = pascalCase(rule.id);
   return {
     id: rule.id,
-    name: pascalCase(rule.id),
+    // SARIF 3.49.7: a name that only differs from the id in case must be left out.
+    ...(name.toLowerCase() !== rule.id.toLowerCase() ? { name } : {}),
     shortDescription: { text: rule.summary },
     fullDescription: { text: firstParagraph(documentation) || rule.summary },
     help: { text: documentation || rule.summary, markdown: documentation || rule.summary },
