@@ -2,18 +2,42 @@
  * The one explicit list of rules, sorted by id. A rule that is not listed here does not run.
  * Add a rule by importing its file and inserting it in id order (a test checks the order).
  */
+import { deadEnd } from './dead-end';
+import { duplicateTransition } from './duplicate-transition';
 import { enumerationLimit } from './enumeration-limit';
 import { episodeNeverEnds } from './episode-never-ends';
+import { missingOutcomes } from './missing-outcomes';
 import { modelError } from './model-error';
+import { negativeProbability } from './negative-probability';
+import { nonFiniteReward } from './non-finite-reward';
 import { nondeterministicModel } from './nondeterministic-model';
+import { probabilitySum } from './probability-sum';
+import { rewardScale } from './reward-scale';
+import { schemaRule } from './schema';
+import { terminalHasTransitions } from './terminal-has-transitions';
+import { tinyProbability } from './tiny-probability';
 import type { Rule } from './types';
+import { undeclaredAction } from './undeclared-action';
+import { undeclaredState } from './undeclared-state';
 import { unseededRandomness } from './unseeded-randomness';
 
 export const RULES: readonly Rule[] = [
+  deadEnd,
+  duplicateTransition,
   enumerationLimit,
   episodeNeverEnds,
+  missingOutcomes,
   modelError,
+  negativeProbability,
+  nonFiniteReward,
   nondeterministicModel,
+  probabilitySum,
+  rewardScale,
+  schemaRule,
+  terminalHasTransitions,
+  tinyProbability,
+  undeclaredAction,
+  undeclaredState,
   unseededRandomness,
 ];
 

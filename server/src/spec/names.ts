@@ -79,7 +79,8 @@ export function formatNumber(value: number): string {
   if (value === 0) return '0';
   const magnitude = Math.abs(value);
   if (magnitude >= 1e-4 && magnitude < 1e9) return String(Number(value.toPrecision(6)));
-  return value.toExponential(2).replace('e+', 'e');
+  // 1.50e-7 -> 1.5e-7, 1.00e12 -> 1e12
+  return value.toExponential(2).replace(/\.?0+e/, 'e').replace('e+', 'e');
 }
 
 /** "a, b and c" */

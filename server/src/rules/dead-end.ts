@@ -1,0 +1,54 @@
+import { actionSetOf } from '../model/compile';
+import { quote } from '../spec/names';
+import { TERMINAL_KINDS } from '../spec/types';
+import { jsonEditorFor } from './spec-walk';
+import type { Fix, Rule } from './types';
+
+/** A non-terminal state must offer at least one action, or the episode has no way to go on. */
+export const deadEnd: Rule = {
+  id: 'dead-end',
+  defaultSeverity: 'error',
+  summary: 'A non-terminal state offers no action at all.',
+  needs: 'spec',
+  documentation: `
+**Why it matters.** An episode that enters a non-terminal state must continue: the agent picks
+one of the state's actions. A state with no action is neither an end nor a step, so the MDP is
+undefined there. In code this is the classic "the environment returns no valid actions but
+\`done\` is false" bug, which stalls rollouts or crashes the learner at run time.
+
+**When it fires.** A state without \`"terminal"\` has an empty \`actions\` list, or has none of
+its own while the spec declares no default \`actions\`. The spec is not compiled until it is
+fixed.
+
+**How to fix.** Give the state actions and transitions, or mark it terminal with the kind of
+end it is: \`"goal"\`, \`"failure"\` or \`"neutral"\` (offered as quick fixes).
+
+**Example.**
+\`\`\`jsonc
+"states": { "dock": { "actions": [] }, … }   // 'dock' is not terminal but offers nothing
+\`\`\`
+`.trim(),
+  check(ctx) {
+    const spec = ctx.spec;
+    const editor = jsonEditorFor(ctx);
+    const seen = new Set<string>();
+    for (const state of spec.states) {
+      if (state.terminal || seen.has(state.id)) continue;
+      seen.add(state.id);
+      const offered = actionSetOf(spec, state);
+      if (offered && offered.length > 0) continue;
+      const why = offered ? 'its "actions" list is empty' : 'neither it nor the spec declares "actions"';
+      const fixes: Fix[] = [];
+      for (const kind of TERMINAL_KINDS) {
+        const edits = editor?.setProperty(['states', state.id], 'terminal', kind);
+        if (edits) fixes.push({ title: `Mark ${quote(state.id)} as a ${kind} terminal`, edits });
+      }
+      ctx.report({
+        message: `${quote(state.id)} is not terminal but offers no action (${why}): an episode that enters it can neither continue nor end, so the MDP is undefined there and the spec is not compiled`,
+        span: state.span,
+        related: state.actionsSpan ? [{ span: state.actionsSpan, message: `the empty action set of ${quote(state.id)}` }] : undefined,
+        fixes,
+      });
+    }
+  },
+};

@@ -1,0 +1,83 @@
+/**
+ * Walking a ParsedSpec for the structural rules. A transition whose `from` or `action` is a list
+ * is expanded into several SpecTransitions that share the same text; these helpers visit each
+ * written outcome and reward once, so that a finding is reported once per place in the text.
+ */
+import { arrow, quote } from '../spec/names';
+import type { ParsedSpec, RewardPart, Span, SpecOutcome, SpecTransition } from '../spec/types';
+import { JsonEditor } from './json-edits';
+import type { Fix, RuleContext } from './types';
+
+/** `transitions[3] ('roof' --hover-->)`, or with a list `from`/`action` the first pair and how many more. */
+export function transitionLabel(spec: ParsedSpec, transition: SpecTransition): string {
+  const pairs = expansionsOf(spec, transition.sourceIndex).length;
+  const more = pairs > 1 ? ` and ${pairs - 1} more pair${pairs > 2 ? 's' : ''}` : '';
+  return `transitions[${transition.sourceIndex}] (${arrow(transition.from, transition.action)}${more})`;
+}
+
+const expansionCache = new WeakMap<ParsedSpec, Map<number, SpecTransition[]>>();
+
+/** Every SpecTransition written by the transition at `sourceIndex` (one per from/action pair). */
+export function expansionsOf(spec: ParsedSpec, sourceIndex: number): SpecTransition[] {
+  let bySource = expansionCache.get(spec);
+  if (!bySource) {
+    bySource = new Map();
+    for (const transition of spec.transitions) {
+      const list = bySource.get(transition.sourceIndex);
+      if (list) list.push(transition);
+      else bySource.set(transition.sourceIndex, [transition]);
+    }
+    expansionCache.set(spec, bySource);
+  }
+  return bySource.get(sourceIndex) ?? [];
+}
+
+/** The first SpecTransition of each written transition, in document order. */
+export function writtenTransitions(spec: ParsedSpec): SpecTransition[] {
+  const seen = new Set<number>();
+  const result: SpecTransition[] = [];
+  for (const transition of spec.transitions) {
+    if (seen.has(transition.sourceIndex)) continue;
+    seen.add(transition.sourceIndex);
+    result.push(transition);
+  }
+  return result;
+}
+
+/** Visits each written outcome once, with the first transition that has it. */
+export function forEachOutcome(spec: ParsedSpec, visit: (outcome: SpecOutcome, transition: SpecTransition) => void): void {
+  const seen = new Set<SpecOutcome>();
+  for (const transition of spec.transitions) {
+    for (const outcome of transition.outcomes) {
+      if (seen.has(outcome)) continue;
+      seen.add(outcome);
+      visit(outcome, transition);
+    }
+  }
+}
+
+/** Visits each written reward value once (a transition's reward is shared by its outcomes). */
+export function forEachRewardPart(spec: ParsedSpec, visit: (part: RewardPart, outcome: SpecOutcome, transition: SpecTransition) => void): void {
+  const seen = new Set<string>();
+  forEachOutcome(spec, (outcome, transition) => {
+    for (const part of outcome.reward) {
+      const key = `${part.span.start}:${part.span.end}`;
+      if (seen.has(key)) continue;
+      seen.add(key);
+      visit(part, outcome, transition);
+    }
+  });
+}
+
+/** An editor for quick fixes, for JSON specs only (TypeScript specs get no text fixes from these rules). */
+export function jsonEditorFor(ctx: RuleContext): JsonEditor | undefined {
+  return ctx.spec.format === 'json' ? new JsonEditor(ctx.text) : undefined;
+}
+
+/** "Change to 'x'": replaces a quoted name; undefined when the text there is not a quoted string. */
+export function renameFix(text: string, span: Span, replacement: string): Fix | undefined {
+  const written = text.slice(span.start, span.end);
+  // Only a quoted name can be swapped for another quoted name without changing the syntax.
+  if (!/^(".*"|'.*')$/s.test(written)) return undefined;
+  return { title: `Change to ${quote(replacement)}`, edits: [{ span, newText: JSON.stringify(replacement) }] };
+}
