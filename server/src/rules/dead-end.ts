@@ -1,7 +1,6 @@
-import { actionSetOf } from '../model/compile';
 import { quote } from '../spec/names';
 import { TERMINAL_KINDS } from '../spec/types';
-import { jsonEditorFor } from './spec-walk';
+import { forEachNonTerminalState, jsonEditorFor } from './spec-walk';
 import type { Fix, Rule } from './types';
 
 /** A non-terminal state must offer at least one action, or the episode has no way to go on. */
@@ -31,12 +30,8 @@ end it is: \`"goal"\`, \`"failure"\` or \`"neutral"\` (offered as quick fixes).
   check(ctx) {
     const spec = ctx.spec;
     const editor = jsonEditorFor(ctx);
-    const seen = new Set<string>();
-    for (const state of spec.states) {
-      if (state.terminal || seen.has(state.id)) continue;
-      seen.add(state.id);
-      const offered = actionSetOf(spec, state);
-      if (offered && offered.length > 0) continue;
+    forEachNonTerminalState(spec, (state, offered) => {
+      if (offered && offered.length > 0) return;
       const why = offered ? 'its "actions" list is empty' : 'neither it nor the spec declares "actions"';
       const fixes: Fix[] = [];
       for (const kind of TERMINAL_KINDS) {
@@ -49,6 +44,6 @@ end it is: \`"goal"\`, \`"failure"\` or \`"neutral"\` (offered as quick fixes).
         related: state.actionsSpan ? [{ span: state.actionsSpan, message: `the empty action set of ${quote(state.id)}` }] : undefined,
         fixes,
       });
-    }
+    });
   },
 };

@@ -1,6 +1,5 @@
-import { actionSetOf } from '../model/compile';
 import { listNames, quote } from '../spec/names';
-import { jsonEditorFor } from './spec-walk';
+import { forEachNonTerminalState, jsonEditorFor } from './spec-walk';
 import type { Fix, Rule } from './types';
 
 /** Every action a non-terminal state offers needs a transition that says what it does. */
@@ -39,16 +38,12 @@ transitions (check that this is what you meant: it removes the choice from the a
       actions.add(transition.action);
     }
     const editor = jsonEditorFor(ctx);
-    const seen = new Set<string>();
-    for (const state of spec.states) {
-      if (state.terminal || seen.has(state.id)) continue;
-      seen.add(state.id);
-      const offered = actionSetOf(spec, state);
+    forEachNonTerminalState(spec, (state, offered) => {
       // A state without any action is dead-end's finding.
-      if (!offered || offered.length === 0) continue;
+      if (!offered || offered.length === 0) return;
       const has = defined.get(state.id);
       const missing = offered.filter((action) => !has?.has(action));
-      if (missing.length === 0) continue;
+      if (missing.length === 0) return;
       const present = offered.filter((action) => has?.has(action));
       const them = missing.length === 1 ? 'it does' : 'they do';
       const fixes: Fix[] = [];
@@ -63,6 +58,6 @@ transitions (check that this is what you meant: it removes the choice from the a
         span: state.span,
         fixes,
       });
-    }
+    });
   },
 };

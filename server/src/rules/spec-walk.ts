@@ -4,7 +4,8 @@
  * written outcome and reward once, so that a finding is reported once per place in the text.
  */
 import { arrow, quote } from '../spec/names';
-import type { ParsedSpec, RewardPart, Span, SpecOutcome, SpecTransition } from '../spec/types';
+import { actionSetOf } from '../model/compile';
+import type { ParsedSpec, RewardPart, Span, SpecOutcome, SpecState, SpecTransition } from '../spec/types';
 import { JsonEditor } from './json-edits';
 import type { Fix, RuleContext } from './types';
 
@@ -80,4 +81,14 @@ export function renameFix(text: string, span: Span, replacement: string): Fix | 
   // Only a quoted name can be swapped for another quoted name without changing the syntax.
   if (!/^(".*"|'.*')$/s.test(written)) return undefined;
   return { title: `Change to ${quote(replacement)}`, edits: [{ span, newText: JSON.stringify(replacement) }] };
+}
+
+/** Visits each declared non-terminal state once, with its action set (undefined when it has none). */
+export function forEachNonTerminalState(spec: ParsedSpec, visit: (state: SpecState, offered: readonly string[] | undefined) => void): void {
+  const seen = new Set<string>();
+  for (const state of spec.states) {
+    if (state.terminal || seen.has(state.id)) continue;
+    seen.add(state.id);
+    visit(state, actionSetOf(spec, state));
+  }
 }
