@@ -226,9 +226,10 @@ function returnRangePlot(rows: Array<{ label: string; interval: JsonInterval; co
   return svg(width, height, 'Return ranges from the start under the optimal, random and worst policy', parts.join(''));
 }
 
-function arrow(x: number, y: number, direction: 1 | -1, color: string): string {
-  const tip = x + direction * 8;
-  return `<path d="M${x} ${y - 7} L${tip} ${y} L${x} ${y + 7} Z" fill="${color}"/>`;
+/** A triangle pointing off the axis: the bound is infinite. */
+function arrow(x: number, y: number, direction: 1 | -1, color: string, half = 7): string {
+  const tip = x + direction * (half + 1);
+  return `<path class="infinite" d="M${x} ${y - half} L${tip} ${y} L${x} ${y + half} Z" fill="${color}"/>`;
 }
 
 const REACH_KINDS: Array<{ key: keyof JsonReach; label: string; color: string }> = [
@@ -324,6 +325,8 @@ function statePlot(rows: Array<{ id: string; v: StateValues[string] }>): string 
       const x0 = r(scale(lower));
       const x1 = r(scale(upper));
       if (x1 - x0 >= 2) parts.push(`<line x1="${x0}" y1="${y}" x2="${x1}" y2="${y}" stroke="${color}" stroke-width="3" opacity="0.6"/>`);
+      if (lower === -Infinity) parts.push(arrow(x0, y, -1, color, 4));
+      if (upper === Infinity) parts.push(arrow(x1, y, 1, color, 4));
       const mid = Number.isFinite(lower) && Number.isFinite(upper) ? (lower + upper) / 2 : Number.isFinite(lower) ? lower : upper;
       parts.push(`<circle class="state-value" cx="${r(scale(mid))}" cy="${y}" r="4" fill="${color}"><title>${esc(`${id} ${label}: ${textInterval(lower, upper)}`)}</title></circle>`);
     }
@@ -418,7 +421,7 @@ h1{font-size:22px;margin:18px 0 4px}h2{font-size:17px;margin:0 0 2px;word-break:
 .meta{color:#555;margin:2px 0 8px}.note{color:#666;font-size:12px;margin:4px 0}
 .caution{background:#fff8e1;border-left:4px solid #e0a800;padding:8px 12px;margin:10px 0}
 .spec{border-top:1px solid #ddd;padding:14px 0}
-.plots{display:flex;flex-wrap:wrap;gap:12px}
+.plots{display:flex;flex-wrap:wrap;gap:12px}.plots>figure{flex:0 1 466px;min-width:0}
 figure{margin:8px 0;padding:0}figcaption{font-weight:600;margin-bottom:4px}
 svg{display:block;max-width:100%;height:auto;font-size:11px}
 svg .tick{fill:#555;font-size:10px}svg .label{fill:#222;font-size:11px}svg .value{fill:#222;font-size:11px}svg .inbar{fill:#fff;font-size:10px;font-weight:600}
