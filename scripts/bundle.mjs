@@ -9,6 +9,8 @@ const entries = [
   { in: 'server/src/lsp/standalone.ts', out: 'server' },
   { in: 'server/src/lsp/worker.ts', out: 'analysis-worker' },
   { in: 'client/src/extension.ts', out: 'client' },
+  // The sandbox worker that runs TypeScript model code (found next to the bundle that starts it).
+  { in: 'server/src/sandbox/worker.ts', out: 'sandbox-worker' },
 ];
 
 const common = {
@@ -40,3 +42,16 @@ const ruleDocs = await build({ ...common, entryPoints: ['server/src/lsp/rule-doc
 const ruleDocsModule = { exports: {} };
 new Function('module', 'exports', 'require', ruleDocs.outputFiles[0].text)(ruleDocsModule, ruleDocsModule.exports, createRequire(import.meta.url));
 ruleDocsModule.exports.writeRuleDocs('dist/docs/rules');
+
+// The package's types entry (package.json "types"): declarations of the authoring API, defineMdp.
+const { default: ts } = await import('typescript');
+ts.createProgram(['server/src/define.ts'], {
+  declaration: true,
+  emitDeclarationOnly: true,
+  outDir: 'dist/types',
+  strict: true,
+  target: ts.ScriptTarget.ES2022,
+  module: ts.ModuleKind.ESNext,
+  types: [],
+  skipLibCheck: true,
+}).emit();
