@@ -3,25 +3,37 @@
  * readable JSON paths and transition arrows.
  */
 
-/** Edit distance (Levenshtein, insertions, deletions and substitutions cost 1), capped at `limit + 1`. */
+/**
+ * Edit distance counting insertions, deletions, substitutions and swaps of two adjacent characters
+ * as 1 each (the optimal string alignment distance, Damerau's extension of Levenshtein's), capped
+ * at `limit + 1`. Swaps matter: "gaol" for "goal" is the commonest kind of typo.
+ */
 export function editDistance(a: string, b: string, limit = Number.POSITIVE_INFINITY): number {
   if (Math.abs(a.length - b.length) > limit) return limit + 1;
+  let beforePrevious = new Array<number>(b.length + 1).fill(0);
   let previous = new Array<number>(b.length + 1);
   let current = new Array<number>(b.length + 1);
   for (let j = 0; j <= b.length; j++) previous[j] = j;
+  let previousRowMinimum = 0;
   for (let i = 1; i <= a.length; i++) {
     current[0] = i;
     let rowMinimum = current[0];
     for (let j = 1; j <= b.length; j++) {
-      const substitution = previous[j - 1] + (a.charCodeAt(i - 1) === b.charCodeAt(j - 1) ? 0 : 1);
-      current[j] = Math.min(previous[j] + 1, current[j - 1] + 1, substitution);
-      if (current[j] < rowMinimum) rowMinimum = current[j];
+      const cost = a.charCodeAt(i - 1) === b.charCodeAt(j - 1) ? 0 : 1;
+      let best = Math.min(previous[j] + 1, current[j - 1] + 1, previous[j - 1] + cost);
+      if (i > 1 && j > 1 && a.charCodeAt(i - 1) === b.charCodeAt(j - 2) && a.charCodeAt(i - 2) === b.charCodeAt(j - 1)) {
+        best = Math.min(best, beforePrevious[j - 2] + 1);
+      }
+      current[j] = best;
+      if (best < rowMinimum) rowMinimum = best;
     }
-    // Every later row is at least this row's minimum, so the distance already exceeds the limit.
-    if (rowMinimum > limit) return limit + 1;
-    [previous, current] = [current, previous];
+    // Row i+1 is at least min(row i, row i-1 + 1) (a swap reaches back two rows), so once both
+    // rows are past the limit every later row is too.
+    if (rowMinimum > limit && previousRowMinimum >= limit) return limit + 1;
+    previousRowMinimum = rowMinimum;
+    [beforePrevious, previous, current] = [previous, current, beforePrevious];
   }
-  return previous[b.length];
+  return Math.min(previous[b.length], limit + 1);
 }
 
 /**
