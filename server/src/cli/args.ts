@@ -76,6 +76,18 @@ export const OPTIONS: readonly OptionSpec[] = [
     valueName: 'FILE',
     description: 'the config file to use for every spec (default: the nearest episcope.config.json above each spec)',
   },
+  { name: 'stdio', kind: 'flag', description: 'talk the Language Server Protocol over standard input and output' },
+  { name: 'node-ipc', kind: 'flag', description: 'talk the Language Server Protocol over Node IPC (for clients that start it as a Node module)' },
+  { name: 'socket', kind: 'string', valueName: 'PORT', description: 'talk the Language Server Protocol over a TCP socket on this port' },
+  { name: 'clientProcessId', kind: 'string', valueName: 'PID', description: 'exit when this process (the editor) ends' },
+  { name: 'no-exec', kind: 'flag', description: 'never run TypeScript model code: static checks only (for untrusted files)' },
+  { name: 'seed', kind: 'integer', valueName: 'N', description: 'seed of the Monte Carlo rollouts (default: the config\'s seed, else 1)' },
+  {
+    name: 'rollouts',
+    kind: 'integer',
+    valueName: 'N',
+    description: 'rollouts per spec: estimates for sampled TypeScript models (default 1000), and for exact models the return distribution under the optimal and the random policy',
+  },
 ];
 
 /** Options every command accepts. */

@@ -6,6 +6,7 @@
  * readers must ignore fields they do not know.
  */
 import type { FileReport } from '../analyze';
+import type { RolloutStats } from '../analysis/rollouts';
 import type { Analysis, Interval, ReachAtStart } from '../analysis/types';
 import type { CompiledModel } from '../model/compiled';
 import { TERMINAL_OF_CODE } from '../model/compiled';
@@ -112,6 +113,42 @@ export interface JsonFile {
   notAnalysed?: string;
   /** Additive: failures of Episcope itself while checking this file (a bug of ours; exit code 2). */
   internalErrors?: string[];
+  /**
+   * Additive: Monte Carlo figures per policy ("random", "optimal"): for sampled TypeScript models
+   * always (random policy), for exactly analysed models with `--rollouts N` (both policies).
+   */
+  rollouts?: Partial<Record<'random' | 'optimal', JsonRollouts>>;
+}
+
+/** Seeded rollouts of one policy (analysis/rollouts.ts); returns are discounted sums of rewards. */
+export interface JsonRollouts {
+  episodes: number;
+  seed: number;
+  /** Steps after which an episode without a horizon is stopped. */
+  stepCap: number;
+  return: {
+    mean: JsonNumber;
+    standardError: JsonNumber;
+    /** Normal-approximation 95% interval: mean +- 1.96 standard errors. */
+    ci95: JsonInterval;
+    min: JsonNumber;
+    max: JsonNumber;
+    /** Hyndman and Fan definition 7 (as R and NumPy by default). */
+    percentiles: { p5: JsonNumber; p25: JsonNumber; p50: JsonNumber; p75: JsonNumber; p95: JsonNumber };
+    /** Equal-width bins from `lower` to `upper`. */
+    histogram: { lower: JsonNumber; upper: JsonNumber; counts: number[] };
+  };
+  length: {
+    mean: JsonNumber;
+    min: number;
+    max: number;
+    percentiles: { p5: number; p25: number; p50: number; p75: number; p95: number };
+    histogram: { lower: number; upper: number; counts: number[] };
+  };
+  /** Share of episodes ending in each terminal kind; "none": cut by the horizon or the step cap. */
+  reach: JsonReach;
+  /** Episodes stopped at the step cap without ending. */
+  stepCapped: number;
 }
 
 export interface JsonOutput {
@@ -137,7 +174,51 @@ export function fileReportToJson(report: FileReport, options: JsonOptions = {}):
   if (report.analysis && report.model) file.analysis = analysisToJson(report.analysis, report.model, options.values ?? false);
   if (!report.analysis && report.notAnalysed) file.notAnalysed = report.notAnalysed;
   if (report.internalErrors.length > 0) file.internalErrors = [...report.internalErrors];
+  if (report.rollouts) {
+    file.rollouts = {};
+    if (report.rollouts.random) file.rollouts.random = rolloutsToJson(report.rollouts.random);
+    if (report.rollouts.optimal) file.rollouts.optimal = rolloutsToJson(report.rollouts.optimal);
+  }
   return file;
+}
+
+export function rolloutsToJson(stats: RolloutStats): JsonRollouts {
+  const r = stats.return;
+  const percentiles = <T>(p: RolloutStats['return']['percentiles'], map: (x: number) => T) => ({
+    p5: map(p.p5),
+    p25: map(p.p25),
+    p50: map(p.p50),
+    p75: map(p.p75),
+    p95: map(p.p95),
+  });
+  return {
+    episodes: stats.episodes,
+    seed: stats.seed,
+    stepCap: stats.stepCap,
+    return: {
+      mean: jsonPoint(r.mean),
+      standardError: jsonPoint(r.standardError),
+      ci95: { lower: jsonLower(r.ci95.lower), upper: jsonUpper(r.ci95.upper) },
+      min: jsonPoint(r.min),
+      max: jsonPoint(r.max),
+      percentiles: percentiles(r.percentiles, jsonPoint),
+      histogram: { lower: jsonPoint(r.histogram.lower), upper: jsonPoint(r.histogram.upper), counts: r.histogram.counts },
+    },
+    length: {
+      mean: jsonPoint(stats.length.mean),
+      min: stats.length.min,
+      max: stats.length.max,
+      percentiles: percentiles(stats.length.percentiles, roundNearest),
+      histogram: { lower: stats.length.histogram.lower, upper: stats.length.histogram.upper, counts: stats.length.histogram.counts },
+    },
+    reach: {
+      goal: jsonProbability(stats.reach.goal),
+      failure: jsonProbability(stats.reach.failure),
+      neutral: jsonProbability(stats.reach.neutral),
+      none: jsonProbability(stats.reach.none),
+    },
+    stepCapped: stats.stepCapped,
+  };
 }
 
 /** Wraps serialised files into the top-level object, with the additive summary. */

@@ -5,12 +5,14 @@
  */
 import { version as packageVersion } from '../../../package.json';
 import { analyzeFile } from '../analyze';
+import type { ResolvedConfig } from '../config';
 import { RULES } from '../rules/registry';
 import { SUPPRESSION_RULE } from '../suppress';
 import { CONFIG_RULE } from '../config-file';
 import { SEVERITY_ORDER, type Severity } from '../rules/types';
 import { UsageError, parseArgs, usageText, type CommandSpec, type ParsedArgs } from './args';
 import { explainRule, listRules, suggestRules, type DocumentedRule } from './explain';
+import { startServer } from '../lsp/server';
 import { PathError, collectSpecFiles, readSpecFile } from './files';
 import { CheckGate, GateError } from './gate';
 import { fileReportToJson, jsonOutput, type JsonFile } from './json-output';
@@ -47,7 +49,7 @@ const COMMANDS: readonly Command[] = [
     name: 'check',
     operands: '[paths...]',
     summary: 'check spec files (*.mdp.json, *.mdp.ts) and folders of them; default: the current folder',
-    options: ['format', 'values', 'fail-on', 'baseline', 'report', 'config'],
+    options: ['format', 'values', 'fail-on', 'baseline', 'report', 'config', 'no-exec', 'seed', 'rollouts'],
     minOperands: 0,
     maxOperands: Infinity,
     run: runCheck,
@@ -60,6 +62,15 @@ const COMMANDS: readonly Command[] = [
     minOperands: 0,
     maxOperands: 1,
     run: runExplain,
+  },
+  {
+    name: 'server',
+    operands: '',
+    summary: 'start the language server for any LSP client (--stdio, --node-ipc or --socket=PORT)',
+    options: ['stdio', 'node-ipc', 'socket', 'clientProcessId', 'no-exec'],
+    minOperands: 0,
+    maxOperands: 0,
+    run: runServer,
   },
 ];
 
@@ -148,7 +159,11 @@ async function runCheck(args: ParsedArgs, io: CliIo): Promise<number> {
   for (const file of files) {
     const text = await readSpecFile(file);
     gate.started(file.display);
-    const report = await analyzeFile(file.absolute, text, { config: gate.configFor(file.absolute), analysis: true });
+    const report = await analyzeFile(file.absolute, text, {
+      config: withRolloutOptions(gate.configFor(file.absolute), args),
+      analysis: true,
+      exec: args.options['no-exec'] !== true,
+    });
     // Only the serialised form is kept, so memory does not grow with the models of earlier files.
     const json = fileReportToJson(report, { values: withValues, displayPath: file.display });
     results.push(json);
@@ -174,6 +189,17 @@ async function runCheck(args: ParsedArgs, io: CliIo): Promise<number> {
   return gate.exitCode(results) ?? (failsAt(results, failOn) ? EXIT_FINDINGS : EXIT_OK);
 }
 
+/** `--seed` and `--rollouts` override the config file's values. */
+function withRolloutOptions(config: ResolvedConfig, args: ParsedArgs): ResolvedConfig {
+  const seed = args.options.seed;
+  const rollouts = args.options.rollouts;
+  return {
+    ...config,
+    seed: typeof seed === 'number' ? seed : config.seed,
+    rollouts: typeof rollouts === 'number' ? rollouts : config.rollouts,
+  };
+}
+
 function optionalString(value: unknown): string | undefined {
   return typeof value === 'string' && value !== '' ? value : undefined;
 }
@@ -183,6 +209,16 @@ export function failsAt(files: readonly JsonFile[], failOn: Severity | 'never'):
   if (failOn === 'never') return false;
   const threshold = SEVERITY_ORDER[failOn];
   return files.some((file) => file.findings.some((f) => SEVERITY_ORDER[f.severity] >= threshold));
+}
+
+/** Runs until the client ends the connection; the server then exits the process itself. */
+async function runServer(args: ParsedArgs, io: CliIo): Promise<number> {
+  if (!args.options.stdio && !args.options['node-ipc'] && args.options.socket === undefined) {
+    io.stderr.write(`${TOOL_NAME}: server needs a transport: --stdio, --node-ipc or --socket=PORT\n`);
+    return EXIT_ERROR;
+  }
+  startServer({ exec: args.options['no-exec'] !== true });
+  return new Promise<number>(() => undefined);
 }
 
 async function runExplain(args: ParsedArgs, io: CliIo): Promise<number> {

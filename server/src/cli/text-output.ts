@@ -50,8 +50,29 @@ export function formatFileText(file: JsonFile, style: Style): string {
     }
   }
   lines.push(...summariseStart(file, style));
+  lines.push(...summariseRollouts(file));
   for (const error of file.internalErrors ?? []) lines.push(`${style.path(file.path)} internal error: ${error}`);
   return lines.join('\n') + '\n';
+}
+
+/** Monte Carlo figures (sampled models; exact ones with --rollouts): estimate, 95% interval, percentiles, reach. */
+function summariseRollouts(file: JsonFile): string[] {
+  const lines: string[] = [];
+  for (const policy of ['optimal', 'random'] as const) {
+    const r = file.rollouts?.[policy];
+    if (!r) continue;
+    const p = r.return.percentiles;
+    const ends = [`goal ${textProbability(r.reach.goal)}`, `failure ${textProbability(r.reach.failure)}`];
+    if (r.reach.neutral > 0) ends.push(`neutral ${textProbability(r.reach.neutral)}`);
+    if (r.reach.none > 0) ends.push(`cut/never ${textProbability(r.reach.none)}`);
+    lines.push(
+      `  rollouts (${policy} policy, ${r.episodes} episodes, seed ${r.seed}): return ${r.return.mean} ` +
+        `(95% interval ${r.return.ci95.lower} .. ${r.return.ci95.upper})`,
+      `    percentiles 5/25/50/75/95: ${[p.p5, p.p25, p.p50, p.p75, p.p95].join(' / ')}; steps mean ${r.length.mean}, ` +
+        `median ${r.length.percentiles.p50}, max ${r.length.max}; ${ends.join(', ')}`,
+    );
+  }
+  return lines;
 }
 
 /** Probabilities at or below this are shown as columns only when another policy needs them. */
