@@ -97,6 +97,9 @@ function compileChecked(spec: ParsedSpec): CompileResult {
     }
     return actionSets.get(state.id);
   };
+  for (const state of stateById.values()) {
+    if (!state.terminal && !actionsOf(state)?.size) return { reason: `the non-terminal state ${quote(state.id)} offers no action, so the episode cannot continue there` };
+  }
   const defined = new Set<string>();
 
   for (let index = 0; index < spec.transitions.length; index++) {
@@ -138,9 +141,7 @@ function compileChecked(spec: ParsedSpec): CompileResult {
 
   for (const state of stateById.values()) {
     if (state.terminal) continue;
-    const offered = actionsOf(state);
-    if (!offered || offered.size === 0) return { reason: `the non-terminal state ${quote(state.id)} offers no action, so the episode cannot continue there` };
-    for (const action of offered) {
+    for (const action of actionsOf(state)!) {
       if (!defined.has(`${state.id}\u0000${action}`)) return { reason: `${quote(state.id)} offers ${quote(action)}, but no transition says what it does` };
     }
   }
