@@ -158,7 +158,8 @@ export function findConfigFile(startDir: string): string | undefined {
   }
 }
 
-function isFile(path: string): boolean {
+/** Whether a path names a readable regular file (false for anything that cannot be stat'ed). */
+export function isFile(path: string): boolean {
   try {
     return statSync(path).isFile();
   } catch {

@@ -7,37 +7,7 @@ import {
   newFindingsAtOrAbove,
   parseBaseline,
 } from '../../server/src/cli/baseline';
-import type { JsonFile, JsonFinding, JsonOutput } from '../../server/src/cli/json-output';
-
-function finding(rule: string, line: number, message: string, severity: JsonFinding['severity'] = 'warning'): JsonFinding {
-  return { rule, severity, message, line, column: 5, endLine: line, endColumn: 20, trace: [] };
-}
-
-function start(optimal: [number, number], goal: number): NonNullable<JsonFile['analysis']> {
-  const reach = { goal, failure: 1 - goal, none: 0, neutral: 0 };
-  return {
-    states: 4,
-    transitions: 5,
-    exact: true,
-    start: {
-      optimal: { lower: optimal[0], upper: optimal[1] },
-      worst: { lower: -10, upper: -10 },
-      random: { lower: 1, upper: 1 },
-      reach: { optimal: reach, random: reach },
-      maxGoalReach: goal,
-      expectedLength: { optimal: 3, random: 7 },
-    },
-    outcomes: 7,
-    objective: 'maximize',
-    discount: 0.9,
-    precision: 0,
-    terms: [],
-  };
-}
-
-function output(files: JsonFile[]): JsonOutput {
-  return { version: 1, files, summary: { files: files.length, error: 0, warning: 0, info: 0 } };
-}
+import { analysis, finding, output } from './json-fixtures';
 
 describe('finding identity', () => {
   it('masks numbers but keeps digits inside names', () => {
@@ -62,9 +32,9 @@ describe('comparison with a baseline', () => {
     {
       path: 'specs/a.mdp.json',
       findings: [finding('unreachable-state', 10, 'state "attic" is unreachable', 'info'), finding('reward-loop', 20, 'loop hall -> pad earns 48.1; the exit earns 7.2')],
-      analysis: start([8.41, 8.43], 0.97),
+      analysis: analysis([8.41, 8.43], 0.97),
     },
-    { path: 'specs/gone.mdp.json', findings: [finding('dead-end', 3, 'state "x" offers no action', 'error')], analysis: start([1, 1], 1) },
+    { path: 'specs/gone.mdp.json', findings: [finding('dead-end', 3, 'state "x" offers no action', 'error')], analysis: analysis([1, 1], 1) },
   ]);
 
   it('finds nothing new when findings only moved and their figures shifted', () => {
@@ -72,7 +42,7 @@ describe('comparison with a baseline', () => {
       {
         path: 'specs/a.mdp.json',
         findings: [finding('reward-loop', 4, 'loop hall -> pad earns 48.2; the exit earns 7.2'), finding('unreachable-state', 31, 'state "attic" is unreachable', 'info')],
-        analysis: start([8.42, 8.44], 0.97),
+        analysis: analysis([8.42, 8.44], 0.97),
       },
       base.files[1],
     ]);
@@ -96,9 +66,9 @@ describe('comparison with a baseline', () => {
           finding('trap-state', 14, 'states cellar -> cellar form a trap', 'error'),
           finding('reward-loop', 20, 'loop hall -> pad earns 48.1; the exit earns 7.2'),
         ],
-        analysis: start([5, 5.5], 0.5),
+        analysis: analysis([5, 5.5], 0.5),
       },
-      { path: 'specs/new.mdp.json', findings: [], analysis: start([2, 2], 1) },
+      { path: 'specs/new.mdp.json', findings: [], analysis: analysis([2, 2], 1) },
     ]);
     const c = compareWithBaseline(base, edited);
     expect(c.newFindings.map((n) => [n.path, n.finding.rule, n.finding.line])).toEqual([['specs/a.mdp.json', 'trap-state', 14]]);

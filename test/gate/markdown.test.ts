@@ -1,35 +1,8 @@
 import { describe, expect, it } from 'vitest';
 import { compareWithBaseline } from '../../server/src/cli/baseline';
-import type { JsonFile, JsonFinding, JsonOutput } from '../../server/src/cli/json-output';
+import type { JsonFile } from '../../server/src/cli/json-output';
+import { analysis as analysisOf, finding, output as out } from './json-fixtures';
 import { markdownReport } from '../../server/src/cli/markdown';
-
-function finding(rule: string, line: number, message: string, severity: JsonFinding['severity']): JsonFinding {
-  return { rule, severity, message, line, column: 3, endLine: line, endColumn: 9, trace: [] };
-}
-
-function analysis(optimal: number, goal: number): NonNullable<JsonFile['analysis']> {
-  const reach = { goal, failure: 1 - goal, none: 0, neutral: 0 };
-  return {
-    states: 3,
-    transitions: 3,
-    exact: true,
-    start: {
-      optimal: { lower: optimal, upper: optimal },
-      worst: { lower: -4, upper: -4 },
-      random: { lower: 0.5, upper: 0.5 },
-      reach: { optimal: reach, random: reach },
-      maxGoalReach: 1,
-      expectedLength: { optimal: 2, random: 5 },
-    },
-    outcomes: 4,
-    objective: 'maximize',
-    discount: 0.95,
-    precision: 0,
-    terms: [],
-  };
-}
-
-const out = (files: JsonFile[]): JsonOutput => ({ version: 1, files, summary: { files: files.length, error: 0, warning: 0, info: 0 } });
 
 /**
  * Cells of a GitHub-flavoured Markdown table row: split on pipes that are not escaped (the GFM
@@ -53,8 +26,8 @@ function tables(markdown: string): string[][][] {
 
 describe('markdown pull-request comment', () => {
   const base = out([
-    { path: 'a.mdp.json', findings: [finding('reward-scale', 2, 'rewards span 1e5', 'info'), finding('dead-end', 8, 'state "pit" offers no action', 'error')], analysis: analysis(10, 0.9) },
-    { path: 'b.mdp.json', findings: [], analysis: analysis(3, 1) },
+    { path: 'a.mdp.json', findings: [finding('reward-scale', 2, 'rewards span 1e5', 'info'), finding('dead-end', 8, 'state "pit" offers no action', 'error')], analysis: analysisOf([10, 10], 0.9, [0.5, 0.5]) },
+    { path: 'b.mdp.json', findings: [], analysis: analysisOf([3, 3], 1, [0.5, 0.5]) },
   ]);
   const head = out([
     {
@@ -64,9 +37,9 @@ describe('markdown pull-request comment', () => {
         finding('objective-sign', 4, 'entering "crash" pays 5 | more than "dock" pays 1', 'warning'),
         finding('trap-state', 6, 'states <pit> form a trap', 'error'),
       ],
-      analysis: analysis(4, 0.6),
+      analysis: analysisOf([4, 4], 0.6, [0.5, 0.5]),
     },
-    { path: 'b.mdp.json', findings: [], analysis: analysis(3, 1) },
+    { path: 'b.mdp.json', findings: [], analysis: analysisOf([3, 3], 1, [0.5, 0.5]) },
   ]);
 
   it('lists new findings (most severe first), fixed ones and moved returns, in well-formed tables', () => {
@@ -75,8 +48,8 @@ describe('markdown pull-request comment', () => {
     const [added, fixed, moved] = tables(md);
     expect(added.map((row) => row.length)).toEqual([4, 4, 4, 4]);
     expect(added.slice(2).map((row) => [row[0], row[1], row[2]])).toEqual([
-      ['🔴 error', '`trap-state`', '`a.mdp.json:6:3`'],
-      ['🟠 warning', '`objective-sign`', '`a.mdp.json:4:3`'],
+      ['🔴 error', '`trap-state`', '`a.mdp.json:6:5`'],
+      ['🟠 warning', '`objective-sign`', '`a.mdp.json:4:5`'],
     ]);
     expect(added[2][3]).toBe('states &lt;pit&gt; form a trap');
     expect(added[3][3]).toBe('entering "crash" pays 5 \\| more than "dock" pays 1');

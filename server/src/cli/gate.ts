@@ -8,7 +8,7 @@ import { readFileSync, statSync, writeFileSync } from 'node:fs';
 import * as path from 'node:path';
 import packageJson from '../../../package.json';
 import type { FileReport } from '../analyze';
-import { CONFIG_RULE, findConfigFile, loadConfigFile, type ConfigFile } from '../config-file';
+import { CONFIG_RULE, findConfigFile, isFile, loadConfigFile, type ConfigFile } from '../config-file';
 import { DEFAULT_CONFIG, type ResolvedConfig } from '../config';
 import { RULES } from '../rules/registry';
 import type { Severity } from '../rules/types';
@@ -206,14 +206,6 @@ function readBaseline(absolute: string, name: string): JsonOutput {
   } catch (error) {
     if (error instanceof BaselineError) throw new GateError(error.message);
     throw error;
-  }
-}
-
-function isFile(p: string): boolean {
-  try {
-    return statSync(p).isFile();
-  } catch {
-    return false;
   }
 }
 
