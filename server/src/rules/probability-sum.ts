@@ -71,7 +71,7 @@ function checkDistribution(ctx: RuleContext, probabilities: Array<{ value: numbe
       edits: probabilities.map((p) => ({ span: p.span, newText: String(Number((p.value / sum).toPrecision(12))) })),
     });
   }
-  // Six digits would print a sum just off 1 as "1"; show it in full then.
-  const shownSum = formatNumber(sum) === '1' ? String(sum) : formatNumber(sum);
+  // Six digits would print a sum just off 1 as "1"; twelve always show a gap above the tolerance.
+  const shownSum = formatNumber(sum) === '1' ? String(Number(sum.toPrecision(12))) : formatNumber(sum);
   ctx.report({ message: `${what} add up to ${shownSum}, not 1: ${cost}`, span, fixes });
 }

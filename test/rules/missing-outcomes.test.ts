@@ -1,0 +1,43 @@
+import { describe, expect, it } from 'vitest';
+import { applyFix, chainSpec, checkSpec, findingsOf, spanText } from '../helpers/specs';
+
+const RULE = 'missing-outcomes';
+
+describe('missing-outcomes', () => {
+  it('fires at the state, listing every offered action without a transition', () => {
+    const report = checkSpec(chainSpec({ actions: ['go', 'wait', 'fly'] }));
+    const findings = findingsOf(report, RULE);
+    expect(findings.map((f) => spanText(report, f))).toEqual(['"a"', '"b"']);
+    expect(findings[0].message).toBe(
+      `'a' offers 'wait' and 'fly', but no transition says what they do there: a policy may take them, so the MDP is undefined at 'a' and the spec is not compiled`,
+    );
+    expect(findings[0].severity).toBe('error');
+    expect(report.model).toBeUndefined();
+  });
+
+  it('narrows the action set with its fix, after which the spec compiles', () => {
+    const report = checkSpec(chainSpec({ actions: ['go', 'wait'], states: { a: {}, b: { actions: ['go'] }, goal: { terminal: 'goal' } } }));
+    const [finding] = findingsOf(report, RULE);
+    expect(spanText(report, finding)).toBe('"a"');
+    expect(finding.message).toMatch(/^'a' offers 'wait', but no transition says what it does there: a policy may take it/);
+    expect(finding.fixes?.map((f) => f.title)).toEqual([`Narrow the actions of 'a' to 'go'`]);
+    const fixedText = applyFix(report, finding.fixes![0].edits);
+    expect(JSON.parse(fixedText).states.a).toEqual({ actions: ['go'] });
+    const fixed = checkSpec(fixedText);
+    expect(findingsOf(fixed, RULE)).toEqual([]);
+    expect(fixed.model).toBeDefined();
+  });
+
+  it('counts a transition of a from list or action list as defining the pair', () => {
+    const report = checkSpec(chainSpec({ actions: ['go', 'wait'], transitions: [{ from: ['a', 'b'], action: ['go', 'wait'], to: 'goal' }] }));
+    expect(findingsOf(report, RULE)).toEqual([]);
+    expect(report.model).toBeDefined();
+  });
+
+  it('does not fire for terminals, complete states, or states without actions (dead-end reports those)', () => {
+    expect(findingsOf(checkSpec(chainSpec()), RULE)).toEqual([]);
+    const report = checkSpec(chainSpec({ states: { a: {}, b: { actions: [] }, goal: { terminal: 'goal' } }, transitions: [{ from: 'a', action: 'go', to: 'b' }] }));
+    expect(findingsOf(report, RULE)).toEqual([]);
+    expect(findingsOf(report, 'dead-end')).toHaveLength(1);
+  });
+});
