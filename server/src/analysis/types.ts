@@ -47,6 +47,17 @@ export interface PolicyAnalysis {
 export interface EndComponent {
   states: Int32Array;
   choices: Int32Array;
+  /**
+   * The sign of the best long-run mean reward per step that a policy can keep inside the
+   * component, in the objective's direction (the largest mean under maximize, the smallest under
+   * minimize): 1, 0 or -1; absent when it could not be decided. Under maximize, 1 means staying
+   * can earn without bound at discount 1; under minimize, -1 does.
+   */
+  gainSign?: 1 | 0 | -1;
+  /** Sound bounds on that mean, when they were computed numerically (mixed-sign rewards). */
+  gain?: Interval;
+  /** For gainSign in the objective's favour: per state of `states`, a choice of a policy that stays inside and earns that mean. */
+  gainPolicy?: Int32Array;
 }
 
 /** Backward induction over time-to-go, for specs with a horizon. */

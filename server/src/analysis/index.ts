@@ -1,0 +1,322 @@
+/**
+ * The exact analysis of a compiled model: reachability, end components, sound value bounds for
+ * the optimal, worst and uniformly random policies (or finite-horizon values), reach
+ * probabilities, episode lengths, Q* and best choices, and reward-term shares. Pure: no I/O.
+ */
+import { TERMINAL_CODE, type CompiledModel } from '../model/compiled';
+import { maximalEndComponents } from './end-components';
+import { solveFiniteHorizon } from './finite-horizon';
+import { buildModelGraph, expectedChoiceValues, expectedRewards, terminalEntryProbabilities, type ModelGraph } from './graph';
+import { COMBINE_AVERAGE, COMBINE_MAX, COMBINE_MIN, COMBINE_POLICY } from './interval-iteration';
+import { classifyMdpGains, GAIN_NEGATIVE, GAIN_POSITIVE, GAIN_ZERO, type MdpGainClasses } from './mean-payoff';
+import { attainingPolicy, bestChoices, choiceBounds } from './policy';
+import { reachableFromStart } from './reachability';
+import { solveValues, type AnalysisContext, type ValueSolution } from './total-reward';
+import type {
+  Analysis,
+  Bounds,
+  EndComponent,
+  Interval,
+  PolicyAnalysis,
+  ReachAtStart,
+  ReachProbabilities,
+  StartSummary,
+  TermShare,
+} from './types';
+
+export interface AnalyzeModelOptions {
+  /** Target width of every finite bound: at most precision * max(1, |value|). */
+  precision: number;
+}
+
+/** Work caps that keep a single analysis within minutes even on million-state models. */
+const SWEEP_WORK_LIMIT = 2e10;
+const GAIN_WORK_LIMIT = 2e8;
+const HORIZON_WORK_LIMIT = 2e10;
+
+const KIND_CODES = [TERMINAL_CODE.goal, TERMINAL_CODE.failure, TERMINAL_CODE.neutral];
+
+export function analyzeModel(model: CompiledModel, options: AnalyzeModelOptions): Analysis {
+  const precision = options.precision > 0 && Number.isFinite(options.precision) ? options.precision : 1e-6;
+  const graph = buildModelGraph(model);
+  const mecs = maximalEndComponents(graph);
+  const ctx: AnalysisContext = {
+    model,
+    graph,
+    mecs,
+    precision,
+    maxSweeps: Math.max(10_000, Math.floor(SWEEP_WORK_LIMIT / Math.max(1, model.outcomeCount))),
+    gainBudget: GAIN_WORK_LIMIT,
+  };
+  const reachable = reachableFromStart(model);
+  const reward = expectedRewards(model);
+  const kindPresent = KIND_CODES.map((code) => model.terminal.includes(code));
+  const entry = KIND_CODES.map((code, i) => (kindPresent[i] ? terminalEntryProbabilities(model, code) : undefined));
+  const terms = termRewards(model, reward);
+  const sigma = model.maximize ? 1 : -1;
+
+  const base = model.horizon !== undefined
+    ? horizonAnalysis(graph, model.horizon, reward, entry, terms)
+    : stationaryAnalysis(ctx, reward, entry, terms);
+
+  const gains = base.gains ?? classifyMdpGains(graph, mecs, reward, sigma, GAIN_WORK_LIMIT);
+  const endComponents: EndComponent[] = mecs.states.map((states, i) => endComponentOf(states, mecs.choices[i], gains, i, sigma));
+
+  const termShares = shareOf(terms.map((t, i) => ({ term: t.name, value: startPoint(model, base.termValues[i]) })));
+  const start: StartSummary = {
+    optimal: startInterval(model, base.optimal.values),
+    worst: startInterval(model, base.worst.values),
+    random: startInterval(model, base.random.values),
+    reach: { optimal: startReach(model, base.optimal.reach), random: startReach(model, base.random.reach) },
+    maxGoalReach: startPoint(model, base.maxGoalReach),
+    expectedLength: {
+      optimal: startPoint(model, base.optimal.expectedLength),
+      random: startPoint(model, base.random.expectedLength),
+    },
+  };
+  return {
+    model,
+    reachable,
+    optimal: base.optimal,
+    worst: base.worst,
+    random: base.random,
+    q: base.q,
+    isBest: base.isBest,
+    maxGoalReach: base.maxGoalReach,
+    endComponents,
+    horizon: base.horizon,
+    termShares,
+    start,
+    precision: Math.max(widestBound(base.optimal.values), widestBound(base.worst.values), widestBound(base.random.values)),
+    exact: base.exact,
+    iterations: base.iterations,
+  };
+}
+
+/** What the stationary and the finite-horizon paths both produce. */
+type CoreResult = Pick<Analysis, 'optimal' | 'worst' | 'random' | 'q' | 'isBest' | 'maxGoalReach' | 'horizon' | 'exact' | 'iterations'> & {
+  /** Per reward term (in termRewards order), its total under the optimal policy. */
+  termValues: Bounds[];
+  /** The end-component classification of the optimal solve, when it made one. */
+  gains?: MdpGainClasses;
+};
+
+interface TermReward {
+  name: string;
+  perChoice: Float64Array;
+}
+
+/**
+ * Per choice, the expected value of each named term, of the untyped remainder ("") and of the
+ * potential-based shaping ("shaping"). Without named terms or shaping, the remainder is the reward.
+ */
+function termRewards(model: CompiledModel, reward: Float64Array): TermReward[] {
+  const out: TermReward[] = model.termNames.map((name, j) => ({ name, perChoice: expectedChoiceValues(model, model.outcomeTermReward[j]) }));
+  const shaping = model.outcomePotentialReward;
+  if (out.length === 0 && !shaping) return [{ name: '', perChoice: reward }];
+  const remainder = new Float64Array(model.outcomeCount);
+  let any = out.length === 0;
+  for (let k = 0; k < model.outcomeCount; k++) {
+    let rest = model.outcomeReward[k] - (shaping ? shaping[k] : 0);
+    for (let j = 0; j < model.termNames.length; j++) rest -= model.outcomeTermReward[j][k];
+    // Rounding of the subtraction is not a reward of its own.
+    if (Math.abs(rest) <= 1e-12 * Math.abs(model.outcomeReward[k])) rest = 0;
+    remainder[k] = rest;
+    if (rest !== 0) any = true;
+  }
+  if (any) out.push({ name: '', perChoice: expectedChoiceValues(model, remainder) });
+  if (shaping) out.push({ name: 'shaping', perChoice: expectedChoiceValues(model, shaping) });
+  return out;
+}
+
+function stationaryAnalysis(ctx: AnalysisContext, reward: Float64Array, entry: (Float64Array | undefined)[], terms: TermReward[]): CoreResult {
+  const { model, graph } = ctx;
+  const discount = model.discount;
+  const maxSolution = solveValues(ctx, { combine: COMBINE_MAX, reward, discount });
+  const minSolution = solveValues(ctx, { combine: COMBINE_MIN, reward, discount });
+  const randomSolution = solveValues(ctx, { combine: COMBINE_AVERAGE, reward, discount });
+  const optimalSolution = model.maximize ? maxSolution : minSolution;
+  const worstSolution = model.maximize ? minSolution : maxSolution;
+  const sigma = model.maximize ? 1 : -1;
+
+  const q = choiceBounds(model, reward, discount, optimalSolution.lower, optimalSolution.upper);
+  const isBest = bestChoices(graph, q, optimalSolution.lower, optimalSolution.upper, sigma);
+  const optimalPolicy = attainingPolicy(graph, optimalSolution, q, isBest, sigma);
+  const worstQ = choiceBounds(model, reward, discount, worstSolution.lower, worstSolution.upper);
+  const worstPolicy = attainingPolicy(graph, worstSolution, worstQ, bestChoices(graph, worstQ, worstSolution.lower, worstSolution.upper, -sigma), -sigma);
+
+  const underPolicy = (policy: Int32Array | undefined) => (perChoice: Float64Array, discountFactor: number, lowerBound?: number, upperBound?: number) =>
+    solveValues(ctx, { combine: policy ? COMBINE_POLICY : COMBINE_AVERAGE, policy, reward: perChoice, discount: discountFactor, lowerBound, upperBound });
+  const describe = (solution: ValueSolution, policy: Int32Array | undefined): PolicyAnalysis => {
+    const solve = underPolicy(policy);
+    const reach = reachOf(model.stateCount, entry.map((e) => (e ? pointValues(solve(e, 1, 0, 1)) : undefined)));
+    const ones = new Float64Array(model.choiceCount).fill(1);
+    const expectedLength = pointValues(solve(ones, 1, 0));
+    return { values: { lower: solution.lower, upper: solution.upper }, reach, expectedLength, policy };
+  };
+  const optimal = describe(optimalSolution, optimalPolicy);
+  const worst = describe(worstSolution, worstPolicy);
+  const random = describe(randomSolution, undefined);
+
+  const goal = entry[0];
+  const maxGoalReach = goal ? pointValues(solveValues(ctx, { combine: COMBINE_MAX, reward: goal, discount: 1, lowerBound: 0, upperBound: 1 })) : new Float64Array(model.stateCount);
+
+  // Each term's total under the optimal policy; a lone remainder is the optimal value itself.
+  const termValues: Bounds[] = terms.map((t) => {
+    if (terms.length === 1 && t.perChoice === reward) return optimal.values;
+    const solution = underPolicy(optimalPolicy)(t.perChoice, discount);
+    return { lower: solution.lower, upper: solution.upper };
+  });
+
+  return {
+    optimal,
+    worst,
+    random,
+    q,
+    isBest,
+    maxGoalReach,
+    termValues,
+    gains: optimalSolution.gains,
+    exact: maxSolution.exact && minSolution.exact && randomSolution.exact,
+    iterations: maxSolution.sweeps + minSolution.sweeps + randomSolution.sweeps,
+  };
+}
+
+function horizonAnalysis(graph: ModelGraph, horizon: number, reward: Float64Array, entry: (Float64Array | undefined)[], terms: TermReward[]): CoreResult {
+  const model = graph.model;
+  const solved = solveFiniteHorizon(graph, horizon, {
+    reward,
+    entry,
+    terms: terms.map((t) => t.perChoice),
+    maximize: model.maximize,
+    budget: HORIZON_WORK_LIMIT,
+  });
+  const { tailLower, tailUpper } = solved;
+  // A cut-short induction widens every non-terminal value (and every Q) by the tail's bounds.
+  const widen = (values: Float64Array, perState: boolean): Bounds => {
+    const lower = values.slice();
+    const upper = values.slice();
+    if (tailLower !== 0 || tailUpper !== 0) {
+      for (let i = 0; i < values.length; i++) {
+        if (perState && graph.absorbing[i]) continue;
+        lower[i] += tailLower;
+        upper[i] += tailUpper;
+      }
+    }
+    return { lower, upper };
+  };
+  const describe = (result: typeof solved.optimal): PolicyAnalysis => ({
+    values: widen(result.values, true),
+    reach: reachOf(model.stateCount, result.reach),
+    expectedLength: result.length,
+    policy: result.policy,
+  });
+  const exact = solved.steps === horizon;
+  return {
+    optimal: describe(solved.optimal),
+    worst: describe(solved.worst),
+    random: describe(solved.random),
+    q: widen(solved.q, false),
+    isBest: solved.isBest,
+    maxGoalReach: solved.maxGoalReach,
+    // Term totals of a cut-short induction are those of its steps (used as estimates only).
+    termValues: solved.terms.map((values) => ({ lower: values, upper: values })),
+    horizon: solved.table,
+    exact,
+    iterations: solved.steps,
+  };
+}
+
+function reachOf(n: number, perKind: (Float64Array | undefined)[]): ReachProbabilities {
+  const goal = perKind[0] ?? new Float64Array(n);
+  const failure = perKind[1] ?? new Float64Array(n);
+  const neutral = perKind[2] ?? new Float64Array(n);
+  const none = new Float64Array(n);
+  for (let s = 0; s < n; s++) none[s] = Math.max(0, 1 - goal[s] - failure[s] - neutral[s]);
+  return { goal, failure, neutral, none };
+}
+
+/** One number per state from a solution's bounds: the midpoint, or the infinite value. */
+function pointValues(solution: { lower: Float64Array; upper: Float64Array }): Float64Array {
+  const out = new Float64Array(solution.lower.length);
+  for (let s = 0; s < out.length; s++) out[s] = pointOf(solution.lower[s], solution.upper[s]);
+  return out;
+}
+
+function pointOf(lower: number, upper: number): number {
+  if (lower === upper) return lower;
+  if (lower === -Infinity && upper === Infinity) return NaN;
+  if (lower === -Infinity || upper === Infinity) return lower === -Infinity ? -Infinity : Infinity;
+  return (lower + upper) / 2;
+}
+
+function startInterval(model: CompiledModel, values: Bounds): Interval {
+  let lower = 0;
+  let upper = 0;
+  for (let i = 0; i < model.startState.length; i++) {
+    const p = model.startProb[i];
+    if (!(p > 0)) continue;
+    lower += p * values.lower[model.startState[i]];
+    upper += p * values.upper[model.startState[i]];
+  }
+  return { lower: Number.isNaN(lower) ? -Infinity : lower, upper: Number.isNaN(upper) ? Infinity : upper };
+}
+
+function startPoint(model: CompiledModel, values: Float64Array | Bounds): number {
+  if (values instanceof Float64Array) {
+    let sum = 0;
+    for (let i = 0; i < model.startState.length; i++) {
+      const p = model.startProb[i];
+      if (p > 0) sum += p * values[model.startState[i]];
+    }
+    return sum;
+  }
+  const interval = startInterval(model, values);
+  return pointOf(interval.lower, interval.upper);
+}
+
+function startReach(model: CompiledModel, reach: ReachProbabilities): ReachAtStart {
+  return {
+    goal: startPoint(model, reach.goal),
+    failure: startPoint(model, reach.failure),
+    neutral: startPoint(model, reach.neutral),
+    none: startPoint(model, reach.none),
+  };
+}
+
+/** Shares of the sum of absolute values; infinite totals share the whole among themselves. */
+function shareOf(values: Array<{ term: string; value: number }>): TermShare[] {
+  const infinite = values.filter((v) => v.value === Infinity || v.value === -Infinity).length;
+  let total = 0;
+  for (const v of values) if (Number.isFinite(v.value)) total += Math.abs(v.value);
+  return values.map(({ term, value }) => {
+    let share = 0;
+    if (infinite > 0) share = Number.isFinite(value) || Number.isNaN(value) ? 0 : Math.sign(value) / infinite;
+    else if (total > 0 && Number.isFinite(value)) share = value / total;
+    return { term, value, share };
+  });
+}
+
+function widestBound(values: Bounds): number {
+  let widest = 0;
+  for (let s = 0; s < values.lower.length; s++) {
+    const width = values.upper[s] - values.lower[s];
+    if (Number.isFinite(width) && width > widest) widest = width;
+  }
+  return widest;
+}
+
+function endComponentOf(states: Int32Array, choices: Int32Array, gains: MdpGainClasses, i: number, sigma: number): EndComponent {
+  const component: EndComponent = { states, choices };
+  const sign = gains.sign[i];
+  if (sign === GAIN_POSITIVE || sign === GAIN_NEGATIVE || sign === GAIN_ZERO) {
+    component.gainSign = (sigma * sign || 0) as 1 | 0 | -1;
+  }
+  if (!Number.isNaN(gains.lower[i])) {
+    component.gain = sigma > 0 ? { lower: gains.lower[i], upper: gains.upper[i] } : { lower: -gains.upper[i], upper: -gains.lower[i] };
+  }
+  if (sign === GAIN_POSITIVE) component.gainPolicy = Int32Array.from(states, (s) => gains.positivePolicy[s]);
+  return component;
+}
+
+export type { Analysis } from './types';

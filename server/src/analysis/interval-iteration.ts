@@ -1,0 +1,361 @@
+/**
+ * Sound value bounds by interval iteration: S. Haddad and B. Monmege, "Interval iteration
+ * algorithm for MDPs and IMDPs", Theoretical Computer Science 735, 2018. A lower and an upper
+ * vector are swept with the Bellman operator until they are close; each stays on its side of the
+ * true value because the operator is monotone and the true value is its fixed point.
+ *
+ * Where no a-priori bound exists (total reward at discount 1), the missing side is found as in
+ * optimistic value iteration (A. Hartmanns and B. L. Kaminski, "Optimistic value iteration",
+ * CAV 2020): guess a vector near the estimate and accept it only after a sweep shows it is
+ * inductive (G U <= U for an upper bound, G L >= L for a lower one, G the Gauss-Seidel operator).
+ * Under the conditions the callers establish (discount < 1, or a stochastic shortest path whose
+ * improper policies all lose infinitely, D. Bertsekas and J. Tsitsiklis, "An analysis of
+ * stochastic shortest path problems", Math. Oper. Res. 16(3), 1991) value iteration converges
+ * from any start, so an inductive upper vector stays above the fixed point. A plain "stop when the
+ * change is small" test is never used as a stopping rule: it is unsound at discount 1.
+ *
+ * Bounds are sound up to floating-point rounding of the sums (relative error about 1e-15).
+ */
+import type { CompiledModel } from '../model/compiled';
+
+/** How a node's value combines the values of its choices. */
+export const COMBINE_MAX = 0;
+export const COMBINE_MIN = 1;
+export const COMBINE_AVERAGE = 2;
+export const COMBINE_POLICY = 3;
+export type Combine = typeof COMBINE_MAX | typeof COMBINE_MIN | typeof COMBINE_AVERAGE | typeof COMBINE_POLICY;
+
+/** The Bellman operator of one value problem. */
+export interface Operator {
+  model: CompiledModel;
+  combine: Combine;
+  /** For COMBINE_POLICY: the choice of each state. */
+  policy?: Int32Array;
+  /** Expected immediate reward per choice. */
+  reward: Float64Array;
+  discount: number;
+  /** Choices that may be used (1); all when absent. */
+  allowed?: Uint8Array;
+}
+
+/**
+ * The states the sweeps update, grouped into nodes in sweep order. A node with several members is
+ * a collapsed end component: its members share one value, the best of their allowed choices and,
+ * when `stay` is set, 0 for staying inside forever.
+ */
+export interface Nodes {
+  count: number;
+  start: Int32Array;
+  members: Int32Array;
+  stay: Uint8Array;
+}
+
+/** Singleton nodes for the given states, in the given order. */
+export function singletonNodes(states: Int32Array): Nodes {
+  const start = new Int32Array(states.length + 1);
+  for (let i = 0; i <= states.length; i++) start[i] = i;
+  return { count: states.length, start, members: states, stay: new Uint8Array(states.length) };
+}
+
+/**
+ * Widths are measured absolutely for values up to this magnitude and relatively beyond it:
+ * width / (|value| / RELATIVE_FROM). Stricter than "relative above 1", so textbook values in the
+ * tens are still bounded to the absolute precision.
+ */
+export const RELATIVE_FROM = 1000;
+
+/** A bound pair's width as compared with the precision target. */
+export function scaledWidth(lower: number, upper: number): number {
+  const magnitude = Math.min(Math.abs(lower), Math.abs(upper));
+  const width = upper - lower;
+  return magnitude > RELATIVE_FROM ? (width * RELATIVE_FROM) / magnitude : width;
+}
+
+/** Statistics of one sweep. */
+export interface SweepStats {
+  /** Largest scaledWidth over updated states. */
+  relativeWidth: number;
+  /** States whose new lower bound fell below the old one, or new upper rose above the old one. */
+  lowerViolations: number;
+  upperViolations: number;
+  /** Whether some upper bound fell below its lower bound. */
+  crossed: boolean;
+}
+
+/**
+ * One Gauss-Seidel sweep over both bounds, stored interleaved in `bounds` (lower of state s at
+ * 2s, upper at 2s+1, so one cache line serves both). Clamping keeps each side monotone once it
+ * is known to be sound. Allocation-free.
+ */
+export function sweepBounds(op: Operator, nodes: Nodes, bounds: Float64Array, clampLower: boolean, clampUpper: boolean, stats: SweepStats): void {
+  const { choiceStart, outcomeStart, outcomeTarget, outcomeProb } = op.model;
+  const { combine, reward, discount, allowed, policy } = op;
+  const { start, members, stay } = nodes;
+  let relativeWidth = 0;
+  let lowerViolations = 0;
+  let upperViolations = 0;
+  let crossed = false;
+  for (let i = 0; i < nodes.count; i++) {
+    const m0 = start[i];
+    const m1 = start[i + 1];
+    let bestLower: number;
+    let bestUpper: number;
+    if (combine === COMBINE_MAX) bestLower = bestUpper = stay[i] ? 0 : -Infinity;
+    else if (combine === COMBINE_MIN) bestLower = bestUpper = stay[i] ? 0 : Infinity;
+    else bestLower = bestUpper = 0;
+    let used = 0;
+    for (let m = m0; m < m1; m++) {
+      const s = members[m];
+      let c0 = choiceStart[s];
+      let c1 = choiceStart[s + 1];
+      if (combine === COMBINE_POLICY) {
+        c0 = policy![s];
+        c1 = c0 + 1;
+      }
+      for (let c = c0; c < c1; c++) {
+        if (allowed !== undefined && allowed[c] === 0) continue;
+        let accLower = 0;
+        let accUpper = 0;
+        const k1 = outcomeStart[c + 1];
+        for (let k = outcomeStart[c]; k < k1; k++) {
+          const t = outcomeTarget[k] << 1;
+          const p = outcomeProb[k];
+          accLower += p * bounds[t];
+          accUpper += p * bounds[t + 1];
+        }
+        const r = reward[c];
+        const qLower = r + discount * accLower;
+        const qUpper = r + discount * accUpper;
+        if (combine === COMBINE_MAX) {
+          if (qLower > bestLower) bestLower = qLower;
+          if (qUpper > bestUpper) bestUpper = qUpper;
+        } else if (combine === COMBINE_MIN) {
+          if (qLower < bestLower) bestLower = qLower;
+          if (qUpper < bestUpper) bestUpper = qUpper;
+        } else {
+          bestLower += qLower;
+          bestUpper += qUpper;
+          used++;
+        }
+      }
+    }
+    if (combine === COMBINE_AVERAGE && used > 0) {
+      bestLower /= used;
+      bestUpper /= used;
+    }
+    for (let m = m0; m < m1; m++) {
+      const s2 = members[m] << 1;
+      let lower = bestLower;
+      let upper = bestUpper;
+      if (lower < bounds[s2]) {
+        lowerViolations++;
+        if (clampLower) lower = bounds[s2];
+      }
+      if (upper > bounds[s2 + 1]) {
+        upperViolations++;
+        if (clampUpper) upper = bounds[s2 + 1];
+      }
+      bounds[s2] = lower;
+      bounds[s2 + 1] = upper;
+      if (upper < lower) crossed = true;
+      const magnitude = Math.min(Math.abs(lower), Math.abs(upper));
+      const width = magnitude > RELATIVE_FROM ? ((upper - lower) * RELATIVE_FROM) / magnitude : upper - lower;
+      if (!(width <= relativeWidth)) relativeWidth = width;
+    }
+  }
+  stats.relativeWidth = relativeWidth;
+  stats.lowerViolations = lowerViolations;
+  stats.upperViolations = upperViolations;
+  stats.crossed = crossed;
+}
+
+/**
+ * One Gauss-Seidel sweep of plain value iteration on a single vector (an estimate, never a
+ * bound). Returns the largest change relative to max(1, |value|). Allocation-free.
+ */
+export function sweepEstimate(op: Operator, nodes: Nodes, value: Float64Array): number {
+  const { choiceStart, outcomeStart, outcomeTarget, outcomeProb } = op.model;
+  const { combine, reward, discount, allowed, policy } = op;
+  const { start, members, stay } = nodes;
+  let change = 0;
+  for (let i = 0; i < nodes.count; i++) {
+    const m0 = start[i];
+    const m1 = start[i + 1];
+    let best: number;
+    if (combine === COMBINE_MAX) best = stay[i] ? 0 : -Infinity;
+    else if (combine === COMBINE_MIN) best = stay[i] ? 0 : Infinity;
+    else best = 0;
+    let used = 0;
+    for (let m = m0; m < m1; m++) {
+      const s = members[m];
+      let c0 = choiceStart[s];
+      let c1 = choiceStart[s + 1];
+      if (combine === COMBINE_POLICY) {
+        c0 = policy![s];
+        c1 = c0 + 1;
+      }
+      for (let c = c0; c < c1; c++) {
+        if (allowed !== undefined && allowed[c] === 0) continue;
+        let acc = 0;
+        const k1 = outcomeStart[c + 1];
+        for (let k = outcomeStart[c]; k < k1; k++) acc += outcomeProb[k] * value[outcomeTarget[k]];
+        const q = reward[c] + discount * acc;
+        if (combine === COMBINE_MAX) {
+          if (q > best) best = q;
+        } else if (combine === COMBINE_MIN) {
+          if (q < best) best = q;
+        } else {
+          best += q;
+          used++;
+        }
+      }
+    }
+    if (combine === COMBINE_AVERAGE && used > 0) best /= used;
+    for (let m = m0; m < m1; m++) {
+      const s = members[m];
+      const delta = Math.abs(best - value[s]) / Math.max(1, Math.abs(best));
+      if (delta > change) change = delta;
+      value[s] = best;
+    }
+  }
+  return change;
+}
+
+export interface SolveOptions {
+  /** Target: scaledWidth at most this at every updated state. */
+  precision: number;
+  /** A bound known to hold for every updated state's value, if any. */
+  lowerBound?: number;
+  upperBound?: number;
+  /** The sweep order is a topological order of an acyclic graph: one sweep is exact. */
+  acyclic: boolean;
+  /** Stop after this many sweeps even if the target is not met (the bounds stay sound). */
+  maxSweeps: number;
+}
+
+export interface SolveResult {
+  sweeps: number;
+  exact: boolean;
+  /** Largest relative width reached (Infinity when a side has no bound). */
+  relativeWidth: number;
+}
+
+/**
+ * Bounds for the updated states, written into `bounds` (interleaved; the entries of states that
+ * are not updated must already hold their final finite values, or finite placeholders for states
+ * that no allowed choice can reach). Every other state's bounds stay as given.
+ */
+export function solveBounds(op: Operator, nodes: Nodes, bounds: Float64Array, options: SolveOptions): SolveResult {
+  const { members } = nodes;
+  const stats: SweepStats = { relativeWidth: Infinity, lowerViolations: 0, upperViolations: 0, crossed: false };
+  if (nodes.count === 0) return { sweeps: 0, exact: true, relativeWidth: 0 };
+
+  if (options.acyclic) {
+    // Successors come first in the sweep order, so one sweep computes every value exactly.
+    const value = new Float64Array(op.model.stateCount);
+    for (let s = 0; s < op.model.stateCount; s++) value[s] = bounds[2 * s];
+    sweepEstimate(op, nodes, value);
+    for (let m = 0; m < members.length; m++) {
+      const s = members[m];
+      bounds[2 * s] = bounds[2 * s + 1] = value[s];
+    }
+    return { sweeps: 1, exact: true, relativeWidth: 0 };
+  }
+
+  let sweeps = 0;
+  const setInitial = (side: 0 | 1, v: number): void => {
+    for (let m = 0; m < members.length; m++) bounds[2 * members[m] + side] = v;
+  };
+  // At discount 1 the a-priori bounds (0 for one-signed rewards, 0 and 1 for probabilities) are
+  // far from the values and interval iteration closes in slowly from them, so an optimistic guess
+  // is tried first; the a-priori bounds remain the fallback. At discount < 1 they are used directly.
+  if (op.discount >= 1 || options.lowerBound === undefined || options.upperBound === undefined) {
+    const found = optimisticBounds(op, nodes, bounds, options);
+    sweeps += found.sweeps;
+    if (!found.lowerSound) setInitial(0, options.lowerBound ?? -Infinity);
+    if (!found.upperSound) setInitial(1, options.upperBound ?? Infinity);
+    if ((!found.lowerSound && options.lowerBound === undefined) || (!found.upperSound && options.upperBound === undefined)) {
+      // One side has no sound bound: report the other, sound one, and an infinite width.
+      return { sweeps, exact: false, relativeWidth: Infinity };
+    }
+  } else {
+    setInitial(0, options.lowerBound);
+    setInitial(1, options.upperBound);
+  }
+
+  while (sweeps < options.maxSweeps) {
+    sweepBounds(op, nodes, bounds, true, true, stats);
+    sweeps++;
+    if (stats.relativeWidth <= options.precision) break;
+  }
+  if (sweeps === 0) stats.relativeWidth = measureWidth(nodes, bounds);
+  return { sweeps, exact: false, relativeWidth: stats.relativeWidth };
+}
+
+function measureWidth(nodes: Nodes, bounds: Float64Array): number {
+  let widest = 0;
+  for (let m = 0; m < nodes.members.length; m++) {
+    const s2 = nodes.members[m] << 1;
+    const width = scaledWidth(bounds[s2], bounds[s2 + 1]);
+    if (!(width <= widest)) widest = width;
+  }
+  return widest;
+}
+
+/**
+ * Finds inductive lower and upper vectors around a value-iteration estimate (optimistic value
+ * iteration). Leaves sound vectors in `bounds` for the sides it reports as sound.
+ */
+function optimisticBounds(op: Operator, nodes: Nodes, bounds: Float64Array, options: SolveOptions): { sweeps: number; lowerSound: boolean; upperSound: boolean } {
+  const { members } = nodes;
+  const n = op.model.stateCount;
+  const stats: SweepStats = { relativeWidth: Infinity, lowerViolations: 0, upperViolations: 0, crossed: false };
+  const estimate = new Float64Array(n);
+  for (let s = 0; s < n; s++) estimate[s] = bounds[2 * s];
+  for (let m = 0; m < members.length; m++) estimate[members[m]] = 0;
+  let lowerKnown = false;
+  let upperKnown = false;
+  const floor = options.lowerBound ?? -Infinity;
+  const ceiling = options.upperBound ?? Infinity;
+  let sweeps = 0;
+  let tolerance = options.precision / 16;
+  let guessScale = options.precision / 4;
+  for (let attempt = 0; attempt < 6 && sweeps < options.maxSweeps; attempt++) {
+    // Refine the estimate.
+    let estimateSweeps = 0;
+    while (sweeps < options.maxSweeps) {
+      const change = sweepEstimate(op, nodes, estimate);
+      sweeps++;
+      estimateSweeps++;
+      if (change <= tolerance) break;
+    }
+    // Guess the missing sides around the estimate, then test them for inductiveness.
+    for (let m = 0; m < members.length; m++) {
+      const s = members[m];
+      const v = estimate[s];
+      const delta = guessScale * Math.max(1, Math.abs(v) / RELATIVE_FROM);
+      // Clipping to an a-priori bound keeps the guess no less sound.
+      if (!lowerKnown) bounds[2 * s] = Math.min(ceiling, Math.max(floor, v - delta));
+      if (!upperKnown) bounds[2 * s + 1] = Math.max(floor, Math.min(ceiling, v + delta));
+    }
+    let lowerSound: boolean = lowerKnown;
+    let upperSound: boolean = upperKnown;
+    const verifySweeps = Math.max(8, estimateSweeps);
+    for (let j = 0; j < verifySweeps && sweeps < options.maxSweeps; j++) {
+      sweepBounds(op, nodes, bounds, lowerSound, upperSound, stats);
+      sweeps++;
+      // A sweep with no violation on a side proves that side's previous vector inductive.
+      if (stats.lowerViolations === 0) lowerSound = true;
+      if (stats.upperViolations === 0) upperSound = true;
+      if (lowerSound && upperSound) return { sweeps, lowerSound, upperSound };
+      if (stats.crossed) break;
+    }
+    // Keep a side proven in this attempt (its sweeps used only its own vector, so it stayed
+    // sound); guess the other again from a finer estimate with a wider margin.
+    lowerKnown = lowerSound;
+    upperKnown = upperSound;
+    tolerance /= 64;
+    guessScale *= 2;
+  }
+  return { sweeps, lowerSound: lowerKnown, upperSound: upperKnown };
+}

@@ -1,0 +1,374 @@
+/**
+ * Values of one reward under one way of choosing (the best, the worst, one fixed policy or the
+ * uniformly random policy), with sound bounds, for any discount.
+ *
+ * Discount < 1: every value is finite; interval iteration from the geometric-series bounds
+ * min(0, r_min)/(1-discount) <= V <= max(0, r_max)/(1-discount) (M. Puterman, Markov Decision
+ * Processes, 1994, section 6.2).
+ *
+ * Discount 1 (total reward, no horizon). Convention: the return of a policy is the limit of its
+ * expected partial sums; V is +inf or -inf where that limit is infinite for the policies that
+ * matter, and [-inf, inf] ("undefined") where it cannot be decided or does not exist (partial
+ * sums that oscillate, such as +1, -1, +1, ... forever). Decided by end components:
+ *  - For the best (or worst) choice, with sigma = +1 to maximise and -1 to minimise, each maximal
+ *    end component gets the sign of the best mean of sigma*reward it can keep (mean-payoff.ts).
+ *    Writing P, Z, N, U for the positive, zero, negative and undecided ones and T for terminals:
+ *    sigma*V = +inf where a policy reaches P with positive probability while ending in P, Z or T
+ *    almost surely (it then earns a positive mean with positive probability and never a negative
+ *    one); sigma*V = -inf where neither P nor U can be reached and Z or T cannot be reached almost
+ *    surely (every policy keeps a negative mean with positive probability); V is finite where
+ *    neither P nor U can be reached and Z or T can be reached almost surely; undefined elsewhere.
+ *  - For a fixed or the random policy (a Markov chain), bottom SCCs take the role of end
+ *    components, and a state's value is infinite when it reaches positive (or negative) bottom
+ *    SCCs only, finite when it reaches only zero-reward ones and terminals, undefined otherwise.
+ * On the finite region, zero-reward end components are collapsed into one node that may also
+ * stay forever for 0 (as in Haddad and Monmege 2018, section 4), after which every remaining end
+ * component loses infinitely, value iteration converges from any start (Bertsekas and Tsitsiklis
+ * 1991) and interval iteration applies.
+ */
+import type { CompiledModel } from '../model/compiled';
+import { maximalEndComponents, type EndComponentDecomposition } from './end-components';
+import type { ModelGraph } from './graph';
+import {
+  COMBINE_AVERAGE,
+  COMBINE_MAX,
+  COMBINE_MIN,
+  COMBINE_POLICY,
+  singletonNodes,
+  solveBounds,
+  type Combine,
+  type Nodes,
+  type Operator,
+} from './interval-iteration';
+import { classifyMdpGains, gainBounds, GAIN_NEGATIVE, GAIN_POSITIVE, GAIN_UNDECIDED, GAIN_ZERO, type MdpGainClasses } from './mean-payoff';
+import { almostSureReach, backwardLayering, canReach } from './reachability';
+import { isCyclicComponent, stronglyConnectedComponents } from './scc';
+
+export const STATUS_FINITE = 0;
+export const STATUS_PLUS_INFINITE = 1;
+export const STATUS_MINUS_INFINITE = 2;
+export const STATUS_UNDEFINED = 3;
+
+/** What every solve of one model shares. */
+export interface AnalysisContext {
+  model: CompiledModel;
+  graph: ModelGraph;
+  /** The maximal end components of the whole model. */
+  mecs: EndComponentDecomposition;
+  precision: number;
+  /** Sweep cap per solve. */
+  maxSweeps: number;
+  /** Outcome visits allowed per end component for numeric gain bounds. */
+  gainBudget: number;
+}
+
+export interface ValueProblem {
+  combine: Combine;
+  /** For COMBINE_POLICY: the choice of every non-absorbing state. */
+  policy?: Int32Array;
+  /** Expected immediate reward per choice. */
+  reward: Float64Array;
+  discount: number;
+  /** Bounds known in advance for every value (e.g. 0 and 1 for probabilities). */
+  lowerBound?: number;
+  upperBound?: number;
+}
+
+export interface ValueSolution {
+  lower: Float64Array;
+  upper: Float64Array;
+  /** Per state: STATUS_FINITE, STATUS_PLUS_INFINITE, STATUS_MINUS_INFINITE or STATUS_UNDEFINED. */
+  status: Uint8Array;
+  exact: boolean;
+  sweeps: number;
+  /** The largest relative width of a finite bound pair after solving. */
+  relativeWidth: number;
+  /** Choices that keep every outcome inside the finite region (discount 1, best or worst); all when absent. */
+  finiteChoices?: Uint8Array;
+  /** Zero-reward end components of the finite region (discount 1, best or worst). */
+  zeroGroups?: EndComponentDecomposition;
+  /** The end-component classification (discount 1, best or worst). */
+  gains?: MdpGainClasses;
+  /**
+   * For states whose value is infinite in the optimiser's favour: a choice of a policy that
+   * realises it (progress towards a positive end component, or a positive policy inside one).
+   */
+  infinitePolicy?: Int32Array;
+}
+
+export function solveValues(ctx: AnalysisContext, problem: ValueProblem): ValueSolution {
+  const { model, graph } = ctx;
+  const n = model.stateCount;
+  const chainMask = problem.combine === COMBINE_POLICY ? policyChoiceMask(graph, problem.policy!) : undefined;
+  const bounds = new Float64Array(2 * n);
+  let status: Uint8Array = new Uint8Array(n);
+  const iterate = new Uint8Array(n);
+  let allowed = chainMask;
+  let extras: Partial<ValueSolution> = {};
+  let groups: EndComponentDecomposition | undefined;
+
+  if (problem.discount < 1) {
+    for (let s = 0; s < n; s++) iterate[s] = graph.absorbing[s] ? 0 : 1;
+  } else if (problem.combine === COMBINE_MAX || problem.combine === COMBINE_MIN) {
+    const sigma = problem.combine === COMBINE_MAX ? 1 : -1;
+    const decided = classifyBestTotal(ctx, problem.reward, sigma);
+    status = decided.status;
+    for (let s = 0; s < n; s++) iterate[s] = status[s] === STATUS_FINITE && !graph.absorbing[s] ? 1 : 0;
+    const finiteChoices = choicesWithin(graph, iterate);
+    const zeroChoices = new Uint8Array(model.choiceCount);
+    for (let c = 0; c < model.choiceCount; c++) zeroChoices[c] = finiteChoices[c] && problem.reward[c] === 0 ? 1 : 0;
+    groups = maximalEndComponents(graph, iterate, zeroChoices);
+    allowed = finiteChoices.slice();
+    // Inside a collapsed group, the zero-reward choices that stay inside are its "stay" option.
+    for (let c = 0; c < model.choiceCount; c++) if (groups.choiceIn[c]) allowed[c] = 0;
+    extras = { finiteChoices, zeroGroups: groups, gains: decided.gains, infinitePolicy: decided.infinitePolicy };
+  } else {
+    const decided = classifyChainTotal(ctx, problem, chainMask);
+    status = decided.status;
+    for (let s = 0; s < n; s++) iterate[s] = status[s] === STATUS_FINITE && !graph.absorbing[s] && !decided.zeroBottom[s] ? 1 : 0;
+  }
+
+  // Sweep order: successors first (reverse topological order of SCCs), collapsed groups as one node.
+  const sccChoices = groups ? unionMask(allowed, groups.choiceIn) : allowed;
+  const scc = stronglyConnectedComponents(model, iterate, sccChoices);
+  let acyclic = true;
+  for (let i = 0; i < scc.count && acyclic; i++) if (isCyclicComponent(model, scc, i, sccChoices)) acyclic = false;
+  const nodes = groups && groups.count > 0 ? groupedNodes(scc.order, groups) : singletonNodes(scc.order);
+
+  const op: Operator = { model, combine: problem.combine, policy: problem.policy, reward: problem.reward, discount: problem.discount, allowed };
+  const apriori = aprioriBounds(model, problem, iterate, allowed);
+  const result = solveBounds(op, nodes, bounds, {
+    precision: ctx.precision,
+    lowerBound: apriori.lower,
+    upperBound: apriori.upper,
+    acyclic,
+    maxSweeps: ctx.maxSweeps,
+  });
+
+  const lower = new Float64Array(n);
+  const upper = new Float64Array(n);
+  let exact = result.exact;
+  for (let s = 0; s < n; s++) {
+    switch (status[s]) {
+      case STATUS_PLUS_INFINITE:
+        lower[s] = upper[s] = Infinity;
+        break;
+      case STATUS_MINUS_INFINITE:
+        lower[s] = upper[s] = -Infinity;
+        break;
+      case STATUS_UNDEFINED:
+        lower[s] = -Infinity;
+        upper[s] = Infinity;
+        exact = false;
+        break;
+      default:
+        if (iterate[s]) {
+          lower[s] = bounds[2 * s];
+          upper[s] = bounds[2 * s + 1];
+        }
+    }
+  }
+  return { lower, upper, status, exact, sweeps: result.sweeps, relativeWidth: result.relativeWidth, ...extras };
+}
+
+/** A priori bounds on the iterated states' values, or undefined sides. */
+function aprioriBounds(model: CompiledModel, problem: ValueProblem, iterate: Uint8Array, allowed: Uint8Array | undefined): { lower?: number; upper?: number } {
+  let rmin = 0;
+  let rmax = 0;
+  const { choiceStart } = model;
+  for (let s = 0; s < model.stateCount; s++) {
+    if (!iterate[s]) continue;
+    for (let c = choiceStart[s]; c < choiceStart[s + 1]; c++) {
+      if (allowed && !allowed[c]) continue;
+      const r = problem.reward[c];
+      if (r < rmin) rmin = r;
+      if (r > rmax) rmax = r;
+    }
+  }
+  let lower: number | undefined;
+  let upper: number | undefined;
+  if (problem.discount < 1) {
+    lower = rmin / (1 - problem.discount);
+    upper = rmax / (1 - problem.discount);
+  } else {
+    // Total reward: with no negative reward no policy can end below 0, and vice versa.
+    if (rmin >= 0) lower = 0;
+    if (rmax <= 0) upper = 0;
+  }
+  if (problem.lowerBound !== undefined) lower = lower === undefined ? problem.lowerBound : Math.max(lower, problem.lowerBound);
+  if (problem.upperBound !== undefined) upper = upper === undefined ? problem.upperBound : Math.min(upper, problem.upperBound);
+  return { lower, upper };
+}
+
+/** 1 for the choice of each state under `policy`. */
+export function policyChoiceMask(graph: ModelGraph, policy: Int32Array): Uint8Array {
+  const mask = new Uint8Array(graph.model.choiceCount);
+  for (let s = 0; s < policy.length; s++) if (policy[s] >= 0) mask[policy[s]] = 1;
+  return mask;
+}
+
+/** Choices of states in `region` whose every outcome of positive probability stays in the region or ends the episode. */
+function choicesWithin(graph: ModelGraph, region: Uint8Array): Uint8Array {
+  const { model, choiceState, absorbing } = graph;
+  const { outcomeStart, outcomeTarget, outcomeProb } = model;
+  const out = new Uint8Array(model.choiceCount);
+  for (let c = 0; c < model.choiceCount; c++) {
+    if (!region[choiceState[c]]) continue;
+    let ok = 1;
+    for (let k = outcomeStart[c]; k < outcomeStart[c + 1]; k++) {
+      const t = outcomeTarget[k];
+      if (outcomeProb[k] > 0 && !region[t] && !absorbing[t]) {
+        ok = 0;
+        break;
+      }
+    }
+    out[c] = ok;
+  }
+  return out;
+}
+
+function unionMask(a: Uint8Array | undefined, b: Uint8Array): Uint8Array | undefined {
+  if (!a) return undefined;
+  const out = a.slice();
+  for (let i = 0; i < b.length; i++) if (b[i]) out[i] = 1;
+  return out;
+}
+
+/** Nodes in `order`, with each group's members gathered into one node where its first member appears. */
+function groupedNodes(order: Int32Array, groups: EndComponentDecomposition): Nodes {
+  const emitted = new Uint8Array(groups.count);
+  const start: number[] = [0];
+  const members = new Int32Array(order.length);
+  const stay: number[] = [];
+  let fill = 0;
+  for (let i = 0; i < order.length; i++) {
+    const s = order[i];
+    const g = groups.componentOf[s];
+    if (g >= 0) {
+      if (emitted[g]) continue;
+      emitted[g] = 1;
+      for (const member of groups.states[g]) members[fill++] = member;
+      stay.push(1);
+    } else {
+      members[fill++] = s;
+      stay.push(0);
+    }
+    start.push(fill);
+  }
+  return { count: stay.length, start: Int32Array.from(start), members, stay: Uint8Array.from(stay) };
+}
+
+/** Status of every state for the best (sigma = 1) or worst (sigma = -1) total reward at discount 1. */
+function classifyBestTotal(
+  ctx: AnalysisContext,
+  reward: Float64Array,
+  sigma: number,
+): { status: Uint8Array; gains: MdpGainClasses; infinitePolicy: Int32Array } {
+  const { model, graph, mecs } = ctx;
+  const n = model.stateCount;
+  const gains = classifyMdpGains(graph, mecs, reward, sigma, ctx.gainBudget);
+  const positive = new Uint8Array(n);
+  const positiveOrUndecided = new Uint8Array(n);
+  const good = new Uint8Array(n);
+  const zeroOrEnd = new Uint8Array(n);
+  for (let s = 0; s < n; s++) {
+    if (graph.absorbing[s]) {
+      good[s] = zeroOrEnd[s] = 1;
+      continue;
+    }
+    const i = mecs.componentOf[s];
+    if (i < 0) continue;
+    const sign = gains.sign[i];
+    if (sign === GAIN_POSITIVE) positive[s] = positiveOrUndecided[s] = good[s] = 1;
+    else if (sign === GAIN_UNDECIDED) positiveOrUndecided[s] = 1;
+    else if (sign === GAIN_ZERO) good[s] = zeroOrEnd[s] = 1;
+  }
+  const reachesPositiveOrUndecided = canReach(graph, positiveOrUndecided);
+  const endsWell = almostSureReach(graph, good);
+  const endsWellChoices = choicesWithin(graph, endsWell);
+  const towardPositive = backwardLayering(graph, positive, { domain: endsWell, allowed: endsWellChoices });
+  const endsFinite = almostSureReach(graph, zeroOrEnd);
+  const favourable = sigma > 0 ? STATUS_PLUS_INFINITE : STATUS_MINUS_INFINITE;
+  const unfavourable = sigma > 0 ? STATUS_MINUS_INFINITE : STATUS_PLUS_INFINITE;
+  const status = new Uint8Array(n);
+  const infinitePolicy = new Int32Array(n).fill(-1);
+  for (let s = 0; s < n; s++) {
+    if (graph.absorbing[s]) status[s] = STATUS_FINITE;
+    else if (endsWell[s] && towardPositive.layer[s] >= 0) {
+      status[s] = favourable;
+      infinitePolicy[s] = positive[s] ? gains.positivePolicy[s] : towardPositive.via[s];
+    } else if (!reachesPositiveOrUndecided[s]) status[s] = endsFinite[s] ? STATUS_FINITE : unfavourable;
+    else status[s] = STATUS_UNDEFINED;
+  }
+  return { status, gains, infinitePolicy };
+}
+
+/** Status of every state under a Markov chain (a fixed or the random policy) at discount 1. */
+function classifyChainTotal(
+  ctx: AnalysisContext,
+  problem: ValueProblem,
+  chainMask: Uint8Array | undefined,
+): { status: Uint8Array; zeroBottom: Uint8Array } {
+  const { model, graph } = ctx;
+  const n = model.stateCount;
+  const { choiceStart, outcomeStart, outcomeTarget, outcomeProb } = model;
+  const live = new Uint8Array(n);
+  for (let s = 0; s < n; s++) live[s] = graph.absorbing[s] ? 0 : 1;
+  const scc = stronglyConnectedComponents(model, live, chainMask);
+  const positive = new Uint8Array(n);
+  const negative = new Uint8Array(n);
+  const undecided = new Uint8Array(n);
+  const zeroBottom = new Uint8Array(n);
+  const local = new Int32Array(n).fill(-1);
+  for (let i = 0; i < scc.count; i++) {
+    const members = scc.order.subarray(scc.start[i], scc.start[i + 1]);
+    let bottom = true;
+    let hasPositive = false;
+    let hasNegative = false;
+    for (let j = 0; j < members.length && bottom; j++) {
+      const s = members[j];
+      let sum = 0;
+      let magnitude = 0;
+      let used = 0;
+      for (let c = choiceStart[s]; c < choiceStart[s + 1]; c++) {
+        if (chainMask && !chainMask[c]) continue;
+        sum += problem.reward[c];
+        magnitude += Math.abs(problem.reward[c]);
+        used++;
+        for (let k = outcomeStart[c]; k < outcomeStart[c + 1]; k++) {
+          if (outcomeProb[k] > 0 && scc.componentOf[outcomeTarget[k]] !== i) bottom = false;
+        }
+      }
+      const mean = Math.abs(sum) <= 1e-12 * magnitude ? 0 : sum / Math.max(1, used);
+      if (mean > 0) hasPositive = true;
+      else if (mean < 0) hasNegative = true;
+    }
+    if (!bottom) continue;
+    // Every state of a bottom SCC is visited with positive frequency, so one-signed rewards decide.
+    let sign: number;
+    if (!hasPositive && !hasNegative) sign = GAIN_ZERO;
+    else if (!hasNegative) sign = GAIN_POSITIVE;
+    else if (!hasPositive) sign = GAIN_NEGATIVE;
+    else {
+      const b = gainBounds(graph, Int32Array.from(members), chainMask, problem.reward, 1, local, ctx.gainBudget, true);
+      sign = b.lower > 0 ? GAIN_POSITIVE : b.upper < 0 ? GAIN_NEGATIVE : GAIN_UNDECIDED;
+    }
+    const mark = sign === GAIN_ZERO ? zeroBottom : sign === GAIN_POSITIVE ? positive : sign === GAIN_NEGATIVE ? negative : undecided;
+    for (let j = 0; j < members.length; j++) mark[members[j]] = 1;
+  }
+  const reachesPositive = canReach(graph, positive, chainMask);
+  const reachesNegative = canReach(graph, negative, chainMask);
+  const reachesUndecided = canReach(graph, undecided, chainMask);
+  const status = new Uint8Array(n);
+  for (let s = 0; s < n; s++) {
+    if (graph.absorbing[s]) continue;
+    const p = reachesPositive[s];
+    const m = reachesNegative[s];
+    if (reachesUndecided[s] || (p && m)) status[s] = STATUS_UNDEFINED;
+    else if (p) status[s] = STATUS_PLUS_INFINITE;
+    else if (m) status[s] = STATUS_MINUS_INFINITE;
+  }
+  return { status, zeroBottom };
+}
+
+export { COMBINE_AVERAGE, COMBINE_MAX, COMBINE_MIN, COMBINE_POLICY };
