@@ -120,35 +120,40 @@ export interface JsonFile {
   rollouts?: Partial<Record<'random' | 'optimal', JsonRollouts>>;
 }
 
-/** Seeded rollouts of one policy (analysis/rollouts.ts); returns are discounted sums of rewards. */
+/**
+ * Seeded rollouts of one policy (analysis/rollouts.ts); returns are discounted sums of rewards.
+ * Figures are finite numbers rounded to nearest (null only when no episode finished).
+ */
 export interface JsonRollouts {
   episodes: number;
   seed: number;
   /** Steps after which an episode without a horizon is stopped. */
   stepCap: number;
   return: {
-    mean: JsonNumber;
-    standardError: JsonNumber;
-    /** Normal-approximation 95% interval: mean +- 1.96 standard errors. */
-    ci95: JsonInterval;
-    min: JsonNumber;
-    max: JsonNumber;
-    /** Hyndman and Fan definition 7 (as R and NumPy by default). */
-    percentiles: { p5: JsonNumber; p25: JsonNumber; p50: JsonNumber; p75: JsonNumber; p95: JsonNumber };
-    /** Equal-width bins from `lower` to `upper`. */
-    histogram: { lower: JsonNumber; upper: JsonNumber; counts: number[] };
-  };
-  length: {
-    mean: JsonNumber;
+    mean: number;
+    standardError: number;
+    /** Normal-approximation 95% interval: mean +- 1.96 standard errors (an estimate, not a sound bound). */
+    ci95: { lower: number; upper: number };
     min: number;
     max: number;
-    percentiles: { p5: number; p25: number; p50: number; p75: number; p95: number };
+    /** Hyndman and Fan definition 7 (as R and NumPy by default). */
+    percentiles: JsonPercentiles;
+    /** Equal-width bins from `lower` to `upper`. */
     histogram: { lower: number; upper: number; counts: number[] };
   };
+  length: { mean: number; min: number; max: number; percentiles: JsonPercentiles; histogram: { lower: number; upper: number; counts: number[] } };
   /** Share of episodes ending in each terminal kind; "none": cut by the horizon or the step cap. */
   reach: JsonReach;
   /** Episodes stopped at the step cap without ending. */
   stepCapped: number;
+}
+
+export interface JsonPercentiles {
+  p5: number;
+  p25: number;
+  p50: number;
+  p75: number;
+  p95: number;
 }
 
 export interface JsonOutput {
@@ -184,32 +189,33 @@ export function fileReportToJson(report: FileReport, options: JsonOptions = {}):
 
 export function rolloutsToJson(stats: RolloutStats): JsonRollouts {
   const r = stats.return;
-  const percentiles = <T>(p: RolloutStats['return']['percentiles'], map: (x: number) => T) => ({
-    p5: map(p.p5),
-    p25: map(p.p25),
-    p50: map(p.p50),
-    p75: map(p.p75),
-    p95: map(p.p95),
+  const percentiles = (p: RolloutStats['return']['percentiles']): JsonPercentiles => ({
+    p5: roundNearest(p.p5),
+    p25: roundNearest(p.p25),
+    p50: roundNearest(p.p50),
+    p75: roundNearest(p.p75),
+    p95: roundNearest(p.p95),
   });
+  const histogram = (h: RolloutStats['return']['histogram']) => ({ lower: roundNearest(h.lower), upper: roundNearest(h.upper), counts: h.counts });
   return {
     episodes: stats.episodes,
     seed: stats.seed,
     stepCap: stats.stepCap,
     return: {
-      mean: jsonPoint(r.mean),
-      standardError: jsonPoint(r.standardError),
-      ci95: { lower: jsonLower(r.ci95.lower), upper: jsonUpper(r.ci95.upper) },
-      min: jsonPoint(r.min),
-      max: jsonPoint(r.max),
-      percentiles: percentiles(r.percentiles, jsonPoint),
-      histogram: { lower: jsonPoint(r.histogram.lower), upper: jsonPoint(r.histogram.upper), counts: r.histogram.counts },
+      mean: roundNearest(r.mean),
+      standardError: roundNearest(r.standardError),
+      ci95: { lower: roundNearest(r.ci95.lower), upper: roundNearest(r.ci95.upper) },
+      min: roundNearest(r.min),
+      max: roundNearest(r.max),
+      percentiles: percentiles(r.percentiles),
+      histogram: histogram(r.histogram),
     },
     length: {
-      mean: jsonPoint(stats.length.mean),
+      mean: roundNearest(stats.length.mean),
       min: stats.length.min,
       max: stats.length.max,
-      percentiles: percentiles(stats.length.percentiles, roundNearest),
-      histogram: { lower: stats.length.histogram.lower, upper: stats.length.histogram.upper, counts: stats.length.histogram.counts },
+      percentiles: percentiles(stats.length.percentiles),
+      histogram: histogram(stats.length.histogram),
     },
     reach: {
       goal: jsonProbability(stats.reach.goal),

@@ -45,51 +45,79 @@ const OBJECT_PROTOTYPE = Object.prototype;
 /**
  * The canonical key of a plain JSON value: JSON with object keys sorted, so equal states get equal
  * keys whatever the property order. Throws MalformedValue for anything that is not plain data.
+ * Values that are already canonical (sorted keys, plain data) go straight to the native
+ * JSON.stringify, whose flat result string is also the cheapest to hash in the state index.
  */
-export function canonicalKey(value: unknown, path = 'state', depth = 0): string {
+export function canonicalKey(value: unknown, path = 'state'): string {
+  if (typeof value === 'number') {
+    if (!Number.isFinite(value)) throw new MalformedValue(`${path} is ${value}, not a finite number`);
+    return JSON.stringify(value);
+  }
+  return JSON.stringify(isCanonical(value, 0) ? value : canonicalCopy(value, path, 0));
+}
+
+/** True for plain JSON data whose object keys are all in sorted order. */
+function isCanonical(value: unknown, depth: number): boolean {
+  switch (typeof value) {
+    case 'number':
+      return Number.isFinite(value);
+    case 'string':
+    case 'boolean':
+      return true;
+    case 'object': {
+      if (value === null) return true;
+      if (depth > 64) return false;
+      if (Array.isArray(value)) {
+        for (let i = 0; i < value.length; i++) if (!isCanonical(value[i], depth + 1)) return false;
+        return true;
+      }
+      const proto = Object.getPrototypeOf(value);
+      if (proto !== OBJECT_PROTOTYPE && proto !== null) return false;
+      let previous: string | undefined;
+      for (const key in value) {
+        if (previous !== undefined && previous >= key) return false;
+        if (!isCanonical((value as Record<string, unknown>)[key], depth + 1)) return false;
+        previous = key;
+      }
+      return true;
+    }
+    default:
+      return false;
+  }
+}
+
+/** A copy with sorted keys, or MalformedValue naming the first part that is not plain data. */
+function canonicalCopy(value: unknown, path: string, depth: number): unknown {
   switch (typeof value) {
     case 'number':
       if (!Number.isFinite(value)) throw new MalformedValue(`${path} is ${value}, not a finite number`);
-      return value === 0 ? '0' : String(value);
+      return value;
     case 'string':
-      return JSON.stringify(value);
     case 'boolean':
-      return value ? 'true' : 'false';
+      return value;
     case 'object': {
-      if (value === null) return 'null';
+      if (value === null) return null;
       if (depth > 64) throw new MalformedValue(`${path} is nested more than 64 levels deep (a cycle?)`);
       if (Array.isArray(value)) {
-        let out = '[';
-        for (let i = 0; i < value.length; i++) {
-          if (i > 0) out += ',';
-          out += canonicalKey(value[i], `${path}[${i}]`, depth + 1);
-        }
-        return out + ']';
+        const items = new Array<unknown>(value.length);
+        for (let i = 0; i < value.length; i++) items[i] = canonicalCopy(value[i], `${path}[${i}]`, depth + 1);
+        return items;
       }
       const proto = Object.getPrototypeOf(value);
       if (proto !== OBJECT_PROTOTYPE && proto !== null) {
         const kind = (value as object).constructor?.name ?? 'object';
         throw new MalformedValue(`${path} is a ${kind}; states must be plain JSON values (objects, arrays, numbers, strings)`);
       }
-      const keys = Object.keys(value);
-      let sorted = true;
-      for (let i = 1; i < keys.length; i++) {
-        if (keys[i - 1] > keys[i]) {
-          sorted = false;
-          break;
-        }
-      }
-      if (!sorted) keys.sort();
-      let out = '{';
-      let first = true;
-      for (const key of keys) {
+      const copy: Record<string, unknown> = {};
+      for (const key of Object.keys(value).sort()) {
         const item = (value as Record<string, unknown>)[key];
+        // JSON leaves out undefined properties; so does the key.
         if (item === undefined) continue;
-        if (!first) out += ',';
-        first = false;
-        out += JSON.stringify(key) + ':' + canonicalKey(item, `${path}.${key}`, depth + 1);
+        const plain = canonicalCopy(item, `${path}.${key}`, depth + 1);
+        if (key === '__proto__') Object.defineProperty(copy, key, { value: plain, enumerable: true, writable: true, configurable: true });
+        else copy[key] = plain;
       }
-      return out + '}';
+      return copy;
     }
     default:
       throw new MalformedValue(`${path} is ${value === undefined ? 'undefined' : `a ${typeof value}`}; states must be plain JSON values`);
@@ -374,7 +402,7 @@ export function enumerateModel(model: ModelFunctions, options: EnumerationOption
           if (p < 0 || p > 1) throw new MalformedValue(`outcome ${o} has probability ${p}, outside [0, 1]`);
           sum += p;
           if (p === 0) continue;
-          termScratch.length = 0;
+          if (typeof out.reward !== 'number') termScratch.length = 0;
           const r = readReward(out.reward, termIndex, termScratch, strictTerms, `outcome ${o}'s reward`);
           if (!Number.isFinite(r)) {
             problem = { kind: 'non-finite-reward', phase, message: `outcome ${o} has reward ${r}`, state: keys[current], action: name };

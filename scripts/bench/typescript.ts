@@ -1,0 +1,120 @@
+/**
+ * Figures for TypeScript specs: the enumeration rate of a model with about 100k states, and
+ * rollout steps per second in the sandbox against the same model called directly in one loop.
+ * The model is a windy grid of our own (316 x 316 cells, four moves, three outcomes each).
+ */
+import { mkdtempSync, rmSync, writeFileSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
+import { compileFunction } from 'node:vm';
+import { bundleModel } from '../../server/src/sandbox/bundle';
+import { ModelSandbox } from '../../server/src/sandbox/host';
+import { rolloutModel, type ModelFunctions } from '../../server/src/sandbox/runtime';
+
+export const GRID_SPEC = `import { defineMdp } from 'episcope';
+
+const SIZE = 316;
+const MOVES: Record<string, [number, number]> = { north: [0, -1], south: [0, 1], east: [1, 0], west: [-1, 0] };
+const clamp = (v: number) => (v < 0 ? 0 : v >= SIZE ? SIZE - 1 : v);
+const at = (x: number, y: number) => ({ x: clamp(x), y: clamp(y) });
+
+export default defineMdp({
+  name: 'windy-grid-bench',
+  discount: 0.99,
+  start: { x: 0, y: 0 },
+  actions: () => ['north', 'south', 'east', 'west'],
+  terminal: (p: { x: number; y: number }) => (p.x === SIZE - 1 && p.y === SIZE - 1 ? 'goal' : undefined),
+  outcomes(p: { x: number; y: number }, action: string) {
+    const [dx, dy] = MOVES[action];
+    return [
+      { state: at(p.x + dx, p.y + dy), probability: 0.8, reward: -1 },
+      { state: at(p.x + dy, p.y + dx), probability: 0.1, reward: -1 },
+      { state: at(p.x - dy, p.y - dx), probability: 0.1, reward: -1 },
+    ];
+  },
+  sample(p: { x: number; y: number }, action: string, rng: () => number) {
+    const [dx, dy] = MOVES[action];
+    const u = rng();
+    const state = u < 0.8 ? at(p.x + dx, p.y + dy) : u < 0.9 ? at(p.x + dy, p.y + dx) : at(p.x - dy, p.y - dx);
+    return { state, reward: -1, terminal: state.x === SIZE - 1 && state.y === SIZE - 1 ? ('goal' as const) : undefined };
+  },
+});
+`;
+
+export interface TypeScriptFigures {
+  states: number;
+  choices: number;
+  outcomes: number;
+  enumerationSeconds: number;
+  /** Outcomes (state, action, next state) listed per second, model calls included. */
+  transitionsPerSecond: number;
+  rolloutSteps: number;
+  sandboxStepsPerSecond: number;
+  directStepsPerSecond: number;
+}
+
+const ROLLOUTS = { episodes: 2000, seed: 1, discount: 0.99, stepCap: 1000, declaredTerms: [], fingerprintEpisodes: 0 };
+
+export async function measureTypeScript(): Promise<TypeScriptFigures> {
+  const folder = mkdtempSync(join(tmpdir(), 'episcope-bench-'));
+  const path = join(folder, 'grid.mdp.ts');
+  writeFileSync(path, GRID_SPEC);
+  try {
+    const started = await ModelSandbox.start(path, GRID_SPEC, { callTimeoutMs: 5000, memoryMb: 1024 });
+    if (!started.value) throw new Error(`the bench model failed: ${started.failure?.message}`);
+    const { sandbox } = started.value;
+    const began = performance.now();
+    const enumerated = await sandbox.enumerate({ stateCap: 200_000, declaredTerms: [], recheckChoices: 0 });
+    const enumerationSeconds = (performance.now() - began) / 1000;
+    const result = enumerated.value;
+    if (!result || result.problem || result.capped) throw new Error('the bench model did not enumerate');
+
+    // Warm both paths once, then time them.
+    await sandbox.rollouts({ ...ROLLOUTS, episodes: 50 });
+    const sandboxBegan = performance.now();
+    const inSandbox = await sandbox.rollouts(ROLLOUTS);
+    const sandboxSeconds = (performance.now() - sandboxBegan) / 1000;
+    await sandbox.close();
+    const steps = inSandbox.value!.records.lengths.reduce((a, b) => a + b, 0);
+
+    const direct = await loadDirectly(path);
+    const progress = new Int32Array(5);
+    rolloutModel(direct, { ...ROLLOUTS, episodes: 50, progress });
+    const directBegan = performance.now();
+    const run = rolloutModel(direct, { ...ROLLOUTS, progress });
+    const directSeconds = (performance.now() - directBegan) / 1000;
+    const directSteps = run.records.lengths.reduce((a, b) => a + b, 0);
+
+    return {
+      states: result.stateKeys.length,
+      choices: result.choiceAction.length,
+      outcomes: result.outcomesListed,
+      enumerationSeconds,
+      transitionsPerSecond: result.outcomesListed / enumerationSeconds,
+      rolloutSteps: steps,
+      sandboxStepsPerSecond: steps / sandboxSeconds,
+      directStepsPerSecond: directSteps / directSeconds,
+    };
+  } finally {
+    rmSync(folder, { recursive: true, force: true });
+  }
+}
+
+/** The same bundle, evaluated in this thread: the model called directly, with no worker in between. */
+async function loadDirectly(path: string): Promise<ModelFunctions> {
+  const bundle = await bundleModel(path, GRID_SPEC);
+  if (!('code' in bundle)) throw new Error(bundle.message);
+  const module = { exports: {} as Record<string, unknown> };
+  compileFunction(bundle.code, ['exports', 'require', 'module'])(module.exports, require, module);
+  return module.exports.default as ModelFunctions;
+}
+
+/** Lines for `npm run bench`. */
+export async function typescriptBenchLines(): Promise<string[]> {
+  const f = await measureTypeScript();
+  const millions = (x: number) => `${(x / 1e6).toFixed(2)} M`;
+  return [
+    `TypeScript enumeration: ${f.states} states, ${f.choices} (state, action) pairs, ${f.outcomes} outcomes in ${f.enumerationSeconds.toFixed(2)} s: ${millions(f.transitionsPerSecond)} transitions/s (target >= 1 M)`,
+    `TypeScript rollouts: ${f.rolloutSteps} steps; sandbox ${millions(f.sandboxStepsPerSecond)} steps/s, direct ${millions(f.directStepsPerSecond)} steps/s: ${((100 * f.sandboxStepsPerSecond) / f.directStepsPerSecond).toFixed(0)}% of direct (target >= 50%)`,
+  ];
+}
