@@ -311,6 +311,15 @@ describe('bad input: never a throw, always a positioned schema finding', () => {
     expect(r.spec.states[0].terminal).toBe('goal');
   });
 
+  it('finds a repeated key in a large object too', () => {
+    const many = Array.from({ length: 40 }, (_, i) => `"s${i}": {}`).join(', ');
+    const text = `{ "discount": 0.9, "start": "s0", "states": { ${many}, "s7": {} }, "transitions": [] }`;
+    const r = load(text);
+    expect(r.findings).toHaveLength(1);
+    expect(r.findings[0].span.start).toBe(text.indexOf('"s7"'));
+    expect(r.findings[0].message).toBe('states has the key "s7" more than once; only the last one counts, so this one is ignored');
+  });
+
   it('reports empty ids at the key', () => {
     const r = load(base('').replace('"b": {}', '"": {}'));
     expect(r.messages).toEqual(['"" | states has an empty key; ids and names must not be empty']);

@@ -104,30 +104,31 @@ function compileChecked(spec: ParsedSpec): CompileResult {
 
   for (let index = 0; index < spec.transitions.length; index++) {
     const transition = spec.transitions[index];
-    const where = `transitions[${transition.sourceIndex}]`;
     const from = stateById.get(transition.from);
-    if (!from) return { reason: `${where} leaves ${quote(transition.from)}, which is not a declared state` };
+    const where = (): string => `transitions[${transition.sourceIndex}]`;
+    if (!from) return { reason: `${where()} leaves ${quote(transition.from)}, which is not a declared state` };
     // Entering a terminal ends the episode: what a terminal "does" is never used.
     if (from.terminal) continue;
     const offered = actionsOf(from);
-    if (!offered?.has(transition.action)) return { reason: `${where} takes ${quote(transition.action)} in ${quote(from.id)}, which does not offer that action` };
+    if (!offered?.has(transition.action)) return { reason: `${where()} takes ${quote(transition.action)} in ${quote(from.id)}, which does not offer that action` };
     const pairKey = `${from.id}\u0000${transition.action}`;
     // The first definition of a (state, action) pair wins; later ones are reported, not used.
     if (defined.has(pairKey)) continue;
     defined.add(pairKey);
-    const label = `${where} (${arrow(from.id, transition.action)})`;
-    if (transition.incomplete) return { reason: `${label} could not be read completely` };
+    // Messages are built only on failure: this loop runs once per transition of large specs.
+    const label = (): string => `${where()} (${arrow(from.id, transition.action)})`;
+    if (transition.incomplete) return { reason: `${label()} could not be read completely` };
 
     const stateIndex = builder.indexOf(from.id)!;
     const outcomes: Array<{ target: number; probability: number; reward: number; terms: Array<[string, number]>; shaping?: number }> = [];
     let sum = 0;
     for (const outcome of transition.outcomes) {
       const target = builder.indexOf(outcome.state);
-      if (target === undefined) return { reason: `${label} leads to ${quote(outcome.state)}, which is not a declared state` };
-      if (!(outcome.probability >= 0 && outcome.probability <= 1)) return { reason: `${label} gives ${quote(outcome.state)} the probability ${formatNumber(outcome.probability)}, not between 0 and 1` };
+      if (target === undefined) return { reason: `${label()} leads to ${quote(outcome.state)}, which is not a declared state` };
+      if (!(outcome.probability >= 0 && outcome.probability <= 1)) return { reason: `${label()} gives ${quote(outcome.state)} the probability ${formatNumber(outcome.probability)}, not between 0 and 1` };
       sum += outcome.probability;
       const { reward, terms, problem } = sumReward(outcome.reward, tracked);
-      if (problem) return { reason: `${label} has the reward ${problem} toward ${quote(outcome.state)}, not a finite number` };
+      if (problem) return { reason: `${label()} has the reward ${problem} toward ${quote(outcome.state)}, not a finite number` };
       let shaping: number | undefined;
       if (potential) {
         // Potential-based shaping F = discount * Phi(s') - Phi(s) (Ng, Harada and Russell, 1999).
@@ -135,7 +136,7 @@ function compileChecked(spec: ParsedSpec): CompileResult {
       }
       outcomes.push({ target, probability: outcome.probability, reward: reward + (shaping ?? 0), terms, shaping });
     }
-    if (Math.abs(sum - 1) > PROBABILITY_SUM_TOLERANCE) return { reason: `${label} has outcome probabilities that add up to ${formatNumber(sum)}, not 1` };
+    if (Math.abs(sum - 1) > PROBABILITY_SUM_TOLERANCE) return { reason: `${label()} has outcome probabilities that add up to ${formatNumber(sum)}, not 1` };
     builder.addChoice(stateIndex, transition.action, index, outcomes);
   }
 

@@ -137,7 +137,7 @@ function parseUnchecked(text: string): JsonSpecResult {
   }
 
   const schemaProblems: Finding[] = [];
-  validateAgainstSchema(root, schemaProblems);
+  validateAgainstSchema(root, parseErrors.length === 0 ? text : undefined, schemaProblems);
   reportDuplicateKeys(root, schemaProblems);
   const reader = new SpecReader(root, schemaProblems);
   const spec = reader.read();
@@ -178,9 +178,10 @@ function findExcessiveNesting(text: string): number | undefined {
 // ---------------------------------------------------------------------------------------------
 // Schema validation
 
-function validateAgainstSchema(root: Node, out: Finding[]): void {
+/** Validates the document; `strictText` is the text when it parsed without errors (maybe strict JSON). */
+function validateAgainstSchema(root: Node, strictText: string | undefined, out: Finding[]): void {
   const validate = schemaValidator();
-  if (validate(getNodeValue(root))) return;
+  if (validate(documentValue(root, strictText))) return;
   const seen = new Set<string>();
   for (const error of validate.errors ?? []) {
     // Probabilities outside [0, 1] are the negative-probability rule's (with what they cost).
@@ -193,6 +194,22 @@ function validateAgainstSchema(root: Node, out: Finding[]): void {
     seen.add(key);
     out.push(finding);
   }
+}
+
+/**
+ * The document as a plain value. The native JSON.parse is several times faster than rebuilding the
+ * value from the tree; it applies when the text has no comments or trailing commas. Both keep the
+ * last of repeated keys and read 1e400 as Infinity, so the value is the same either way.
+ */
+function documentValue(root: Node, strictText: string | undefined): unknown {
+  if (strictText !== undefined) {
+    try {
+      return JSON.parse(strictText);
+    } catch {
+      // JSONC (comments, trailing commas): fall through to the tree.
+    }
+  }
+  return getNodeValue(root);
 }
 
 const TYPE_PHRASE: Record<string, string> = {
@@ -324,32 +341,69 @@ function propertyKey(object: Node, key: string): Node | undefined {
 
 /** Duplicate keys: JSON.parse (and every JSON tool) keeps only the last, which hides the first. */
 function reportDuplicateKeys(root: Node, out: Finding[]): void {
-  const stack: Array<{ node: Node; path: Array<string | number> }> = [{ node: root, path: [] }];
+  const stack: Node[] = [root];
   while (stack.length > 0) {
-    const { node, path } = stack.pop()!;
+    const node = stack.pop()!;
+    const children = node.children ?? [];
     if (node.type === 'object') {
-      const seen = new Set<string>();
-      const properties = node.children ?? [];
-      // Walk backwards so that every key before the last one of its name is reported.
-      for (let i = properties.length - 1; i >= 0; i--) {
-        const keyNode = properties[i].children?.[0];
-        const valueNode = properties[i].children?.[1];
-        if (!keyNode) continue;
-        const key = String(keyNode.value);
-        if (seen.has(key)) {
-          out.push(schemaFinding(`${jsonPath(path)} has the key "${key}" more than once; only the last one counts, so this one is ignored`, nodeSpan(keyNode)));
-        } else {
-          seen.add(key);
+      const repeated = repeatedKeyIndices(children);
+      for (let i = 0; i < children.length; i++) {
+        const keyNode = children[i].children?.[0];
+        const valueNode = children[i].children?.[1];
+        if (keyNode && repeated?.has(i)) {
+          out.push(schemaFinding(`${jsonPath(pathOf(node))} has the key "${keyNode.value}" more than once; only the last one counts, so this one is ignored`, nodeSpan(keyNode)));
         }
-        if (valueNode && (valueNode.type === 'object' || valueNode.type === 'array')) stack.push({ node: valueNode, path: [...path, key] });
+        if (valueNode?.children) stack.push(valueNode);
       }
     } else if (node.type === 'array') {
-      const items = node.children ?? [];
-      for (let i = 0; i < items.length; i++) {
-        if (items[i].type === 'object' || items[i].type === 'array') stack.push({ node: items[i], path: [...path, i] });
-      }
+      for (const item of children) if (item.children) stack.push(item);
     }
   }
+}
+
+/**
+ * The indices of properties whose key appears again later in the object; undefined when there
+ * are none. Small objects (most of a spec) are compared pairwise to avoid allocating a set.
+ */
+function repeatedKeyIndices(properties: Node[]): Set<number> | undefined {
+  let repeated: Set<number> | undefined;
+  if (properties.length <= 16) {
+    for (let i = 0; i < properties.length; i++) {
+      const key = properties[i].children?.[0]?.value;
+      for (let j = i + 1; j < properties.length; j++) {
+        if (properties[j].children?.[0]?.value === key) {
+          (repeated ??= new Set()).add(i);
+          break;
+        }
+      }
+    }
+    return repeated;
+  }
+  const later = new Set<unknown>();
+  for (let i = properties.length - 1; i >= 0; i--) {
+    const key = properties[i].children?.[0]?.value;
+    if (later.has(key)) (repeated ??= new Set()).add(i);
+    else later.add(key);
+  }
+  return repeated;
+}
+
+/** The path of keys and indices from the root to a node (computed only for findings). */
+function pathOf(node: Node): Array<string | number> {
+  const path: Array<string | number> = [];
+  let current = node;
+  while (current.parent) {
+    const parent = current.parent;
+    if (parent.type === 'property') {
+      path.push(String(parent.children?.[0]?.value));
+      current = parent.parent ?? parent;
+      if (current === parent) break;
+    } else {
+      path.push(parent.children?.indexOf(current) ?? 0);
+      current = parent;
+    }
+  }
+  return path.reverse();
 }
 
 // ---------------------------------------------------------------------------------------------
