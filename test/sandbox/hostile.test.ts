@@ -79,14 +79,14 @@ describe('hostile model code is contained and reported as model-error with the s
     const enumerable = await analyzeTs(counterSpec(`    return [{ state: { n: s.n + 1 }, probability: 1, reward: s.n === 1 ? 0 / 0 : -1 }];`), FAST_LIMITS);
     const [finding] = findingsOf(enumerable, 'non-finite-reward');
     expect(finding.severity).toBe('error');
-    expect(finding.message).toContain('outcomes({"n":1}, "up") gave in outcome 0 reward NaN');
+    expect(finding.message).toContain('outcomes({"n":1}, "up") returned the reward NaN in outcome 0: every return that includes it is undefined');
     const sampled = await analyzeTs(
       `export default { discount: 0.9, start: 0, actions: () => ['go'],
   sample: (s, a, rng) => ({ state: s + 1, reward: rng() < 0.1 ? Infinity : 1, terminal: s >= 4 ? 'goal' : undefined }) };`,
       { ...FAST_LIMITS, rollouts: 200 },
     );
     const [inSample] = findingsOf(sampled, 'non-finite-reward');
-    expect(inSample.message).toMatch(/sample\(\d+, "go"\) in rollout episode \d+, step \d+ gave the reward Infinity/);
+    expect(inSample.message).toMatch(/sample\(\d+, "go"\) in rollout episode \d+, step \d+ returned the reward Infinity: every return that includes it is undefined/);
     expect(inSample.message).toMatch(/; \d+ of 200 rollouts got a non-finite reward and are left out of the estimates/);
     expect(sampled.rollouts?.random?.episodes).toBeLessThan(200);
   });

@@ -216,7 +216,7 @@ function nonFiniteFinding(problem: LocatedProblem, episodes: number | undefined,
   return {
     rule: 'non-finite-reward',
     severity: rule?.defaultSeverity ?? 'error',
-    message: `${describeCall(problem)} gave ${problem.message.replace(/^outcome (\d+) has /, 'in outcome $1 ')}: a return with it is not a number${share}`,
+    message: `${describeCall(problem)} returned ${problem.message}: every return that includes it is undefined${share}`,
     span: problem.span,
   };
 }

@@ -405,7 +405,7 @@ export function enumerateModel(model: ModelFunctions, options: EnumerationOption
           if (typeof out.reward !== 'number') termScratch.length = 0;
           const r = readReward(out.reward, termIndex, termScratch, strictTerms, `outcome ${o}'s reward`);
           if (!Number.isFinite(r)) {
-            problem = { kind: 'non-finite-reward', phase, message: `outcome ${o} has reward ${r}`, state: keys[current], action: name };
+            problem = { kind: 'non-finite-reward', phase, message: `the reward ${r} in outcome ${o}`, state: keys[current], action: name };
             break;
           }
           const next = addState(out.state, `outcome ${o}'s state`);
@@ -644,7 +644,7 @@ export function rolloutModel(model: ModelFunctions, options: RolloutOptions): Ro
         if (!Number.isFinite(r) && !nonFinite) {
           nonFinite = true;
           nonFiniteEpisodes++;
-          firstNonFinite ??= { kind: 'non-finite-reward', phase, message: `the reward is ${r}`, state: describeValue(state), action: String(action), episode, step: t };
+          firstNonFinite ??= { kind: 'non-finite-reward', phase, message: `the reward ${r}`, state: describeValue(state), action: String(action), episode, step: t };
         }
         total += weight * r;
         weight *= discount;
