@@ -1,0 +1,143 @@
+/**
+ * Policy evaluation cross-checked against an independent linear solver (mathjs `lusolve`): the
+ * value of a stationary policy is the solution of (I - discount * P_pi) v = r_pi (Bellman's
+ * equation for a fixed policy; M. Puterman, Markov Decision Processes, 1994, section 6.1), and the
+ * optimal value is the best such solution over deterministic policies (Puterman 1994, Theorem
+ * 6.2.7: a deterministic stationary optimal policy exists for finite discounted MDPs).
+ * The random MDPs are seeded models of our own.
+ */
+import { lusolve } from 'mathjs';
+import { describe, expect, it } from 'vitest';
+import { analyzeModel } from '../../server/src/analysis';
+import type { Analysis } from '../../server/src/analysis/types';
+import type { CompiledModel } from '../../server/src/model/compiled';
+import { randomModel, seededRandom } from './gridworlds';
+import { ModelBuilder } from '../../server/src/model/compiled';
+
+/** Solves (I - discount P) v = r for the chain where state s takes choices with the given weights. */
+function evaluate(model: CompiledModel, weights: (s: number, c: number) => number): number[] {
+  const n = model.stateCount;
+  const a: number[][] = Array.from({ length: n }, (_, i) => Array.from({ length: n }, (_, j) => (i === j ? 1 : 0)));
+  const b: number[] = new Array(n).fill(0);
+  for (let s = 0; s < n; s++) {
+    if (model.terminal[s] !== 0) continue;
+    for (let c = model.choiceStart[s]; c < model.choiceStart[s + 1]; c++) {
+      const w = weights(s, c);
+      if (w === 0) continue;
+      for (let k = model.outcomeStart[c]; k < model.outcomeStart[c + 1]; k++) {
+        const p = model.outcomeProb[k];
+        b[s] += w * p * model.outcomeReward[k];
+        const t = model.outcomeTarget[k];
+        // Terminal states are worth 0: their column never contributes.
+        if (model.terminal[t] === 0) a[s][t] -= w * model.discount * p;
+      }
+    }
+  }
+  const solution = lusolve(a, b) as number[][];
+  return solution.map((row) => row[0]);
+}
+
+const uniform = (model: CompiledModel) => (s: number) => 1 / (model.choiceStart[s + 1] - model.choiceStart[s]);
+
+function expectInside(values: { lower: Float64Array; upper: Float64Array }, exact: number[], label: string): void {
+  for (let s = 0; s < exact.length; s++) {
+    const slack = 1e-9 * Math.max(1, Math.abs(exact[s]));
+    expect(values.lower[s], `${label}: lower bound of state ${s}`).toBeLessThanOrEqual(exact[s] + slack);
+    expect(values.upper[s], `${label}: upper bound of state ${s}`).toBeGreaterThanOrEqual(exact[s] - slack);
+    expect(values.upper[s] - values.lower[s], `${label}: width at state ${s}`).toBeLessThanOrEqual(1e-6 * Math.max(1, Math.abs(exact[s]) / 1000));
+  }
+}
+
+/** The policy as weights: 1 on its choice. */
+const following = (policy: Int32Array) => (s: number, c: number) => (policy[s] === c ? 1 : 0);
+
+const discounts = [0, 0.5, 0.9, 0.99];
+
+describe('policy evaluation against mathjs lusolve on seeded random MDPs (discount < 1)', () => {
+  for (let seed = 1; seed <= 24; seed++) {
+    const discount = discounts[seed % discounts.length];
+    const model = randomModel(seed, 6 + (seed % 7), 2 + (seed % 3), 3, discount, seed % 3, seed % 2 === 0);
+    it(`seed ${seed}, ${model.stateCount} states, discount ${discount}: random policy values`, () => {
+      const analysis = analyzeModel(model, { precision: 1e-6 });
+      expectInside(analysis.random.values, evaluate(model, uniform(model)), 'random policy');
+    });
+    it(`seed ${seed}: the returned optimal and worst policies attain the optimal and worst bounds`, () => {
+      const analysis = analyzeModel(model, { precision: 1e-6 });
+      expectInside(analysis.optimal.values, evaluate(model, following(analysis.optimal.policy!)), 'optimal policy');
+      expectInside(analysis.worst.values, evaluate(model, following(analysis.worst.policy!)), 'worst policy');
+    });
+  }
+});
+
+/** Every deterministic policy of a small model, as choice arrays. */
+function* allPolicies(model: CompiledModel): Generator<Int32Array> {
+  const n = model.stateCount;
+  const policy = new Int32Array(n).fill(-1);
+  for (let s = 0; s < n; s++) if (model.choiceStart[s] < model.choiceStart[s + 1]) policy[s] = model.choiceStart[s];
+  for (;;) {
+    yield policy;
+    let s = 0;
+    for (; s < n; s++) {
+      if (policy[s] < 0) continue;
+      if (policy[s] + 1 < model.choiceStart[s + 1]) {
+        policy[s]++;
+        break;
+      }
+      policy[s] = model.choiceStart[s];
+    }
+    if (s === n) return;
+  }
+}
+
+describe('optimal values against brute force over every deterministic policy (mathjs lusolve)', () => {
+  for (let seed = 101; seed <= 106; seed++) {
+    const discount = [0.5, 0.9, 0.95][seed % 3];
+    const model = randomModel(seed, 6, 3, 3, discount, 1, seed % 2 === 1);
+    it(`seed ${seed}: per state, V* is the best value of any deterministic policy (discount ${discount})`, () => {
+      const analysis: Analysis = analyzeModel(model, { precision: 1e-6 });
+      const best = new Array(model.stateCount).fill(model.maximize ? -Infinity : Infinity);
+      for (const policy of allPolicies(model)) {
+        const values = evaluate(model, following(policy));
+        for (let s = 0; s < values.length; s++) best[s] = model.maximize ? Math.max(best[s], values[s]) : Math.min(best[s], values[s]);
+      }
+      expectInside(analysis.optimal.values, best, 'optimal value');
+    });
+  }
+});
+
+/**
+ * Seeded random models of our own at discount 1 in which every choice ends the episode with
+ * probability at least 0.2, so every policy is proper and every value finite.
+ */
+function properModel(seed: number, states: number, actions: number): CompiledModel {
+  const random = seededRandom(seed);
+  const b = new ModelBuilder({ discount: 1, maximize: true });
+  const nowhere = { start: 0, end: 0 };
+  for (let s = 0; s < states; s++) b.addState(`s${s}`, undefined, nowhere);
+  const goal = b.addState('goal', 'goal', nowhere);
+  const pit = b.addState('pit', 'failure', nowhere);
+  for (let s = 0; s < states; s++) {
+    for (let a = 0; a < actions; a++) {
+      const stay = 0.2 + 0.6 * random();
+      const onward = Math.floor(random() * states);
+      const end = random() < 0.5 ? goal : pit;
+      b.addChoice(s, `a${a}`, -1, [
+        { target: onward, probability: stay, reward: Math.round((random() * 4 - 2) * 10) / 10 },
+        { target: end, probability: 1 - stay, reward: end === goal ? 5 : -5 },
+      ]);
+    }
+  }
+  return b.finish([{ state: 0, probability: 1 }]);
+}
+
+describe('total reward at discount 1 against mathjs lusolve (proper policies only)', () => {
+  for (let seed = 201; seed <= 210; seed++) {
+    const model = properModel(seed, 8, 3);
+    it(`seed ${seed}: random, optimal and worst policy values`, () => {
+      const analysis = analyzeModel(model, { precision: 1e-6 });
+      expectInside(analysis.random.values, evaluate(model, uniform(model)), 'random policy');
+      expectInside(analysis.optimal.values, evaluate(model, following(analysis.optimal.policy!)), 'optimal policy');
+      expectInside(analysis.worst.values, evaluate(model, following(analysis.worst.policy!)), 'worst policy');
+    });
+  }
+});
