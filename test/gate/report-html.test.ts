@@ -2,20 +2,47 @@ import { mkdirSync, writeFileSync } from 'node:fs';
 import * as path from 'node:path';
 import { chromium, type Browser } from 'playwright-core';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { cli, REPO_ROOT, tempFolder } from '../cli/cli-harness';
 import type { JsonFile } from '../../server/src/cli/json-output';
-import { SAFETY_CAUTION, htmlReport, niceTicks, type ReportFile, type ReportHistogram } from '../../server/src/cli/report-html';
+import type { JsonRollouts } from '../../server/src/cli/json-output';
+import { SAFETY_CAUTION, htmlReport, niceTicks, type ReportFile } from '../../server/src/cli/report-html';
 
 export const CHROMIUM = '/usr/bin/chromium';
 export const CHROMIUM_ARGS = ['--no-sandbox', '--disable-gpu', '--disable-background-networking', '--disable-component-update', '--disable-sync', '--no-first-run'];
 export const SCREENSHOT_DIR = path.resolve(__dirname, '..', '..', 'test-results');
 
 /** A histogram of the given values in `bins` equal-width bins (the data is ours, invented for the test). */
-function histogram(values: number[], bins: number): ReportHistogram {
+function histogram(values: number[], bins: number): { lower: number; upper: number; counts: number[] } {
   const lower = Math.min(...values);
   const upper = Math.max(...values);
   const counts = new Array<number>(bins).fill(0);
   for (const v of values) counts[Math.min(bins - 1, Math.floor(((v - lower) / (upper - lower)) * bins))]++;
   return { lower, upper, counts };
+}
+
+/** Rollout figures of invented episodes, in the JSON output's shape. */
+function rollouts(episodeReturns: number[], episodeLengths: number[]): JsonRollouts {
+  const sorted = (xs: number[]) => [...xs].sort((a, b) => a - b);
+  const at = (xs: number[], p: number) => sorted(xs)[Math.floor(p * (xs.length - 1))];
+  const pct = (xs: number[]) => ({ p5: at(xs, 0.05), p25: at(xs, 0.25), p50: at(xs, 0.5), p75: at(xs, 0.75), p95: at(xs, 0.95) });
+  const mean = (xs: number[]) => xs.reduce((a, b) => a + b, 0) / xs.length;
+  return {
+    episodes: episodeReturns.length,
+    seed: 1,
+    stepCap: 1000,
+    return: {
+      mean: mean(episodeReturns),
+      standardError: 0.15,
+      ci95: { lower: mean(episodeReturns) - 0.3, upper: mean(episodeReturns) + 0.3 },
+      min: Math.min(...episodeReturns),
+      max: Math.max(...episodeReturns),
+      percentiles: pct(episodeReturns),
+      histogram: histogram(episodeReturns, 20),
+    },
+    length: { mean: mean(episodeLengths), min: Math.min(...episodeLengths), max: Math.max(...episodeLengths), percentiles: pct(episodeLengths), histogram: histogram(episodeLengths, 15) },
+    reach: { goal: 0.4, failure: 0.5, neutral: 0.1, none: 0 },
+    stepCapped: 0,
+  };
 }
 
 // An invented warehouse-robot scenario: five states, one loop finding, and rollouts of both policies.
@@ -59,9 +86,7 @@ const spec: ReportFile = {
       ]),
     ),
   },
-  rollouts: {
-    random: { policy: 'random', episodes: 400, seed: 1, return: { mean: 6.9, ci95: { lower: 6.6, upper: 7.2 }, histogram: histogram(returns, 20) }, length: { mean: 9, histogram: histogram(lengths, 15) } },
-  },
+  rollouts: { random: rollouts(returns, lengths) },
 };
 const broken: JsonFile = { path: 'examples/typo.mdp.json', findings: [{ rule: 'schema', severity: 'error', message: 'discount must be a number', line: 3, column: 15, endLine: 3, endColumn: 20, trace: [] }], notAnalysed: 'the spec has schema errors' };
 const html = htmlReport({ files: [spec, broken] }, { toolName: 'episcope', toolVersion: '0.1.0', generatedAt: new Date('2026-01-02T03:04:05Z') });
@@ -138,6 +163,34 @@ describe('HTML report in headless Chromium', () => {
     mkdirSync(SCREENSHOT_DIR, { recursive: true });
     const shot = path.join(SCREENSHOT_DIR, 'gate-report.png');
     writeFileSync(shot, await page.screenshot({ fullPage: true }));
+    await page.close();
+  });
+
+  it('the report of a real run over the examples renders its plots, rollout histograms included', async () => {
+    const out = path.join(tempFolder('report'), 'report.html');
+    const run = await cli(['check', 'examples', '--report', out, '--rollouts', '300', '--fail-on', 'never'], { cwd: REPO_ROOT });
+    expect(run.stderr).toBe('');
+    expect(run.code).toBe(0);
+    const page = await browser.newPage({ viewport: { width: 1000, height: 900 } });
+    const requests: string[] = [];
+    page.on('request', (request) => requests.push(request.url()));
+    await page.goto(`file://${out}`);
+    const specs = await page.$$eval('section.spec', (sections) => sections.length);
+    expect(specs).toBeGreaterThanOrEqual(6);
+    const sized = (selector: string) =>
+      page.$$eval(selector, (elements) => elements.filter((e) => e.getBoundingClientRect().width > 100 && e.getBoundingClientRect().height > 50).length);
+    const analysed = await page.$$eval('.plot-returns', (figures) => figures.length);
+    expect(analysed).toBeGreaterThanOrEqual(4);
+    expect(await sized('.plot-returns svg')).toBe(analysed);
+    expect(await sized('.plot-reach svg')).toBe(analysed);
+    expect(await sized('.plot-values svg')).toBe(analysed);
+    // --rollouts 300 gives both policies' histograms for every exactly analysed spec, and the sampled model has its own.
+    expect(await sized('.plot-return-histogram svg')).toBeGreaterThanOrEqual(2 * analysed);
+    expect(await sized('.plot-length-histogram svg')).toBeGreaterThanOrEqual(2 * analysed);
+    expect(await page.$$eval('.plot-return-histogram rect.bin', (bins) => bins.some((b) => b.getBoundingClientRect().height > 5))).toBe(true);
+    expect(requests).toEqual([`file://${out}`]);
+    mkdirSync(SCREENSHOT_DIR, { recursive: true });
+    writeFileSync(path.join(SCREENSHOT_DIR, 'gate-report-examples.png'), await page.screenshot({ fullPage: true }));
     await page.close();
   });
 });

@@ -94,9 +94,7 @@ export class CheckGate {
     const loaded = this.loadedFor(path.resolve(this.options.cwd, report.path));
     loaded?.checked.push({ path: report.path, suppressed: report.suppressed ?? [], complete: isCompletelyChecked(report) });
     if (this.options.report !== undefined) {
-      const withValues = json.analysis && !json.analysis.values ? fileReportToJson(report, { values: true, displayPath: json.path }) : json;
-      const rollouts = (json as ReportFile).rollouts ?? (report as { rollouts?: ReportFile['rollouts'] }).rollouts;
-      this.reportFiles.push(rollouts ? { ...withValues, rollouts } : withValues);
+      this.reportFiles.push(json.analysis && !json.analysis.values ? fileReportToJson(report, { values: true, displayPath: json.path }) : json);
     }
   }
 

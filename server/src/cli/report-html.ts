@@ -8,26 +8,13 @@
  * returns and of the episode lengths.
  */
 import type { Severity } from '../rules/types';
-import type { JsonFile, JsonInterval, JsonOutput, JsonReach } from './json-output';
+import type { JsonFile, JsonInterval, JsonReach, JsonRollouts } from './json-output';
 import { parseJsonNumber, textInterval, textProbability } from './numbers';
 
-/** The rollout figures the report draws (the subset of the rollout statistics it reads). */
-export interface ReportHistogram {
-  lower: number;
-  upper: number;
-  counts: number[];
-}
+/** A file of the JSON output; the report reads its analysis (with values) and rollouts. */
+export type ReportFile = JsonFile;
 
-export interface ReportRolloutStats {
-  policy?: string;
-  episodes: number;
-  seed?: number;
-  return: { mean: number; ci95?: { lower: number; upper: number }; histogram: ReportHistogram; percentiles?: Record<string, number> };
-  length: { mean: number; histogram: ReportHistogram; percentiles?: Record<string, number> };
-}
-
-/** A file of the JSON output, with the rollout figures when they were computed. */
-export type ReportFile = JsonFile & { rollouts?: Record<string, ReportRolloutStats | undefined> };
+type ReportHistogram = JsonRollouts['return']['histogram'];
 
 export interface ReportOptions {
   toolName: string;
@@ -334,15 +321,20 @@ function statePlot(rows: Array<{ id: string; v: StateValues[string] }>): string 
   return svg(width, height, 'Optimal, random and worst value of each state', parts.join(''));
 }
 
-function rolloutSection(rollouts: Record<string, ReportRolloutStats | undefined>): string {
-  const entries = Object.entries(rollouts).filter((e): e is [string, ReportRolloutStats] => e[1] !== undefined);
+function rolloutSection(rollouts: NonNullable<JsonFile['rollouts']>): string {
+  const entries = (['optimal', 'random'] as const).flatMap((policy) => (rollouts[policy] ? [[policy, rollouts[policy]!] as const] : []));
   if (entries.length === 0) return '';
   const parts = ['<h3>Rollouts</h3>', '<div class="plots">'];
   for (const [policy, stats] of entries) {
-    const ci = stats.return.ci95 ? ` (95% interval ${short(stats.return.ci95.lower)} to ${short(stats.return.ci95.upper)})` : '';
-    const summary = `${stats.episodes} episodes${stats.seed !== undefined ? `, seed ${stats.seed}` : ''}; mean return ${short(stats.return.mean)}${ci}; mean length ${short(stats.length.mean)} steps`;
-    parts.push(figure(`Return per episode, ${policy} policy`, histogramPlot(stats.return.histogram, 'return', policy === 'optimal' ? COLORS.optimal : COLORS.random, false) + `<p class="note">${esc(summary)}</p>`, 'plot-return-histogram'));
-    parts.push(figure(`Episode length, ${policy} policy`, histogramPlot(stats.length.histogram, 'steps', policy === 'optimal' ? COLORS.optimal : COLORS.random, true), 'plot-length-histogram'));
+    const color = policy === 'optimal' ? COLORS.optimal : COLORS.random;
+    const ci = stats.return.ci95;
+    const summary =
+      `${stats.episodes} episodes, seed ${stats.seed}; mean return ${short(parseJsonNumber(stats.return.mean))} ` +
+      `(95% interval ${short(parseJsonNumber(ci.lower))} to ${short(parseJsonNumber(ci.upper))}); ` +
+      `mean length ${short(parseJsonNumber(stats.length.mean))} steps` +
+      (stats.stepCapped > 0 ? `; ${stats.stepCapped} stopped at the ${stats.stepCap}-step cap` : '');
+    parts.push(figure(`Return per episode, ${policy} policy`, histogramPlot(stats.return.histogram, 'return', color, false) + `<p class="note">${esc(summary)}</p>`, 'plot-return-histogram'));
+    parts.push(figure(`Episode length, ${policy} policy`, histogramPlot(stats.length.histogram, 'steps', color, true), 'plot-length-histogram'));
   }
   parts.push('</div>');
   return parts.join('\n');
@@ -357,6 +349,8 @@ function histogramPlot(histogram: ReportHistogram, unit: string, color: string, 
   const top = 10;
   const bottom = height - 34;
   const counts = histogram.counts;
+  const lower = parseJsonNumber(histogram.lower);
+  const upper = parseJsonNumber(histogram.upper);
   const maxCount = Math.max(1, ...counts);
   const yScale = linearScale([0, maxCount], bottom, top, true);
   const parts: string[] = [];
@@ -364,19 +358,30 @@ function histogramPlot(histogram: ReportHistogram, unit: string, color: string, 
     const y = r(yScale(t));
     parts.push(`<line x1="${left}" y1="${y}" x2="${right}" y2="${y}" stroke="${COLORS.grid}"/><text x="${left - 6}" y="${y + 4}" text-anchor="end" class="tick">${esc(short(t))}</text>`);
   }
-  const bins = Math.max(1, counts.length);
-  const binWidth = (right - left) / bins;
-  const span = histogram.upper - histogram.lower;
-  counts.forEach((count, i) => {
-    const y = yScale(count);
-    const from = histogram.lower + (span * i) / bins;
-    const to = histogram.lower + (span * (i + 1)) / bins;
-    parts.push(`<rect class="bin" x="${r(left + i * binWidth + 1)}" y="${r(y)}" width="${r(Math.max(1, binWidth - 2))}" height="${r(Math.max(0, bottom - y))}" fill="${color}"><title>${esc(`${short(from)} to ${short(to)} ${unit}: ${count}`)}</title></rect>`);
-  });
-  parts.push(`<line x1="${left}" y1="${bottom}" x2="${right}" y2="${bottom}" stroke="${COLORS.axis}"/>`);
   const fmt = (x: number) => (integer ? String(Math.round(x)) : short(x));
-  parts.push(`<text x="${left}" y="${bottom + 16}" class="tick">${esc(fmt(histogram.lower))}</text>`);
-  parts.push(`<text x="${right}" y="${bottom + 16}" text-anchor="end" class="tick">${esc(fmt(histogram.upper))}</text>`);
+  const span = upper - lower;
+  if (!(span > 0)) {
+    // Every episode gave the same value: one bar in the middle, labelled with that value.
+    const total = counts.reduce((a, b) => a + b, 0);
+    const y = yScale(total);
+    const barWidth = (right - left) / 5;
+    const x = (left + right) / 2 - barWidth / 2;
+    parts.push(`<rect class="bin" x="${r(x)}" y="${r(y)}" width="${r(barWidth)}" height="${r(Math.max(0, bottom - y))}" fill="${color}"><title>${esc(`${fmt(lower)} ${unit}: ${total}`)}</title></rect>`);
+    parts.push(`<line x1="${left}" y1="${bottom}" x2="${right}" y2="${bottom}" stroke="${COLORS.axis}"/>`);
+    parts.push(`<text x="${r(x + barWidth / 2)}" y="${bottom + 16}" text-anchor="middle" class="tick">${esc(`all ${fmt(lower)}`)}</text>`);
+  } else {
+    const bins = Math.max(1, counts.length);
+    const binWidth = (right - left) / bins;
+    counts.forEach((count, i) => {
+      const y = yScale(count);
+      const from = lower + (span * i) / bins;
+      const to = lower + (span * (i + 1)) / bins;
+      parts.push(`<rect class="bin" x="${r(left + i * binWidth + 1)}" y="${r(y)}" width="${r(Math.max(1, binWidth - 2))}" height="${r(Math.max(0, bottom - y))}" fill="${color}"><title>${esc(`${short(from)} to ${short(to)} ${unit}: ${count}`)}</title></rect>`);
+    });
+    parts.push(`<line x1="${left}" y1="${bottom}" x2="${right}" y2="${bottom}" stroke="${COLORS.axis}"/>`);
+    parts.push(`<text x="${left}" y="${bottom + 16}" class="tick">${esc(fmt(lower))}</text>`);
+    parts.push(`<text x="${right}" y="${bottom + 16}" text-anchor="end" class="tick">${esc(fmt(upper))}</text>`);
+  }
   parts.push(`<text x="${(left + right) / 2}" y="${bottom + 28}" text-anchor="middle" class="tick">${esc(unit)}</text>`);
   return svg(width, height, `Histogram of ${unit}`, parts.join(''));
 }
