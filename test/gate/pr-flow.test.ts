@@ -73,8 +73,8 @@ describe('pull-request flow through the command line', () => {
   it('an edit that adds a bug shows up as exactly that new finding', async () => {
     const { dir, baseline } = await withBaseline();
     const buggy = BASE_TEXT.replace(
-      '    { "from": "storage"',
-      '    { "from": "cooled", "action": "wait", "to": "closed", "reward": 0 },\n    { "from": "storage"',
+      '    { "from": "ajar", "action": "open"',
+      '    { "from": "cooled", "action": "wait", "to": "closed", "reward": 0 },\n    { "from": "ajar", "action": "open"',
     );
     writeFileSync(path.join(dir, SPEC), buggy);
     const addedLine = buggy.split('\n').findIndex((line) => line.includes('"from": "cooled"')) + 1;
@@ -94,21 +94,36 @@ describe('pull-request flow through the command line', () => {
     expect((await cli(['check', '.', '--baseline', baseline, '--fail-on', 'info'], { cwd: dir })).code).toBe(1);
   });
 
-  it('a reward edit moves the start values and says by how much', async () => {
+  it('a reward edit that is not a bug moves the start values and nothing else', async () => {
     const { dir, baseline } = await withBaseline();
-    const before = JSON.parse(readFileSync(baseline, 'utf8')).files[0].analysis.start.optimal;
-    writeFileSync(path.join(dir, SPEC), BASE_TEXT.replace('"to": { "cooled": 0.5, "ajar": 0.5 }, "reward": 2', '"to": { "cooled": 0.5, "ajar": 0.5 }, "reward": 0'));
+    const before = JSON.parse(readFileSync(baseline, 'utf8')).files[0].analysis.start.random;
+    writeFileSync(path.join(dir, SPEC), BASE_TEXT.replace('"to": { "cooled": 0.7, "frost": 0.3 }, "reward": 3', '"to": { "cooled": 0.7, "frost": 0.3 }, "reward": 1'));
     const json = JSON.parse((await cli(['check', '.', '--format', 'json', '--fail-on', 'never'], { cwd: dir })).stdout);
-    const after = json.files[0].analysis.start.optimal;
-    expect(after.upper).toBeLessThan(before.lower);
+    expect(json.files[0].analysis.start.random.upper).toBeLessThan(before.lower);
 
-    const result = await cli(['check', '.', '--format', 'markdown', '--baseline', baseline], { cwd: dir });
+    const result = await cli(['check', '.', '--format', 'markdown', '--baseline', baseline, '--fail-on', 'info'], { cwd: dir });
+    expect(result.code).toBe(0);
     expect(result.stdout.split('\n')[0]).toBe('## Episcope: 0 new findings, 0 fixed, 1 spec with changed returns');
     const [moved] = markdownTables(result.stdout);
     expect(moved).toHaveLength(1);
     const cells = moved[0].split('|').map((c) => c.trim());
     expect(cells[1]).toBe(`\`${SPEC}\``);
-    expect(cells[2]).toMatch(/^[\d.]+ \.\. [\d.]+ → \*\*[\d.]+ \.\. [\d.]+\*\* \(−[\d.]+\)$/);
+    // The random policy's return moved down; the optimal one (which never waits at 'wide') did not.
+    expect(cells[3]).toMatch(/^-[\d.]+ \.\. -[\d.]+ → \*\*-[\d.]+ \.\. -[\d.]+\*\* \(−[\d.]+\)$/);
+    expect(cells[2]).not.toContain('→');
+  });
+
+  it('an incentive bug introduced by a reward edit shows as its finding, with the goal reach it costs', async () => {
+    const { dir, baseline } = await withBaseline();
+    // Waiting with the vent ajar no longer pays: the optimal policy now gambles on the wide vent.
+    writeFileSync(path.join(dir, SPEC), BASE_TEXT.replace('"to": { "cooled": 0.5, "ajar": 0.5 }, "reward": 2', '"to": { "cooled": 0.5, "ajar": 0.5 }, "reward": 0'));
+    const result = await cli(['check', '.', '--format', 'markdown', '--baseline', baseline], { cwd: dir });
+    expect(result.stdout.split('\n')[0]).toBe('## Episcope: 1 new finding, 0 fixed, 1 spec with changed returns');
+    const [added, moved] = markdownTables(result.stdout);
+    expect(added).toHaveLength(1);
+    expect(added[0]).toContain('`failure-preferred`');
+    const cells = moved[0].split('|').map((c) => c.trim());
+    expect(cells[4]).toMatch(/^>0\.9999 → \*\*0\.7\*\* \(−0\.3\)$/);
   });
 
   it('a malformed baseline stops the run with exit status 2 and one line', async () => {
