@@ -26,15 +26,15 @@ export default defineMdp({
     time: { direction: 'penalty' },
     breakdown: { direction: 'penalty' },
   },
-  start: (rng: Rng): Courier => ({ distance: ROUTE_LENGTH, battery: 70 + rng.int(31) }),
+  start: (rng: Rng): Courier => ({ distance: ROUTE_LENGTH, battery: 20 + rng.int(21) }),
   actions: (courier: Courier) => (courier.battery < 15 ? ['cruise', 'recharge'] : ['cruise', 'sprint', 'recharge']),
   sample(courier: Courier, action: string, rng: Rng) {
     let { distance, battery } = courier;
-    if (action === 'recharge') battery = Math.min(100, battery + 10 + rng.int(6));
+    if (action === 'recharge') battery = Math.min(100, battery + 3 + rng.int(4));
     else {
       const sprint = action === 'sprint';
       distance -= sprint ? 30 + rng.int(11) : 15 + rng.int(6);
-      battery -= Math.max(0, rng.normal(sprint ? 4 : 1.5, sprint ? 1.5 : 0.5));
+      battery -= Math.max(0, rng.normal(sprint ? 5 : 2, sprint ? 1.5 : 0.5));
     }
     if (distance <= 0) return { state: { distance: 0, battery }, reward: { delivery: 20, time: -1 }, terminal: 'goal' as const };
     if (battery <= 0) return { state: { distance, battery: 0 }, reward: { breakdown: -15, time: -1 }, terminal: 'failure' as const };

@@ -16,6 +16,19 @@ import type { Analysis } from './types';
 /** Steps after which a rollout without a horizon is stopped (the `episode-never-ends.stepCap` default). */
 export const DEFAULT_STEP_CAP = 10000;
 
+/** Weight below which the rest of a discounted return is left out (common practice; see effectiveStepCap). */
+export const NEGLIGIBLE_DISCOUNT_WEIGHT = 1e-12;
+
+/**
+ * Steps a rollout without a horizon runs at most: the step cap, or fewer when discount^t falls
+ * below 1e-12 first, since every later reward then counts at most 1e-12 times its size.
+ */
+export function effectiveStepCap(discount: number, stepCap: number): number {
+  if (!(discount < 1)) return stepCap;
+  if (discount <= 0) return Math.min(stepCap, 1);
+  return Math.min(stepCap, Math.ceil(Math.log(NEGLIGIBLE_DISCOUNT_WEIGHT) / Math.log(discount)));
+}
+
 const MASK64 = (1n << 64n) - 1n;
 
 /** SplitMix64: returns the next output and advances `state`. */
@@ -272,7 +285,7 @@ export function rolloutCompiledModel(
   options: { episodes: number; seed: number; stepCap: number },
 ): EpisodeRecords {
   const { episodes, seed } = options;
-  const limit = model.horizon ?? options.stepCap;
+  const limit = model.horizon ?? effectiveStepCap(model.discount, options.stepCap);
   const returns = new Float64Array(episodes);
   const lengths = new Int32Array(episodes);
   const ends = new Uint8Array(episodes);
@@ -335,7 +348,7 @@ function pickIndex(probability: ArrayLike<number>, first: number, end: number, u
  * uniformly random policy.
  */
 export function exactModelRollouts(model: CompiledModel, analysis: Analysis, options: { episodes: number; seed: number; stepCap: number }): RolloutReport {
-  const meta = { seed: options.seed, stepCap: options.stepCap };
+  const meta = { seed: options.seed, stepCap: effectiveStepCap(model.discount, options.stepCap) };
   const report: RolloutReport = {
     random: summarizeEpisodes(rolloutCompiledModel(model, { kind: 'random' }, options), { policy: 'random', ...meta }),
   };

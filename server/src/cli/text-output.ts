@@ -65,18 +65,20 @@ function summariseRollouts(file: JsonFile): string[] {
     const ends = [`goal ${textProbability(r.reach.goal)}`, `failure ${textProbability(r.reach.failure)}`];
     if (r.reach.neutral > 0) ends.push(`neutral ${textProbability(r.reach.neutral)}`);
     if (r.reach.none > 0) ends.push(`cut/never ${textProbability(r.reach.none)}`);
+    // Estimates carry sampling error: four significant digits say all they can.
+    const short = (x: number | null) => (x === null ? '-' : String(Number(x.toPrecision(4))));
     lines.push(
-      `  rollouts (${policy} policy, ${r.episodes} episodes, seed ${r.seed}): return ${r.return.mean} ` +
-        `(95% interval ${r.return.ci95.lower} .. ${r.return.ci95.upper})`,
-      `    percentiles 5/25/50/75/95: ${[p.p5, p.p25, p.p50, p.p75, p.p95].join(' / ')}; steps mean ${r.length.mean}, ` +
-        `median ${r.length.percentiles.p50}, max ${r.length.max}; ${ends.join(', ')}`,
+      `  rollouts (${policy} policy, ${r.episodes} episodes, seed ${r.seed}): return ${short(r.return.mean)} ` +
+        `(95% interval ${short(r.return.ci95.lower)} .. ${short(r.return.ci95.upper)})`,
+      `    percentiles 5/25/50/75/95: ${[p.p5, p.p25, p.p50, p.p75, p.p95].map(short).join(' / ')}; steps mean ${short(r.length.mean)}, ` +
+        `median ${short(r.length.percentiles.p50)}, max ${r.length.max}; ${ends.join(', ')}`,
     );
   }
   return lines;
 }
 
-/** Probabilities at or below this are shown as columns only when another policy needs them. */
-const VISIBLE_PROBABILITY = 1e-12;
+/** Reach probabilities at or below this (the default precision of the analysis) get no column of their own. */
+const VISIBLE_PROBABILITY = 1e-6;
 
 function summariseStart(file: JsonFile, style: Style): string[] {
   const a = file.analysis;

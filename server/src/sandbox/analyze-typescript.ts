@@ -4,7 +4,7 @@
  * same exact analysis and rules as a JSON spec; a sampled model gets seeded rollouts. Never throws.
  */
 import { isAbsolute, relative, resolve } from 'node:path';
-import { END_NONE, summarizeEpisodes, type EpisodeRecords, type RolloutReport } from '../analysis/rollouts';
+import { effectiveStepCap, END_NONE, summarizeEpisodes, type EpisodeRecords, type RolloutReport } from '../analysis/rollouts';
 import { analyzeParsed, type AnalyzeOptions, type FileReport } from '../analyze';
 import { DEFAULT_CONFIG, type ResolvedConfig } from '../config';
 import type { CompiledModel } from '../model/compiled';
@@ -193,7 +193,7 @@ async function sampleByRollouts(
     });
   }
   const finite = onlyFinite(run.records);
-  const stats = summarizeEpisodes(finite, { policy: 'random', seed: config.seed, stepCap });
+  const stats = summarizeEpisodes(finite, { policy: 'random', seed: config.seed, stepCap: effectiveStepCap(common.discount, stepCap) });
   evidence.rollouts = stats;
   return stats;
 }

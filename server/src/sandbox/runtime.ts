@@ -4,7 +4,7 @@
  * benchmark calls the same functions directly to measure what the sandbox costs. It must not import
  * anything that needs the host (file system, esbuild, ts-morph).
  */
-import { END_FAILURE, END_GOAL, END_NEUTRAL, END_NONE, END_STEP_CAP, Xoshiro128, type EpisodeRecords } from '../analysis/rollouts';
+import { effectiveStepCap, END_FAILURE, END_GOAL, END_NEUTRAL, END_NONE, END_STEP_CAP, Xoshiro128, type EpisodeRecords } from '../analysis/rollouts';
 
 /** What a model function did wrong; `phase` names the function. */
 export interface RuntimeProblem {
@@ -551,7 +551,7 @@ export interface RolloutRun {
 export function rolloutModel(model: ModelFunctions, options: RolloutOptions): RolloutRun {
   const { episodes, seed, discount, progress } = options;
   const firstEpisode = options.firstEpisode ?? 0;
-  const limit = options.horizon ?? options.stepCap;
+  const limit = options.horizon ?? effectiveStepCap(discount, options.stepCap);
   const returns = new Float64Array(episodes);
   const lengths = new Int32Array(episodes);
   const ends = new Uint8Array(episodes);
