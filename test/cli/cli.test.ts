@@ -97,7 +97,8 @@ describe('episcope check --format json', () => {
     const finding = output.files[0].findings.find((f: { rule: string }) => f.rule === 'undeclared-state');
     expect(finding).toBeDefined();
     const lines = readFileSync(path.join(EXAMPLES, 'drone-delivery.mdp.json'), 'utf8').split('\n');
-    const line = lines.findIndex((l) => l.includes('"landing-pda"'));
+    // The transition's target, not the header comment that mentions the typo.
+    const line = lines.findIndex((l) => l.includes('"state": "landing-pda"'));
     expect(finding.line).toBe(line + 1);
     const column = lines[line].indexOf('"landing-pda"') + 1;
     expect([column, column + 1]).toContain(finding.column);
@@ -247,7 +248,8 @@ describe('text output', () => {
     const findingLine = /^examples\/[\w-]+\.mdp\.json:\d+:\d+ (error|warning|info) [a-z-]+ \S/;
     expect(lines.filter((l) => findingLine.test(l)).length).toBeGreaterThanOrEqual(3);
     expect(stdout).toMatch(/^examples\/drone-delivery\.mdp\.json:\d+:\d+ error undeclared-state /m);
-    expect(lines[lines.length - 1]).toMatch(/^6 files checked: \d+ errors?, \d+ warnings?, \d+ infos?$/);
+    const specCount = readdirSync(EXAMPLES).filter((n) => /\.mdp\.(json|ts)$/.test(n)).length;
+    expect(lines[lines.length - 1]).toMatch(new RegExp(`^${specCount} files checked: \\d+ errors?, \\d+ warnings?, \\d+ infos?$`));
     // The patrol loop is listed state by state, indented under its finding.
     const patrol = lines.findIndex((l) => /npc-patrol\.mdp\.json:\d+:\d+ error unbounded-return/.test(l));
     expect(patrol).toBeGreaterThanOrEqual(0);
