@@ -131,6 +131,8 @@ export function solveValues(ctx: AnalysisContext, problem: ValueProblem): ValueS
   // Sweep order: successors first (reverse topological order of SCCs), collapsed groups as one node.
   const sccChoices = groups ? unionMask(allowed, groups.choiceIn) : allowed;
   const scc = stronglyConnectedComponents(model, iterate, sccChoices);
+  // Within a component the order brings no Gauss-Seidel benefit; memory order keeps the CSR reads sequential.
+  for (let i = 0; i < scc.count; i++) if (scc.start[i + 1] - scc.start[i] > 1) scc.order.subarray(scc.start[i], scc.start[i + 1]).sort();
   let acyclic = true;
   for (let i = 0; i < scc.count && acyclic; i++) if (isCyclicComponent(model, scc, i, sccChoices)) acyclic = false;
   const nodes = groups && groups.count > 0 ? groupedNodes(scc.order, groups) : singletonNodes(scc.order);
