@@ -53,3 +53,24 @@ export function startEntries(model: CompiledModel): Array<{ state: number; proba
   }
   return entries;
 }
+
+/** The start states with positive probability that are not terminal, each once. */
+export function liveStartStates(model: CompiledModel): number[] {
+  const states: number[] = [];
+  for (const { state } of startEntries(model)) if (model.terminal[state] === 0 && !states.includes(state)) states.push(state);
+  return states;
+}
+
+/**
+ * For walks forward in time: appends the non-terminal states a choice can lead to onto `next`, the
+ * layer of time `time`, each state once per layer (`queued` remembers the last layer of each state).
+ */
+export function pushSuccessors(model: CompiledModel, choice: number, time: number, queued: Int32Array, next: number[]): void {
+  for (let o = model.outcomeStart[choice]; o < model.outcomeStart[choice + 1]; o++) {
+    const target = model.outcomeTarget[o];
+    if (model.outcomeProb[o] > 0 && model.terminal[target] === 0 && queued[target] !== time) {
+      queued[target] = time;
+      next.push(target);
+    }
+  }
+}

@@ -10,6 +10,7 @@
  * state where that set becomes empty.
  */
 import type { CompiledModel } from '../model/compiled';
+import { liveStartStates, pushSuccessors } from './paths';
 import type { FiniteHorizonSolution } from './types';
 
 export interface TimeFlip {
@@ -63,15 +64,8 @@ export function findTimeFlips(
   const flipped = new Uint8Array(n);
   const layers: Int32Array[] = [];
   let stored = 0;
-  let current: number[] = [];
+  let current = liveStartStates(model);
   const queued = new Int32Array(n).fill(-1);
-  for (let i = 0; i < model.startState.length; i++) {
-    const s = model.startState[i];
-    if (model.startProb[i] > 0 && model.terminal[s] === 0 && queued[s] !== 0) {
-      queued[s] = 0;
-      current.push(s);
-    }
-  }
   const flips: TimeFlip[] = [];
   let flippedStates = 0;
   for (let t = 0; t < horizon && current.length > 0; t++) {
@@ -89,16 +83,8 @@ export function findTimeFlips(
       let agreeing = 0;
       for (let i = 0; i < count; i++) {
         const isBest = q[i] >= best - tolerance;
-        if (isBest) {
-          // Optimal behaviour may take any best action, so every one of them carries the visit on.
-          for (let o = model.outcomeStart[first + i]; o < model.outcomeStart[first + i + 1]; o++) {
-            const target = model.outcomeTarget[o];
-            if (model.outcomeProb[o] > 0 && model.terminal[target] === 0 && queued[target] !== t + 1) {
-              queued[target] = t + 1;
-              next.push(target);
-            }
-          }
-        }
+        // Optimal behaviour may take any best action, so every one of them carries the visit on.
+        if (isBest) pushSuccessors(model, first + i, t + 1, queued, next);
         if (seenAt[s] < 0) stillBest[first + i] = isBest ? 1 : 0;
         else if (!isBest) stillBest[first + i] = 0;
         if (stillBest[first + i]) agreeing++;

@@ -1,3 +1,4 @@
+import { formatNumber } from '../spec/names';
 import { TERMINAL_CODE, stateName } from '../model/compiled';
 import { routeFrom, startEntries, stepsTo } from '../analysis/paths';
 import { unshapedReward } from '../analysis/shaping';
@@ -74,7 +75,7 @@ steps ahead, 0.999 about 1000), or give intermediate rewards through potential-b
     const steps = layering.layer[nearest];
     const goal = stateName(model, model.outcomeTarget[last.outcome]);
     const horizon = 1 / (1 - model.discount);
-    const discountText = formatAmount(model.discount);
+    const discountText = formatNumber(model.discount);
     const span = ctx.spec.discount?.span ?? outcomeSpan(ctx.spec, model, last.choice, last.outcome);
     ctx.report({
       message:

@@ -136,3 +136,17 @@ export function relatedOfPath(
   }
   return related;
 }
+
+/** The middle of a value interval (bounds are at most the analysis precision apart). */
+export function midpoint(interval: { lower: number; upper: number }): number {
+  if (interval.lower === interval.upper) return interval.lower;
+  if (!Number.isFinite(interval.lower) || !Number.isFinite(interval.upper)) {
+    return interval.lower === -Infinity && interval.upper === Infinity ? NaN : Number.isFinite(interval.lower) ? interval.upper : interval.lower;
+  }
+  return (interval.lower + interval.upper) / 2;
+}
+
+/** The middle of a state's bounds. */
+export function valueAt(bounds: { lower: Float64Array; upper: Float64Array }, state: number): number {
+  return midpoint({ lower: bounds.lower[state], upper: bounds.upper[state] });
+}

@@ -6,15 +6,26 @@ import { deadEnd } from './dead-end';
 import { duplicateTransition } from './duplicate-transition';
 import { enumerationLimit } from './enumeration-limit';
 import { episodeNeverEnds } from './episode-never-ends';
+import { failurePreferred } from './failure-preferred';
+import { goalDiscountedAway } from './goal-discounted-away';
+import { horizonTooShort } from './horizon-too-short';
+import { livingReward } from './living-reward';
 import { missingOutcomes } from './missing-outcomes';
 import { modelError } from './model-error';
 import { negativeProbability } from './negative-probability';
 import { nonFiniteReward } from './non-finite-reward';
 import { nondeterministicModel } from './nondeterministic-model';
+import { objectiveSign } from './objective-sign';
 import { probabilitySum } from './probability-sum';
+import { rewardLoop } from './reward-loop';
 import { rewardScale } from './reward-scale';
 import { schemaRule } from './schema';
+import { shapingChangesPolicy } from './shaping-changes-policy';
+import { shapingNotPotential } from './shaping-not-potential';
+import { termDirection } from './term-direction';
 import { terminalHasTransitions } from './terminal-has-transitions';
+import { terminalPotential } from './terminal-potential';
+import { timeDependentOptimum } from './time-dependent-optimum';
 import { tinyProbability } from './tiny-probability';
 import type { Rule } from './types';
 import { undeclaredAction } from './undeclared-action';
@@ -26,15 +37,26 @@ export const RULES: readonly Rule[] = [
   duplicateTransition,
   enumerationLimit,
   episodeNeverEnds,
+  failurePreferred,
+  goalDiscountedAway,
+  horizonTooShort,
+  livingReward,
   missingOutcomes,
   modelError,
   negativeProbability,
   nonFiniteReward,
   nondeterministicModel,
+  objectiveSign,
   probabilitySum,
+  rewardLoop,
   rewardScale,
   schemaRule,
+  shapingChangesPolicy,
+  shapingNotPotential,
+  termDirection,
   terminalHasTransitions,
+  terminalPotential,
+  timeDependentOptimum,
   tinyProbability,
   undeclaredAction,
   undeclaredState,

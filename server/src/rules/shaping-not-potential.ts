@@ -1,3 +1,4 @@
+import { formatNumber } from '../spec/names';
 import { stateName, type CompiledModel } from '../model/compiled';
 import { recoverPotential, type PotentialConflict, type ShapingStep } from '../analysis/shaping';
 import { actionOf, describeStep, formatAmount, formatSigned, outcomeSpan } from './incentive-text';
@@ -61,14 +62,18 @@ move the shaping into \`shaping.potential\`, which Episcope turns into exactly t
 
 function messageFor(model: CompiledModel, terms: string[], conflict: PotentialConflict, inconsistent: number): string {
   const names = terms.map((t) => `'${t}'`).join(', ');
-  const form = model.discount === 1 ? "Phi(s') - Phi(s)" : `${formatAmount(model.discount)}*Phi(s') - Phi(s)`;
+  const form = model.discount === 1 ? "Phi(s') - Phi(s)" : `${formatNumber(model.discount)}*Phi(s') - Phi(s)`;
   const more = inconsistent > 1 ? ` (${inconsistent} outcomes disagree with the potential the others imply)` : '';
   if (conflict.net !== undefined) {
-    const cycle = [...conflict.first.steps, ...[...conflict.second.steps].reverse()];
+    // The cycle in walking order: the first derivation, then the second one walked back.
+    const cycle = [...conflict.first.steps, ...[...conflict.second.steps].reverse().map((s) => ({ ...s, forward: !s.forward }))];
+    const directed = cycle.every((s) => s.forward) || cycle.every((s) => !s.forward);
+    const lap = directed
+      ? `so a policy gains ${formatAmount(Math.abs(conflict.net))} per lap going ${conflict.net * (cycle[0].forward ? 1 : -1) > 0 ? 'this way round' : 'the other way round'}`
+      : 'counting steps taken backwards negatively';
     return (
-      `shaping ${names} is not of the form ${form}: around the cycle ${cycle.map((s) => stepText(model, s)).join(', ')} ` +
-      `it nets ${formatSigned(conflict.net)}, where a potential-based term nets 0, so a policy gains ` +
-      `${formatAmount(Math.abs(conflict.net))} per lap in ${conflict.net > 0 ? 'this' : 'the opposite'} direction${more}`
+      `shaping ${names} is not of the form ${form}: around the cycle ${cycle.map((s) => walkText(model, s)).join(', ')} ` +
+      `it nets ${formatSigned(conflict.net)}, where a potential-based term nets 0 (${lap})${more}`
     );
   }
   const state = stateName(model, conflict.state);
@@ -88,6 +93,11 @@ function messageFor(model: CompiledModel, terms: string[], conflict: PotentialCo
   ).replace('  ', ' ');
 }
 
+/** A step of a cycle walk; one walked against its transition is marked. */
+function walkText(model: CompiledModel, step: ShapingStep): string {
+  return `${stepText(model, step)}${step.forward ? '' : ' taken backwards'}`;
+}
+
 function stepText(model: CompiledModel, step: ShapingStep): string {
   return `${describeStep(model, step.choice, step.outcome)} (${formatSigned(step.amount)})`;
 }
@@ -100,8 +110,10 @@ function derivationText(model: CompiledModel, steps: readonly ShapingStep[]): st
   return shown.join(', ');
 }
 
+/** Every outcome of both derivations once. */
 function allSteps(conflict: PotentialConflict): ShapingStep[] {
-  return [...[...conflict.first.steps].reverse(), ...conflict.second.steps];
+  const seen = new Set<number>();
+  return [...[...conflict.first.steps].reverse(), ...conflict.second.steps].filter((s) => !seen.has(s.outcome) && seen.add(s.outcome));
 }
 
 function traceOf(spec: ParsedSpec, model: CompiledModel, conflict: PotentialConflict): TraceStep[] {

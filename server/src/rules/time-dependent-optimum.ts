@@ -48,23 +48,27 @@ that the analysis matches the stationary problem.
     const sign = model.maximize ? 1 : -1;
     const lossNow = sign * (flip.qNow.best - flip.qNow.earlier);
     const lossEarlier = sign * (flip.qEarlier.earlier - flip.qEarlier.best);
-    const range = `${flip.earlierStepsLeft} steps left`;
+    const range = stepsLeft(flip.earlierStepsLeft);
     const others = result.flippedStates > 1 ? `; ${result.flippedStates - 1} other visited states also flip` : '';
     ctx.report({
       message:
         `at '${state}' the optimal action depends on the time left: with ${range} it is '${keep}' ` +
         `(Q ${formatAmount(flip.qEarlier.earlier)} against ${formatAmount(flip.qEarlier.best)} for '${now}'), ` +
-        `with ${flip.stepsLeft} steps left it is '${now}' (Q ${formatAmount(flip.qNow.best)} against ${formatAmount(flip.qNow.earlier)}); ` +
+        `with ${stepsLeft(flip.stepsLeft)} it is '${now}' (Q ${formatAmount(flip.qNow.best)} against ${formatAmount(flip.qNow.earlier)}); ` +
         `a policy that does not see time loses ${formatAmount(lossNow)} there if it keeps '${keep}', ` +
-        `or ${formatAmount(lossEarlier)} with ${flip.earlierStepsLeft} steps left if it always takes '${now}'` +
+        `or ${formatAmount(lossEarlier)} with ${stepsLeft(flip.earlierStepsLeft)} if it always takes '${now}'` +
         `${others}; optimal route there: ${describePath(model, flip.path)}`,
       span: stateSpan(ctx.spec, model, flip.state),
       trace: traceOfPath(ctx.spec, model, flip.path),
       related: [
         { span: choiceSpan(ctx.spec, model, flip.earlierChoice), message: `'${keep}': best with ${range}` },
-        { span: choiceSpan(ctx.spec, model, flip.bestChoice), message: `'${now}': best with ${flip.stepsLeft} steps left` },
+        { span: choiceSpan(ctx.spec, model, flip.bestChoice), message: `'${now}': best with ${stepsLeft(flip.stepsLeft)}` },
         ...(ctx.spec.horizon ? [{ span: ctx.spec.horizon.span, message: `the horizon, ${solution.horizon} steps` }] : []),
       ],
     });
   },
 };
+
+function stepsLeft(k: number): string {
+  return `${k} step${k === 1 ? '' : 's'} left`;
+}
