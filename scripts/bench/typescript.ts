@@ -60,7 +60,7 @@ export async function measureTypeScript(): Promise<TypeScriptFigures> {
   const path = join(folder, 'grid.mdp.ts');
   writeFileSync(path, GRID_SPEC);
   try {
-    const started = await ModelSandbox.start(path, GRID_SPEC, { callTimeoutMs: 5000, memoryMb: 1024 });
+    const started = await ModelSandbox.start(path, GRID_SPEC, { callTimeoutMs: 5000, memoryMb: 1024, jobTimeoutMs: 600_000 });
     if (!started.value) throw new Error(`the bench model failed: ${started.failure?.message}`);
     const { sandbox } = started.value;
     const began = performance.now();
@@ -107,6 +107,11 @@ async function loadDirectly(path: string): Promise<ModelFunctions> {
   const module = { exports: {} as Record<string, unknown> };
   compileFunction(bundle.code, ['exports', 'require', 'module'])(module.exports, require, module);
   return module.exports.default as ModelFunctions;
+}
+
+/** The `typescript` section of `npm run bench`. */
+export async function run(): Promise<void> {
+  for (const line of await typescriptBenchLines()) console.log(line);
 }
 
 /** Lines for `npm run bench`. */

@@ -19,7 +19,8 @@ describe('hostile model code is contained and reported as model-error with the s
 
   test('a memory bomb hits the heap limit and is reported with the call that ran', async () => {
     const text = counterSpec(`    const hoard = [];\n    for (;;) hoard.push({ i: hoard.length, pad: [1, 2, 3, 4] });`);
-    const report = await analyzeTs(text, FAST_LIMITS);
+    // A generous call timeout: on a busy machine filling 64 MB can take longer than the usual limit.
+    const report = await analyzeTs(text, { thresholds: { 'model-error.callTimeoutMs': 30_000, 'model-error.memoryMb': 64 } });
     const [finding] = findingsOf(report, 'model-error');
     expect(finding.message).toContain('outcomes({"n":0})');
     expect(finding.message).toContain('ran out of memory (the limit is 64 MB of heap)');
@@ -131,6 +132,21 @@ describe('hostile model code is contained and reported as model-error with the s
     // The same spec with exec on runs it.
     await analyzeTs(text, FAST_LIMITS);
     expect(existsSync(marker)).toBe(true);
+  });
+
+  test('a model that is slow but never hangs is stopped at the job time limit', async () => {
+    const text = counterSpec(`    const until = Date.now() + 40;\n    while (Date.now() < until) {}\n    return [{ state: { n: s.n + 1 }, probability: 1, reward: -1 }];`).replace('s.n >= 3', 's.n >= 1000');
+    const report = await analyzeTs(text, { thresholds: { ...FAST_LIMITS.thresholds, 'model-error.jobTimeoutMs': 500 } });
+    const [finding] = findingsOf(report, 'model-error');
+    expect(finding.message).toContain("was still running when the job's time limit of 1 s ran out");
+    expect(finding.message).toMatch(/^outcomes\(\{"n":\d+\}\)/);
+  });
+
+  test('an unsaved document in a folder that does not exist still runs', async () => {
+    const { analyzeFile } = await import('../../server/src/analyze');
+    const text = counterSpec(ok);
+    const report = await analyzeFile('/no/such/folder/untitled.mdp.ts', text, {});
+    expect(report.model?.stateCount).toBe(4);
   });
 
   test('after every hostile case the process lives on and analyses a good model', async () => {

@@ -33,6 +33,12 @@ export const modelError: Rule = {
         'Wall-clock time one model call may take before it is stopped as a hang. Model functions answer one state at a time; ' +
         'two seconds is far beyond any sane single call and short enough that an endless loop is reported while you wait.',
     },
+    jobTimeoutMs: {
+      default: 120000,
+      description:
+        'Wall-clock time one whole job (the enumeration, or a batch of rollouts) may take. Two minutes covers the default state ' +
+        'cap at well under a millisecond per call; a model that needs more is too slow to check on every edit.',
+    },
     memoryMb: {
       default: 512,
       description:
@@ -59,8 +65,8 @@ returning a new state fails here with the line of the assignment.
 **Fix.** Follow the message to the line. An \`actions\` that returns nothing for a state that is not terminal
 is a dead end: return at least one action, or make \`terminal(state)\` name the state's kind.
 
-**Thresholds.** \`callTimeoutMs\` (default 2000) and \`memoryMb\` (default 512), set as
-\`"model-error.callTimeoutMs"\` in the config's \`thresholds\`.
+**Thresholds.** \`callTimeoutMs\` (default 2000), \`jobTimeoutMs\` (default 120000) and \`memoryMb\`
+(default 512), set as \`"model-error.callTimeoutMs"\` and so on in the config's \`thresholds\`.
 `.trim(),
   check(ctx) {
     for (const problem of ctx.spec.typescript?.modelErrors ?? []) {

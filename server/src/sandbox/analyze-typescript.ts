@@ -77,7 +77,11 @@ async function runModel(
   const { spec } = reading;
   const evidence = spec.typescript!;
   const place = new Placer(path, text, spec);
-  const limits = { callTimeoutMs: threshold(config, modelError, 'callTimeoutMs'), memoryMb: threshold(config, modelError, 'memoryMb') };
+  const limits = {
+    callTimeoutMs: threshold(config, modelError, 'callTimeoutMs'),
+    memoryMb: threshold(config, modelError, 'memoryMb'),
+    jobTimeoutMs: threshold(config, modelError, 'jobTimeoutMs'),
+  };
   const isCancelled = options.isCancelled ?? (() => false);
   const started = await ModelSandbox.start(path, text, limits, isCancelled);
   evidence.executed = true;

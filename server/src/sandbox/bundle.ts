@@ -3,6 +3,7 @@
  * source map so that positions in stack traces can be mapped back to the user's files.
  */
 import { build, type Message, type Plugin } from 'esbuild';
+import { existsSync } from 'node:fs';
 import { SourceMap } from 'node:module';
 import { dirname, isAbsolute, resolve } from 'node:path';
 
@@ -42,10 +43,12 @@ const definePlugin: Plugin = {
 
 /** Bundles the spec text (which may be unsaved) as if it were the file at `path`. */
 export async function bundleModel(path: string, text: string): Promise<ModelBundle | BundleFailure> {
-  const root = dirname(path);
+  // An unsaved document may name a folder that does not exist; its local imports cannot resolve then.
+  const folder = resolve(dirname(path));
+  const root = existsSync(folder) ? folder : process.cwd();
   try {
     const result = await build({
-      stdin: { contents: text, resolveDir: root, sourcefile: path, loader: 'ts' },
+      stdin: { contents: text, resolveDir: root, sourcefile: resolve(path), loader: 'ts' },
       absWorkingDir: root,
       outfile: resolve(root, '__episcope_model__.js'),
       bundle: true,

@@ -17,9 +17,11 @@ export interface SandboxLimits {
   callTimeoutMs: number;
   /** Heap limit of the worker (old generation), in MB. */
   memoryMb: number;
+  /** Wall-clock limit of one whole job (an enumeration, a batch of rollouts), however busy the model is. */
+  jobTimeoutMs: number;
 }
 
-export const DEFAULT_LIMITS: SandboxLimits = { callTimeoutMs: 2000, memoryMb: 512 };
+export const DEFAULT_LIMITS: SandboxLimits = { callTimeoutMs: 2000, memoryMb: 512, jobTimeoutMs: 120_000 };
 
 /** Anything that went wrong in model code, located in the user's source where possible. */
 export interface ModelFailure {
@@ -192,6 +194,7 @@ export class ModelSandbox {
   private watch(): void {
     let lastCalls = this.progress[0];
     let lastChange = Date.now();
+    const began = lastChange;
     const interval = Math.max(10, Math.min(250, this.limits.callTimeoutMs / 4));
     const timer = setInterval(() => {
       if (!this.pending) {
@@ -202,6 +205,12 @@ export class ModelSandbox {
         clearInterval(timer);
         this.exitFailure = { kind: 'cancelled', phase: PHASE_CODES[this.progress[1]] ?? 'load', message: 'the analysis was cancelled' };
         void this.close();
+        return;
+      }
+      if (Date.now() - began > this.limits.jobTimeoutMs) {
+        clearInterval(timer);
+        const seconds = Math.round(this.limits.jobTimeoutMs / 1000);
+        void this.stop(this.failureAtProgress('timeout', `was still running when the job's time limit of ${seconds} s ran out (the model is too slow or too large)`));
         return;
       }
       const calls = this.progress[0];
@@ -216,8 +225,12 @@ export class ModelSandbox {
     }, interval);
   }
 
-  private async stopHung(): Promise<void> {
-    const failure = this.failureAtProgress('timeout', `did not return within ${this.limits.callTimeoutMs} ms (an endless loop?)`);
+  private stopHung(): Promise<void> {
+    return this.stop(this.failureAtProgress('timeout', `did not return within ${this.limits.callTimeoutMs} ms (an endless loop?)`));
+  }
+
+  /** Locates what the worker is running (by pausing it), then terminates it and settles the request. */
+  private async stop(failure: ModelFailure): Promise<void> {
     const paused = await pauseWorker(this.worker.threadId, 1000).catch(() => undefined);
     if (paused) {
       const mapped = originalPosition(this.bundle, paused.line, paused.column);
