@@ -89,6 +89,12 @@ describe('pull-request flow through the command line', () => {
     expect(result.stdout).toContain('### New findings (1 at or above `--fail-on warning`)');
     expect(result.stdout).toContain('1 finding unchanged from the baseline.');
 
+    // The text format lists what is new below its summary line.
+    const text = await cli(['check', '.', '--baseline', baseline], { cwd: dir });
+    const tail = text.stdout.trimEnd().split('\n').slice(-2);
+    expect(tail[0]).toBe('compared with the baseline: 1 new, 0 fixed, 1 unchanged; start values moved in 0 specs');
+    expect(tail[1]).toMatch(new RegExp(`^  new   ${SPEC.replace(/\./g, '\\.')}:${addedLine}:\\d+ warning terminal-has-transitions 'cooled' is a goal terminal`));
+
     // The exit status follows --fail-on applied to new findings only.
     expect((await cli(['check', '.', '--format', 'markdown', '--baseline', baseline], { cwd: dir })).code).toBe(0);
     expect((await cli(['check', '.', '--baseline', baseline, '--fail-on', 'info'], { cwd: dir })).code).toBe(1);

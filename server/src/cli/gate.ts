@@ -13,7 +13,7 @@ import { DEFAULT_CONFIG, type ResolvedConfig } from '../config';
 import { RULES } from '../rules/registry';
 import type { Severity } from '../rules/types';
 import { SUPPRESSION_RULE, isCompletelyChecked, unusedIgnoreFindings, type CheckedFile } from '../suppress';
-import { BaselineError, compareWithBaseline, newFindingsAtOrAbove, parseBaseline, type Comparison } from './baseline';
+import { BaselineError, compareWithBaseline, newFindingsAtOrAbove, parseBaseline, type Comparison, type FindingChange } from './baseline';
 import { displayPath, type SpecFile } from './files';
 import { fileReportToJson, findingToJson, jsonOutput, type JsonFile, type JsonOutput } from './json-output';
 import { markdownReport } from './markdown';
@@ -138,6 +138,19 @@ export class CheckGate {
     }
     if (this.options.format === 'markdown') return markdownReport(output, this.compare(output), { failOn: this.options.failOn });
     return undefined;
+  }
+
+  /** For the text format with --baseline: the new and fixed findings, one per line; else ''. */
+  baselineText(results: JsonFile[]): string {
+    const comparison = this.compare(jsonOutput(results));
+    if (!comparison) return '';
+    const line = (label: string, c: FindingChange) => `  ${label} ${c.path}:${c.finding.line}:${c.finding.column} ${c.finding.severity} ${c.finding.rule} ${c.finding.message}`;
+    const moved = comparison.specs.filter((s) => s.status !== 'unchanged').length;
+    return [
+      `compared with the baseline: ${comparison.newFindings.length} new, ${comparison.fixedFindings.length} fixed, ${comparison.unchangedFindings} unchanged; start values moved in ${moved} spec${moved === 1 ? '' : 's'}`,
+      ...comparison.newFindings.map((c) => line('new  ', c)),
+      ...comparison.fixedFindings.map((c) => line('fixed', c)),
+    ].join('\n') + '\n';
   }
 
   /** Writes the HTML report when --report was given. */

@@ -179,7 +179,7 @@ async function runCheck(args: ParsedArgs, io: CliIo): Promise<number> {
   const rendered = gate.render(results);
   if (rendered !== undefined) io.stdout.write(rendered);
   else if (format === 'json') io.stdout.write(`${JSON.stringify(jsonOutput(results), null, 2)}\n`);
-  else io.stdout.write(formatSummary(results, style));
+  else io.stdout.write(formatSummary(results, style) + gate.baselineText(results));
   gate.writeReport();
 
   if (internalError) {
