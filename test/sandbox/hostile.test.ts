@@ -155,3 +155,17 @@ describe('hostile model code is contained and reported as model-error with the s
     expect(report.model?.stateCount).toBe(4);
   });
 });
+
+describe('sampled models: malformed results', () => {
+  test('an async sample() and a missing state are named', async () => {
+    const asyncSample = await analyzeTs(`export default { discount: 0.9, start: 0, actions: () => ['go'], async sample(s) { return { state: s, reward: 1 }; } };`, FAST_LIMITS);
+    expect(findingsOf(asyncSample, 'model-error')[0].message).toContain('sample(0, "go") in rollout episode 0, step 0 returned a malformed value: the result is a Promise');
+    const noState = await analyzeTs(`export default { discount: 0.9, start: 0, actions: () => ['go'], sample: (s) => ({ reward: 1 }) };`, FAST_LIMITS);
+    expect(findingsOf(noState, 'model-error')[0].message).toContain('the result is {"reward":1}; expected { state, reward, terminal? }');
+  });
+
+  test('an enumerable model with a start function is told to give a state value', async () => {
+    const report = await analyzeTs(`export default { discount: 0.9, start: (rng) => 0, actions: () => ['go'], outcomes: (s) => [{ state: s, probability: 1, reward: 0 }] };`, FAST_LIMITS);
+    expect(findingsOf(report, 'model-error')[0].message).toContain('an enumerable model needs `start` as a state value');
+  });
+});

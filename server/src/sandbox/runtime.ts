@@ -342,6 +342,9 @@ export function enumerateModel(model: ModelFunctions, options: EnumerationOption
       if (Math.abs(sum - 1) > 1e-9) throw new MalformedValue(`the startDistribution probabilities add up to ${sum}, not 1`);
     } else {
       if (model.start === undefined) throw new MalformedValue('the model has no start state (give `start` or `startDistribution`)');
+      if (typeof model.start === 'function') {
+        throw new MalformedValue('an enumerable model needs `start` as a state value (or `startDistribution`), not a function that draws one');
+      }
       startStates.push(addState(model.start, 'start'));
       startProbs.push(1);
     }
@@ -626,7 +629,10 @@ export function rolloutModel(model: ModelFunctions, options: RolloutOptions): Ro
           progress[0]++;
           const result = sample(state, action, rng) as { state?: unknown; reward?: unknown; terminal?: unknown };
           if (typeof result !== 'object' || result === null || !('state' in result)) {
-            throw new MalformedValue(`sample() returned ${describeValue(result)}; expected { state, reward, terminal? }`);
+            if (result && typeof (result as { then?: unknown }).then === 'function') {
+              throw new MalformedValue('the result is a Promise; model functions must return their value synchronously');
+            }
+            throw new MalformedValue(`the result is ${describeValue(result)}; expected { state, reward, terminal? }`);
           }
           next = result.state;
           reward = result.reward;
