@@ -14,7 +14,6 @@ import { parseJsonSpec } from './spec/json';
 import { LineIndex } from './spec/lines';
 import type { ParsedSpec } from './spec/types';
 import { suppressReport, type SuppressedFinding } from './suppress';
-import { analyzeTypeScriptText } from './sandbox/analyze-typescript';
 
 export interface AnalyzeOptions {
   config?: ResolvedConfig;
@@ -62,7 +61,12 @@ export function isSpecPath(path: string): boolean {
  * for any input text.
  */
 export async function analyzeFile(path: string, text: string, options: AnalyzeOptions = {}): Promise<FileReport> {
-  if (path.endsWith('.mdp.ts')) return analyzeTypeScriptText(path, text, options);
+  if (path.endsWith('.mdp.ts')) {
+    // Loaded on first use: the TypeScript toolchain (ts-morph, esbuild) takes a second or more to
+    // load, which JSON specs (and the language server's workers) should never pay for.
+    const { analyzeTypeScriptText } = await import('./sandbox/analyze-typescript');
+    return analyzeTypeScriptText(path, text, options);
+  }
   return analyzeJsonText(path, text, options);
 }
 

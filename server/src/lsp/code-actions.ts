@@ -3,7 +3,7 @@
  * `ignore` entry in episcope.config.json, or an `episcope-ignore` comment above the line), and
  * "show the rule's documentation".
  */
-import { dirname, join } from 'node:path';
+import { dirname, isAbsolute, join, relative as relativeTo } from 'node:path';
 import { pathToFileURL } from 'node:url';
 import {
   CodeActionKind,
@@ -11,12 +11,9 @@ import {
   type Diagnostic,
   type TextEdit,
   type WorkspaceEdit,
-} from 'vscode-languageserver-types';
+} from 'vscode-languageserver-protocol';
 import type { TextDocument } from 'vscode-languageserver-textdocument';
-import { CONFIG_FILE_NAME } from '../config-file';
-import { findRule } from '../rules/registry';
 import { LineIndex } from '../spec/lines';
-import { relativePath } from '../suppress';
 import { ignoreCommentEdit, ignoreEntryEdit, type OffsetEdit } from './ignore-edits';
 import { COMMAND_REVEAL, COMMAND_SHOW_RULE_DOC, type DiagnosticData, type OffsetFix } from './protocol';
 
@@ -100,9 +97,18 @@ function documentEdit(context: CodeActionContext, uri: string, version: number |
   return { changes: { [uri]: edits } };
 }
 
-/** Only rules of the registry may be named in an ignore (the config schema enumerates them). */
+const CONFIG_FILE_NAME = 'episcope.config.json';
+
+/** A problem with a suppression is fixed, not suppressed. */
 function ignorable(rule: string): boolean {
-  return findRule(rule) !== undefined;
+  return rule !== 'suppression' && rule !== 'config';
+}
+
+/** `path` relative to `folder` with forward slashes, as ignore globs are written; undefined outside it. */
+function relativePath(folder: string, path: string): string | undefined {
+  const relative = relativeTo(folder, path);
+  if (relative === '' || relative.startsWith('..') || isAbsolute(relative)) return undefined;
+  return relative.replace(/\\/g, '/');
 }
 
 function ignoreCommentAction(context: CodeActionContext, diagnostic: Diagnostic, rule: string): CodeAction | undefined {

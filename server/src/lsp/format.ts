@@ -15,22 +15,38 @@ export function formatNumber(x: number): string {
 }
 
 /**
- * A sound interval [lower, upper]: one number when both ends print the same, else the midpoint
- * with its half-width, else both ends.
+ * A sound interval [lower, upper]: one number when the interval is narrower than the digits shown
+ * (the simplest decimal inside it, so [0, 9.98e-7] reads 0), else both ends.
  */
 export function formatInterval(lower: number, upper: number): string {
-  const low = formatNumber(lower);
-  const high = formatNumber(upper);
-  if (lower === upper || low === high) {
-    if (lower === upper || !Number.isFinite(lower) || !Number.isFinite(upper)) return low;
-    return `${formatNumber((lower + upper) / 2)} ± ${formatNumber((upper - lower) / 2)}`;
+  if (lower === upper) return formatNumber(lower);
+  if (!Number.isFinite(lower) || !Number.isFinite(upper)) return `[${formatNumber(lower)}, ${formatNumber(upper)}]`;
+  const width = upper - lower;
+  if (width > 1e-4 * Math.max(Math.abs(lower), Math.abs(upper), 1)) return `[${formatNumber(lower)}, ${formatNumber(upper)}]`;
+  const mid = (lower + upper) / 2;
+  for (let decade = Math.ceil(Math.log10(Math.max(Math.abs(mid), width, 1e-300))); decade >= -15; decade--) {
+    const step = 10 ** decade;
+    const candidate = Math.round(mid / step) * step;
+    if (candidate >= lower && candidate <= upper) return formatNumber(candidate);
   }
-  return `[${low}, ${high}]`;
+  return formatNumber(mid);
 }
 
-/** A probability as a percentage, never rounding a non-zero value to 0% or a value below 1 to 100%. */
-export function formatProbability(p: number): string {
-  if (!Number.isFinite(p)) return '?';
+/** A probability from the analysis, with differences below its precision read as none. */
+export function snapProbability(p: number, precision: number): number {
+  const tolerance = Math.max(precision, 1e-12);
+  if (p < tolerance) return 0;
+  if (p > 1 - tolerance) return 1;
+  return p;
+}
+
+/**
+ * A probability as a percentage, never rounding a non-zero value to 0% or a value below 1 to 100%;
+ * differences from 0 or 1 below the analysis' precision count as none.
+ */
+export function formatProbability(probability: number, precision = 0): string {
+  if (!Number.isFinite(probability)) return '?';
+  const p = snapProbability(probability, precision);
   if (p <= 0) return '0%';
   if (p >= 1) return '100%';
   if (p < 0.001) return '<0.1%';

@@ -85,13 +85,14 @@ function stateHover(values: ValueTables, state: number): string {
     return `**${name}** · terminal (${terminal})${values.reachable[state] ? '' : ' · not reachable from the start'}\n\nThe episode ends on entering it; its value is 0.`;
   }
   const steps = values.horizon !== undefined ? ` with ${values.horizon} steps left` : '';
-  const title = `**${name}**${values.reachable[state] ? '' : ' · not reachable from the start'} · value${steps} from here:`;
+  const within = values.exact ? '' : ` (bounds within ${formatNumber(values.precision)})`;
+  const title = `**${name}**${values.reachable[state] ? '' : ' · not reachable from the start'} · value${steps} from here${within}:`;
   const table = [
     '| policy | value | ends in goal | failure | neutral | never ends |',
     '|---|---|---|---|---|---|',
-    `| optimal | ${formatInterval(values.optimalLower[state], values.optimalUpper[state])} | ${reachCells(values.optimalReach, state)} |`,
+    `| optimal | ${formatInterval(values.optimalLower[state], values.optimalUpper[state])} | ${reachCells(values, values.optimalReach, state)} |`,
     `| worst | ${formatInterval(values.worstLower[state], values.worstUpper[state])} | | | | |`,
-    `| random | ${formatInterval(values.randomLower[state], values.randomUpper[state])} | ${reachCells(values.randomReach, state)} |`,
+    `| random | ${formatInterval(values.randomLower[state], values.randomUpper[state])} | ${reachCells(values, values.randomReach, state)} |`,
   ].join('\n');
   const blocks = [title, table];
   const best: string[] = [];
@@ -104,14 +105,14 @@ function stateHover(values: ValueTables, state: number): string {
   if (best.length > 0) blocks.push(`Best action: ${best.join(', ')}`);
   if (qs.length > 0) blocks.push(`Q*: ${qs.join(' · ')}`);
   blocks.push(
-    `Best possible goal reach ${formatProbability(values.maxGoalReach[state])} · expected steps to the end: ` +
+    `Best possible goal reach ${formatProbability(values.maxGoalReach[state], values.precision)} · expected steps to the end: ` +
       `optimal ${formatNumber(values.optimalLength[state])}, random ${formatNumber(values.randomLength[state])}`,
   );
   return blocks.join('\n\n');
 }
 
-function reachCells(reach: ValueTables['optimalReach'], state: number): string {
-  return [reach.goal, reach.failure, reach.neutral, reach.none].map((a) => formatProbability(a[state])).join(' | ');
+function reachCells(values: ValueTables, reach: ValueTables['optimalReach'], state: number): string {
+  return [reach.goal, reach.failure, reach.neutral, reach.none].map((a) => formatProbability(a[state], values.precision)).join(' | ');
 }
 
 function transitionHover(values: ValueTables, choices: Int32Array): string {

@@ -3,8 +3,8 @@
  * of the server's custom notifications and commands. Everything here crosses a thread boundary by
  * structured clone, so it holds plain data and typed arrays only.
  */
-import type { Diagnostic } from 'vscode-languageserver-types';
-import type { ResolvedConfig } from '../config';
+import type { Diagnostic } from 'vscode-languageserver-protocol';
+import type { EpiscopeSettings } from './settings';
 
 /** One analysis request for one version of one document. */
 export interface AnalysisJob {
@@ -15,7 +15,10 @@ export interface AnalysisJob {
   /** File system path when the document is a file, else the URI (used for config ignores and messages). */
   path: string;
   text: string;
-  config: ResolvedConfig;
+  /** Editor settings; the worker merges them over the config file that applies to `path`. */
+  settings: EpiscopeSettings;
+  /** Texts of config files open in the editor (by path), which win over the files on disk. */
+  openConfigTexts: Record<string, string>;
   exec: boolean;
   /** Folder holding `<rule-id>.md` files, or undefined when the documentation is not installed. */
   docsFolder?: string;
@@ -118,6 +121,8 @@ export interface AnalysisSnapshot {
   values?: ValueTables;
   /** Hovers on `discount` and `horizon`. */
   fixedHovers: FixedHover[];
+  /** The config file that applied, with its own problems as diagnostics on it. */
+  configFile?: { path: string; uri: string; text: string; diagnostics: Diagnostic[] };
   /** Rules that failed unexpectedly (our bugs): logged, never shown as findings. */
   internalErrors: string[];
   stateCount?: number;

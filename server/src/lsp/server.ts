@@ -28,11 +28,7 @@ import {
   type InitializeResult,
   type WorkspaceFolder,
 } from 'vscode-languageserver/node';
-import { DEFAULT_CONFIG } from '../config';
-import { CONFIG_FILE_NAME, type ConfigFile } from '../config-file';
-import { isSpecPath } from '../analyze';
 import { codeActions } from './code-actions';
-import { ConfigSource } from './config-source';
 import { DocumentStore } from './documents';
 import { hoverAt } from './hover';
 import { JobCancelledError, WorkerPool } from './pool';
@@ -49,9 +45,8 @@ import {
   type WorkspaceAnalysisSummary,
 } from './protocol';
 import { AnalysisScheduler, type JobInput } from './scheduler';
-import { DEFAULT_SETTINGS, mergeSettings, readSettings, type EpiscopeSettings } from './settings';
-import { documentedRules } from './rule-docs';
-import { DiagnosticSeverity } from 'vscode-languageserver-types';
+import { DEFAULT_SETTINGS, readSettings, type EpiscopeSettings } from './settings';
+import { DiagnosticSeverity } from 'vscode-languageserver-protocol';
 import { version } from '../../../package.json';
 
 export interface ServerOptions {
@@ -83,7 +78,6 @@ export function startServer(options: ServerOptions = {}): Connection {
   const logError = (message: string): void => connection.console.error(message);
 
   const documents = new DocumentStore();
-  const configs = new ConfigSource((path) => documents.get(pathToFileURL(path).href)?.getText());
   const pool = new WorkerPool({ script: workerScript, size: options.workers ?? 2, cancelGraceMs: 50, log });
 
   let capabilities: ClientCapabilities = {};
@@ -100,6 +94,8 @@ export function startServer(options: ServerOptions = {}): Connection {
   const workspacePushed = new Set<string>();
   /** Config files whose findings were pushed, with the text they were computed from. */
   const configPushed = new Map<string, string>();
+  /** The latest analysis that read each config file (by URI): its problems answer pulls for the open file. */
+  const configSnapshots = new Map<string, AnalysisSnapshot>();
 
   const scheduler = new AnalysisScheduler(pool, {
     prepare: async (uri) => prepareJob(uri),
@@ -160,7 +156,7 @@ export function startServer(options: ServerOptions = {}): Connection {
         await connection.client.register(DidChangeConfigurationNotification.type, { section: 'episcope' });
       }
       if (capabilities.workspace?.didChangeWatchedFiles?.dynamicRegistration) {
-        await connection.client.register(DidChangeWatchedFilesNotification.type, { watchers: [{ globPattern: `**/${CONFIG_FILE_NAME}` }] });
+        await connection.client.register(DidChangeWatchedFilesNotification.type, { watchers: [{ globPattern: '**/episcope.config.json' }] });
       }
       if (capabilities.workspace?.workspaceFolders) {
         connection.workspace.onDidChangeWorkspaceFolders((event) => {
@@ -232,7 +228,6 @@ export function startServer(options: ServerOptions = {}): Connection {
           void connection.sendDiagnostics({ uri: change.uri, diagnostics: [] });
         }
       }
-      configs.invalidate();
       reanalyseAll();
     }),
   );
@@ -247,7 +242,6 @@ export function startServer(options: ServerOptions = {}): Connection {
   );
 
   function configChanged(uri: string): void {
-    configs.invalidate();
     configPushed.delete(uri);
     reanalyseAll();
   }
@@ -283,18 +277,26 @@ export function startServer(options: ServerOptions = {}): Connection {
       sendStatus({ uri, state: 'off', text: 'Episcope is turned off (episcope.enable)' });
       return undefined;
     }
-    const path = filePath(uri);
-    const configFile = path ? configs.forSpec(path) : undefined;
-    if (configFile) pushConfigFindings(configFile);
     return {
       uri,
       version: document.version,
-      path: path ?? uri,
+      path: filePath(uri) ?? uri,
       text: document.getText(),
-      config: mergeSettings(configFile?.config ?? DEFAULT_CONFIG, settings),
+      settings,
+      openConfigTexts: openConfigTexts(),
       exec: options.exec !== false && trusted && settings.executeModelCode,
       docsFolder,
     };
+  }
+
+  /** Config files open in the editor: their unsaved text is what applies. */
+  function openConfigTexts(): Record<string, string> {
+    const texts: Record<string, string> = {};
+    for (const document of documents.all()) {
+      const path = isConfigUri(document.uri) ? filePath(document.uri) : undefined;
+      if (path) texts[path] = document.getText();
+    }
+    return texts;
   }
 
   function runStarted(uri: string, job: JobInput): () => void {
@@ -323,6 +325,7 @@ export function startServer(options: ServerOptions = {}): Connection {
 
   function analysisCompleted(snapshot: AnalysisSnapshot, current: boolean): void {
     resultIds.set(snapshot, String(++resultCounter));
+    pushConfigFindings(snapshot);
     for (const error of snapshot.internalErrors) logError(`${fileName(snapshot.uri)}: ${error}`);
     if (scheduler.latest(snapshot.uri) === snapshot) documents.forgetBefore(snapshot.uri, snapshot.version);
     if (!current) return;
@@ -369,24 +372,18 @@ export function startServer(options: ServerOptions = {}): Connection {
     if (capabilities.workspace?.codeLens?.refreshSupport) void connection.sendRequest(CodeLensRefreshRequest.type).catch(() => undefined);
   }
 
-  /** A config file's own problems are shown on it; pushed, since it is not always open. */
-  function pushConfigFindings(file: ConfigFile): void {
-    const uri = pathToFileURL(file.path).href;
-    if (pullDiagnostics && documents.get(uri)) return;
-    if (configPushed.get(uri) === file.text) return;
-    configPushed.set(uri, file.text);
-    void connection.sendDiagnostics({ uri, diagnostics: configDiagnostics(file) });
-  }
-
-  function configDiagnostics(file: ConfigFile): Diagnostic[] {
-    return file.findings.map((finding) => ({
-      range: { start: file.lines.position(finding.span.start), end: file.lines.position(finding.span.end) },
-      severity: finding.severity === 'error' ? DiagnosticSeverity.Error : finding.severity === 'warning' ? DiagnosticSeverity.Warning : DiagnosticSeverity.Information,
-      source: 'episcope',
-      code: finding.rule,
-      message: finding.message,
-      ...(docsFolder && existsSync(join(docsFolder, `${finding.rule}.md`)) ? { codeDescription: { href: pathToFileURL(join(docsFolder, `${finding.rule}.md`)).href } } : {}),
-    }));
+  /**
+   * A config file's own problems are shown on it: pushed, since it is usually not open (and when it
+   * is open in a pull client, answered by the pull handler instead).
+   */
+  function pushConfigFindings(snapshot: AnalysisSnapshot): void {
+    const file = snapshot.configFile;
+    if (!file) return;
+    configSnapshots.set(file.uri, snapshot);
+    if (pullDiagnostics && documents.get(file.uri)) return;
+    if (configPushed.get(file.uri) === file.text) return;
+    configPushed.set(file.uri, file.text);
+    void connection.sendDiagnostics({ uri: file.uri, diagnostics: file.diagnostics });
   }
 
   // ---------------------------------------------------------------------------------------------
@@ -396,8 +393,9 @@ export function startServer(options: ServerOptions = {}): Connection {
     guard('textDocument/diagnostic', { kind: DocumentDiagnosticReportKind.Full, items: [] } as DocumentDiagnosticReport, async (params, token) => {
       const uri = params.textDocument.uri;
       if (isConfigUri(uri)) {
-        const path = filePath(uri);
-        return { kind: DocumentDiagnosticReportKind.Full, items: path ? configDiagnostics(configs.load(path)) : [] };
+        const file = configSnapshots.get(uri)?.configFile;
+        const current = file && file.text === documents.get(uri)?.getText();
+        return { kind: DocumentDiagnosticReportKind.Full, items: current ? file.diagnostics : [] };
       }
       if (!isSpecUri(uri) || !documents.get(uri)) return { kind: DocumentDiagnosticReportKind.Full, items: [] };
       const snapshot = await Promise.race([
@@ -455,17 +453,17 @@ export function startServer(options: ServerOptions = {}): Connection {
       const document = documents.get(uri);
       if (!document || !isSpecUri(uri)) return [];
       const path = filePath(uri);
-      const configFile = path ? configs.forSpec(path) : undefined;
+      const configFile = scheduler.latest(uri)?.configFile;
       const diagnostics = params.context.diagnostics.map((d) => withData(uri, d));
-      const configUri = configFile ? pathToFileURL(configFile.path).href : undefined;
-      const openConfig = configUri ? documents.get(configUri) : undefined;
+      const openConfig = configFile ? documents.get(configFile.uri) : undefined;
+      const configText = openConfig?.getText() ?? (configFile ? readOrUndefined(configFile.path) : undefined);
       return codeActions({
         document,
         path,
         diagnostics,
         mapOffset: (offset, version) => documents.fromVersion(uri, offset, version),
         newConfigFolder: path ? folderFor(path) : undefined,
-        configFile: configFile ? { path: configFile.path, text: openConfig?.getText() ?? configFile.text, version: openConfig?.version ?? null } : undefined,
+        configFile: configFile && configText !== undefined ? { path: configFile.path, text: configText, version: openConfig?.version ?? null } : undefined,
         documentChanges: !!capabilities.workspace?.workspaceEdit?.documentChanges,
         createFiles: !!capabilities.workspace?.workspaceEdit?.resourceOperations?.includes('create'),
         commands: true,
@@ -515,9 +513,10 @@ export function startServer(options: ServerOptions = {}): Connection {
     if (file && existsSync(file) && capabilities.window?.showDocument?.support) {
       return (await connection.window.showDocument({ uri: pathToFileURL(file).href, takeFocus: true })).success;
     }
-    const documented = documentedRules().find((r) => r.id === rule);
-    if (!documented) return false;
-    void connection.window.showInformationMessage(`${rule} (${documented.defaultSeverity}): ${documented.summary}`);
+    const text = file ? readOrUndefined(file) : undefined;
+    void connection.window.showInformationMessage(
+      text ? text.split('\n').slice(0, 5).join(' ').replace(/[#*`]/g, '').trim() : `Rule ${rule}: run 'episcope explain ${rule}' for its documentation.`,
+    );
     return true;
   }
 
@@ -552,6 +551,7 @@ export function startServer(options: ServerOptions = {}): Connection {
           else if (d.severity === DiagnosticSeverity.Warning) summary.warnings++;
           else summary.infos++;
         }
+        pushConfigFindings(snapshot);
         if (!open) {
           workspacePushed.add(uri);
           void connection.sendDiagnostics({ uri, diagnostics: snapshot.diagnostics });
@@ -564,14 +564,13 @@ export function startServer(options: ServerOptions = {}): Connection {
 
   async function closedFileJob(uri: string, path: string): Promise<JobInput> {
     const settings = await settingsFor(uri);
-    const configFile = configs.forSpec(path);
-    if (configFile) pushConfigFindings(configFile);
     return {
       uri,
       version: 0,
       path,
       text: readFileSync(path, 'utf8'),
-      config: mergeSettings(configFile?.config ?? DEFAULT_CONFIG, settings),
+      settings,
+      openConfigTexts: openConfigTexts(),
       exec: options.exec !== false && trusted && settings.executeModelCode,
       docsFolder,
     };
@@ -610,6 +609,19 @@ function collectSpecs(folder: string, out: string[]): void {
   }
 }
 
+/** The spec file names (the same rule as the command line's). */
+function isSpecPath(path: string): boolean {
+  return path.endsWith('.mdp.json') || path.endsWith('.mdp.ts');
+}
+
+function readOrUndefined(path: string): string | undefined {
+  try {
+    return readFileSync(path, 'utf8');
+  } catch {
+    return undefined;
+  }
+}
+
 function filePath(uri: string): string | undefined {
   if (!uri.startsWith('file:')) return undefined;
   try {
@@ -624,7 +636,7 @@ function isSpecUri(uri: string): boolean {
 }
 
 function isConfigUri(uri: string): boolean {
-  return uri.split(/[?#]/)[0].endsWith(`/${CONFIG_FILE_NAME}`);
+  return uri.split(/[?#]/)[0].endsWith('/episcope.config.json');
 }
 
 function fileName(uri: string): string {

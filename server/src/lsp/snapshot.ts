@@ -15,10 +15,11 @@ import {
 } from 'vscode-languageserver-types';
 import type { Analysis } from '../analysis/types';
 import type { FileReport } from '../analyze';
+import type { ConfigFile } from '../config-file';
 import { TERMINAL_CODE, stateName, type CompiledModel } from '../model/compiled';
 import type { Finding } from '../rules/types';
 import type { ParsedSpec, Span } from '../spec/types';
-import { formatDuration, formatInterval, formatNumber, formatProbability, plural } from './format';
+import { formatDuration, formatInterval, formatNumber, formatProbability, plural, snapProbability } from './format';
 import {
   TOKEN_STATE,
   type AnalysisSnapshot,
@@ -38,6 +39,7 @@ export interface SnapshotInput {
   version: number;
   report: FileReport;
   docsFolder?: string;
+  configFile?: ConfigFile;
   durationMs: number;
 }
 
@@ -63,6 +65,17 @@ export function buildSnapshot(input: SnapshotInput): AnalysisSnapshot {
     durationMs: input.durationMs,
     cancelled: report.cancelled === true,
   };
+  if (input.configFile) {
+    const file = input.configFile;
+    const configUri = pathToFileURL(file.path).href;
+    const configRange = (span: Span): Range => ({ start: file.lines.position(span.start), end: file.lines.position(span.end) });
+    snapshot.configFile = {
+      path: file.path,
+      uri: configUri,
+      text: file.text,
+      diagnostics: file.findings.map((finding) => toDiagnostic(finding, configUri, 0, configRange, docLink)),
+    };
+  }
   if (model) snapshot.hoverIndex = buildHoverIndex(report.spec, model);
   if (model && analysis) snapshot.values = valueTables(model, analysis);
   return snapshot;
@@ -159,11 +172,12 @@ export function lensLines(analysis: Analysis, maximize: boolean): string[] {
     ` · random ${formatInterval(start.random.lower, start.random.upper)}` +
     ` · worst ${formatInterval(start.worst.lower, start.worst.upper)}`;
   const optimal = start.reach.optimal;
+  const p = analysis.precision;
+  const percent = (x: number): string => formatProbability(x, p);
   const reach =
-    `Goal reach: optimal ${formatProbability(optimal.goal)} · random ${formatProbability(start.reach.random.goal)}` +
-    ` · best possible ${formatProbability(start.maxGoalReach)}` +
-    (optimal.failure > 0 ? ` · failure under optimal ${formatProbability(optimal.failure)}` : '') +
-    (optimal.none > 0 ? ` · never ends${horizon !== undefined ? ' or cut' : ''} ${formatProbability(optimal.none)}` : '');
+    `Goal reach: optimal ${percent(optimal.goal)} · random ${percent(start.reach.random.goal)} · best possible ${percent(start.maxGoalReach)}` +
+    (snapProbability(optimal.failure, p) > 0 ? ` · failure under optimal ${percent(optimal.failure)}` : '') +
+    (snapProbability(optimal.none, p) > 0 ? ` · never ends${horizon !== undefined ? ' or cut' : ''} ${percent(optimal.none)}` : '');
   return [returns, reach];
 }
 

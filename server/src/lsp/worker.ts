@@ -4,8 +4,12 @@
  * a time; the main thread cancels a job by writing its id into the shared cancel cell, which the
  * pipeline checks between phases (and terminates the worker if that does not come soon enough).
  */
+import { dirname, isAbsolute } from 'node:path';
 import { parentPort, workerData } from 'node:worker_threads';
 import { analyzeFile } from '../analyze';
+import { DEFAULT_CONFIG } from '../config';
+import { findConfigFile, loadConfigFile, parseConfigText, type ConfigFile } from '../config-file';
+import { mergeSettings } from './settings';
 import type { AnalysisJob, WorkerReply } from './protocol';
 import { buildSnapshot, transferList } from './snapshot';
 
@@ -21,8 +25,9 @@ post({ kind: 'ready' });
 async function runJob(job: AnalysisJob): Promise<void> {
   const started = performance.now();
   try {
+    const configFile = configFor(job);
     const report = await analyzeFile(job.path, job.text, {
-      config: job.config,
+      config: mergeSettings(configFile?.config ?? DEFAULT_CONFIG, job.settings),
       exec: job.exec,
       // Hovers and the summary lens show values even when no enabled rule needs them.
       analysis: true,
@@ -33,12 +38,22 @@ async function runJob(job: AnalysisJob): Promise<void> {
       version: job.version,
       report,
       docsFolder: job.docsFolder,
+      configFile,
       durationMs: performance.now() - started,
     });
     post({ kind: 'done', jobId: job.jobId, snapshot }, transferList(snapshot));
   } catch (error) {
     post({ kind: 'failed', jobId: job.jobId, error: error instanceof Error ? (error.stack ?? error.message) : String(error) });
   }
+}
+
+/** The nearest episcope.config.json above the spec (the command line's rule), the editor's text if it is open. */
+function configFor(job: AnalysisJob): ConfigFile | undefined {
+  if (!isAbsolute(job.path)) return undefined;
+  const path = findConfigFile(dirname(job.path));
+  if (!path) return undefined;
+  const open = job.openConfigTexts[path];
+  return open !== undefined ? parseConfigText(path, open) : loadConfigFile(path);
 }
 
 function post(reply: WorkerReply, transfer: ArrayBuffer[] = []): void {
