@@ -22,6 +22,18 @@ export interface ModelGraph {
   absorbing: Uint8Array;
 }
 
+const cache = new WeakMap<CompiledModel, ModelGraph>();
+
+/** The graph of a model, built once and shared by the analysis and the rules that need it. */
+export function graphOf(model: CompiledModel): ModelGraph {
+  let graph = cache.get(model);
+  if (!graph) {
+    graph = buildModelGraph(model);
+    cache.set(model, graph);
+  }
+  return graph;
+}
+
 export function buildModelGraph(model: CompiledModel): ModelGraph {
   const n = model.stateCount;
   const { choiceStart, outcomeStart, outcomeTarget, outcomeProb } = model;

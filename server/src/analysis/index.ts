@@ -6,7 +6,7 @@
 import { TERMINAL_CODE, type CompiledModel } from '../model/compiled';
 import { maximalEndComponents } from './end-components';
 import { solveFiniteHorizon } from './finite-horizon';
-import { buildModelGraph, expectedChoiceValues, expectedRewards, terminalEntryProbabilities, type ModelGraph } from './graph';
+import { expectedChoiceValues, graphOf, expectedRewards, terminalEntryProbabilities, type ModelGraph } from './graph';
 import { COMBINE_AVERAGE, COMBINE_MAX, COMBINE_MIN, COMBINE_POLICY } from './interval-iteration';
 import { classifyMdpGains, GAIN_NEGATIVE, GAIN_POSITIVE, GAIN_ZERO, type MdpGainClasses } from './mean-payoff';
 import { attainingPolicy, bestChoices, choiceBounds } from './policy';
@@ -38,7 +38,7 @@ const KIND_CODES = [TERMINAL_CODE.goal, TERMINAL_CODE.failure, TERMINAL_CODE.neu
 
 export function analyzeModel(model: CompiledModel, options: AnalyzeModelOptions): Analysis {
   const precision = options.precision > 0 && Number.isFinite(options.precision) ? options.precision : 1e-6;
-  const graph = buildModelGraph(model);
+  const graph = graphOf(model);
   const mecs = maximalEndComponents(graph);
   const ctx: AnalysisContext = {
     model,

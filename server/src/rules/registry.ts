@@ -27,9 +27,13 @@ import { terminalHasTransitions } from './terminal-has-transitions';
 import { terminalPotential } from './terminal-potential';
 import { timeDependentOptimum } from './time-dependent-optimum';
 import { tinyProbability } from './tiny-probability';
+import { trapState } from './trap-state';
 import type { Rule } from './types';
+import { unboundedReturn } from './unbounded-return';
 import { undeclaredAction } from './undeclared-action';
 import { undeclaredState } from './undeclared-state';
+import { unreachableState } from './unreachable-state';
+import { unreachableTerminal } from './unreachable-terminal';
 import { unseededRandomness } from './unseeded-randomness';
 
 export const RULES: readonly Rule[] = [
@@ -58,8 +62,12 @@ export const RULES: readonly Rule[] = [
   terminalPotential,
   timeDependentOptimum,
   tinyProbability,
+  trapState,
+  unboundedReturn,
   undeclaredAction,
   undeclaredState,
+  unreachableState,
+  unreachableTerminal,
   unseededRandomness,
 ];
 
