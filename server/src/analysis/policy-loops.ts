@@ -90,36 +90,95 @@ function pathAlong(policy: Int32Array, via: Int32Array, viaState: Int32Array, ta
 }
 
 /**
- * The most likely way the policy ends in a terminal of `kind` (TERMINAL_CODE) from the start: at each
- * state the outcome with the largest probability times the chance, under the policy, of ending in that
- * kind from there (`reachKind`, per state). Stops after `limit` steps.
+ * The most probable path (largest product of probabilities, start probability included) along which
+ * the policy ends in a terminal of `kind` (TERMINAL_CODE): Dijkstra's algorithm on -log(probability)
+ * over the policy's chain. Empty when the policy never ends there.
  */
-export function likelyPathTo(model: CompiledModel, policy: Int32Array, reachKind: Float64Array, kind: number, limit = 200): PathStep[] {
-  let s = -1;
-  let bestStart = -1;
+export function likeliestPathTo(model: CompiledModel, policy: Int32Array, kind: number): PathStep[] {
+  const n = model.stateCount;
+  const cost = new Float64Array(n).fill(Infinity);
+  const via = new Int32Array(n).fill(-1);
+  const viaState = new Int32Array(n).fill(-1);
+  const done = new Uint8Array(n);
+  const heap = new MinHeap();
   for (let i = 0; i < model.startState.length; i++) {
-    const score = model.startProb[i] * (model.terminal[model.startState[i]] === kind ? 1 : reachKind[model.startState[i]]);
-    if (score > bestStart) {
-      bestStart = score;
-      s = model.startState[i];
+    const s = model.startState[i];
+    const c = -Math.log(model.startProb[i]);
+    if (model.startProb[i] > 0 && c < cost[s]) {
+      cost[s] = c;
+      heap.push(c, s);
     }
   }
-  const steps: PathStep[] = [];
-  while (s >= 0 && model.terminal[s] === 0 && steps.length < limit) {
+  let target = -1;
+  while (heap.size > 0) {
+    const s = heap.pop();
+    if (done[s]) continue;
+    done[s] = 1;
+    if (model.terminal[s] === kind) {
+      target = s;
+      break;
+    }
     const c = policy[s];
-    let outcome = -1;
-    let score = -1;
+    if (model.terminal[s] !== 0 || c < 0) continue;
     for (let k = model.outcomeStart[c]; k < model.outcomeStart[c + 1]; k++) {
       const t = model.outcomeTarget[k];
-      const value = model.outcomeProb[k] * (model.terminal[t] === kind ? 1 : model.terminal[t] !== 0 ? 0 : reachKind[t]);
-      if (value > score) {
-        score = value;
-        outcome = k;
+      if (!(model.outcomeProb[k] > 0) || done[t]) continue;
+      const next = cost[s] - Math.log(model.outcomeProb[k]);
+      if (next < cost[t]) {
+        cost[t] = next;
+        via[t] = k;
+        viaState[t] = s;
+        heap.push(next, t);
       }
     }
-    steps.push({ state: s, choice: c, outcome });
-    s = model.outcomeTarget[outcome];
   }
-  steps.push({ state: s, choice: -1, outcome: -1 });
-  return steps;
+  return target < 0 ? [] : pathAlong(policy, via, viaState, target);
+}
+
+/** A binary min-heap of (key, state) pairs for Dijkstra's algorithm. */
+class MinHeap {
+  private keys: number[] = [];
+  private values: number[] = [];
+
+  get size(): number {
+    return this.keys.length;
+  }
+
+  push(key: number, value: number): void {
+    const { keys, values } = this;
+    let i = keys.length;
+    keys.push(key);
+    values.push(value);
+    while (i > 0) {
+      const parent = (i - 1) >> 1;
+      if (keys[parent] <= key) break;
+      keys[i] = keys[parent];
+      values[i] = values[parent];
+      i = parent;
+    }
+    keys[i] = key;
+    values[i] = value;
+  }
+
+  pop(): number {
+    const { keys, values } = this;
+    const top = values[0];
+    const lastKey = keys.pop()!;
+    const lastValue = values.pop()!;
+    if (keys.length > 0) {
+      let i = 0;
+      for (;;) {
+        let child = 2 * i + 1;
+        if (child >= keys.length) break;
+        if (child + 1 < keys.length && keys[child + 1] < keys[child]) child++;
+        if (keys[child] >= lastKey) break;
+        keys[i] = keys[child];
+        values[i] = values[child];
+        i = child;
+      }
+      keys[i] = lastKey;
+      values[i] = lastValue;
+    }
+    return top;
+  }
 }

@@ -1,6 +1,6 @@
 import { TERMINAL_CODE, stateName } from '../model/compiled';
 import { goalRouteOf } from '../analysis/goal-route';
-import { likelyPathTo } from '../analysis/policy-loops';
+import { likeliestPathTo } from '../analysis/policy-loops';
 import {
   describePath,
   formatAmount,
@@ -52,7 +52,8 @@ the step cost, or give the goal a bonus that outweighs the route's costs.
     if (!route) return;
     const routeReach = route.evaluation.start.reach.optimal;
     if (!(optimalReach.failure - routeReach.failure >= gap)) return;
-    const path = likelyPathTo(model, analysis.optimal.policy, analysis.optimal.reach.failure, TERMINAL_CODE.failure);
+    const path = likeliestPathTo(model, analysis.optimal.policy, TERMINAL_CODE.failure);
+    if (path.length < 2) return;
     const last = path[path.length - 2];
     const failure = stateName(model, path[path.length - 1].state);
     const optimal = midpoint(analysis.start.optimal);
