@@ -17,6 +17,16 @@ describe('hostile model code is contained and reported as model-error with the s
     expect(report.analysis).toBeUndefined();
   });
 
+  test('an endless loop in an imported file is located there', async () => {
+    const helper = `export function settle(n: number): number {\n  let x = n;\n  while (x >= 0) x = (x + 1) % 7;\n  return x;\n}\n`;
+    const text = counterSpec(`    return [{ state: { n: settle(s.n) }, probability: 1, reward: -1 }];`, `import { settle } from './physics';`);
+    const report = await analyzeTs(text, FAST_LIMITS, {}, { 'physics.ts': helper });
+    const [finding] = findingsOf(report, 'model-error');
+    expect(finding.message).toContain('did not return within 400 ms');
+    expect(finding.message).toContain('(at physics.ts:3:');
+    expect(report.text.slice(finding.span.start, finding.span.end)).toBe('outcomes');
+  });
+
   test('a memory bomb hits the heap limit and is reported with the call that ran', async () => {
     const text = counterSpec(`    const hoard = [];\n    for (;;) hoard.push({ i: hoard.length, pad: [1, 2, 3, 4] });`);
     // A generous call timeout: on a busy machine filling 64 MB can take longer than the usual limit.
