@@ -345,6 +345,37 @@ describe('finite horizon: backward induction over steps to go', () => {
   });
 });
 
+describe('finite horizon too long to induce step by step', () => {
+  // Same model, horizon 10^9: induction stops early and the remaining steps are bounded by the
+  // smallest and largest rewards (0 and 5 per step, discounted), which stays sound.
+  const spec: HandModel = {
+    discount: 0.5,
+    horizon: 1_000_000_000,
+    start: 's',
+    states: ['s', ['goal', 'goal']],
+    choices: [
+      ['s', 'stay', [['s', 1, 1]]],
+      ['s', 'go', [['goal', 1, 5]]],
+    ],
+  };
+
+  it('discount 0.5: the bounds contain V_H = 5 (going at once beats 1 + 0.5 * 5) and are tight', () => {
+    const { analysis, at } = run(spec);
+    expect(analysis.exact).toBe(false);
+    expect(analysis.optimal.values.lower[at('s')]).toBeLessThanOrEqual(5);
+    expect(analysis.optimal.values.upper[at('s')]).toBeGreaterThanOrEqual(5);
+    expect(analysis.optimal.values.upper[at('s')] - analysis.optimal.values.lower[at('s')]).toBeLessThan(1e-9);
+  });
+
+  it('discount 1: the bounds contain V_H = (H - 1) + 5, staying until the last step', () => {
+    const { analysis, at } = run({ ...spec, discount: 1 });
+    const exact = 1_000_000_000 - 1 + 5;
+    expect(analysis.exact).toBe(false);
+    expect(analysis.optimal.values.lower[at('s')]).toBeLessThanOrEqual(exact);
+    expect(analysis.optimal.values.upper[at('s')]).toBeGreaterThanOrEqual(exact);
+  });
+});
+
 describe('reward-term shares under the optimal policy', () => {
   it('splits the optimal return into its named terms and shaping', () => {
     const b = new ModelBuilder({ discount: 1, maximize: true, terms: ['delivery', 'battery'] });

@@ -141,3 +141,99 @@ describe('total reward at discount 1 against mathjs lusolve (proper policies onl
     });
   }
 });
+
+/**
+ * Seeded random models of our own at discount 1 where every step between non-terminal states
+ * costs (negative reward) and entering a terminal may pay: some policies never end and lose
+ * without bound, others end and have a finite total; the last two states are a trap (-inf).
+ */
+function costlyModel(seed: number, states: number, actions: number): CompiledModel {
+  const random = seededRandom(seed);
+  const b = new ModelBuilder({ discount: 1, maximize: true });
+  const nowhere = { start: 0, end: 0 };
+  for (let s = 0; s < states; s++) b.addState(`s${s}`, undefined, nowhere);
+  const goal = b.addState('goal', 'goal', nowhere);
+  for (let s = 0; s < states; s++) {
+    for (let a = 0; a < actions; a++) {
+      const outcomes = [];
+      // The last two states form a trap: their choices never leave them.
+      const trap = s >= states - 2;
+      const first = trap ? states - 2 + Math.floor(random() * 2) : Math.floor(random() * (states + 1));
+      const second = trap ? states - 2 + Math.floor(random() * 2) : Math.floor(random() * (states + 1));
+      const split = first === second ? 1 : 0.3 + 0.4 * random();
+      for (const [target, probability] of [[first, split], [second, 1 - split]] as const) {
+        if (probability <= 0) continue;
+        const toGoal = target === states;
+        outcomes.push({ target: toGoal ? goal : target, probability, reward: toGoal ? Math.round(random() * 50) / 10 : -Math.round((0.1 + random() * 2) * 10) / 10 });
+      }
+      b.addChoice(s, `a${a}`, -1, outcomes);
+    }
+  }
+  return b.finish([{ state: 0, probability: 1 }]);
+}
+
+/** The value of a deterministic policy at discount 1: -inf where it may never end (every step costs), else the solution of (I - P) v = r. */
+function evaluateTotal(model: CompiledModel, policy: Int32Array): number[] {
+  const n = model.stateCount;
+  // States that can reach a state from which no terminal is reachable never end surely.
+  const endsFrom = new Uint8Array(n);
+  for (let s = 0; s < n; s++) if (model.terminal[s] !== 0) endsFrom[s] = 1;
+  for (let changed = true; changed; ) {
+    changed = false;
+    for (let s = 0; s < n; s++) {
+      if (endsFrom[s]) continue;
+      const c = policy[s];
+      for (let k = model.outcomeStart[c]; k < model.outcomeStart[c + 1]; k++) {
+        if (endsFrom[model.outcomeTarget[k]]) {
+          endsFrom[s] = 1;
+          changed = true;
+        }
+      }
+    }
+  }
+  const proper = new Uint8Array(n).fill(1);
+  for (let changed = true; changed; ) {
+    changed = false;
+    for (let s = 0; s < n; s++) {
+      if (!proper[s] || model.terminal[s] !== 0) continue;
+      const c = policy[s];
+      let bad = !endsFrom[s];
+      for (let k = model.outcomeStart[c]; k < model.outcomeStart[c + 1]; k++) if (!proper[model.outcomeTarget[k]]) bad = true;
+      if (bad) {
+        proper[s] = 0;
+        changed = true;
+      }
+    }
+  }
+  const solved = evaluate(model, (s, c) => (proper[s] && policy[s] === c ? 1 : 0));
+  return solved.map((v, s) => (proper[s] ? v : -Infinity));
+}
+
+describe('total reward at discount 1 with improper policies, against brute force and mathjs lusolve', () => {
+  for (let seed = 301; seed <= 312; seed++) {
+    const model = costlyModel(seed, 6, 3);
+    it(`seed ${seed}: V* is the best total over deterministic policies (-inf where no policy ends surely)`, () => {
+      const analysis = analyzeModel(model, { precision: 1e-6 });
+      const best = new Array(model.stateCount).fill(-Infinity);
+      for (const policy of allPolicies(model)) {
+        const values = evaluateTotal(model, policy);
+        for (let s = 0; s < values.length; s++) best[s] = Math.max(best[s], values[s]);
+      }
+      for (let s = 0; s < model.stateCount; s++) {
+        if (best[s] === -Infinity) {
+          expect(analysis.optimal.values.upper[s], `state ${s}`).toBe(-Infinity);
+        } else {
+          expect(analysis.optimal.values.lower[s], `state ${s}`).toBeLessThanOrEqual(best[s] + 1e-9);
+          expect(analysis.optimal.values.upper[s], `state ${s}`).toBeGreaterThanOrEqual(best[s] - 1e-9);
+          expect(analysis.optimal.values.upper[s] - analysis.optimal.values.lower[s]).toBeLessThanOrEqual(1e-6);
+        }
+      }
+      // The returned policy attains V*: its own total equals the bounds.
+      const own = evaluateTotal(model, analysis.optimal.policy!);
+      for (let s = 0; s < model.stateCount; s++) {
+        if (best[s] === -Infinity) continue;
+        expect(own[s], `policy value at state ${s}`).toBeGreaterThanOrEqual(analysis.optimal.values.lower[s] - 1e-9);
+      }
+    });
+  }
+});

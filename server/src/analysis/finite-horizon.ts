@@ -74,8 +74,10 @@ export function solveFiniteHorizon(graph: ModelGraph, horizon: number, inputs: H
   const discount = model.discount;
   const sigma = inputs.maximize ? 1 : -1;
 
-  const work = Math.max(1, model.outcomeCount) * 3;
-  const steps = Math.min(horizon, Math.max(1000, Math.floor(inputs.budget / work)));
+  // Each step visits every outcome and state once per tracked quantity, plus a fixed overhead.
+  const tracked = 6 + 4 * inputs.entry.length + inputs.terms.length;
+  const work = (model.outcomeCount + n + 64) * tracked;
+  const steps = Math.min(horizon, Math.max(100, Math.floor(inputs.budget / Math.max(1, work))));
   const keepTable = (horizon + 1) * n <= TABLE_LIMIT && steps === horizon;
   const table: FiniteHorizonSolution | undefined = keepTable
     ? { horizon, value: new Float64Array((horizon + 1) * n), bestChoice: new Int32Array((horizon + 1) * n).fill(-1) }

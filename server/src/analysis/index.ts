@@ -32,7 +32,7 @@ export interface AnalyzeModelOptions {
 /** Work caps that keep a single analysis within minutes even on million-state models. */
 const SWEEP_WORK_LIMIT = 2e10;
 const GAIN_WORK_LIMIT = 2e8;
-const HORIZON_WORK_LIMIT = 2e10;
+const HORIZON_WORK_LIMIT = 1e9;
 
 const KIND_CODES = [TERMINAL_CODE.goal, TERMINAL_CODE.failure, TERMINAL_CODE.neutral];
 
