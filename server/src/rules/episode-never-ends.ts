@@ -27,9 +27,9 @@ bootstrap from a terminal.
 **Fix.** Add a \`horizon\` (the episode is cut after that many steps), give the model a terminal that every
 policy eventually reaches, or use a discount below 1.
 
-**Thresholds.** \`stepCap\` (default 10,000) sets where a rollout is stopped; with a discount below 1 and
-no horizon it also bounds the truncation error of the estimates (at most discount^stepCap times the largest
-return that follows).
+**Thresholds.** \`stepCap\` (default 10,000) sets where a rollout without a horizon is stopped. With a
+discount below 1 a rollout also stops once discount^t falls below 1e-12, so the estimates leave out at most
+1e-12 times the largest return that could follow.
 `.trim(),
   check(ctx) {
     const rollouts = ctx.spec.typescript?.rollouts;
