@@ -307,8 +307,15 @@ export function enumerateModel(model: ModelFunctions, options: EnumerationOption
   let current = -1;
   let currentAction: string | undefined;
 
-  const addState = (value: unknown, what: string): number => {
-    const key = canonicalKey(value, what);
+  // Messages are built only on failure: a template string per outcome would cost an allocation each.
+  const addState = (value: unknown, what: string | (() => string)): number => {
+    let key: string;
+    try {
+      key = canonicalKey(value);
+    } catch (error) {
+      if (!(error instanceof MalformedValue)) throw error;
+      key = canonicalKey(value, typeof what === 'string' ? what : what());
+    }
     const known = index.get(key);
     if (known !== undefined) return known;
     if (keys.length >= options.stateCap) {
@@ -379,7 +386,7 @@ export function enumerateModel(model: ModelFunctions, options: EnumerationOption
       progress[1] = 3;
       for (let a = 0; a < list.length; a++) {
         const action = list[a];
-        const name = actionName(action, `action ${a}`);
+        const name = typeof action === 'string' ? action : actionName(action, `action ${a}`);
         currentAction = name;
         let actionId = actionIndex.get(name);
         if (actionId === undefined) {
@@ -406,12 +413,12 @@ export function enumerateModel(model: ModelFunctions, options: EnumerationOption
           sum += p;
           if (p === 0) continue;
           if (typeof out.reward !== 'number') termScratch.length = 0;
-          const r = readReward(out.reward, termIndex, termScratch, strictTerms, `outcome ${o}'s reward`);
+          const r = typeof out.reward === 'number' ? out.reward : readReward(out.reward, termIndex, termScratch, strictTerms, `outcome ${o}'s reward`);
           if (!Number.isFinite(r)) {
             problem = { kind: 'non-finite-reward', phase, message: `the reward ${r} in outcome ${o}`, state: keys[current], action: name };
             break;
           }
-          const next = addState(out.state, `outcome ${o}'s state`);
+          const next = addState(out.state, () => `outcome ${o}'s state`);
           if (next < 0) break;
           target.push(next);
           prob.push(p);
