@@ -31,7 +31,7 @@ describe('progress bar', () => {
     expect(writes).toEqual(['\r\u001b[2K[######------------------] 1/4 b.mdp.json']);
     t = 650;
     bar.tick();
-    // Redraws are at least 100 ms apart.
+    // A drawn bar is refreshed at most every 100 ms.
     expect(writes).toHaveLength(1);
     t = 800;
     bar.working('c.mdp.json');
@@ -40,6 +40,23 @@ describe('progress bar', () => {
     expect(writes[2]).toBe('\r\u001b[2K');
     bar.finish();
     expect(writes).toHaveLength(3);
+  });
+
+  it('comes back at once after being cleared for other output', () => {
+    let t = 0;
+    const { writes, stream } = fakeStream(true);
+    const bar = new ProgressBar(stream, 2, { now: () => t, delayMs: 500, intervalMs: 100 });
+    t = 700;
+    bar.working('a.mdp.json');
+    bar.tick();
+    bar.clear();
+    t = 710;
+    bar.working('b.mdp.json');
+    expect(writes).toEqual([
+      '\r\u001b[2K[------------------------] 0/2 a.mdp.json',
+      '\r\u001b[2K',
+      '\r\u001b[2K[############------------] 1/2 b.mdp.json',
+    ]);
   });
 
   it('fits the line to the terminal width', () => {

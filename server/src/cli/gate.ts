@@ -91,6 +91,8 @@ export class CheckGate {
   /** Records a checked spec (for unused ignores and the HTML report). */
   finished(report: FileReport, json: JsonFile): void {
     this.progress.tick();
+    // The text format prints each file's findings as soon as they are known: make room for them.
+    if (this.options.format === 'text') this.progress.clear();
     const loaded = this.loadedFor(path.resolve(this.options.cwd, report.path));
     loaded?.checked.push({ path: report.path, suppressed: report.suppressed ?? [], complete: isCompletelyChecked(report) });
     if (this.options.report !== undefined) {

@@ -56,19 +56,29 @@ export class ProgressBar {
   /** Marks one more item as done. */
   tick(): void {
     this.done = Math.min(this.total, this.done + 1);
-    this.maybeDraw();
+    if (this.drawn) this.maybeDraw();
   }
 
-  /** Erases the bar, if it was drawn; call before printing results. */
-  finish(): void {
+  /**
+   * Erases the bar, if it is drawn: call before printing to the same terminal. The next
+   * `working` draws it again.
+   */
+  clear(): void {
     if (this.drawn) this.stream.write('\r\u001b[2K');
     this.drawn = false;
+  }
+
+  /** Erases the bar for good at the end of the run. */
+  finish(): void {
+    this.clear();
   }
 
   private maybeDraw(): void {
     if (!this.enabled) return;
     const t = this.now();
-    if (t - this.start < this.delayMs || t - this.lastDraw < this.intervalMs) return;
+    if (t - this.start < this.delayMs) return;
+    // A drawn bar is refreshed at most every intervalMs; an erased one comes back at once.
+    if (this.drawn && t - this.lastDraw < this.intervalMs) return;
     this.lastDraw = t;
     this.drawn = true;
     this.stream.write(`\r\u001b[2K${this.line()}`);
