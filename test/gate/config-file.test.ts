@@ -1,4 +1,4 @@
-import { mkdtempSync, mkdirSync, writeFileSync } from 'node:fs';
+import { mkdtempSync, mkdirSync, readFileSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import * as path from 'node:path';
 import { describe, expect, it } from 'vitest';
@@ -120,5 +120,25 @@ describe('config file', () => {
     expect(loaded.config.baseDir).toBe(path.join(root, 'repo', 'specs'));
     const missing = loadConfigFile(path.join(root, 'nope', CONFIG_FILE_NAME));
     expect(missing.findings[0].message).toMatch(/^cannot read the config file: ENOENT/);
+  });
+});
+
+describe('config schema', () => {
+  // The rule catalog of DESIGN.md ("Rule catalog, version 1"), plus the fronts' own config and suppression.
+  const CATALOG = [
+    'schema', 'undeclared-state', 'undeclared-action', 'probability-sum', 'negative-probability', 'missing-outcomes', 'dead-end',
+    'terminal-has-transitions', 'duplicate-transition', 'unreachable-state', 'unreachable-terminal', 'trap-state', 'unbounded-return',
+    'reward-loop', 'failure-preferred', 'living-reward', 'objective-sign', 'term-direction', 'shaping-not-potential', 'terminal-potential',
+    'shaping-changes-policy', 'goal-discounted-away', 'horizon-too-short', 'time-dependent-optimum', 'reward-scale', 'tiny-probability',
+    'enumeration-limit', 'model-error', 'non-finite-reward', 'unseeded-randomness', 'nondeterministic-model', 'episode-never-ends',
+  ];
+
+  it('names exactly the catalog rules and the front rules, and every registered rule', async () => {
+    const schema = JSON.parse(readFileSync(path.join(__dirname, '..', '..', 'schemas', 'config.schema.json'), 'utf8'));
+    const ids = Object.keys(schema.properties.rules.properties).sort();
+    expect(ids).toEqual([...CATALOG, 'config', 'suppression'].sort());
+    expect(schema.properties.ignore.items.properties.rule.enum).toEqual(['*', ...ids]);
+    const { RULES: registered } = await import('../../server/src/rules/registry');
+    for (const rule of registered) expect(ids).toContain(rule.id);
   });
 });
