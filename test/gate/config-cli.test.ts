@@ -95,6 +95,35 @@ describe('config and suppressions through the command line', () => {
     expect(commented.split('\n')[findings[0].line - 1].trim()).toBe('// episcope-ignore probability-sum: no longer needed');
   });
 
+  it('a comment in a TypeScript spec suppresses the finding on the next line', async () => {
+    const dir = tempFolder('ts-suppress');
+    mkdirSync(path.join(dir, '.git'));
+    // An invented two-state model whose outcomes call Math.random (unseeded-randomness).
+    const source = (comment: string) => `import { defineMdp } from 'episcope';
+
+export default defineMdp({
+  name: 'noisy-log',
+  discount: 0.9,
+  start: 'a',
+  actions: (s: string) => (s === 'a' ? ['go'] : []),
+  outcomes: (s: string, action: string) => {
+    ${comment}
+    const tag = Math.random();
+    void tag;
+    return [{ state: 'done', probability: 1, reward: 1 }];
+  },
+  terminal: (s: string) => (s === 'done' ? 'goal' : undefined),
+});
+`;
+    writeFileSync(path.join(dir, 'noisy.mdp.ts'), source('// a log tag only'));
+    const plain = await checkJson(dir);
+    expect(plain.files[0].findings.map((f) => [f.rule, f.line])).toEqual([['unseeded-randomness', 10]]);
+    writeFileSync(path.join(dir, 'noisy.mdp.ts'), source('// episcope-ignore unseeded-randomness: the value only tags a log line'));
+    const suppressed = await checkJson(dir);
+    expect(suppressed.files[0].findings).toEqual([]);
+    expect(suppressed.code).toBe(0);
+  });
+
   it('--config names the config for every spec; a missing one exits 2', async () => {
     const dir = project(undefined);
     writeFileSync(path.join(dir, 'strict.json'), '{ "rules": { "tiny-probability": "error" } }');
