@@ -181,6 +181,14 @@ describe('paths', () => {
     expect(result.stderr).toBe("episcope: cannot read 'no/such/spec.mdp.json': no such file or folder\n");
   });
 
+  it('exits 2 with one line when a part of the path is a file, not a folder', async () => {
+    const result = await cli(['check', 'examples/warehouse-picking.mdp.json/inner.mdp.json']);
+    expect(result.code).toBe(2);
+    expect(result.stdout).toBe('');
+    expect(result.stderr).toBe("episcope: cannot read 'examples/warehouse-picking.mdp.json/inner.mdp.json': a part of the path is not a folder\n");
+  });
+
+  // Root reads every file whatever its mode, so this case can only be seen by another user.
   it.skipIf(process.getuid?.() === 0)('exits 2 with one line for a file without read permission', async () => {
     const folder = tempFolder('perm');
     const file = path.join(folder, 'locked.mdp.json');
