@@ -7,7 +7,7 @@
 import { buildSync } from 'esbuild';
 import { existsSync } from 'node:fs';
 import { join } from 'node:path';
-import { Worker } from 'node:worker_threads';
+import { isMainThread, Worker } from 'node:worker_threads';
 import { bundleModel, locateStack, originalPosition, type ModelBundle, type SourceLocation } from './bundle';
 import { MODEL_SCRIPT_NAME, STATE_TEXT_LENGTH, type HostRequest, type ModelDescription, type RandomnessCall, type WorkerReply } from './protocol';
 import { PHASE_CODES, type Enumeration, type ModelFunction, type RolloutRun, type RuntimeProblem } from './runtime';
@@ -269,7 +269,10 @@ async function pauseWorker(threadId: number, timeoutMs: number): Promise<{ line:
     return undefined;
   }
   const session = new inspector.Session();
-  session.connect();
+  // Inside a worker (the language server analyses off its main thread) only the main thread's
+  // inspector reports nested workers.
+  if (isMainThread) session.connect();
+  else session.connectToMainThread();
   try {
     return await new Promise<{ line: number; column: number } | undefined>((resolve) => {
       const timer = setTimeout(() => resolve(undefined), timeoutMs);
