@@ -6,7 +6,7 @@ export interface EpiscopeConfig {
   rules?: Record<string, Severity | 'off'>;
   /** Thresholds keyed `rule-id.name`, e.g. `"reward-loop.probabilityGap": 0.2`. */
   thresholds?: Record<string, number>;
-  /** Findings to suppress: a rule id and a path glob relative to the config file, with a reason. */
+  /** Findings to suppress: a rule id (or "*") and a path glob relative to the config file, with a reason (suppress.ts). */
   ignore?: Array<{ rule: string; path: string; reason: string }>;
   /** Cap on states enumerated from a TypeScript model. */
   stateCap?: number;
