@@ -177,19 +177,25 @@ export interface EstimateStats {
   absoluteChange: number;
   /** Smallest magnitude of an updated value. */
   minMagnitude: number;
+  /** Smallest and largest signed change (new minus old). */
+  minChange: number;
+  maxChange: number;
 }
 
 /**
- * One Gauss-Seidel sweep of plain value iteration on a single vector (an estimate; it becomes a
- * bound only through the contraction argument of contractionBounds). Allocation-free.
+ * One sweep of plain value iteration on a single vector (an estimate; it becomes a bound only
+ * through the contraction arguments of contractionBounds). Gauss-Seidel in place by default; with
+ * a separate `out`, a Jacobi sweep that reads `value` and writes `out`. Allocation-free.
  */
-export function sweepEstimate(op: Operator, nodes: Nodes, value: Float64Array, stats?: EstimateStats): void {
+export function sweepEstimate(op: Operator, nodes: Nodes, value: Float64Array, stats?: EstimateStats, out: Float64Array = value): void {
   const { choiceStart, outcomeStart, outcomeTarget, outcomeProb } = op.model;
   const { combine, reward, discount, allowed, policy } = op;
   const { start, members, stay } = nodes;
   let change = 0;
   let absoluteChange = 0;
   let minMagnitude = Infinity;
+  let minChange = Infinity;
+  let maxChange = -Infinity;
   for (let i = 0; i < nodes.count; i++) {
     const m0 = start[i];
     const m1 = start[i + 1];
@@ -228,16 +234,21 @@ export function sweepEstimate(op: Operator, nodes: Nodes, value: Float64Array, s
     if (magnitude < minMagnitude) minMagnitude = magnitude;
     for (let m = m0; m < m1; m++) {
       const s = members[m];
-      const delta = Math.abs(best - value[s]);
+      const signed = best - value[s];
+      const delta = Math.abs(signed);
+      if (signed < minChange) minChange = signed;
+      if (signed > maxChange) maxChange = signed;
       if (!(delta <= absoluteChange)) absoluteChange = delta;
       if (!(delta / scale <= change)) change = delta / scale;
-      value[s] = best;
+      out[s] = best;
     }
   }
   if (stats) {
     stats.change = change;
     stats.absoluteChange = absoluteChange;
     stats.minMagnitude = minMagnitude;
+    stats.minChange = minChange;
+    stats.maxChange = maxChange;
   }
 }
 
@@ -350,38 +361,93 @@ function measureWidth(nodes: Nodes, bounds: Float64Array): number {
 }
 
 /**
- * Discount < 1: Gauss-Seidel value iteration is a contraction of modulus discount in the maximum
- * norm, so after a sweep that moved no value by more than D the true value lies within
- * discount * D / (1 - discount) of the swept vector (M. Puterman, Markov Decision Processes, 1994,
- * Theorems 6.3.1 and 6.3.4). Writes those bounds, intersected with the a-priori ones, once they
- * are narrow enough.
+ * Discount < 1: certified value iteration on one vector, in one of two ways.
+ *  - Episodic tasks (some choice ends the episode with good probability): Gauss-Seidel sweeps.
+ *    Gauss-Seidel value iteration is a contraction of modulus discount in the maximum norm, so
+ *    after a sweep that moved no value by more than D the true value lies within
+ *    discount * D / (1 - discount) of the swept vector (M. Puterman, Markov Decision Processes,
+ *    1994, Theorems 6.3.1 and 6.3.4).
+ *  - Tasks where every choice stays among the updated states with probability p >= 1/2 (continuing
+ *    tasks have p = 1): Jacobi sweeps w = Tv with MacQueen's bounds (J. MacQueen, "A modified
+ *    dynamic programming method for Markovian decision problems", J. Math. Anal. Appl. 14, 1966;
+ *    Puterman 1994, section 6.6). With a <= w - v <= b and g = discount * p,
+ *      w + a * (a >= 0 ? g / (1 - g) : discount / (1 - discount))
+ *        <= V <= w + b * (b >= 0 ? discount / (1 - discount) : g / (1 - g)),
+ *    since T(v + c) >= Tv + g c and T(v + c) <= Tv + discount c for c >= 0 (and the reverse for
+ *    c <= 0). At p = 1 the width shrinks with the spread of w - v, which closes much faster than
+ *    its size when the chain mixes.
+ * Writes the bounds, intersected with the a-priori ones, once they are narrow enough.
  */
 function contractionBounds(op: Operator, nodes: Nodes, bounds: Float64Array, options: SolveOptions): { sweeps: number; sound: boolean } {
   const { members } = nodes;
   const n = op.model.stateCount;
-  const value = new Float64Array(n);
+  const discount = op.discount;
+  let value = new Float64Array(n);
   for (let s = 0; s < n; s++) value[s] = bounds[2 * s];
   const floor = options.lowerBound ?? -Infinity;
   const ceiling = options.upperBound ?? Infinity;
   for (let m = 0; m < members.length; m++) value[members[m]] = Math.min(ceiling, Math.max(floor, 0));
-  const stats: EstimateStats = { change: Infinity, absoluteChange: Infinity, minMagnitude: 0 };
-  const factor = op.discount / (1 - op.discount);
+  const stats: EstimateStats = { change: Infinity, absoluteChange: Infinity, minMagnitude: 0, minChange: 0, maxChange: 0 };
+  const factor = discount / (1 - discount);
+  const staying = leastStayingProbability(op, nodes);
+  const g = discount * staying;
+  const stayFactor = g / (1 - g);
+  const write = (base: Float64Array, lowerShift: number, upperShift: number): void => {
+    for (let m = 0; m < members.length; m++) {
+      const s = members[m];
+      bounds[2 * s] = Math.max(floor, base[s] + lowerShift);
+      bounds[2 * s + 1] = Math.min(ceiling, base[s] + upperShift);
+    }
+  };
+  const jacobi = staying >= 0.5;
+  let next = jacobi ? value.slice() : value;
   let sweeps = 0;
   while (sweeps < options.maxSweeps) {
-    sweepEstimate(op, nodes, value, stats);
+    sweepEstimate(op, nodes, value, stats, next);
     sweeps++;
-    const radius = factor * stats.absoluteChange;
     const target = options.precision * Math.max(1, stats.minMagnitude / RELATIVE_FROM);
-    if (2 * radius <= target) {
-      for (let m = 0; m < members.length; m++) {
-        const s = members[m];
-        bounds[2 * s] = Math.max(floor, value[s] - radius);
-        bounds[2 * s + 1] = Math.min(ceiling, value[s] + radius);
+    if (jacobi) {
+      const a = stats.minChange;
+      const b = stats.maxChange;
+      const lowerShift = a >= 0 ? a * stayFactor : a * factor;
+      const upperShift = b >= 0 ? b * factor : b * stayFactor;
+      if (upperShift - lowerShift <= target) {
+        write(next, lowerShift, upperShift);
+        return { sweeps, sound: true };
       }
-      return { sweeps, sound: true };
+      const swap = value;
+      value = next;
+      next = swap;
+    } else {
+      const radius = factor * stats.absoluteChange;
+      if (2 * radius <= target) {
+        write(value, -radius, radius);
+        return { sweeps, sound: true };
+      }
     }
   }
   return { sweeps, sound: false };
+}
+
+/** The least probability, over the choices the sweeps use, of an outcome that stays among the updated states. */
+function leastStayingProbability(op: Operator, nodes: Nodes): number {
+  const model = op.model;
+  const updated = new Uint8Array(model.stateCount);
+  for (let m = 0; m < nodes.members.length; m++) updated[nodes.members[m]] = 1;
+  let least = 1;
+  for (let m = 0; m < nodes.members.length; m++) {
+    const s = nodes.members[m];
+    const c0 = op.combine === COMBINE_POLICY ? op.policy![s] : model.choiceStart[s];
+    const c1 = op.combine === COMBINE_POLICY ? c0 + 1 : model.choiceStart[s + 1];
+    for (let c = c0; c < c1; c++) {
+      if (op.allowed && !op.allowed[c]) continue;
+      let stay = 0;
+      for (let k = model.outcomeStart[c]; k < model.outcomeStart[c + 1]; k++) if (updated[model.outcomeTarget[k]]) stay += model.outcomeProb[k];
+      if (stay < least) least = stay;
+    }
+  }
+  // Rounding can leave a sum just under its true value; the bound stays valid with a smaller p.
+  return Math.max(0, least - 1e-12);
 }
 
 /**
@@ -392,7 +458,7 @@ function optimisticBounds(op: Operator, nodes: Nodes, bounds: Float64Array, opti
   const { members } = nodes;
   const n = op.model.stateCount;
   const stats: SweepStats = { relativeWidth: Infinity, lowerViolations: 0, upperViolations: 0, crossed: false };
-  const estimateStats: EstimateStats = { change: Infinity, absoluteChange: Infinity, minMagnitude: 0 };
+  const estimateStats: EstimateStats = { change: Infinity, absoluteChange: Infinity, minMagnitude: 0, minChange: 0, maxChange: 0 };
   const estimate = new Float64Array(n);
   for (let s = 0; s < n; s++) estimate[s] = bounds[2 * s];
   for (let m = 0; m < members.length; m++) estimate[members[m]] = 0;
