@@ -10,23 +10,10 @@ import * as path from 'node:path';
 import { describe, expect, it } from 'vitest';
 import { RULES } from '../../server/src/rules/registry';
 import { checkSpec, findingsOf } from '../helpers/specs';
+import { INCENTIVE_RULES } from './incentive-rules';
 
 const FOLDER = path.resolve(__dirname, '..', 'fixtures', 'classic');
 const FIXTURES = readdirSync(FOLDER).filter((f) => f.endsWith('.mdp.json')).sort();
-
-export const INCENTIVE_RULES = [
-  'failure-preferred',
-  'goal-discounted-away',
-  'horizon-too-short',
-  'living-reward',
-  'objective-sign',
-  'reward-loop',
-  'shaping-changes-policy',
-  'shaping-not-potential',
-  'term-direction',
-  'terminal-potential',
-  'time-dependent-optimum',
-];
 
 describe('classic textbook MDPs raise no warning and no error from any rule', () => {
   it('the fixtures are all there', () => {
