@@ -52,7 +52,8 @@ export function formatFileText(file: JsonFile, style: Style): string {
   lines.push(...summariseStart(file, style));
   lines.push(...summariseRollouts(file));
   for (const error of file.internalErrors ?? []) lines.push(`${style.path(file.path)} internal error: ${error}`);
-  return lines.join('\n') + '\n';
+  // A blank line closes each file's block, so that files stand apart when many are checked.
+  return lines.join('\n') + '\n\n';
 }
 
 /** Monte Carlo figures (sampled models; exact ones with --rollouts): estimate, 95% interval, percentiles, reach. */
