@@ -57,7 +57,10 @@ const USER_SETTINGS = {
 
 export interface CodeServerOptions {
   install: E2eInstall;
-  vsix: string;
+  /** Packaged extensions to install before the server starts. */
+  vsix: string[];
+  /** Variables for the server and so for its extension hosts. */
+  env?: Record<string, string>;
 }
 
 export class CodeServer {
@@ -76,6 +79,7 @@ export class CodeServer {
     const home = join(root, 'home');
     const env: NodeJS.ProcessEnv = {
       ...process.env,
+      ...options.env,
       HOME: home,
       XDG_CONFIG_HOME: join(home, '.config'),
       XDG_DATA_HOME: join(home, '.local/share'),
@@ -97,14 +101,16 @@ export class CodeServer {
     writeFileSync(configFile, `bind-addr: 127.0.0.1:${port}\nauth: none\ncert: false\n`);
     const common = ['--config', configFile, '--user-data-dir', userDataDir, '--extensions-dir', extensionsDir];
 
-    const installed = spawnSync(options.install.node, [options.install.codeServerEntry, ...common, '--install-extension', options.vsix], {
-      env,
-      encoding: 'utf8',
-      timeout: 120_000,
-    });
-    const installOutput = `${installed.stdout ?? ''}${installed.stderr ?? ''}`;
-    if (installed.status !== 0 || !/successfully installed/i.test(installOutput)) {
-      throw new Error(`--install-extension ${options.vsix} failed (exit ${installed.status}):\n${installOutput}`);
+    for (const vsix of options.vsix) {
+      const installed = spawnSync(options.install.node, [options.install.codeServerEntry, ...common, '--install-extension', vsix], {
+        env,
+        encoding: 'utf8',
+        timeout: 120_000,
+      });
+      const installOutput = `${installed.stdout ?? ''}${installed.stderr ?? ''}`;
+      if (installed.status !== 0 || !/successfully installed/i.test(installOutput)) {
+        throw new Error(`--install-extension ${vsix} failed (exit ${installed.status}):\n${installOutput}`);
+      }
     }
 
     const serverLog = join(root, 'code-server.log');

@@ -6,15 +6,18 @@
  * findings still appear in restricted mode. Screenshots of each step go to test-results/e2e/.
  */
 import { spawnSync } from 'node:child_process';
-import { cpSync, existsSync, mkdirSync, readdirSync, rmSync, statSync } from 'node:fs';
+import { cpSync, existsSync, mkdirSync, mkdtempSync, readdirSync, readFileSync, rmSync, statSync, symlinkSync, writeFileSync } from 'node:fs';
+import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import type { Browser } from 'playwright-core';
 import { afterAll, beforeAll, beforeEach, describe, expect, it } from 'vitest';
 import { CodeServer, locateInstall, REPO_ROOT } from './codeServer';
 import { shownInterval } from './shown';
+import { packageSuiteRunner, SUITE_MARKER } from './suiteRunner';
 import { launchBrowser, VIEWPORT, Workbench } from './workbench';
 
 const RESULTS = join(REPO_ROOT, 'test-results', 'e2e');
+const SUITE_REPORT = join(RESULTS, 'extension-host-suite.log');
 const timings: Record<string, number> = {};
 
 let server: CodeServer;
@@ -22,6 +25,8 @@ let browser: Browser;
 let workbench: Workbench;
 let trustedExamples: string;
 let untrustedExamples: string;
+let suiteExamples: string;
+let suiteRunnerDir: string;
 
 /** Builds the .vsix with `npm run package` unless EPISCOPE_E2E_VSIX names one already built. */
 function packageExtension(): string {
@@ -38,11 +43,16 @@ function packageExtension(): string {
   return candidates[0];
 }
 
-/** A copy of examples/ with schemas/ beside it, so the specs' relative `$schema` still resolves. */
+/**
+ * A copy of examples/ with schemas/ beside it, so the specs' relative `$schema` still resolves, and
+ * `node_modules/episcope` linking to this checkout above it, as in a project that installs episcope
+ * as a dev dependency (TypeScript specs import their types from it).
+ */
 function copyExamples(parent: string): string {
-  mkdirSync(parent, { recursive: true });
+  mkdirSync(join(parent, 'node_modules'), { recursive: true });
   cpSync(join(REPO_ROOT, 'examples'), join(parent, 'examples'), { recursive: true });
   cpSync(join(REPO_ROOT, 'schemas'), join(parent, 'schemas'), { recursive: true });
+  symlinkSync(REPO_ROOT, join(parent, 'node_modules', 'episcope'), 'dir');
   return join(parent, 'examples');
 }
 
@@ -62,7 +72,17 @@ interface CliInterval {
 }
 interface CliFile {
   findings: Array<{ rule: string; line: number }>;
-  analysis?: { values?: Record<string, { optimal: CliInterval; worst: CliInterval; random: CliInterval; best: string[] }> };
+  analysis?: {
+    start: { optimal: CliInterval };
+    values?: Record<string, { optimal: CliInterval; worst: CliInterval; random: CliInterval; best: string[] }>;
+  };
+}
+
+/** The 1-based line of a TypeScript spec where its lens sits (the default export), to scroll it into view. */
+function defaultExportLine(specPath: string): number {
+  const index = readFileSync(specPath, 'utf8').split('\n').findIndex((line) => line.startsWith('export default'));
+  if (index < 0) throw new Error(`${specPath} has no default export`);
+  return index + 1;
 }
 
 function printLogs(): void {
@@ -76,11 +96,19 @@ beforeAll(async () => {
   mkdirSync(RESULTS, { recursive: true });
   const install = locateInstall();
   const vsix = packageExtension();
+  suiteRunnerDir = mkdtempSync(join(tmpdir(), 'episcope-e2e-suite-runner-'));
+  const suiteRunner = await packageSuiteRunner(suiteRunnerDir);
   let started = Date.now();
-  server = await CodeServer.start({ install, vsix });
+  server = await CodeServer.start({
+    install,
+    vsix: [vsix, suiteRunner],
+    env: { EPISCOPE_SUITE_REPORT: SUITE_REPORT, EPISCOPE_CLI: join(REPO_ROOT, 'dist', 'cli.js') },
+  });
   timings.startServer = Date.now() - started;
   trustedExamples = copyExamples(join(server.root, 'trusted'));
   untrustedExamples = copyExamples(join(server.root, 'untrusted'));
+  suiteExamples = copyExamples(join(server.root, 'suite'));
+  writeFileSync(join(suiteExamples, SUITE_MARKER), '');
   started = Date.now();
   browser = await launchBrowser(install, server.env);
   const page = await browser.newPage({ viewport: VIEWPORT });
@@ -99,6 +127,7 @@ afterAll(async () => {
   await browser?.close().catch(() => undefined);
   await server?.stop();
   if (server && !process.env.EPISCOPE_E2E_KEEP) server.removeFiles();
+  if (suiteRunnerDir) rmSync(suiteRunnerDir, { recursive: true, force: true });
   console.log(`e2e timings (ms): ${JSON.stringify(timings)}`);
 });
 
@@ -137,7 +166,7 @@ describe('Episcope in a real VS Code (code-server)', () => {
     const started = Date.now();
     const hover = await workbench.hover('"incoming": {', '"incoming"', 'optimal');
     const text = await hover.innerText();
-    await workbench.screenshot('hover-state-values');
+    await workbench.screenshot('hover-state-values', { keepPointer: true });
     const rows = Object.fromEntries(
       (await hover.locator('tr').evaluateAll((trs) => trs.map((tr) => [...tr.children].map((cell) => (cell.textContent ?? '').trim())))).map(
         (cells) => [cells[0], cells.slice(1)],
@@ -164,6 +193,27 @@ describe('Episcope in a real VS Code (code-server)', () => {
     timings.hover = Date.now() - started;
   });
 
+  it('runs TypeScript model code in the trusted folder: the code lens shows the return the command line prints', async () => {
+    const started = Date.now();
+    await workbench.dismissHover();
+    await workbench.openFile('shelf-restocking.mdp.ts');
+    // Lenses are drawn only for lines in view; this one sits above the default export.
+    await workbench.goToLine(defaultExportLine(join(trustedExamples, 'shelf-restocking.mdp.ts')));
+    // The lens summarises the start's return ranges, e.g. "Return from the start: optimal 43.75 · …".
+    const lens = workbench.codeLens(/optimal/);
+    await lens.waitFor({ state: 'visible', timeout: 120_000 });
+    const text = (await lens.innerText()).replace(/\u00a0/g, ' ');
+    const shown = /optimal ([^·|]+)/.exec(text);
+    expect(shown, `no optimal value in the lens: ${text}`).not.toBeNull();
+    const optimal = shownInterval(shown![1]);
+    const cli = cliReport(join(trustedExamples, 'shelf-restocking.mdp.ts')).analysis?.start.optimal;
+    expect(cli, 'episcope check reports the start of shelf-restocking').toBeDefined();
+    expect(optimal.lower - optimal.tolerance).toBeLessThanOrEqual(Number(cli!.upper));
+    expect(optimal.upper + optimal.tolerance).toBeGreaterThanOrEqual(Number(cli!.lower));
+    timings.typescriptLens = Date.now() - started;
+    await workbench.screenshot('typescript-spec-lens');
+  });
+
   it('keeps static checks in an untrusted folder (restricted mode)', async () => {
     const started = Date.now();
     await workbench.openFolder(server.folderUrl(untrustedExamples), false);
@@ -175,5 +225,30 @@ describe('Episcope in a real VS Code (code-server)', () => {
     expect(row).toContain('episcope');
     timings.untrustedDiagnostic = Date.now() - started;
     await workbench.screenshot('untrusted-restricted-mode');
+    // Model code of a TypeScript spec does not run here: the lens says so instead of giving values.
+    await workbench.openFile('shelf-restocking.mdp.ts');
+    await workbench.goToLine(defaultExportLine(join(untrustedExamples, 'shelf-restocking.mdp.ts')));
+    await workbench.codeLens(/model code was not run/).waitFor({ state: 'visible', timeout: 60_000 });
+    expect(await workbench.codeLens(/optimal/).count()).toBe(0);
+    await workbench.screenshot('untrusted-typescript-not-run');
+  });
+
+  it('passes the extension-host suite (test/vscode) in code-server', async () => {
+    const started = Date.now();
+    await workbench.openFolder(server.folderUrl(suiteExamples), true);
+    const deadline = Date.now() + 150_000;
+    let report = '';
+    while (!/^suite: (done|failed)$/m.test(report)) {
+      expect(Date.now(), `the suite did not finish; report so far:\n${report}`).toBeLessThan(deadline);
+      await new Promise((done) => setTimeout(done, 250));
+      report = existsSync(SUITE_REPORT) ? readFileSync(SUITE_REPORT, 'utf8') : '';
+    }
+    console.log(report);
+    const closing = /^(\d+) passed, (\d+) failed$/m.exec(report);
+    expect(closing, report).not.toBeNull();
+    expect(Number(closing![1])).toBeGreaterThan(0);
+    expect(Number(closing![2])).toBe(0);
+    expect(report).toMatch(/^suite: done$/m);
+    timings.extensionHostSuite = Date.now() - started;
   });
 });

@@ -72,6 +72,18 @@ export class Workbench {
     await this.page.locator('.monaco-editor .view-lines .view-line').first().waitFor();
   }
 
+  /** Moves the cursor to a 1-based line with Go to Line (Ctrl+G); the editor scrolls it into view. */
+  async goToLine(line: number): Promise<void> {
+    await this.page.keyboard.press('Control+G');
+    const input = this.page.locator('.quick-input-widget input');
+    await input.waitFor({ state: 'visible' });
+    // Go to Line is Quick Open with the ':' prefix; filling the box replaces it, so it is typed again.
+    await input.fill(`:${line}`);
+    await this.page.keyboard.press('Enter');
+    await input.waitFor({ state: 'hidden' });
+    await this.page.locator('.statusbar-item', { hasText: `Ln ${line},` }).first().waitFor();
+  }
+
   /** Shows the Problems panel (Ctrl+Shift+M) unless it is already showing. */
   async showProblems(): Promise<void> {
     const panel = this.page.locator('.markers-panel');
@@ -181,6 +193,16 @@ export class Workbench {
     }
   }
 
+  /** A visible code lens containing `text` (editors of background tabs stay in the page, hidden). */
+  codeLens(text: string | RegExp): Locator {
+    return this.page.locator('.monaco-editor .codelens-decoration:visible', { hasText: text }).first();
+  }
+
+  /** Moves the pointer onto the empty part of the activity bar, where it raises no hover or tooltip. */
+  async parkPointer(): Promise<void> {
+    await this.page.mouse.move(24, VIEWPORT.height - 200);
+  }
+
   async dismissHover(): Promise<void> {
     await this.page.mouse.move(5, VIEWPORT.height / 2);
     await this.page.keyboard.press('Escape');
@@ -223,8 +245,9 @@ export class Workbench {
     return text.replace(/\u00a0/g, ' ');
   }
 
-  /** Saves a numbered screenshot of the whole window and returns its path. */
-  async screenshot(name: string): Promise<string> {
+  /** Saves a numbered screenshot of the whole window and returns its path; the pointer is parked first unless kept. */
+  async screenshot(name: string, options: { keepPointer?: boolean } = {}): Promise<string> {
+    if (!options.keepPointer) await this.parkPointer();
     this.shotCount += 1;
     const path = join(this.shotsDir, `${String(this.shotCount).padStart(2, '0')}-${name}.png`);
     await this.page.screenshot({ path });

@@ -78,21 +78,41 @@ test('a probability-sum error is reported with the rule id and source', async ()
 });
 
 test('the normalise quick fix removes the diagnostic', async () => {
-  const [diagnostic] = episcopeDiagnostics(document.uri, 'probability-sum');
-  const actions = await vscode.commands.executeCommand<vscode.CodeAction[]>('vscode.executeCodeActionProvider', document.uri, diagnostic.range);
-  const fix = actions.find((action) => /normali[sz]e/i.test(action.title));
-  check(fix?.edit, `no normalise fix among: ${actions.map((action) => action.title).join(' | ')}`);
-  check(await vscode.workspace.applyEdit(fix.edit), 'the edit applies');
+  // The server may still be working on the version it analysed, and a request can come back
+  // cancelled while it does: ask again until the fix is offered, as the lightbulb would.
+  let offered = 'none';
+  const fix = await eventually('a normalise fix', async () => {
+    const [diagnostic] = episcopeDiagnostics(document.uri, 'probability-sum');
+    check(diagnostic, 'the probability-sum diagnostic went away before the fix');
+    try {
+      const actions = await vscode.commands.executeCommand<vscode.CodeAction[]>('vscode.executeCodeActionProvider', document.uri, diagnostic.range);
+      offered = actions.map((action) => action.title).join(' | ') || 'none';
+      return actions.find((action) => /normali[sz]e/i.test(action.title) && action.edit);
+    } catch (error) {
+      offered = `request failed: ${error instanceof Error ? error.message : String(error)}`;
+      return undefined;
+    }
+  }, 30_000).catch((error: Error) => {
+    throw new Error(`${error.message}; last answer: ${offered}`);
+  });
+  check(await vscode.workspace.applyEdit(fix.edit!), 'the edit applies');
   await eventually('the probability-sum diagnostic to go', () => (episcopeDiagnostics(document.uri, 'probability-sum').length === 0 ? true : undefined));
   check(await document.save(), 'the fixed spec saves');
 });
 
 test('hovering a state shows the values the command line prints', async () => {
   const position = positionOf(document, '"incoming": {');
+  let lastHover = 'none';
   const text = await eventually('a hover with values', async () => {
-    const hovers = await vscode.commands.executeCommand<vscode.Hover[]>('vscode.executeHoverProvider', document.uri, position);
-    const joined = hoverText(hovers);
-    return /\| optimal \|/.test(joined) ? joined : undefined;
+    try {
+      const hovers = await vscode.commands.executeCommand<vscode.Hover[]>('vscode.executeHoverProvider', document.uri, position);
+      lastHover = hoverText(hovers);
+    } catch (error) {
+      lastHover = `request failed: ${error instanceof Error ? error.message : String(error)}`;
+    }
+    return /\| optimal \|/.test(lastHover) ? lastHover : undefined;
+  }).catch((error: Error) => {
+    throw new Error(`${error.message}; last hover: ${lastHover}`);
   });
   const cli = process.env.EPISCOPE_CLI ?? join(vscode.extensions.getExtension(EXTENSION_ID)!.extensionPath, 'dist', 'cli.js');
   const values = cliValues(document.uri.fsPath, cli).incoming;
