@@ -218,6 +218,19 @@ describe('paths', () => {
     expect(listing()).toEqual(before);
   });
 
+  it('writes nothing next to TypeScript specs either (their model code runs in a sandbox)', async () => {
+    const folder = tempFolder('ts');
+    for (const name of readdirSync(EXAMPLES).filter((n) => n.endsWith('.mdp.ts'))) {
+      writeFileSync(path.join(folder, name), readFileSync(path.join(EXAMPLES, name)));
+    }
+    const listing = () => (readdirSync(folder, { recursive: true }) as string[]).sort().map((f) => `${f}:${statSync(path.join(folder, f)).mtimeMs}`);
+    const before = listing();
+    expect(before.length).toBeGreaterThan(0);
+    const { code } = await cli(['check', '.', '--format', 'json'], { cwd: folder });
+    expect([0, 1]).toContain(code);
+    expect(listing()).toEqual(before);
+  });
+
   it('checks a file named explicitly whatever its name, once even when named twice, and shows outside paths absolute', async () => {
     const folder = tempFolder('named');
     const file = path.join(folder, 'spec.json');
