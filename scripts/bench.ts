@@ -5,10 +5,12 @@
  */
 import { run as analysis } from './bench/analysis';
 import { run as typescript } from './bench/typescript';
+import { run as lsp } from './bench/lsp';
 
 const SECTIONS: ReadonlyArray<{ name: string; run: () => Promise<void> }> = [
   { name: 'analysis', run: analysis },
   { name: 'typescript', run: typescript },
+  { name: 'lsp', run: lsp },
 ];
 
 async function main(): Promise<void> {

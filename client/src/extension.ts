@@ -44,7 +44,8 @@ export async function activate(context: vscode.ExtensionContext): Promise<void> 
     documentSelector: [...SPEC_SELECTOR, { scheme: 'file', pattern: '**/episcope.config.json' }],
     outputChannel,
     revealOutputChannelOn: RevealOutputChannelOn.Never,
-    initializationOptions: { trusted: vscode.workspace.isTrusted },
+    // Read at every (re)start, so a restart after the folder was trusted says so.
+    initializationOptions: () => ({ trusted: vscode.workspace.isTrusted }),
     synchronize: {
       configurationSection: 'episcope',
       fileEvents: vscode.workspace.createFileSystemWatcher('**/episcope.config.json'),

@@ -48,6 +48,8 @@ export interface ClientOptions {
   /** Start `dist/cli.js server --stdio` instead of `dist/server.js --stdio`. */
   viaCli?: boolean;
   extraArgs?: string[];
+  /** The folder holding the bundles (default: the repository's dist/). */
+  dist?: string;
 }
 
 export class TestClient {
@@ -64,8 +66,9 @@ export class TestClient {
 
   constructor(readonly options: ClientOptions) {
     this.settings = options.settings ?? {};
-    const args = options.viaCli ? [join(DIST, 'cli.js'), 'server', '--stdio'] : [join(DIST, 'server.js'), '--stdio'];
-    this.process = spawn(process.execPath, [...args, ...(options.extraArgs ?? [])], { cwd: ROOT });
+    const dist = options.dist ?? DIST;
+    const args = options.viaCli ? [join(dist, 'cli.js'), 'server', '--stdio'] : [join(dist, 'server.js'), '--stdio'];
+    this.process = spawn(process.execPath, [...args, ...(options.extraArgs ?? [])], { cwd: join(dist, '..') });
     this.process.stderr.on('data', (chunk: Buffer) => (this.stderr += chunk.toString()));
     this.connection = createProtocolConnection(new StreamMessageReader(this.process.stdout), new StreamMessageWriter(this.process.stdin));
     this.connection.onNotification('textDocument/publishDiagnostics', (params: PublishDiagnosticsParams) => {
@@ -164,10 +167,11 @@ export class TestClient {
   }
 
   /** The first push of diagnostics for `uri` at `version` (after the push numbered `after`, if given). */
-  pushed(uri: string, version?: number, after = 0): Promise<PublishDiagnosticsParams> {
+  pushed(uri: string, version?: number, after = 0, timeoutMs?: number): Promise<PublishDiagnosticsParams> {
     return this.waitFor(
       () => this.diagnostics.slice(after).find((d) => d.uri === uri && (version === undefined || d.version === version)),
       `diagnostics of ${uri}${version === undefined ? '' : ` v${version}`}`,
+      timeoutMs,
     );
   }
 

@@ -46,7 +46,7 @@ export class AnalysisScheduler {
   constructor(
     private readonly pool: WorkerPool,
     private readonly hooks: SchedulerHooks,
-    private readonly options: SchedulerOptions = { minDelayMs: 15, maxDelayMs: 250 },
+    private readonly options: SchedulerOptions = { minDelayMs: 10, maxDelayMs: 150 },
   ) {}
 
   /**
@@ -58,7 +58,9 @@ export class AnalysisScheduler {
     state.ticket++;
     clearTimeout(state.timer);
     this.cancelRunning(state);
-    const delay = immediate ? 0 : Math.min(this.options.maxDelayMs, Math.max(this.options.minDelayMs, state.lastDurationMs / 2));
+    // A quarter of the last analysis' time: long enough to take a burst of keystrokes as one edit,
+    // short next to the analysis itself, which is where the wait goes.
+    const delay = immediate ? 0 : Math.min(this.options.maxDelayMs, Math.max(this.options.minDelayMs, state.lastDurationMs / 4));
     const ticket = state.ticket;
     state.timer = setTimeout(() => void this.start(uri, ticket), delay);
   }

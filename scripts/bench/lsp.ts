@@ -1,0 +1,140 @@
+/**
+ * Language-server latency, measured the way an editor sees it: the built dist/server.js over stdio,
+ * a JSON-RPC client timing each round trip. Figures:
+ * - time from an edit (didChange) to its fresh diagnostics (publishDiagnostics of that version), for a
+ *   1k-state and a 100k-state JSON spec (the warehouse specs of test/lsp/warehouse-spec.ts);
+ * - hover latency with nothing else to do;
+ * - hover latency, and the small spec's edit-to-diagnostics time, while the 100k-state spec is being
+ *   analysed, which shows whether the big analysis blocks the editor.
+ * Targets from the issue: 1k states <= 100 ms p95 from edit to diagnostics; hover <= 20 ms p95.
+ */
+import { mkdtempSync, rmSync, writeFileSync } from 'node:fs';
+import { cpus, loadavg, tmpdir } from 'node:os';
+import { join } from 'node:path';
+import { TestClient, pathUri, positionAt, positionOf } from '../../test/lsp/harness';
+import { warehouseSpecText } from '../../test/lsp/warehouse-spec';
+
+const EDITS = 20;
+const HOVERS = 200;
+/** The 100k-state analysis may take minutes on a loaded machine; the bench waits for it. */
+const LARGE_TIMEOUT_MS = 30 * 60_000;
+
+export async function run(): Promise<void> {
+  const folder = mkdtempSync(join(tmpdir(), 'episcope-bench-lsp-'));
+  const client = new TestClient({ pull: false, workspaceFolder: folder, dist: __dirname });
+  try {
+    await client.initialize();
+    // Figures scale with what else the machine runs; the load says how busy it was.
+    console.log(`machine: ${cpus().length} cores, load average ${loadavg().map((l) => l.toFixed(1)).join(' ')} at the start`);
+    const small = await openSpec(client, folder, 'small', 1_000);
+    console.log(`1k-state spec (${mb(small.text)}): opened, first diagnostics after ${ms(small.openMs)}`);
+    const smallEdits = await timeEdits(client, small, EDITS);
+    console.log(`  edit -> fresh diagnostics, ${EDITS} edits: ${summary(smallEdits)}   (target p95 <= 100 ms)`);
+    const idleHovers = await timeHovers(client, small, HOVERS);
+    console.log(`  hover, idle, ${HOVERS} hovers: ${summary(idleHovers)}   (target p95 <= 20 ms)`);
+
+    const large = await openSpec(client, folder, 'large', 100_000);
+    console.log(`100k-state spec (${mb(large.text)}): opened, first diagnostics after ${ms(large.openMs)}`);
+
+    // One edit of the large spec, with the editor kept busy meanwhile: hovers on both specs every
+    // 20 ms and edits of the small spec, each timed, until the large spec's fresh diagnostics arrive.
+    const during = { smallHovers: [] as number[], largeHovers: [] as number[], smallEdits: [] as number[] };
+    const largeEdit = timeEdits(client, large, 1);
+    let busy = true;
+    const background = (async () => {
+      while (busy) {
+        during.smallHovers.push(await timeHover(client, small));
+        during.largeHovers.push(await timeHover(client, large));
+        if (during.smallHovers.length % 10 === 0) during.smallEdits.push(...(await timeEdits(client, small, 1)));
+        await new Promise((r) => setTimeout(r, 20));
+      }
+    })();
+    const [largeMs] = await largeEdit;
+    busy = false;
+    await background;
+    console.log(`  edit -> fresh diagnostics: ${ms(largeMs)}`);
+    console.log(`  while it was analysed: hover on the 1k spec ${summary(during.smallHovers)}`);
+    console.log(`                         hover on the 100k spec (previous analysis) ${summary(during.largeHovers)}`);
+    console.log(`                         1k spec edit -> diagnostics ${summary(during.smallEdits)}`);
+    console.log(`machine: load average ${loadavg().map((l) => l.toFixed(1)).join(' ')} at the end`);
+    await client.stop();
+  } finally {
+    if (client.process.exitCode === null) client.process.kill();
+    rmSync(folder, { recursive: true, force: true });
+  }
+}
+
+interface OpenSpec {
+  uri: string;
+  text: string;
+  version: number;
+  count: number;
+  openMs: number;
+}
+
+async function openSpec(client: TestClient, folder: string, name: string, count: number): Promise<OpenSpec> {
+  const text = warehouseSpecText(count);
+  const path = join(folder, `${name}.mdp.json`);
+  writeFileSync(path, text);
+  const uri = pathUri(path);
+  const started = performance.now();
+  await client.open(uri, text);
+  await client.pushed(uri, 1, 0, LARGE_TIMEOUT_MS);
+  return { uri, text, version: 1, count, openMs: performance.now() - started };
+}
+
+/** Edits the reward of the first `hop` transition back and forth; resolves with each edit's time to its diagnostics. */
+async function timeEdits(client: TestClient, spec: OpenSpec, count: number): Promise<number[]> {
+  const times: number[] = [];
+  for (let i = 0; i < count; i++) {
+    const before = spec.version % 2 === 1 ? '"reward":-1}' : '"reward":-2}';
+    const after = before === '"reward":-1}' ? '"reward":-2}' : '"reward":-1}';
+    const offset = spec.text.indexOf(before, spec.text.indexOf('"action":"hop"'));
+    const start = positionAt(spec.text, offset);
+    const range = { start, end: { line: start.line, character: start.character + before.length } };
+    spec.text = spec.text.slice(0, offset) + after + spec.text.slice(offset + before.length);
+    spec.version++;
+    const mark = client.mark();
+    const started = performance.now();
+    await client.change(spec.uri, spec.version, [{ range, text: after }]);
+    await client.pushed(spec.uri, spec.version, mark, LARGE_TIMEOUT_MS);
+    times.push(performance.now() - started);
+  }
+  return times;
+}
+
+async function timeHovers(client: TestClient, spec: OpenSpec, count: number): Promise<number[]> {
+  const times: number[] = [];
+  for (let i = 0; i < count; i++) times.push(await timeHover(client, spec, i));
+  return times;
+}
+
+/** One hover on the declaration of a bay (a different one each time), timed. */
+async function timeHover(client: TestClient, spec: OpenSpec, index = Math.floor(Math.random() * 1e9)): Promise<number> {
+  const bay = (index * 7919) % Math.floor(spec.count / 2);
+  const target = bay % 97 === 50 ? bay + 1 : bay;
+  const position = positionOf(spec.text, `"b${target}": {`);
+  const started = performance.now();
+  const hover = await client.hover(spec.uri, position);
+  const elapsed = performance.now() - started;
+  if (!hover) throw new Error(`no hover on b${target}`);
+  return elapsed;
+}
+
+function percentile(values: number[], p: number): number {
+  const sorted = [...values].sort((a, b) => a - b);
+  return sorted[Math.min(sorted.length - 1, Math.max(0, Math.ceil((p / 100) * sorted.length) - 1))];
+}
+
+function summary(values: number[]): string {
+  if (values.length === 0) return 'none measured';
+  return `p50 ${ms(percentile(values, 50))}, p95 ${ms(percentile(values, 95))}, max ${ms(Math.max(...values))} (n=${values.length})`;
+}
+
+function ms(value: number): string {
+  return value >= 1000 ? `${(value / 1000).toFixed(2)} s` : `${value.toFixed(1)} ms`;
+}
+
+function mb(text: string): string {
+  return `${(text.length / 1e6).toFixed(1)} MB`;
+}
