@@ -34,7 +34,9 @@ describe('shaping-not-potential: must fire', () => {
     expect(found[0].message).toContain('hall --ahead--> pad');
     expect(found[0].message).toContain('pad --back--> hall');
     // The trace and the related locations are the two transitions of the cycle.
-    expect(found[0].trace?.map((t) => `${t.state}/${t.action}`).sort()).toEqual(['hall/ahead', 'pad/back']);
+    const trace = found[0].trace!;
+    expect(trace.filter((t) => t.action).map((t) => `${t.state}/${t.action}`).sort()).toEqual(['hall/ahead', 'pad/back']);
+    expect(trace[trace.length - 1].state).toBe(trace[0].state);
     expect(found[0].related?.map((r) => spanText(report, r)).sort()).toEqual(['"hall"', '"pad"']);
   });
 

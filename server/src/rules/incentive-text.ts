@@ -34,7 +34,8 @@ export function formatSigned(x: number): string {
 
 /** A probability as a percentage ("97%", "0.4%"). */
 export function formatProbability(p: number): string {
-  const percent = p * 100;
+  // Probabilities come from bounds at most about 1e-6 wide: closer than that to 0 or 1 is 0 or 1.
+  const percent = p <= 1e-6 ? 0 : p >= 1 - 1e-6 ? 100 : p * 100;
   if (percent === 0 || percent === 100) return `${percent}%`;
   if (percent >= 99.95 && percent < 100) return '>99.9%';
   if (percent < 0.05) return '<0.1%';

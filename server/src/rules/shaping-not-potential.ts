@@ -116,12 +116,23 @@ function allSteps(conflict: PotentialConflict): ShapingStep[] {
   return [...[...conflict.first.steps].reverse(), ...conflict.second.steps].filter((s) => !seen.has(s.outcome) && seen.add(s.outcome));
 }
 
+/**
+ * A state/action sequence: with discount 1 the cycle in walking order, otherwise the second derivation
+ * read outwards from the state, which follows the transitions from the state towards the anchor.
+ */
 function traceOf(spec: ParsedSpec, model: CompiledModel, conflict: PotentialConflict): TraceStep[] {
-  return allSteps(conflict).map((step) => ({
-    state: stateName(model, step.from),
+  const steps =
+    conflict.net !== undefined
+      ? [...conflict.first.steps, ...[...conflict.second.steps].reverse().map((s) => ({ ...s, forward: !s.forward }))]
+      : [...conflict.second.steps].reverse().map((s) => ({ ...s, forward: !s.forward }));
+  const trace: TraceStep[] = steps.map((step) => ({
+    state: stateName(model, step.forward ? step.from : step.to),
     action: actionOf(model, step.choice),
     span: outcomeSpan(spec, model, step.choice, step.outcome),
   }));
+  const last = steps[steps.length - 1];
+  if (last) trace.push({ state: stateName(model, last.forward ? last.to : last.from), span: model.stateSpan[last.forward ? last.to : last.from] });
+  return trace;
 }
 
 function relatedOf(spec: ParsedSpec, model: CompiledModel, conflict: PotentialConflict): RelatedLocation[] {

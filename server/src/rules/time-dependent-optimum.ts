@@ -29,6 +29,8 @@ from the start along every optimal action. At each state the optimal behaviour v
 actions that were best at every visit so far; when none is left, the state's best action depends on the
 time. The message names the state, the steps left at which the best action flips, both actions with their
 Q values, and what a time-blind policy loses there.
+The rule needs the per-step table of the finite-horizon solution, which the analysis keeps up to about 16
+million (steps x states) entries; beyond that it does not run.
 
 **Fix.** If the time limit is part of the task, put the time left (or the step count) into the state
 the policy sees. If it only bounds training episodes, it is truncation, not termination: treat a cut-off
