@@ -359,6 +359,42 @@ describe('responsiveness and stale work', () => {
   });
 });
 
+describe('commands', () => {
+  it('analyses every spec of the workspace, pushing diagnostics for files that are not open', async () => {
+    const workspace = mkdtempSync(join(tmpdir(), 'episcope-workspace-'));
+    try {
+      mkdirSync(join(workspace, 'specs'));
+      mkdirSync(join(workspace, 'node_modules', 'pkg'), { recursive: true });
+      writeFileSync(join(workspace, 'specs', 'leaky.mdp.json'), LEAKY);
+      writeFileSync(join(workspace, 'chain.mdp.json'), CHAIN);
+      writeFileSync(join(workspace, 'node_modules', 'pkg', 'skipped.mdp.json'), LEAKY);
+      const client = new TestClient({ pull: true, workspaceFolder: workspace });
+      await client.initialize();
+      const open = pathUri(join(workspace, 'chain.mdp.json'));
+      await client.open(open, CHAIN);
+      const summary = await client.connection.sendRequest('workspace/executeCommand', { command: 'episcope.server.analyzeWorkspace', arguments: [] });
+      expect(summary).toEqual({ files: 2, errors: 1, warnings: 0, infos: 0, failed: 0 });
+      const closed = pathUri(join(workspace, 'specs', 'leaky.mdp.json'));
+      expect(byRule((await client.pushed(closed)).diagnostics, 'probability-sum')).toHaveLength(1);
+      // The open file answers pulls; nothing was pushed for it or for node_modules.
+      expect(client.diagnostics.map((d) => d.uri)).toEqual([closed]);
+      expect(await client.stop()).toBe(0);
+    } finally {
+      rmSync(workspace, { recursive: true, force: true });
+    }
+  });
+
+  it('shows a rule’s documentation page', async () => {
+    const client = new TestClient({ pull: false });
+    await client.initialize();
+    const shown = await client.connection.sendRequest('workspace/executeCommand', { command: 'episcope.server.showRuleDocumentation', arguments: ['reward-loop'] });
+    expect(shown).toBe(true);
+    const { uri } = client.shownDocuments.at(-1) as { uri: string };
+    expect(readFileSync(fileURLToPath(uri), 'utf8')).toMatch(/^# reward-loop\n/);
+    expect(await client.stop()).toBe(0);
+  });
+});
+
 describe('episcope server --stdio and workspace trust', () => {
   it('serves the same diagnostics through the command line entry', async () => {
     const client = new TestClient({ pull: false, viaCli: true });
@@ -398,5 +434,14 @@ describe('episcope server --stdio and workspace trust', () => {
     expect(trusted[0].command.title).toBe('Return from the start: optimal 2 · random 2 · worst 2');
     expect(await client.stop()).toBe(0);
     expect(existsSync(join(folder, 'episcope.config.json'))).toBe(false);
+
+    // `episcope server --no-exec` never runs model code, whatever the client says.
+    const noExec = new TestClient({ pull: false, workspaceFolder: folder, viaCli: true, extraArgs: ['--no-exec'], initializationOptions: { trusted: true } });
+    await noExec.initialize();
+    await noExec.open(uri, model);
+    await noExec.pushed(uri, 1);
+    const lenses = await noExec.connection.sendRequest<Lens[]>('textDocument/codeLens', { textDocument: { uri } });
+    expect(lenses.map((l) => l.command.title).join('\n')).toMatch(/model code was not run/);
+    expect(await noExec.stop()).toBe(0);
   });
 });
