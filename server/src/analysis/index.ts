@@ -2,6 +2,13 @@
  * The exact analysis of a compiled model: reachability, end components, sound value bounds for
  * the optimal, worst and uniformly random policies (or finite-horizon values), reach
  * probabilities, episode lengths, Q* and best choices, and reward-term shares. Pure: no I/O.
+ *
+ * Methods: finite-horizon.ts (backward induction, with a horizon); interval-iteration.ts
+ * (certified value iteration at discount < 1, interval iteration at discount 1, one exact pass on
+ * acyclic graphs); total-reward.ts (infinite and undefined totals at discount 1 from end
+ * components, mean-payoff.ts); policy.ts (Q bounds, best choices, policies that attain V*).
+ * Reach probabilities and expected lengths are total-reward problems of the same solver (reward 1
+ * for entering a terminal of the kind, or for every step) under each policy's Markov chain.
  */
 import { TERMINAL_CODE, type CompiledModel } from '../model/compiled';
 import { maximalEndComponents } from './end-components';
@@ -25,7 +32,11 @@ import type {
 } from './types';
 
 export interface AnalyzeModelOptions {
-  /** Target width of every finite bound: at most precision * max(1, |value|). */
+  /**
+   * Target width of every finite bound: at most `precision` for values up to 1000 in magnitude,
+   * and precision * |value| / 1000 beyond (relative for large values; stricter than a width
+   * relative to |value| above 1). The width reached is reported as Analysis.precision.
+   */
   precision: number;
 }
 
