@@ -147,9 +147,11 @@ describe('total reward at discount 1 against mathjs lusolve (proper policies onl
  * costs (negative reward) and entering a terminal may pay: some policies never end and lose
  * without bound, others end and have a finite total; the last two states are a trap (-inf).
  */
-function costlyModel(seed: number, states: number, actions: number): CompiledModel {
+function costlyModel(seed: number, states: number, actions: number, asCosts = false): CompiledModel {
   const random = seededRandom(seed);
-  const b = new ModelBuilder({ discount: 1, maximize: true });
+  const b = new ModelBuilder({ discount: 1, maximize: !asCosts });
+  // As costs (objective minimize), every reward is negated: minimizing the cost is maximizing the reward.
+  const sign = asCosts ? -1 : 1;
   const nowhere = { start: 0, end: 0 };
   for (let s = 0; s < states; s++) b.addState(`s${s}`, undefined, nowhere);
   const goal = b.addState('goal', 'goal', nowhere);
@@ -164,7 +166,8 @@ function costlyModel(seed: number, states: number, actions: number): CompiledMod
       for (const [target, probability] of [[first, split], [second, 1 - split]] as const) {
         if (probability <= 0) continue;
         const toGoal = target === states;
-        outcomes.push({ target: toGoal ? goal : target, probability, reward: toGoal ? Math.round(random() * 50) / 10 : -Math.round((0.1 + random() * 2) * 10) / 10 });
+        const reward = toGoal ? Math.round(random() * 50) / 10 : -Math.round((0.1 + random() * 2) * 10) / 10;
+        outcomes.push({ target: toGoal ? goal : target, probability, reward: sign * reward });
       }
       b.addChoice(s, `a${a}`, -1, outcomes);
     }
@@ -233,6 +236,30 @@ describe('total reward at discount 1 with improper policies, against brute force
       for (let s = 0; s < model.stateCount; s++) {
         if (best[s] === -Infinity) continue;
         expect(own[s], `policy value at state ${s}`).toBeGreaterThanOrEqual(analysis.optimal.values.lower[s] - 1e-9);
+      }
+    });
+  }
+});
+
+describe('the same models as costs to minimize (rewards negated): V* is the negated maximum', () => {
+  for (let seed = 301; seed <= 306; seed++) {
+    it(`seed ${seed}: minimize gives -1 times the brute-force maximum of the reward model`, () => {
+      const rewards = costlyModel(seed, 6, 3);
+      const costs = costlyModel(seed, 6, 3, true);
+      const analysis = analyzeModel(costs, { precision: 1e-6 });
+      const best = new Array(rewards.stateCount).fill(-Infinity);
+      for (const policy of allPolicies(rewards)) {
+        const values = evaluateTotal(rewards, policy);
+        for (let s = 0; s < values.length; s++) best[s] = Math.max(best[s], values[s]);
+      }
+      for (let s = 0; s < costs.stateCount; s++) {
+        const cost = -best[s];
+        if (cost === Infinity) {
+          expect(analysis.optimal.values.lower[s], `state ${s}`).toBe(Infinity);
+        } else {
+          expect(analysis.optimal.values.lower[s], `state ${s}`).toBeLessThanOrEqual(cost + 1e-9);
+          expect(analysis.optimal.values.upper[s], `state ${s}`).toBeGreaterThanOrEqual(cost - 1e-9);
+        }
       }
     });
   }
