@@ -11,7 +11,7 @@ export function formatNumber(x: number): string {
   if (magnitude >= 1e4 && magnitude < 1e9) text = String(Math.round(x));
   else if (magnitude >= 1e9 || magnitude < 1e-3) text = x.toExponential(2).replace('e+', 'e');
   else text = String(Number(x.toPrecision(4)));
-  return text.replace('-', '−');
+  return text.replace(/^-/, '−');
 }
 
 /**

@@ -94,8 +94,8 @@ export function startServer(options: ServerOptions = {}): Connection {
   const workspacePushed = new Set<string>();
   /** Config files whose findings were pushed, with the text they were computed from. */
   const configPushed = new Map<string, string>();
-  /** The latest analysis that read each config file (by URI): its problems answer pulls for the open file. */
-  const configSnapshots = new Map<string, AnalysisSnapshot>();
+  /** Each config file as the latest analysis read it (by URI): its problems answer pulls for the open file. */
+  const configFiles = new Map<string, NonNullable<AnalysisSnapshot['configFile']>>();
 
   const scheduler = new AnalysisScheduler(pool, {
     prepare: async (uri) => prepareJob(uri),
@@ -379,8 +379,15 @@ export function startServer(options: ServerOptions = {}): Connection {
   function pushConfigFindings(snapshot: AnalysisSnapshot): void {
     const file = snapshot.configFile;
     if (!file) return;
-    configSnapshots.set(file.uri, snapshot);
-    if (pullDiagnostics && documents.get(file.uri)) return;
+    configFiles.set(file.uri, file);
+    if (pullDiagnostics && documents.get(file.uri)) {
+      // The open config file's problems are pulled; ask the client to pull again now that they are known.
+      if (configPushed.get(file.uri) !== file.text && capabilities.workspace?.diagnostics?.refreshSupport) {
+        configPushed.set(file.uri, file.text);
+        connection.languages.diagnostics.refresh();
+      }
+      return;
+    }
     if (configPushed.get(file.uri) === file.text) return;
     configPushed.set(file.uri, file.text);
     void connection.sendDiagnostics({ uri: file.uri, diagnostics: file.diagnostics });
@@ -393,7 +400,7 @@ export function startServer(options: ServerOptions = {}): Connection {
     guard('textDocument/diagnostic', { kind: DocumentDiagnosticReportKind.Full, items: [] } as DocumentDiagnosticReport, async (params, token) => {
       const uri = params.textDocument.uri;
       if (isConfigUri(uri)) {
-        const file = configSnapshots.get(uri)?.configFile;
+        const file = configFiles.get(uri);
         const current = file && file.text === documents.get(uri)?.getText();
         return { kind: DocumentDiagnosticReportKind.Full, items: current ? file.diagnostics : [] };
       }
