@@ -42,7 +42,7 @@ import {
 } from './interval-iteration';
 import { classifyMdpGains, gainBounds, GAIN_NEGATIVE, GAIN_POSITIVE, GAIN_UNDECIDED, GAIN_ZERO, type MdpGainClasses } from './mean-payoff';
 import { almostSureReach, backwardLayering, canReach } from './reachability';
-import { isCyclicComponent, stronglyConnectedComponents } from './scc';
+import { isCyclicComponent, stronglyConnectedComponents, type SccDecomposition } from './scc';
 
 export const STATUS_FINITE = 0;
 export const STATUS_PLUS_INFINITE = 1;
@@ -60,6 +60,65 @@ export interface AnalysisContext {
   maxSweeps: number;
   /** Outcome visits allowed per end component for numeric gain bounds. */
   gainBudget: number;
+  /** The SCCs of all non-absorbing states under all choices, computed once when first needed. */
+  fullScc?: SccDecomposition;
+  /** The same under a policy's choices, per policy. */
+  policyScc?: WeakMap<Int32Array, SccDecomposition>;
+}
+
+/**
+ * The SCCs of all non-absorbing states under all choices, or under a policy's choices (`mask`
+ * marks them), computed once and shared by the solves that use the same graph. Each component's
+ * states are put in memory order: inside a component the order brings no Gauss-Seidel benefit,
+ * and memory order keeps the CSR reads sequential.
+ */
+function liveComponents(ctx: AnalysisContext, policy?: Int32Array, mask?: Uint8Array): SccDecomposition {
+  const cached = policy ? ctx.policyScc?.get(policy) : ctx.fullScc;
+  if (cached) return cached;
+  const live = new Uint8Array(ctx.model.stateCount);
+  for (let s = 0; s < live.length; s++) live[s] = ctx.graph.absorbing[s] ? 0 : 1;
+  const scc = stronglyConnectedComponents(ctx.model, live, mask);
+  sortWithinComponents(scc);
+  if (policy) (ctx.policyScc ??= new WeakMap()).set(policy, scc);
+  else ctx.fullScc = scc;
+  return scc;
+}
+
+function sortWithinComponents(scc: SccDecomposition): void {
+  for (let i = 0; i < scc.count; i++) if (scc.start[i + 1] - scc.start[i] > 1) scc.order.subarray(scc.start[i], scc.start[i + 1]).sort();
+}
+
+/**
+ * The iterated states in a successors-first order taken from the live graph's SCCs, and whether
+ * they form an acyclic graph (then one sweep is exact). A subgraph of an acyclic graph is acyclic;
+ * a cyclic component that the iterated states only partly cover is taken as cyclic (sound: the
+ * solve is then iterative).
+ */
+function sweepOrder(ctx: AnalysisContext, iterate: Uint8Array, policy: Int32Array | undefined, mask: Uint8Array | undefined): { order: Int32Array; acyclic: boolean } {
+  const scc = liveComponents(ctx, policy, mask);
+  const order = new Int32Array(scc.order.length);
+  let fill = 0;
+  let acyclic = true;
+  for (let i = 0; i < scc.count; i++) {
+    let used = false;
+    for (let j = scc.start[i]; j < scc.start[i + 1]; j++) {
+      const s = scc.order[j];
+      if (!iterate[s]) continue;
+      order[fill++] = s;
+      used = true;
+    }
+    if (used && acyclic && isCyclicComponent(ctx.model, scc, i, mask)) acyclic = false;
+  }
+  return { order: order.subarray(0, fill), acyclic };
+}
+
+/** The sweep order over the finite region at discount 1, where collapsed groups must stay together. */
+function groupSweepOrder(ctx: AnalysisContext, iterate: Uint8Array, choices: Uint8Array | undefined): { order: Int32Array; acyclic: boolean } {
+  const scc = stronglyConnectedComponents(ctx.model, iterate, choices);
+  sortWithinComponents(scc);
+  let acyclic = true;
+  for (let i = 0; i < scc.count && acyclic; i++) if (isCyclicComponent(ctx.model, scc, i, choices)) acyclic = false;
+  return { order: scc.order, acyclic };
 }
 
 export interface ValueProblem {
@@ -129,13 +188,8 @@ export function solveValues(ctx: AnalysisContext, problem: ValueProblem): ValueS
   }
 
   // Sweep order: successors first (reverse topological order of SCCs), collapsed groups as one node.
-  const sccChoices = groups ? unionMask(allowed, groups.choiceIn) : allowed;
-  const scc = stronglyConnectedComponents(model, iterate, sccChoices);
-  // Within a component the order brings no Gauss-Seidel benefit; memory order keeps the CSR reads sequential.
-  for (let i = 0; i < scc.count; i++) if (scc.start[i + 1] - scc.start[i] > 1) scc.order.subarray(scc.start[i], scc.start[i + 1]).sort();
-  let acyclic = true;
-  for (let i = 0; i < scc.count && acyclic; i++) if (isCyclicComponent(model, scc, i, sccChoices)) acyclic = false;
-  const nodes = groups && groups.count > 0 ? groupedNodes(scc.order, groups) : singletonNodes(scc.order);
+  const { order, acyclic } = groups ? groupSweepOrder(ctx, iterate, unionMask(allowed, groups.choiceIn)) : sweepOrder(ctx, iterate, problem.policy, chainMask);
+  const nodes = groups && groups.count > 0 ? groupedNodes(order, groups) : singletonNodes(order);
 
   const op: Operator = { model, combine: problem.combine, policy: problem.policy, reward: problem.reward, discount: problem.discount, allowed };
   const apriori = aprioriBounds(model, problem, iterate, allowed);
@@ -314,9 +368,7 @@ function classifyChainTotal(
   const { model, graph } = ctx;
   const n = model.stateCount;
   const { choiceStart, outcomeStart, outcomeTarget, outcomeProb } = model;
-  const live = new Uint8Array(n);
-  for (let s = 0; s < n; s++) live[s] = graph.absorbing[s] ? 0 : 1;
-  const scc = stronglyConnectedComponents(model, live, chainMask);
+  const scc = liveComponents(ctx, problem.policy, chainMask);
   const positive = new Uint8Array(n);
   const negative = new Uint8Array(n);
   const undecided = new Uint8Array(n);
