@@ -58,6 +58,18 @@ describe('unreachable-state: must fire', () => {
     );
     expect(findingsOf(report, 'unreachable-state').map((f) => spanText(report, f))).toEqual(['"annex"']);
   });
+
+  it('many unreachable states: one finding each for the first 499, then one that counts the rest', () => {
+    const extra: Record<string, object> = {};
+    const transitions: object[] = [];
+    for (let i = 0; i < 600; i++) {
+      extra[`bin${i}`] = {};
+      transitions.push({ from: `bin${i}`, action: 'walk', to: 'packed', reward: 0 });
+    }
+    const found = findingsOf(checkSpec(picker(extra, transitions)), 'unreachable-state');
+    expect(found).toHaveLength(500);
+    expect(found[499].message).toContain('101 more states are never reached from the start');
+  });
 });
 
 describe('unreachable-state: must not fire', () => {

@@ -33,8 +33,11 @@ transitions if they are obsolete.
     const model = ctx.model;
     if (!model || model.startState.length === 0) return;
     const reachable = ctx.analysis?.reachable ?? reachableFromStart(model);
-    for (let s = 0; s < model.stateCount; s++) {
-      if (reachable[s] || model.terminal[s] !== 0) continue;
+    const unreachable: number[] = [];
+    for (let s = 0; s < model.stateCount; s++) if (!reachable[s] && model.terminal[s] === 0) unreachable.push(s);
+    // A spec with thousands of dead states gets one finding each for the first ones and a count.
+    const listed = unreachable.length > MAX_FINDINGS ? unreachable.slice(0, MAX_FINDINGS - 1) : unreachable;
+    for (const s of listed) {
       const first = model.choiceStart[s];
       const count = model.choiceStart[s + 1] - first;
       const related: RelatedLocation[] = [];
@@ -52,5 +55,16 @@ transitions if they are obsolete.
         tags: ['unnecessary'],
       });
     }
+    if (listed.length < unreachable.length) {
+      const next = unreachable[listed.length];
+      ctx.report({
+        message: `${unreachable.length - listed.length} more states are never reached from the start (from ${quote(stateName(model, next))} on; not listed one by one)`,
+        span: stateSpan(ctx.spec, model, next),
+        tags: ['unnecessary'],
+      });
+    }
   },
 };
+
+/** Findings per spec, the last of them a count of the rest. */
+const MAX_FINDINGS = 500;
