@@ -32,6 +32,8 @@ interface DocumentState {
   settledTicket: number;
   waiters: Array<(snapshot: AnalysisSnapshot | undefined) => void>;
   lastDurationMs: number;
+  /** When the last analysis was asked for (performance.now()). */
+  lastRequestAt: number;
 }
 
 export interface SchedulerOptions {
@@ -50,19 +52,29 @@ export class AnalysisScheduler {
   ) {}
 
   /**
-   * Asks for an analysis of the document's current state. `immediate` skips the pause (opening a
-   * document, a settings change); edits wait a little so that a burst of keystrokes is analysed once.
+   * Asks for an analysis of the document's current state. An edit that comes alone (nothing running,
+   * no edit just before) is analysed at once; an edit inside a burst of keystrokes cancels the work
+   * in progress and waits for a pause, so that the burst is analysed once. `immediate` always starts
+   * at once (opening a document, a settings change).
    */
   schedule(uri: string, immediate = false): void {
     const state = this.state(uri);
     state.ticket++;
+    const now = performance.now();
+    // A quarter of the last analysis' time: long enough to take a burst as one edit, short next to the analysis itself.
+    const pause = Math.min(this.options.maxDelayMs, Math.max(this.options.minDelayMs, state.lastDurationMs / 4));
+    const inBurst = state.running !== undefined || state.timer !== undefined || now - state.lastRequestAt < pause;
+    state.lastRequestAt = now;
     clearTimeout(state.timer);
     this.cancelRunning(state);
-    // A quarter of the last analysis' time: long enough to take a burst of keystrokes as one edit,
-    // short next to the analysis itself, which is where the wait goes.
-    const delay = immediate ? 0 : Math.min(this.options.maxDelayMs, Math.max(this.options.minDelayMs, state.lastDurationMs / 4));
     const ticket = state.ticket;
-    state.timer = setTimeout(() => void this.start(uri, ticket), delay);
+    state.timer = setTimeout(
+      () => {
+        state.timer = undefined;
+        void this.start(uri, ticket);
+      },
+      immediate || !inBurst ? 0 : pause,
+    );
   }
 
   /** The newest completed snapshot, possibly of an older version. */
@@ -89,6 +101,7 @@ export class AnalysisScheduler {
     const state = this.documents.get(uri);
     if (!state) return;
     clearTimeout(state.timer);
+    state.timer = undefined;
     this.cancelRunning(state);
     this.documents.delete(uri);
     for (const waiter of state.waiters.splice(0)) waiter(undefined);
@@ -105,7 +118,7 @@ export class AnalysisScheduler {
   private state(uri: string): DocumentState {
     let state = this.documents.get(uri);
     if (!state) {
-      state = { ticket: 0, latestTicket: -1, settledTicket: -1, waiters: [], lastDurationMs: 0 };
+      state = { ticket: 0, latestTicket: -1, settledTicket: -1, waiters: [], lastDurationMs: 0, lastRequestAt: -Infinity };
       this.documents.set(uri, state);
     }
     return state;
