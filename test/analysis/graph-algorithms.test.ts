@@ -105,6 +105,19 @@ describe('maximal end components (Courcoubetis and Yannakakis 1995; de Alfaro 19
     }
   });
 
+  it('gives the same components when the first round reuses the whole graph\'s SCCs', () => {
+    for (let seed = 31; seed <= 36; seed++) {
+      const random = randomModel(seed, 40, 3, 2, 1, 3);
+      const g = buildModelGraph(random);
+      const live = new Uint8Array(random.stateCount);
+      for (let s = 0; s < live.length; s++) live[s] = g.absorbing[s] ? 0 : 1;
+      const reused = maximalEndComponents(g, undefined, undefined, stronglyConnectedComponents(random, live));
+      const fresh = maximalEndComponents(g);
+      expect(Array.from(reused.choiceIn)).toEqual(Array.from(fresh.choiceIn));
+      expect(reused.states.map((st) => Array.from(st)).sort()).toEqual(fresh.states.map((st) => Array.from(st)).sort());
+    }
+  });
+
   it('is maximal: every end component found by brute force over choice subsets lies inside one MEC', () => {
     let found = 0;
     for (let seed = 21; seed <= 26; seed++) {

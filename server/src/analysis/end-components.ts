@@ -8,7 +8,7 @@
  * lost something, until nothing changes.
  */
 import type { ModelGraph } from './graph';
-import { stronglyConnectedComponents } from './scc';
+import { stronglyConnectedComponents, type SccDecomposition } from './scc';
 
 export interface EndComponentDecomposition {
   count: number;
@@ -26,7 +26,13 @@ export interface EndComponentDecomposition {
  * The MECs of the sub-MDP made of the states in `stateMask` (default: every non-absorbing state)
  * and the choices in `choiceMask` (default: all). Terminal states are never part of one.
  */
-export function maximalEndComponents(graph: ModelGraph, stateMask?: Uint8Array, choiceMask?: Uint8Array): EndComponentDecomposition {
+export function maximalEndComponents(
+  graph: ModelGraph,
+  stateMask?: Uint8Array,
+  choiceMask?: Uint8Array,
+  /** The SCCs of every non-absorbing state under every choice, when the caller has them (saves the first round). */
+  knownComponents?: SccDecomposition,
+): EndComponentDecomposition {
   const { model, choiceState, predStart, predChoice, absorbing } = graph;
   const n = model.stateCount;
   const { choiceStart, outcomeStart, outcomeTarget, outcomeProb } = model;
@@ -81,8 +87,10 @@ export function maximalEndComponents(graph: ModelGraph, stateMask?: Uint8Array, 
   propagateRemovals(new Uint8Array(0), new Int32Array(n).fill(-1));
   for (let s = 0; s < n; s++) if (!alive[s]) dirty[s] = 0;
 
+  let firstRound = !stateMask && !choiceMask && queueTail === 0 ? knownComponents : undefined;
   while (dirtyCount > 0) {
-    const scc = stronglyConnectedComponents(model, dirty, allowed);
+    const scc = firstRound ?? stronglyConnectedComponents(model, dirty, allowed);
+    firstRound = undefined;
     const sccOf = scc.componentOf;
     const lost = new Uint8Array(scc.count);
     for (let i = 0; i < scc.order.length; i++) {

@@ -18,7 +18,8 @@ import { COMBINE_AVERAGE, COMBINE_MAX, COMBINE_MIN, COMBINE_POLICY } from './int
 import { classifyMdpGains, GAIN_NEGATIVE, GAIN_POSITIVE, GAIN_ZERO, type MdpGainClasses } from './mean-payoff';
 import { attainingPolicy, bestChoices, choiceBounds } from './policy';
 import { reachableFromStart } from './reachability';
-import { solveValues, type AnalysisContext, type ValueSolution } from './total-reward';
+import { stronglyConnectedComponents } from './scc';
+import { solveValues, sortWithinComponents, type AnalysisContext, type ValueSolution } from './total-reward';
 import type {
   Analysis,
   Bounds,
@@ -50,11 +51,18 @@ const KIND_CODES = [TERMINAL_CODE.goal, TERMINAL_CODE.failure, TERMINAL_CODE.neu
 export function analyzeModel(model: CompiledModel, options: AnalyzeModelOptions): Analysis {
   const precision = options.precision > 0 && Number.isFinite(options.precision) ? options.precision : 1e-6;
   const graph = graphOf(model);
-  const mecs = maximalEndComponents(graph);
+  // The SCCs of the whole graph serve as the first round of the end-component refinement and as
+  // the sweep order of the solves that use every choice.
+  const live = new Uint8Array(model.stateCount);
+  for (let s = 0; s < live.length; s++) live[s] = graph.absorbing[s] ? 0 : 1;
+  const fullScc = stronglyConnectedComponents(model, live);
+  sortWithinComponents(fullScc);
+  const mecs = maximalEndComponents(graph, undefined, undefined, fullScc);
   const ctx: AnalysisContext = {
     model,
     graph,
     mecs,
+    fullScc,
     precision,
     maxSweeps: Math.max(10_000, Math.floor(SWEEP_WORK_LIMIT / Math.max(1, model.outcomeCount))),
     gainBudget: GAIN_WORK_LIMIT,

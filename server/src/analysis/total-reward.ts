@@ -84,7 +84,7 @@ function liveComponents(ctx: AnalysisContext, policy?: Int32Array, mask?: Uint8A
   return scc;
 }
 
-function sortWithinComponents(scc: SccDecomposition): void {
+export function sortWithinComponents(scc: SccDecomposition): void {
   for (let i = 0; i < scc.count; i++) if (scc.start[i + 1] - scc.start[i] > 1) scc.order.subarray(scc.start[i], scc.start[i + 1]).sort();
 }
 
