@@ -1,5 +1,6 @@
 // Bundles every entry point with esbuild into dist/. Type-checking is separate (`npm run typecheck`).
 import { build } from 'esbuild';
+import { chmodSync } from 'node:fs';
 import { createRequire } from 'node:module';
 
 /** Each entry: source, output name, and whether it runs as a script with a shebang. */
@@ -52,6 +53,10 @@ await Promise.all(
       outfile: `dist/${entry.out}.js`,
       banner: entry.shebang ? { js: '#!/usr/bin/env node' } : undefined,
       plugins: entry.lazyTypeScript ? [lazyTypeScript] : [],
+    }).then(() => {
+      // A script run through the package bin must be executable: npx and npm's bin links run it
+      // directly, and esbuild writes a fresh file without the execute bits on every build.
+      if (entry.shebang) chmodSync(`dist/${entry.out}.js`, 0o755);
     }),
   ),
 );

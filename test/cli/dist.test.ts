@@ -3,7 +3,7 @@
  * `npm test` builds dist/ first; run alone, this test builds it when it is missing.
  */
 import { execFileSync, spawnSync } from 'node:child_process';
-import { existsSync, readFileSync } from 'node:fs';
+import { existsSync, readFileSync, statSync } from 'node:fs';
 import * as path from 'node:path';
 import { beforeAll, describe, expect, it } from 'vitest';
 import { REPO_ROOT, expectContract } from './cli-harness';
@@ -24,6 +24,14 @@ describe('dist/cli.js', () => {
     expect(readFileSync(CLI, 'utf8').split('\n')[0]).toBe('#!/usr/bin/env node');
     const pkg = JSON.parse(readFileSync(path.join(REPO_ROOT, 'package.json'), 'utf8'));
     expect(pkg.bin.episcope).toBe('dist/cli.js');
+  });
+
+  it('is executable and runs by itself (npx and bin links exec it directly, not through node)', () => {
+    expect(statSync(CLI).mode & 0o111).toBe(0o111);
+    const result = spawnSync(CLI, ['--version'], { cwd: REPO_ROOT, encoding: 'utf8' });
+    expect(result.error).toBeUndefined();
+    expect(result.status).toBe(0);
+    expect(result.stdout).toMatch(/^\d+\.\d+\.\d+/);
   });
 
   it('checks the examples: exit 1 and the JSON contract on stdout', () => {
