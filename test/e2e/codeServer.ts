@@ -51,6 +51,8 @@ const USER_SETTINGS = {
   'git.enabled': false,
   'editor.minimap.enabled': false,
   'files.autoSave': 'off',
+  // Hovers open below the line, so a screenshot keeps the summary lens above the spec in view.
+  'editor.hover.above': false,
   // Ask on every folder, so each scenario answers the trust question itself.
   'security.workspace.trust.startupPrompt': 'always',
 };

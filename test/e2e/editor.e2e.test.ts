@@ -164,6 +164,8 @@ describe('Episcope in a real VS Code (code-server)', () => {
 
   it('hovers a state and shows the values the command line prints', async () => {
     const started = Date.now();
+    // From the top of the file, so the summary lens above the spec is in view too.
+    await workbench.page.keyboard.press('Control+Home');
     const hover = await workbench.hover('"incoming": {', '"incoming"', 'optimal');
     const text = await hover.innerText();
     await workbench.screenshot('hover-state-values', { keepPointer: true });

@@ -185,6 +185,7 @@ export class Workbench {
       await this.page.mouse.move(box.x + box.width / 2, y, { steps: 3 });
       try {
         await hover.waitFor({ state: 'visible', timeout: Math.min(5_000 + attempt * 1_000, Math.max(1, deadline - Date.now())) });
+        await settled(hover);
         return hover;
       } catch (error) {
         if (Date.now() >= deadline) throw error;
@@ -220,6 +221,7 @@ export class Workbench {
       await this.page.keyboard.press('Control+.');
       try {
         await entry.waitFor({ state: 'visible', timeout: 5_000 });
+        await settled(menu);
         return entry;
       } catch (error) {
         // The actions are computed from the latest diagnostics; ask again until they arrive.
@@ -253,4 +255,12 @@ export class Workbench {
     await this.page.screenshot({ path });
     return path;
   }
+}
+
+/** Waits until the CSS animations of an element and its content (a hover's fade-in) have finished. */
+async function settled(locator: Locator): Promise<void> {
+  await locator.evaluate(async (element) => {
+    const animated = element as unknown as { getAnimations(options: { subtree: boolean }): Array<{ finished: Promise<unknown> }> };
+    await Promise.all(animated.getAnimations({ subtree: true }).map((animation) => animation.finished.catch(() => undefined)));
+  });
 }
