@@ -95,6 +95,7 @@ export function backwardLayering(graph: ModelGraph, seeds: Uint8Array, options: 
 
 /** 1 for the states from which `targets` can be reached with positive probability (by some policy, over allowed choices). */
 export function canReach(graph: ModelGraph, targets: Uint8Array, allowed?: Uint8Array): Uint8Array {
+  if (!targets.includes(1)) return new Uint8Array(targets.length);
   const { layer } = backwardLayering(graph, targets, { allowed });
   const out = new Uint8Array(layer.length);
   for (let s = 0; s < layer.length; s++) out[s] = layer[s] >= 0 ? 1 : 0;
