@@ -214,6 +214,15 @@ const liveServers = new Set<CodeServer>();
 process.on('exit', () => {
   for (const server of liveServers) server.killNow();
 });
+// On Ctrl+C or a CI timeout the test worker may outlive its parent, and vitest intercepts
+// process.exit in workers: stop the servers, then end the worker for certain (the browser, its
+// child, exits when its pipe closes).
+for (const signal of ['SIGINT', 'SIGTERM'] as const) {
+  process.once(signal, () => {
+    for (const server of liveServers) server.killNow();
+    process.kill(process.pid, 'SIGKILL');
+  });
+}
 
 function signalGroup(group: number, signal: NodeJS.Signals): void {
   try {
