@@ -1,9 +1,11 @@
 /**
  * The editor tier: the packaged extension installed into a real VS Code (code-server), driven by
- * Chromium. One trusted and one untrusted copy of examples/ are opened; the scenario reads a
- * diagnostic in the Problems panel, applies its quick fix, hovers a state and checks the value
- * against `episcope check --format json --values` on the saved file, and checks that static
- * findings still appear in restricted mode. Screenshots of each step go to test-results/e2e/.
+ * Chromium. In a trusted copy of examples/ the scenario reads a planted diagnostic in the Problems
+ * panel, applies its quick fix, hovers a state and checks the values against
+ * `episcope check --format json --values` on the saved file, and reads the return summary of a
+ * TypeScript spec whose model code ran. In an untrusted copy it checks that static findings still
+ * appear while model code does not run. Last, the extension-host suite of test/vscode runs in the
+ * same editor. Screenshots of each step go to test-results/e2e/, the editor's logs on failure.
  */
 import { spawnSync } from 'node:child_process';
 import { cpSync, existsSync, mkdirSync, mkdtempSync, readdirSync, readFileSync, rmSync, statSync, symlinkSync, writeFileSync } from 'node:fs';
@@ -105,15 +107,20 @@ beforeAll(async () => {
     env: { EPISCOPE_SUITE_REPORT: SUITE_REPORT, EPISCOPE_CLI: join(REPO_ROOT, 'dist', 'cli.js') },
   });
   timings.startServer = Date.now() - started;
-  trustedExamples = copyExamples(join(server.root, 'trusted'));
-  untrustedExamples = copyExamples(join(server.root, 'untrusted'));
-  suiteExamples = copyExamples(join(server.root, 'suite'));
-  writeFileSync(join(suiteExamples, SUITE_MARKER), '');
-  started = Date.now();
-  browser = await launchBrowser(install, server.env);
-  const page = await browser.newPage({ viewport: VIEWPORT });
-  workbench = new Workbench(page, RESULTS);
-  timings.launchBrowser = Date.now() - started;
+  try {
+    trustedExamples = copyExamples(join(server.root, 'trusted'));
+    untrustedExamples = copyExamples(join(server.root, 'untrusted'));
+    suiteExamples = copyExamples(join(server.root, 'suite'));
+    writeFileSync(join(suiteExamples, SUITE_MARKER), '');
+    started = Date.now();
+    browser = await launchBrowser(install, server.env);
+    const page = await browser.newPage({ viewport: VIEWPORT });
+    workbench = new Workbench(page, RESULTS);
+    timings.launchBrowser = Date.now() - started;
+  } catch (error) {
+    printLogs();
+    throw error;
+  }
 });
 
 beforeEach(({ onTestFailed, task }) => {
