@@ -37,8 +37,17 @@ try {
 
 const out = `episcope-${version}.vsix`;
 const vsce = require.resolve('@vscode/vsce/vsce');
-// vsce runs `vscode:prepublish` (the esbuild bundles) first.
-execFileSync(process.execPath, [vsce, 'package', '--target', target, '--out', out, '--allow-missing-repository'], { stdio: 'inherit' });
+// vsce runs `vscode:prepublish` (the esbuild bundles) first. The README's relative links and
+// images stay relative (there is no repository URL to point them at); the screenshots travel in the
+// package, so VS Code's extension page shows them.
+try {
+  execFileSync(process.execPath, [vsce, 'package', '--target', target, '--out', out, '--allow-missing-repository', '--no-rewrite-relative-links'], {
+    stdio: 'inherit',
+  });
+} catch (error) {
+  console.error(`vsce package failed (exit ${error.status ?? 'unknown'}); its message is above.`);
+  process.exit(1);
+}
 if (!existsSync(out)) {
   console.error(`vsce did not write ${out}`);
   process.exit(1);

@@ -88,7 +88,7 @@ function stateHover(values: ValueTables, state: number): string {
   const within = values.exact ? '' : ` (bounds within ${formatNumber(values.precision)})`;
   const title = `**${name}**${values.reachable[state] ? '' : ' · not reachable from the start'} · value${steps} from here${within}:`;
   const table = [
-    '| policy | value | ends in goal | failure | neutral | never ends |',
+    `| policy | value | ends in goal | failure | neutral | ${values.horizon !== undefined ? 'cut by the horizon' : 'never ends'} |`,
     '|---|---|---|---|---|---|',
     `| optimal | ${formatInterval(values.optimalLower[state], values.optimalUpper[state])} | ${reachCells(values, values.optimalReach, state)} |`,
     `| worst | ${formatInterval(values.worstLower[state], values.worstUpper[state])} | | | | |`,
