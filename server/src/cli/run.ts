@@ -213,7 +213,7 @@ export function failsAt(files: readonly JsonFile[], failOn: Severity | 'never'):
 
 /** Runs until the client ends the connection; the server then exits the process itself. */
 async function runServer(args: ParsedArgs, io: CliIo): Promise<number> {
-  if (!args.options.stdio && !args.options['node-ipc'] && args.options.socket === undefined) {
+  if (!args.options.stdio && !args.options['node-ipc'] && !args.options.socket) {
     io.stderr.write(`${TOOL_NAME}: server needs a transport: --stdio, --node-ipc or --socket=PORT\n`);
     return EXIT_ERROR;
   }
