@@ -88,12 +88,14 @@ export class TestClient {
     this.connection.onRequest('client/registerCapability', () => null);
     this.connection.onRequest('window/workDoneProgress/create', (params: { token: unknown }) => {
       this.progressTokens.push(params.token);
+      this.changed();
       return null;
     });
     this.connection.onRequest('workspace/diagnostic/refresh', () => null);
     this.connection.onRequest('workspace/codeLens/refresh', () => null);
     this.connection.onRequest('window/showDocument', (params: unknown) => {
       this.shownDocuments.push(params);
+      this.changed();
       return { success: true };
     });
     this.connection.listen();
