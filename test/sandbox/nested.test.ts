@@ -1,4 +1,4 @@
-import { buildSync } from 'esbuild';
+import { buildSync, type BuildOptions } from 'esbuild';
 import { mkdirSync, mkdtempSync, rmSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { Worker } from 'node:worker_threads';
@@ -16,7 +16,7 @@ describe('the sandbox started from a worker thread', () => {
     const cache = join(root, 'node_modules', '.cache');
     mkdirSync(cache, { recursive: true });
     const out = mkdtempSync(join(cache, 'episcope-nested-'));
-    const common = { bundle: true, platform: 'node', format: 'cjs', target: 'node20', external: ['esbuild'], mainFields: ['module', 'main'], logLevel: 'silent' } as const;
+    const common: BuildOptions = { bundle: true, platform: 'node', format: 'cjs', target: 'node20', external: ['esbuild'], mainFields: ['module', 'main'], logLevel: 'silent' };
     buildSync({ ...common, entryPoints: [join(root, 'server/src/sandbox/analyze-typescript.ts')], outfile: join(out, 'typescript-analysis.js') });
     buildSync({ ...common, entryPoints: [join(root, 'server/src/sandbox/worker.ts')], outfile: join(out, 'sandbox-worker.js') });
     const specPath = join(out, 'spin.mdp.ts');
