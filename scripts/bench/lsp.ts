@@ -28,8 +28,10 @@ export async function run(): Promise<void> {
     console.log(`machine: ${cpus().length} cores, load average ${loadavg().map((l) => l.toFixed(1)).join(' ')} at the start`);
     const small = await openSpec(client, folder, 'small', 1_000);
     console.log(`1k-state spec (${mb(small.text)}): opened, first diagnostics after ${ms(small.openMs)}`);
+    const statusMark = client.statuses.length;
     const smallEdits = await timeEdits(client, small, EDITS);
     console.log(`  edit -> fresh diagnostics, ${EDITS} edits: ${summary(smallEdits)}   (target p95 <= 100 ms)`);
+    console.log(`    of which the pipeline in the worker (analyzeFile and the snapshot): ${summary(workerTimes(client, small.uri, statusMark))}`);
     const idleHovers = await timeHovers(client, small, HOVERS);
     console.log(`  hover, idle, ${HOVERS} hovers: ${summary(idleHovers)}   (target p95 <= 20 ms)`);
 
@@ -119,6 +121,16 @@ async function timeHover(client: TestClient, spec: OpenSpec, index = Math.floor(
   const elapsed = performance.now() - started;
   if (!hover) throw new Error(`no hover on b${target}`);
   return elapsed;
+}
+
+/** The analysis times the server reported (its status line ends with the duration) since the status numbered `after`. */
+function workerTimes(client: TestClient, uri: string, after: number): number[] {
+  return client.statuses
+    .slice(after)
+    .filter((s) => s.uri === uri && s.state === 'done')
+    .map((s) => /· ([\d.]+) (ms|s)$/.exec(s.text))
+    .filter((m): m is RegExpExecArray => m !== null)
+    .map((m) => Number(m[1]) * (m[2] === 's' ? 1000 : 1));
 }
 
 function percentile(values: number[], p: number): number {
