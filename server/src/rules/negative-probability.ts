@@ -1,6 +1,7 @@
 import { formatNumber, quote } from '../spec/names';
 import { isProbability } from './probability-sum';
-import { forEachOutcome, transitionLabel } from './spec-walk';
+import { forEachOutcome, malformedCost, transitionLabel } from './spec-walk';
+import type { ParsedSpec, SpecTransition } from '../spec/types';
 import type { Rule } from './types';
 
 /** Every outcome (and start) probability must lie in [0, 1]. */
@@ -31,7 +32,7 @@ fixed; \`probability-sum\` waits for this rule's findings to be fixed before it 
     forEachOutcome(spec, (outcome, transition) => {
       if (isProbability(outcome.probability)) return;
       ctx.report({
-        message: `the probability ${describe(outcome.probability)} of ${quote(outcome.state)} after ${transitionLabel(spec, transition)} is ${problem(outcome.probability)}: no distribution matches it, so the spec is not compiled`,
+        message: `the probability ${describe(outcome.probability)} of ${quote(outcome.state)} after ${transitionLabel(spec, transition)} is ${problem(outcome.probability)}: no distribution matches it${unusedTail(spec, transition, ', so the spec is not compiled')}`,
         span: outcome.probabilitySpan,
       });
     });
@@ -55,4 +56,10 @@ function problem(value: number): string {
   // A number up to 100 is often a percentage written without the division.
   if (value >= 2 && value <= 100) return `above 1 (if it is a percentage, write ${formatNumber(value / 100)})`;
   return 'above 1';
+}
+
+/** `whenUsed`, or for a transition the compiler never uses, what that transition really costs. */
+function unusedTail(spec: ParsedSpec, transition: SpecTransition, whenUsed: string): string {
+  const unused = malformedCost(spec, transition, '');
+  return unused ? `; ${unused}` : whenUsed;
 }

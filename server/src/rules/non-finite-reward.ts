@@ -1,5 +1,5 @@
 import { formatNumber, quote } from '../spec/names';
-import { forEachRewardPart, transitionLabel } from './spec-walk';
+import { forEachRewardPart, malformedCost, transitionLabel } from './spec-walk';
 import type { Rule } from './types';
 
 /** Rewards (and shaping potentials) must be finite numbers, or returns are undefined. */
@@ -33,7 +33,7 @@ and \`failure-preferred\`.
       if (Number.isFinite(part.value)) return;
       const term = part.term === null ? '' : ` (term ${quote(part.term)})`;
       ctx.report({
-        message: `the ${unit}${term} of ${transitionLabel(spec, transition)} toward ${quote(outcome.state)} is ${describe(part.value, spec.format)}: every return that can include it is undefined, so the spec is not compiled`,
+        message: `the ${unit}${term} of ${transitionLabel(spec, transition)} toward ${quote(outcome.state)} is ${describe(part.value, spec.format)}: ${malformedCost(spec, transition, 'every return that can include it is undefined, so the spec is not compiled')}`,
         span: part.span,
       });
     });

@@ -1,7 +1,7 @@
 import { PROBABILITY_SUM_TOLERANCE } from '../model/compile';
 import { formatNumber } from '../spec/names';
-import type { Span } from '../spec/types';
-import { transitionLabel, writtenTransitions } from './spec-walk';
+import type { Span, SpecTransition } from '../spec/types';
+import { malformedCost, transitionLabel, writtenTransitions } from './spec-walk';
 import type { Fix, Rule, RuleContext } from './types';
 
 /** True for a number in [0, 1] (false for NaN). */
@@ -44,7 +44,7 @@ divides each probability by their sum, which keeps their ratios.
       if (transition.incomplete || transition.outcomes.length === 0) continue;
       const probabilities = transition.outcomes.map((o) => ({ value: o.probability, span: o.probabilitySpan }));
       const label = transitionLabel(spec, transition);
-      checkDistribution(ctx, probabilities, transition.toSpan, `the outcome probabilities of ${label}`, 'of the episodes that take it have no defined next state');
+      checkDistribution(ctx, probabilities, transition.toSpan, `the outcome probabilities of ${label}`, 'of the episodes that take it have no defined next state', transition);
     }
     // The list form of `start` is uniform by construction; only a map can be off.
     const startMap = spec.start.filter((e) => e.probabilitySpan !== undefined);
@@ -55,15 +55,24 @@ divides each probability by their sum, which keeps their ratios.
   },
 };
 
-function checkDistribution(ctx: RuleContext, probabilities: Array<{ value: number; span: Span }>, span: Span, what: string, shortfall: string): void {
+function checkDistribution(
+  ctx: RuleContext,
+  probabilities: Array<{ value: number; span: Span }>,
+  span: Span,
+  what: string,
+  shortfall: string,
+  transition?: SpecTransition,
+): void {
   if (!probabilities.every((p) => isProbability(p.value))) return;
   const sum = probabilities.reduce((total, p) => total + p.value, 0);
   const gap = sum - 1;
   if (Math.abs(gap) <= PROBABILITY_SUM_TOLERANCE) return;
+  // A transition the compiler never uses does not stop compilation: say what it really costs.
+  const unused = transition ? malformedCost(ctx.spec, transition, '') : '';
   const cost =
     gap < 0
-      ? `${formatNumber(-gap)} ${shortfall}, so the spec is not compiled`
-      : `they claim ${formatNumber(gap)} more than certainty, so no distribution matches them and the spec is not compiled`;
+      ? `${formatNumber(-gap)} ${shortfall}${unused ? `; ${unused}` : ', so the spec is not compiled'}`
+      : `they claim ${formatNumber(gap)} more than certainty, so no distribution matches them${unused ? `; ${unused}` : ' and the spec is not compiled'}`;
   const fixes: Fix[] = [];
   if (sum > 0) {
     fixes.push({

@@ -45,6 +45,57 @@ export function writtenTransitions(spec: ParsedSpec): SpecTransition[] {
   return result;
 }
 
+/** Why the compiler skips every from/action pair a written transition defines, per source index. */
+const unusedCache = new WeakMap<ParsedSpec, Map<number, 'terminal' | 'duplicate'>>();
+
+/**
+ * Why the compiled model never uses the written transition at `sourceIndex`, or undefined when some
+ * pair of it is used (or the compiler refuses the spec over it). The compiler skips transitions out
+ * of terminal states and every later definition of a (state, action) pair (the first one wins), so a
+ * malformed number there changes no value: messages must not claim that it stops compilation.
+ */
+export function unusedReason(spec: ParsedSpec, sourceIndex: number): 'terminal' | 'duplicate' | undefined {
+  let unused = unusedCache.get(spec);
+  if (!unused) {
+    unused = new Map();
+    const stateById = new Map<string, SpecState>();
+    for (const state of spec.states) if (!stateById.has(state.id)) stateById.set(state.id, state);
+    const defined = new Set<string>();
+    const used = new Set<number>();
+    const skipped = new Map<number, 'terminal' | 'duplicate'>();
+    // The same walk as the compiler's, in the same order, so "first definition" means the same pair.
+    for (const transition of spec.transitions) {
+      const from = stateById.get(transition.from);
+      let reason: 'terminal' | 'duplicate' | undefined;
+      if (from?.terminal) reason = 'terminal';
+      else if (from) {
+        const pairKey = `${from.id}\u0000${transition.action}`;
+        if (defined.has(pairKey)) reason = 'duplicate';
+        else defined.add(pairKey);
+      }
+      if (reason === undefined) used.add(transition.sourceIndex);
+      else if (skipped.get(transition.sourceIndex) !== 'duplicate') skipped.set(transition.sourceIndex, reason);
+    }
+    for (const [index, reason] of skipped) if (!used.has(index)) unused.set(index, reason);
+    unusedCache.set(spec, unused);
+  }
+  return unused.get(sourceIndex);
+}
+
+/**
+ * The cost clause of a finding about a malformed number in a transition: `whenUsed` when the
+ * compiled model depends on the transition, else what a never-used transition really costs.
+ */
+export function malformedCost(spec: ParsedSpec, transition: SpecTransition, whenUsed: string): string {
+  const reason = unusedReason(spec, transition.sourceIndex);
+  if (reason === undefined) return whenUsed;
+  const why =
+    reason === 'terminal'
+      ? 'it leaves a terminal state, so it is never taken'
+      : 'an earlier transition defines the same state and action and wins';
+  return `the transition is never used (${why}), so no value depends on it, but the spec is still malformed; fix or delete it`;
+}
+
 /** Visits each written outcome once, with the first transition that has it. */
 export function forEachOutcome(spec: ParsedSpec, visit: (outcome: SpecOutcome, transition: SpecTransition) => void): void {
   const seen = new Set<SpecOutcome>();

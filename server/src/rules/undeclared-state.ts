@@ -1,6 +1,6 @@
 import { closestName, quote } from '../spec/names';
 import type { Span } from '../spec/types';
-import { forEachOutcome, jsonEditorFor, renameFix, transitionLabel } from './spec-walk';
+import { forEachOutcome, jsonEditorFor, malformedCost, renameFix, transitionLabel } from './spec-walk';
 import type { JsonEditor } from './json-edits';
 import type { Fix, Rule } from './types';
 
@@ -55,7 +55,8 @@ looks like a typo of one) or declare the state. Both are offered as quick fixes.
       flag(transition.from, transition.fromSpan, `transitions[${transition.sourceIndex}] leaves`, 'the transition belongs to no state, so the MDP is undefined and no values are computed');
     }
     forEachOutcome(spec, (outcome, transition) => {
-      flag(outcome.state, outcome.stateSpan, `${transitionLabel(spec, transition)} leads to`, 'episodes that take it have no next state, so the MDP is undefined and no values are computed');
+      const cost = malformedCost(spec, transition, 'episodes that take it have no next state, so the MDP is undefined and no values are computed');
+      flag(outcome.state, outcome.stateSpan, `${transitionLabel(spec, transition)} leads to`, cost);
     });
     for (const entry of spec.start) {
       flag(entry.state, entry.span, 'the start names', 'episodes may begin nowhere, so no values are computed');
