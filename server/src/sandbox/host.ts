@@ -259,7 +259,9 @@ export class ModelSandbox {
 /**
  * Pauses a worker thread through the inspector protocol (NodeWorker domain, then Debugger.pause in
  * the worker's session) and returns the 0-based generated position of the innermost frame in model
- * code. This is how an endless loop is located without the loop's cooperation.
+ * code. This is how an endless loop is located without the loop's cooperation. The worker is always
+ * resumed and detached afterwards: a worker left paused in the debugger ignores terminate(), and Node
+ * waits for it at process exit for ever.
  */
 async function pauseWorker(threadId: number, timeoutMs: number): Promise<{ line: number; column: number } | undefined> {
   let inspector: typeof import('node:inspector');
@@ -273,14 +275,14 @@ async function pauseWorker(threadId: number, timeoutMs: number): Promise<{ line:
   // inspector reports nested workers.
   if (isMainThread) session.connect();
   else session.connectToMainThread();
+  let sessionId: string | undefined;
+  let id = 0;
+  const send = (method: string) =>
+    session.post('NodeWorker.sendMessageToWorker', { sessionId: sessionId!, message: JSON.stringify({ id: ++id, method, params: {} }) });
   try {
     return await new Promise<{ line: number; column: number } | undefined>((resolve) => {
       const timer = setTimeout(() => resolve(undefined), timeoutMs);
       const scripts = new Map<string, string>();
-      let sessionId: string | undefined;
-      let id = 0;
-      const send = (method: string) =>
-        session.post('NodeWorker.sendMessageToWorker', { sessionId: sessionId!, message: JSON.stringify({ id: ++id, method, params: {} }) });
       session.on('NodeWorker.attachedToWorker', (message: { params: { sessionId: string; workerInfo: { title: string } } }) => {
         // The inspector numbers workers on its own; the title carries the thread id.
         if (message.params.workerInfo.title !== `[worker ${threadId}]` || sessionId) return;
@@ -303,6 +305,13 @@ async function pauseWorker(threadId: number, timeoutMs: number): Promise<{ line:
       session.post('NodeWorker.enable', { waitForDebuggerOnStart: false });
     });
   } finally {
+    // Disconnecting this session alone leaves the worker's session attached and the worker paused
+    // (also when the pause lands after the timeout), so resume it and detach explicitly.
+    if (sessionId) {
+      send('Debugger.resume');
+      session.post('NodeWorker.detach', { sessionId });
+    }
+    session.post('NodeWorker.disable');
     session.disconnect();
   }
 }
