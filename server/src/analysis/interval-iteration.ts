@@ -362,11 +362,11 @@ function measureWidth(nodes: Nodes, bounds: Float64Array): number {
 
 /**
  * Discount < 1: certified value iteration on one vector, in one of two ways.
- *  - Episodic tasks (some choice ends the episode with good probability): Gauss-Seidel sweeps.
- *    Gauss-Seidel value iteration is a contraction of modulus discount in the maximum norm, so
- *    after a sweep that moved no value by more than D the true value lies within
- *    discount * D / (1 - discount) of the swept vector (M. Puterman, Markov Decision Processes,
- *    1994, Theorems 6.3.1 and 6.3.4).
+ *  - Episodic tasks (some choice ends the episode with good probability): Gauss-Seidel sweeps
+ *    (with the extrapolation of refineEstimate). Gauss-Seidel value iteration is a contraction of
+ *    modulus discount in the maximum norm, so after a sweep that moved no value by more than D
+ *    the true value lies within discount * D / (1 - discount) of the swept vector, whatever the
+ *    vector swept (M. Puterman, Markov Decision Processes, 1994, Theorems 6.3.1 and 6.3.4).
  *  - Tasks where every choice stays among the updated states with probability p >= 1/2 (continuing
  *    tasks have p = 1): Jacobi sweeps w = Tv with MacQueen's bounds (J. MacQueen, "A modified
  *    dynamic programming method for Markovian decision problems", J. Math. Anal. Appl. 14, 1966;
@@ -388,6 +388,7 @@ function contractionBounds(op: Operator, nodes: Nodes, bounds: Float64Array, opt
   const ceiling = options.upperBound ?? Infinity;
   for (let m = 0; m < members.length; m++) value[members[m]] = Math.min(ceiling, Math.max(floor, 0));
   const stats: EstimateStats = { change: Infinity, absoluteChange: Infinity, minMagnitude: 0, minChange: 0, maxChange: 0 };
+  // The certificate: D (largest change of the last sweep) times discount / (1 - discount).
   const factor = discount / (1 - discount);
   const staying = leastStayingProbability(op, nodes);
   const g = discount * staying;
@@ -399,14 +400,13 @@ function contractionBounds(op: Operator, nodes: Nodes, bounds: Float64Array, opt
       bounds[2 * s + 1] = Math.min(ceiling, base[s] + upperShift);
     }
   };
-  const jacobi = staying >= 0.5;
-  let next = jacobi ? value.slice() : value;
   let sweeps = 0;
-  while (sweeps < options.maxSweeps) {
-    sweepEstimate(op, nodes, value, stats, next);
-    sweeps++;
-    const target = options.precision * Math.max(1, stats.minMagnitude / RELATIVE_FROM);
-    if (jacobi) {
+  if (staying >= 0.5) {
+    let next = value.slice();
+    while (sweeps < options.maxSweeps) {
+      sweepEstimate(op, nodes, value, stats, next);
+      sweeps++;
+      const target = options.precision * Math.max(1, stats.minMagnitude / RELATIVE_FROM);
       const a = stats.minChange;
       const b = stats.maxChange;
       const lowerShift = a >= 0 ? a * stayFactor : a * factor;
@@ -418,13 +418,23 @@ function contractionBounds(op: Operator, nodes: Nodes, bounds: Float64Array, opt
       const swap = value;
       value = next;
       next = swap;
-    } else {
-      const radius = factor * stats.absoluteChange;
-      if (2 * radius <= target) {
-        write(value, -radius, radius);
-        return { sweeps, sound: true };
-      }
     }
+    return { sweeps, sound: false };
+  }
+  // Gauss-Seidel: converge (with extrapolation) to about the change the certificate needs, then
+  // certify with one more sweep; tighten and repeat if that sweep still moved too much.
+  let tolerance = discount > 0 ? (options.precision * (1 - discount)) / (4 * discount) : Infinity;
+  while (sweeps < options.maxSweeps) {
+    sweeps += refineEstimate(op, nodes, value, tolerance, options.maxSweeps - sweeps, floor, ceiling);
+    sweepEstimate(op, nodes, value, stats);
+    sweeps++;
+    const target = options.precision * Math.max(1, stats.minMagnitude / RELATIVE_FROM);
+    const radius = factor * stats.absoluteChange;
+    if (2 * radius <= target) {
+      write(value, -radius, radius);
+      return { sweeps, sound: true };
+    }
+    tolerance /= 16;
   }
   return { sweeps, sound: false };
 }
@@ -451,6 +461,62 @@ function leastStayingProbability(op: Operator, nodes: Nodes): number {
 }
 
 /**
+ * Gauss-Seidel sweeps on an estimate until no value moves by more than `tolerance` (scaled), at
+ * most `maxSweeps`. When the largest change shrinks by a steady ratio r per sweep, one slow mode
+ * dominates the error, and the estimate jumps ahead by the geometric remainder of the next change,
+ * delta * r / (1 - r) (Aitken's extrapolation; e.g. Puterman 1994, section 6.6). The estimate is
+ * only a guess for optimisticBounds, which proves or rejects it, so a poor jump costs sweeps, never
+ * soundness. Returns the sweeps spent.
+ */
+function refineEstimate(op: Operator, nodes: Nodes, estimate: Float64Array, tolerance: number, maxSweeps: number, floor: number, ceiling: number): number {
+  const { members } = nodes;
+  const stats: EstimateStats = { change: Infinity, absoluteChange: Infinity, minMagnitude: 0, minChange: 0, maxChange: 0 };
+  let previous: Float64Array | undefined;
+  let lastChange = Infinity;
+  let lastRatio = NaN;
+  let steady = 0;
+  let sweeps = 0;
+  // A jump must cut the next change well below the last one; with a best or worst choice the
+  // extrapolation can switch choices and undo itself, and then jumping stops.
+  let jumpsAllowed = true;
+  let changeBeforeJump = -1;
+  while (sweeps < maxSweeps) {
+    const jumping = jumpsAllowed && steady >= 3;
+    if (jumping) {
+      previous ??= new Float64Array(estimate.length);
+      for (let m = 0; m < members.length; m++) previous[members[m]] = estimate[members[m]];
+    }
+    sweepEstimate(op, nodes, estimate, stats);
+    sweeps++;
+    if (stats.change <= tolerance) break;
+    if (changeBeforeJump >= 0) {
+      if (stats.absoluteChange > 0.5 * changeBeforeJump) jumpsAllowed = false;
+      changeBeforeJump = -1;
+    }
+    const ratio = stats.absoluteChange / lastChange;
+    lastChange = stats.absoluteChange;
+    if (jumping && previous) {
+      if (ratio > 0 && ratio < 1) {
+        const factor = ratio / (1 - ratio);
+        for (let m = 0; m < members.length; m++) {
+          const s = members[m];
+          estimate[s] = Math.min(ceiling, Math.max(floor, estimate[s] + (estimate[s] - previous[s]) * factor));
+        }
+        changeBeforeJump = stats.absoluteChange;
+      }
+      steady = 0;
+      lastChange = Infinity;
+      lastRatio = NaN;
+      continue;
+    }
+    // Slow, steady convergence is worth a jump; fast convergence needs none.
+    steady = ratio > 0.5 && ratio < 1 && Math.abs(ratio - lastRatio) <= 0.02 * (1 - ratio) ? steady + 1 : 0;
+    lastRatio = ratio;
+  }
+  return sweeps;
+}
+
+/**
  * Finds inductive lower and upper vectors around a value-iteration estimate (optimistic value
  * iteration). Leaves sound vectors in `bounds` for the sides it reports as sound.
  */
@@ -458,7 +524,6 @@ function optimisticBounds(op: Operator, nodes: Nodes, bounds: Float64Array, opti
   const { members } = nodes;
   const n = op.model.stateCount;
   const stats: SweepStats = { relativeWidth: Infinity, lowerViolations: 0, upperViolations: 0, crossed: false };
-  const estimateStats: EstimateStats = { change: Infinity, absoluteChange: Infinity, minMagnitude: 0, minChange: 0, maxChange: 0 };
   const estimate = new Float64Array(n);
   for (let s = 0; s < n; s++) estimate[s] = bounds[2 * s];
   for (let m = 0; m < members.length; m++) estimate[members[m]] = 0;
@@ -471,13 +536,8 @@ function optimisticBounds(op: Operator, nodes: Nodes, bounds: Float64Array, opti
   let guessScale = options.precision / 4;
   for (let attempt = 0; attempt < 6 && sweeps < options.maxSweeps; attempt++) {
     // Refine the estimate.
-    let estimateSweeps = 0;
-    while (sweeps < options.maxSweeps) {
-      sweepEstimate(op, nodes, estimate, estimateStats);
-      sweeps++;
-      estimateSweeps++;
-      if (estimateStats.change <= tolerance) break;
-    }
+    const estimateSweeps = refineEstimate(op, nodes, estimate, tolerance, options.maxSweeps - sweeps, floor, ceiling);
+    sweeps += estimateSweeps;
     // Guess the missing sides around the estimate, then test them for inductiveness.
     for (let m = 0; m < members.length; m++) {
       const s = members[m];
