@@ -69,6 +69,19 @@ describe('policy evaluation against mathjs lusolve on seeded random MDPs (discou
   }
 });
 
+describe('discounts near 1, continuing and episodic (mathjs lusolve)', () => {
+  for (let seed = 401; seed <= 408; seed++) {
+    const discount = seed % 2 === 0 ? 0.999 : 0.995;
+    // Even seeds: continuing (no terminal); odd seeds: three goal terminals.
+    const model = randomModel(seed, 40, 3, 4, discount, seed % 2 === 0 ? 0 : 3, seed % 4 < 2);
+    it(`seed ${seed}, discount ${discount}: random and optimal policy values`, () => {
+      const analysis = analyzeModel(model, { precision: 1e-6 });
+      expectInside(analysis.random.values, evaluate(model, uniform(model)), 'random policy');
+      expectInside(analysis.optimal.values, evaluate(model, following(analysis.optimal.policy!)), 'optimal policy');
+    });
+  }
+});
+
 /** Every deterministic policy of a small model, as choice arrays. */
 function* allPolicies(model: CompiledModel): Generator<Int32Array> {
   const n = model.stateCount;
