@@ -56,6 +56,45 @@ describe('time-dependent-optimum: must fire', () => {
   });
 });
 
+/**
+ * A hiker at a trailhead: `climb` reaches the ridge with probability 0.5 (else stays), then the hut
+ * and the summit (+10, goal); `descend` ends the hike at once with +1 (a neutral end). Horizon 6,
+ * discount 1. Backward induction by hand (V with 0 steps left is 0):
+ * 1 step left: trailhead climb 0, descend 1; ridge climb 0, descend 1; hut climb 10.
+ * 2 steps left: trailhead climb 0.5*1 + 0.5*1 = 1, descend 1 (a tie); ridge climb 10.
+ * 3 steps left: trailhead climb 0.5*10 + 0.5*1 = 5.5, descend 1.
+ * So at the trailhead `climb` is best from 6 down to 2 steps left (tied at 2) and `descend` only at 1.
+ */
+function trailhead(): SpecObject {
+  return {
+    name: 'trailhead',
+    discount: 1,
+    horizon: 6,
+    start: 'trailhead',
+    actions: ['climb', 'descend'],
+    states: { trailhead: {}, ridge: {}, hut: {}, summit: { terminal: 'goal' }, home: { terminal: 'neutral' } },
+    transitions: [
+      { from: 'trailhead', action: 'climb', to: { ridge: 0.5, trailhead: 0.5 }, reward: 0 },
+      { from: 'ridge', action: 'climb', to: 'hut', reward: 0 },
+      { from: 'hut', action: 'climb', to: 'summit', reward: 10 },
+      { from: ['trailhead', 'ridge', 'hut'], action: 'descend', to: 'home', reward: 1 },
+    ],
+  };
+}
+
+describe('time-dependent-optimum: the two sides of the flip', () => {
+  it('an earlier tie does not make the new best action stand for the old one', () => {
+    const report = checkSpec(trailhead());
+    const [finding] = findingsOf(report, 'time-dependent-optimum');
+    expect(finding.message).toContain("at 'trailhead'");
+    // The old side is compared where the new best action was last not best: 3 steps left, not the tie at 2.
+    expect(finding.message).toContain("with 3 steps left it is 'climb' (Q 5.5 against 1.0 for 'descend')");
+    expect(finding.message).toContain("with 1 step left it is 'descend' (Q 1.0 against 0)");
+    expect(finding.message).toContain("loses 1.0 there if it keeps 'climb', or 4.5 with 3 steps left if it always takes 'descend'");
+    expect(finding.related?.map((r) => r.message).slice(0, 2)).toEqual(["'climb': best with 3 steps left", "'descend': best with 1 step left"]);
+  });
+});
+
 describe('time-dependent-optimum: must not fire', () => {
   const cases: Array<[string, SpecObject]> = [
     ['serving is always better when waiting costs', lobby(10, -1, 5)],

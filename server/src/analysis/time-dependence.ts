@@ -15,7 +15,10 @@ import type { FiniteHorizonSolution } from './types';
 
 export interface TimeFlip {
   state: number;
-  /** Steps left at the visit where no action stays best, and at the latest earlier visit. */
+  /**
+   * Steps left at the visit where no action stays best, and at the latest earlier visit where the
+   * best action now was not best (an earlier visit where both tie shows no difference).
+   */
   stepsLeft: number;
   earlierStepsLeft: number;
   /** The earliest steps-left value at which the state was visited (the start of the agreeing range). */
@@ -59,6 +62,8 @@ export function findTimeFlips(
   const tolerance = tieTolerance * scale;
   const q = new Float64Array(maxChoices(model));
   const stillBest = new Uint8Array(model.choiceCount);
+  // Per choice, the steps left at the latest visit of its state where it was not best.
+  const lastNotBest = new Int32Array(model.choiceCount).fill(-1);
   const seenAt = new Int32Array(n).fill(-1);
   const firstSeen = new Int32Array(n).fill(-1);
   const flipped = new Uint8Array(n);
@@ -80,21 +85,27 @@ export function findTimeFlips(
         q[i] = (model.maximize ? 1 : -1) * qValue(model, solution, first + i, k);
         if (q[i] > best) best = q[i];
       }
+      const revisit = seenAt[s] >= 0;
       let agreeing = 0;
       for (let i = 0; i < count; i++) {
         const isBest = q[i] >= best - tolerance;
         // Optimal behaviour may take any best action, so every one of them carries the visit on.
         if (isBest) pushSuccessors(model, first + i, t + 1, queued, next);
-        if (seenAt[s] < 0) stillBest[first + i] = isBest ? 1 : 0;
-        else if (!isBest) stillBest[first + i] = 0;
-        if (stillBest[first + i]) agreeing++;
+        if (isBest && (!revisit || stillBest[first + i])) agreeing++;
       }
-      if (agreeing === 0 && !flipped[s]) {
+      if (revisit && agreeing === 0 && !flipped[s]) {
         flipped[s] = 1;
         flippedStates++;
         if (flips.length < maxFlips) {
-          flips.push(describeFlip(model, solution, s, k, seenAt[s], firstSeen[s], tolerance, layers, t));
+          // stillBest and lastNotBest still describe the earlier visits only.
+          const flip = describeFlip(model, solution, s, k, firstSeen[s], stillBest, lastNotBest, tolerance, layers, t);
+          if (flip) flips.push(flip);
         }
+      }
+      for (let i = 0; i < count; i++) {
+        const isBest = q[i] >= best - tolerance;
+        stillBest[first + i] = isBest && (!revisit || stillBest[first + i]) ? 1 : 0;
+        if (!isBest) lastNotBest[first + i] = k;
       }
       if (firstSeen[s] < 0) firstSeen[s] = k;
       seenAt[s] = k;
@@ -144,23 +155,22 @@ function describeFlip(
   solution: FiniteHorizonSolution,
   state: number,
   k: number,
-  earlierK: number,
   firstK: number,
+  stillBest: Uint8Array,
+  lastNotBest: Int32Array,
   tolerance: number,
   layers: Int32Array[],
   t: number,
-): TimeFlip {
-  // The action that was best with earlierK steps left and loses least now stands for "what a
-  // time-blind policy would have kept doing".
+): TimeFlip | undefined {
+  // The action best at every earlier visit that loses least now stands for "what a time-blind policy
+  // would have kept doing". Picking among the actions best at the latest visit alone could pick the
+  // best action now, when the two tied there.
   const bestNow = bestOf(model, solution, state, k);
-  const qBestEarlier = (model.maximize ? 1 : -1) * qValue(model, solution, bestOf(model, solution, state, earlierK), earlierK);
-  const earlierChoice = bestOf(
-    model,
-    solution,
-    state,
-    k,
-    (c) => (model.maximize ? 1 : -1) * qValue(model, solution, c, earlierK) >= qBestEarlier - tolerance,
-  );
+  const earlierChoice = bestOf(model, solution, state, k, (c) => stillBest[c] === 1);
+  // The two differ where the best action now was last not best; an earlier visit that ended in a
+  // tie between them would show no difference.
+  const earlierK = bestNow < 0 ? -1 : lastNotBest[bestNow];
+  if (earlierChoice < 0 || earlierK < 0) return undefined;
   return {
     state,
     stepsLeft: k,
