@@ -2,9 +2,10 @@
  * Values of one reward under one way of choosing (the best, the worst, one fixed policy or the
  * uniformly random policy), with sound bounds, for any discount.
  *
- * Discount < 1: every value is finite; interval iteration from the geometric-series bounds
+ * Discount < 1: every value is finite and lies within the geometric-series bounds
  * min(0, r_min)/(1-discount) <= V <= max(0, r_max)/(1-discount) (M. Puterman, Markov Decision
- * Processes, 1994, section 6.2).
+ * Processes, 1994, section 6.2); value iteration certified by the contraction or MacQueen bounds
+ * narrows them (interval-iteration.ts).
  *
  * Discount 1 (total reward, no horizon). Convention: the return of a policy is the limit of its
  * expected partial sums; V is +inf or -inf where that limit is infinite for the policies that
@@ -17,12 +18,14 @@
  *    almost surely (it then earns a positive mean with positive probability and never a negative
  *    one); sigma*V = -inf where neither P nor U can be reached and Z or T cannot be reached almost
  *    surely (every policy keeps a negative mean with positive probability); V is finite where
- *    neither P nor U can be reached and Z or T can be reached almost surely; undefined elsewhere.
+ *    neither P nor U can be reached and Z or T can be reached almost surely; undefined elsewhere
+ *    (conservative: e.g. a state whose only way into P also risks N is reported as [-inf, inf]
+ *    even where the magnitudes would decide it).
  *  - For a fixed or the random policy (a Markov chain), bottom SCCs take the role of end
  *    components, and a state's value is infinite when it reaches positive (or negative) bottom
  *    SCCs only, finite when it reaches only zero-reward ones and terminals, undefined otherwise.
  * On the finite region, zero-reward end components are collapsed into one node that may also
- * stay forever for 0 (as in Haddad and Monmege 2018, section 4), after which every remaining end
+ * stay forever for 0 (as Haddad and Monmege 2018 collapse end components), after which every remaining end
  * component loses infinitely, value iteration converges from any start (Bertsekas and Tsitsiklis
  * 1991) and interval iteration applies.
  */
