@@ -50,6 +50,109 @@ describe('shaping-not-potential: must fire', () => {
   });
 });
 
+/**
+ * Whether a trace reads right: every step's action, taken in its state, has an outcome into the state
+ * listed next (as a reader follows "s --a--> next"). A state listed without an action is a break.
+ */
+function isWalk(spec: SpecObject, trace: ReadonlyArray<{ state: string; action?: string }>): boolean {
+  const transitions = spec.transitions as Array<{ from: string; action: string; to: string | Record<string, number> }>;
+  return trace.slice(0, -1).every(
+    (step, i) =>
+      !step.action ||
+      transitions.some((t) => t.from === step.state && t.action === step.action && (typeof t.to === 'string' ? [t.to] : Object.keys(t.to)).includes(trace[i + 1].state)),
+  );
+}
+
+const traceText = (trace: ReadonlyArray<{ state: string; action?: string }>) => trace.map((t) => (t.action ? `${t.state} --${t.action}-->` : t.state));
+
+describe('shaping-not-potential: the trace is a walk', () => {
+  /** A courier on a line a -> b -> c -> depot; `progress` pays +1 forward and 0 back (not a potential). */
+  const line = (discount: number): SpecObject => ({
+    name: 'line',
+    discount,
+    start: 'a',
+    actions: ['fwd', 'back'],
+    rewardTerms: { task: { direction: 'either' }, progress: { direction: 'either', shaping: true } },
+    states: { a: {}, b: {}, c: {}, depot: { terminal: 'goal' } },
+    transitions: [
+      { from: 'a', action: 'fwd', to: 'b', reward: { task: -1, progress: 1 } },
+      { from: 'a', action: 'back', to: 'a', reward: { task: -1 } },
+      { from: 'b', action: 'fwd', to: 'c', reward: { task: -1, progress: 1 } },
+      { from: 'b', action: 'back', to: 'a', reward: { task: -1, progress: 0 } },
+      { from: 'c', action: 'fwd', to: 'depot', reward: { task: 10 } },
+      { from: 'c', action: 'back', to: 'b', reward: { task: -1, progress: 0 } },
+    ],
+  });
+
+  it('discount 0.9: the contradicting route in walking order, ending at the terminal', () => {
+    // Phi(depot) = 0 gives Phi(c) = 0 from c --fwd--> depot; c --back--> b --fwd--> c --fwd--> depot gives
+    // Phi(c) = 0.9*Phi(b) with Phi(b) = 0.9*Phi(c) - 1 = -1, so Phi(c) = -0.9 (by hand).
+    const spec = line(0.9);
+    const [finding] = findingsOf(checkSpec(spec), 'shaping-not-potential');
+    expect(finding.message).toContain('gives Phi(c) = 0, but c --back--> b (0), b --fwd--> c (+1.0), c --fwd--> depot (0) gives Phi(c) = -0.9');
+    expect(traceText(finding.trace!)).toEqual(['c --back-->', 'b --fwd-->', 'c --fwd-->', 'depot']);
+    expect(isWalk(spec, finding.trace!)).toBe(true);
+  });
+
+  it.each([0.5, 0.9, 1])('discount %s: every step leads to the state listed next', (discount) => {
+    for (const spec of [line(discount), corridor(discount, 1, 0, -2)]) {
+      const [finding] = findingsOf(checkSpec(spec), 'shaping-not-potential');
+      const trace = finding.trace!;
+      expect(trace.length).toBeGreaterThan(1);
+      // A route that can be walked has no breaks: only the last state stands without an action.
+      expect(trace.slice(0, -1).every((t) => t.action)).toBe(true);
+      expect(isWalk(spec, trace), JSON.stringify(traceText(trace))).toBe(true);
+    }
+  });
+
+  /** `enter` leads from the yard into a pen that only `pace` (a self-loop) leaves; `exit` ends from the yard. */
+  const pen = (discount: number, exitAmount: number): SpecObject => ({
+    name: 'pen',
+    discount,
+    start: 'yard',
+    actions: ['exit', 'enter', 'pace'],
+    rewardTerms: { progress: { direction: 'either', shaping: true } },
+    states: { yard: { actions: ['exit', 'enter'] }, pen: { actions: ['pace'] }, gate: { terminal: 'goal' } },
+    transitions: [
+      { from: 'yard', action: 'exit', to: 'gate', reward: { progress: exitAmount } },
+      { from: 'yard', action: 'enter', to: 'pen', reward: { progress: 1 } },
+      { from: 'pen', action: 'pace', to: 'pen', reward: { progress: 1 } },
+    ],
+  });
+
+  it('a route that goes against a transition breaks the trace instead of naming a move that does not exist', () => {
+    // The pen cannot reach the gate, so Phi(pen) comes from yard --enter--> pen (along the transition):
+    // Phi(yard) = 0, Phi(pen) = 1/0.9 = 1.11, while pen --pace--> pen needs Phi(pen) = 0.9*Phi(pen) - 1 = -10 (by hand).
+    const spec = pen(0.9, 0);
+    const [finding] = findingsOf(checkSpec(spec), 'shaping-not-potential');
+    expect(finding.message).toContain('gives Phi(pen) = 1.11');
+    expect(traceText(finding.trace!)).toEqual(['yard --exit-->', 'gate', 'yard --enter-->', 'pen --pace-->', 'pen']);
+    expect(isWalk(spec, finding.trace!)).toBe(true);
+  });
+
+  it('discount 1: a cycle walked partly backwards breaks where it goes against a transition', () => {
+    // Both yard and pen end at the gate; entering the pen pays +1, the two exits pay 0.
+    const spec: SpecObject = {
+      ...pen(1, 0),
+      states: { yard: { actions: ['exit', 'enter'] }, pen: { actions: ['leave'] }, gate: { terminal: 'goal' } },
+      actions: ['exit', 'enter', 'leave'],
+      transitions: [
+        { from: 'yard', action: 'exit', to: 'gate', reward: { progress: 0 } },
+        { from: 'yard', action: 'enter', to: 'pen', reward: { progress: 1 } },
+        { from: 'pen', action: 'leave', to: 'gate', reward: { progress: 0 } },
+      ],
+    };
+    // Phi(gate) = 0 gives Phi(yard) = 0 and Phi(pen) = 0, but yard --enter--> pen pays 1: the cycle
+    // yard -> pen -> gate <- yard goes against yard --exit--> gate once.
+    const [finding] = findingsOf(checkSpec(spec), 'shaping-not-potential');
+    expect(finding.message).toContain('taken backwards');
+    const trace = finding.trace!;
+    expect(trace.filter((t) => t.action).map((t) => `${t.state}/${t.action}`).sort()).toEqual(['pen/leave', 'yard/enter', 'yard/exit']);
+    expect(trace.filter((t) => !t.action)).toHaveLength(2);
+    expect(isWalk(spec, trace), JSON.stringify(traceText(trace))).toBe(true);
+  });
+});
+
 describe('shaping-not-potential: must not fire', () => {
   const phi = { hall: 3, pad: 2, exit: 0 };
   const f = (discount: number, s: keyof typeof phi, t: keyof typeof phi) => discount * phi[t] - phi[s];

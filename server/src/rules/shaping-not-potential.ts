@@ -37,7 +37,9 @@ the result. With discount < 1 a part without terminals is fixed by going once ar
 **When it fires.** Some outcome contradicts the potential the rest implies. The message gives two
 derivations of Phi at one state that disagree, step by step with the amounts; with discount 1 they close a
 cycle and the message gives the net shaping around it (a potential nets 0 around every cycle, so this is
-what a policy gains per lap). When the terms are potential-based, nothing is reported and the recovered
+what a policy gains per lap). The trace lists the same transitions so that each action leads to the state
+listed next; where the route goes against a transition, the trace breaks there and goes on from the
+transition's own state. When the terms are potential-based, nothing is reported and the recovered
 Phi is shown on hover.
 
 **Fix.** Compute the shaping from a potential: give each state a Phi and pay discount*Phi(s') - Phi(s), or
@@ -117,22 +119,33 @@ function allSteps(conflict: PotentialConflict): ShapingStep[] {
 }
 
 /**
- * A state/action sequence: with discount 1 the cycle in walking order, otherwise the second derivation
- * read outwards from the state, which follows the transitions from the state towards the anchor.
+ * A state/action sequence that a reader can follow: every listed action leads to the state listed next.
+ * The steps are those of the message (with discount 1 the cycle in walking order, otherwise the second
+ * derivation read outwards from the state), each shown as the transition it is. A step the route takes
+ * against its transition cannot be walked, so the trace breaks there: it lists the state reached, then
+ * the transition on its own. Of the route and its reverse, the one with fewer breaks is shown.
  */
 function traceOf(spec: ParsedSpec, model: CompiledModel, conflict: PotentialConflict): TraceStep[] {
-  const steps =
-    conflict.net !== undefined
-      ? [...conflict.first.steps, ...[...conflict.second.steps].reverse().map((s) => ({ ...s, forward: !s.forward }))]
-      : [...conflict.second.steps].reverse().map((s) => ({ ...s, forward: !s.forward }));
-  const trace: TraceStep[] = steps.map((step) => ({
-    state: stateName(model, step.forward ? step.from : step.to),
-    action: actionOf(model, step.choice),
-    span: outcomeSpan(spec, model, step.choice, step.outcome),
-  }));
-  const last = steps[steps.length - 1];
-  if (last) trace.push({ state: stateName(model, last.forward ? last.to : last.from), span: model.stateSpan[last.forward ? last.to : last.from] });
+  const route = conflict.net !== undefined ? [...conflict.first.steps, ...[...conflict.second.steps].reverse()] : [...conflict.second.steps].reverse();
+  const reversed = [...route].reverse();
+  const steps = breaksOf(reversed) < breaksOf(route) ? reversed : route;
+  const trace: TraceStep[] = [];
+  const standAt = (state: number) => trace.push({ state: stateName(model, state), span: model.stateSpan[state] });
+  let at: number | undefined;
+  for (const step of steps) {
+    if (at !== undefined && at !== step.from) standAt(at);
+    trace.push({ state: stateName(model, step.from), action: actionOf(model, step.choice), span: outcomeSpan(spec, model, step.choice, step.outcome) });
+    at = step.to;
+  }
+  if (at !== undefined) standAt(at);
   return trace;
+}
+
+/** How often a transition in the list does not leave from the state the previous one entered. */
+function breaksOf(steps: readonly ShapingStep[]): number {
+  let breaks = 0;
+  for (let i = 1; i < steps.length; i++) if (steps[i].from !== steps[i - 1].to) breaks++;
+  return breaks;
 }
 
 function relatedOf(spec: ParsedSpec, model: CompiledModel, conflict: PotentialConflict): RelatedLocation[] {
