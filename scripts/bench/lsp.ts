@@ -11,7 +11,7 @@
 import { mkdtempSync, rmSync, writeFileSync } from 'node:fs';
 import { cpus, loadavg, tmpdir } from 'node:os';
 import { join } from 'node:path';
-import { TestClient, pathUri, positionAt, positionOf } from '../../test/lsp/harness';
+import { TestClient, pathUri, positionAt } from '../../test/lsp/harness';
 import { warehouseSpecText } from '../../test/lsp/warehouse-spec';
 
 const EDITS = 20;
@@ -75,6 +75,8 @@ interface OpenSpec {
   version: number;
   count: number;
   openMs: number;
+  /** Positions of bay declarations to hover, found before any timing (searching 15 MB between hovers would load the client, not the server). */
+  hoverTargets: Array<{ line: number; character: number }>;
 }
 
 async function openSpec(client: TestClient, folder: string, name: string, count: number): Promise<OpenSpec> {
@@ -85,7 +87,17 @@ async function openSpec(client: TestClient, folder: string, name: string, count:
   const started = performance.now();
   await client.open(uri, text);
   await client.pushed(uri, 1, 0, LARGE_TIMEOUT_MS);
-  return { uri, text, version: 1, count, openMs: performance.now() - started };
+  return { uri, text, version: 1, count, openMs: performance.now() - started, hoverTargets: declarationPositions(text, 200) };
+}
+
+/** Up to `count` bay declarations spread over the states block, in one pass over the lines. */
+function declarationPositions(text: string, count: number): Array<{ line: number; character: number }> {
+  const lines = text.split('\n');
+  const declarations: number[] = [];
+  const end = lines.indexOf('  },');
+  for (let line = 0; line < end; line++) if (/^ {2}"b\d+": \{/.test(lines[line])) declarations.push(line);
+  const step = Math.max(1, Math.floor(declarations.length / count));
+  return declarations.filter((_, i) => i % step === 0).slice(0, count).map((line) => ({ line, character: 3 }));
 }
 
 /** Edits the reward of the first `hop` transition back and forth; resolves with each edit's time to its diagnostics. */
@@ -115,16 +127,16 @@ async function timeHovers(client: TestClient, spec: OpenSpec, count: number): Pr
 }
 
 /** One hover on the declaration of a bay (a different one each time), timed. */
-async function timeHover(client: TestClient, spec: OpenSpec, index = Math.floor(Math.random() * 1e9)): Promise<number> {
-  const bay = (index * 7919) % Math.floor(spec.count / 2);
-  const target = bay % 97 === 50 ? bay + 1 : bay;
-  const position = positionOf(spec.text, `"b${target}": {`);
+async function timeHover(client: TestClient, spec: OpenSpec, index = hoverCounter++): Promise<number> {
+  const position = spec.hoverTargets[index % spec.hoverTargets.length];
   const started = performance.now();
   const hover = await client.hover(spec.uri, position);
   const elapsed = performance.now() - started;
-  if (!hover) throw new Error(`no hover on b${target}`);
+  if (!hover) throw new Error(`no hover at line ${position.line + 1} of ${spec.uri}`);
   return elapsed;
 }
+
+let hoverCounter = 0;
 
 /** The analysis times the server reported (its status line ends with the duration) since the status numbered `after`. */
 function workerTimes(client: TestClient, uri: string, after: number): number[] {
