@@ -125,6 +125,29 @@ describe('enumerable TypeScript models: exact analysis like JSON specs', () => {
     expect(finding.message).toContain('{"at":"reef"}');
     expect(['start', 'outcomes']).toContain(report.text.slice(finding.span.start, finding.span.end));
   });
+
+  test('a loop through the start state points at outcomes, which produced its transitions, not at start', async () => {
+    // A patrol over rooms 0, 1, 2 whose every move pays +1 at discount 1: the return is unbounded.
+    const text = `export default {
+  discount: 1,
+  start: { room: 0 },
+  actions: () => ['next', 'leave'],
+  outcomes(s, action) {
+    if (action === 'leave') return [{ state: { room: -1 }, probability: 1, reward: 5 }];
+    return [{ state: { room: (s.room + 1) % 3 }, probability: 1, reward: 1 }];
+  },
+  terminal: (s) => (s.room === -1 ? 'goal' : undefined),
+};`;
+    const report = await analyzeTs(text);
+    for (const rule of ['unbounded-return', 'living-reward']) {
+      const [finding] = findingsOf(report, rule);
+      expect(report.text.slice(finding.span.start, finding.span.end), rule).toBe('outcomes');
+      // Every move of the loop, the one out of the start state included, was produced by outcomes().
+      expect(finding.related!.map((r) => report.text.slice(r.span.start, r.span.end)), rule).toEqual(['outcomes', 'outcomes', 'outcomes']);
+      const moves = finding.trace!.filter((step) => step.action);
+      expect(moves.map((step) => report.text.slice(step.span!.start, step.span!.end)), rule).toEqual(['outcomes', 'outcomes', 'outcomes']);
+    }
+  });
 });
 
 describe('TypeScript model rules', () => {

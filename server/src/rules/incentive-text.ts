@@ -75,11 +75,14 @@ export function describeStep(model: CompiledModel, choice: number, outcome = -1)
   return outcome < 0 ? head : `${head} ${stateName(model, model.outcomeTarget[outcome])}`;
 }
 
-/** Where a choice's transition is written; the state's declaration when no transition defines it. */
+/**
+ * Where a choice's transition is written. A TypeScript model's choices all come from its `outcomes`
+ * function, also those of start states (whose own span is `start`); otherwise the state's declaration.
+ */
 export function choiceSpan(spec: ParsedSpec, model: CompiledModel, choice: number): Span {
   const transition = spec.transitions[model.choiceTransition[choice]];
   if (transition) return transition.span;
-  return stateSpan(spec, model, ownerOfChoice(model, choice));
+  return spec.typescript?.members.outcomes?.nameSpan ?? stateSpan(spec, model, ownerOfChoice(model, choice));
 }
 
 /**
