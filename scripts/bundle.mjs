@@ -5,7 +5,7 @@ import { createRequire } from 'node:module';
 
 /** Each entry: source, output name, and whether it runs as a script with a shebang. */
 const entries = [
-  { in: 'server/src/cli/main.ts', out: 'cli', shebang: true },
+  { in: 'server/src/cli/main.ts', out: 'cli', shebang: true, lazyTypeScript: true },
   // The language server (started by the VS Code client), its analysis worker, and the VS Code client.
   { in: 'server/src/lsp/standalone.ts', out: 'server' },
   { in: 'server/src/lsp/worker.ts', out: 'analysis-worker', lazyTypeScript: true },
