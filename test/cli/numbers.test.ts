@@ -84,6 +84,9 @@ describe('numbers for people', () => {
     expect(textInterval(8.41, 8.41)).toBe('8.41');
     expect(textInterval(8.4123451, 8.4123461)).toBe('8.41234 .. 8.41235');
     expect(textInterval(-Infinity, 3)).toBe('-inf .. 3');
+    // Large values keep every integer digit and one decimal: an exact figure must not read as a wide range.
+    expect(textInterval(4499999.999, 4499999.999)).toBe('4499999.9 .. 4500000');
+    expect(textInterval(-123456789.25, -123456789.25)).toBe('-123456789.3 .. -123456789.2');
     expect(textInterval(Infinity, Infinity)).toBe('inf');
   });
 

@@ -75,12 +75,17 @@ export function parseJsonNumber(value: JsonNumber): number {
   return value;
 }
 
-/** A bound for people: rounded soundly to TEXT_DIGITS, without trailing zeros. */
+/**
+ * A bound for people: rounded soundly to TEXT_DIGITS, without trailing zeros. Large values keep
+ * every integer digit and one decimal, so an exact 4499999.999 never reads as "4499990 .. 4500000".
+ */
 export function textBound(x: number, side: 'lower' | 'upper'): string {
   if (Number.isNaN(x)) return side === 'lower' ? '-inf' : 'inf';
   if (x === Infinity) return 'inf';
   if (x === -Infinity) return '-inf';
-  return String(side === 'lower' ? roundDown(x, TEXT_DIGITS) : roundUp(x, TEXT_DIGITS));
+  const integerDigits = x === 0 ? 1 : Math.floor(Math.log10(Math.abs(x))) + 1;
+  const digits = Math.min(17, Math.max(TEXT_DIGITS, integerDigits + 1));
+  return String(side === 'lower' ? roundDown(x, digits) : roundUp(x, digits));
 }
 
 /** An interval for people: one number when both sound roundings agree, else "lower .. upper". */
