@@ -398,3 +398,35 @@ describe('reward-term shares under the optimal policy', () => {
     expect(analysis.start.optimal.lower).toBeCloseTo(8, 9);
   });
 });
+
+describe('extreme numbers', () => {
+  // Rewards near the largest double overflow intermediate sums; the analysis must still finish
+  // quickly and report ordered, NaN-free bounds (infinite where the sums overflowed).
+  for (const [discount, reward] of [
+    [0.9, 1e308],
+    [1, 1e308],
+    [0.5, -1e308],
+    [0.99, 1e300],
+    [1, 1e-320],
+  ] as const) {
+    it(`discount ${discount}, rewards of size ${reward}`, () => {
+      const { analysis, model } = run({
+        discount,
+        start: 's',
+        states: ['s', 't', ['goal', 'goal']],
+        choices: [
+          ['s', 'a', [['t', 0.5, reward], ['s', 0.5, reward]]],
+          ['s', 'b', [['goal', 1, reward]]],
+          ['t', 'go', [['goal', 1, -reward]]],
+        ],
+      });
+      for (const which of ['optimal', 'worst', 'random'] as const) {
+        for (let s = 0; s < model.stateCount; s++) {
+          const { lower, upper } = analysis[which].values;
+          expect(Number.isNaN(lower[s]) || Number.isNaN(upper[s])).toBe(false);
+          expect(lower[s]).toBeLessThanOrEqual(upper[s]);
+        }
+      }
+    });
+  }
+});

@@ -45,6 +45,8 @@ export interface AnalyzeModelOptions {
 const SWEEP_WORK_LIMIT = 2e10;
 const GAIN_WORK_LIMIT = 2e8;
 const HORIZON_WORK_LIMIT = 1e9;
+/** Sweeps per solve at most, however small the model (a solve that needs more reports wider bounds). */
+const MAX_SWEEPS = 1_000_000;
 
 const KIND_CODES = [TERMINAL_CODE.goal, TERMINAL_CODE.failure, TERMINAL_CODE.neutral];
 
@@ -64,7 +66,7 @@ export function analyzeModel(model: CompiledModel, options: AnalyzeModelOptions)
     mecs,
     fullScc,
     precision,
-    maxSweeps: Math.max(10_000, Math.floor(SWEEP_WORK_LIMIT / Math.max(1, model.outcomeCount))),
+    maxSweeps: Math.min(MAX_SWEEPS, Math.max(10_000, Math.floor(SWEEP_WORK_LIMIT / Math.max(1, model.outcomeCount)))),
     gainBudget: GAIN_WORK_LIMIT,
   };
   const reachable = reachableFromStart(model);

@@ -320,9 +320,10 @@ export function solveBounds(op: Operator, nodes: Nodes, bounds: Float64Array, op
     }
   }
 
-  // Interval iteration from sound bounds until they are close enough.
+  // Interval iteration from sound bounds until they are close enough (from infinite bounds it
+  // cannot get anywhere: then the bounds stay as they are).
   stats.relativeWidth = measureWidth(nodes, bounds);
-  while (stats.relativeWidth > options.precision && sweeps < options.maxSweeps) {
+  while (stats.relativeWidth > options.precision && stats.relativeWidth < Infinity && sweeps < options.maxSweeps) {
     sweepBounds(op, nodes, bounds, true, true, stats);
     sweeps++;
   }
@@ -348,6 +349,11 @@ function widenForRounding(op: Operator, nodes: Nodes, bounds: Float64Array, opti
     if (Number.isFinite(lower)) bounds[s2] = Math.max(floor, lower - margin);
     if (Number.isFinite(upper)) bounds[s2 + 1] = Math.min(ceiling, upper + margin);
   }
+}
+
+function allFinite(values: Float64Array, members: Int32Array): boolean {
+  for (let m = 0; m < members.length; m++) if (!Number.isFinite(values[members[m]])) return false;
+  return true;
 }
 
 function measureWidth(nodes: Nodes, bounds: Float64Array): number {
@@ -406,6 +412,7 @@ function contractionBounds(op: Operator, nodes: Nodes, bounds: Float64Array, opt
     while (sweeps < options.maxSweeps) {
       sweepEstimate(op, nodes, value, stats, next);
       sweeps++;
+      if (!(stats.absoluteChange < Infinity)) break;
       const target = options.precision * Math.max(1, stats.minMagnitude / RELATIVE_FROM);
       const a = stats.minChange;
       const b = stats.maxChange;
@@ -428,6 +435,7 @@ function contractionBounds(op: Operator, nodes: Nodes, bounds: Float64Array, opt
     sweeps += refineEstimate(op, nodes, value, tolerance, options.maxSweeps - sweeps, floor, ceiling);
     sweepEstimate(op, nodes, value, stats);
     sweeps++;
+    if (!(stats.absoluteChange < Infinity)) break;
     const target = options.precision * Math.max(1, stats.minMagnitude / RELATIVE_FROM);
     const radius = factor * stats.absoluteChange;
     if (2 * radius <= target) {
@@ -488,7 +496,8 @@ function refineEstimate(op: Operator, nodes: Nodes, estimate: Float64Array, tole
     }
     sweepEstimate(op, nodes, estimate, stats);
     sweeps++;
-    if (stats.change <= tolerance) break;
+    // Overflowed values (rewards near the largest double) never settle: give up, the caller falls back.
+    if (stats.change <= tolerance || !(stats.absoluteChange < Infinity)) break;
     if (changeBeforeJump >= 0) {
       if (stats.absoluteChange > 0.5 * changeBeforeJump) jumpsAllowed = false;
       changeBeforeJump = -1;
@@ -538,6 +547,7 @@ function optimisticBounds(op: Operator, nodes: Nodes, bounds: Float64Array, opti
     // Refine the estimate.
     const estimateSweeps = refineEstimate(op, nodes, estimate, tolerance, options.maxSweeps - sweeps, floor, ceiling);
     sweeps += estimateSweeps;
+    if (!allFinite(estimate, members)) break;
     // Guess the missing sides around the estimate, then test them for inductiveness.
     for (let m = 0; m < members.length; m++) {
       const s = members[m];

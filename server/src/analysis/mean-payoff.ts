@@ -26,6 +26,9 @@ export const GAIN_ZERO = 0;
 export const GAIN_NEGATIVE = -1;
 export const GAIN_UNDECIDED = 2;
 
+/** Iterations of relative value iteration per component at most (besides the work budget). */
+const MAX_GAIN_ITERATIONS = 100_000;
+
 export interface MdpGainClasses {
   /**
    * Per MEC, the sign of the best mean reward per step a policy can keep inside it, in the
@@ -226,6 +229,7 @@ export function gainBounds(
   const tau = 0.5;
   let lower = -Infinity;
   let upper = Infinity;
+  let iterations = 0;
   for (let spent = 0; spent <= budget; spent += edges + 1) {
     let lo = Infinity;
     let hi = -Infinity;
@@ -251,9 +255,10 @@ export function gainBounds(
       if (delta < lo) lo = delta;
       if (delta > hi) hi = delta;
     }
+    if (!Number.isFinite(lo) || !Number.isFinite(hi)) break;
     lower = Math.max(lower, lo);
     upper = Math.min(upper, hi);
-    if (lower > 0 || upper < 0 || upper - lower <= 1e-12 * Math.max(1, scale)) break;
+    if (lower > 0 || upper < 0 || upper - lower <= 1e-12 * Math.max(1, scale) || ++iterations >= MAX_GAIN_ITERATIONS) break;
     const anchor = v[0] + tau * (next[0] - v[0]);
     for (let i = 0; i < m; i++) v[i] = v[i] + tau * (next[i] - v[i]) - anchor;
   }
