@@ -41,8 +41,12 @@ export interface AnalyzeModelOptions {
   precision: number;
 }
 
-/** Work caps that keep a single analysis within minutes even on million-state models. */
-const SWEEP_WORK_LIMIT = 2e10;
+/**
+ * Work caps that keep a single analysis within minutes even on million-state models: outcome
+ * visits per solve (at least 1000 sweeps), and the like for gains and horizons. A solve stopped by
+ * a cap reports the wider, still sound, bounds it reached.
+ */
+const SWEEP_WORK_LIMIT = 4e9;
 const GAIN_WORK_LIMIT = 2e8;
 const HORIZON_WORK_LIMIT = 1e9;
 /** Sweeps per solve at most, however small the model (a solve that needs more reports wider bounds). */
@@ -66,7 +70,7 @@ export function analyzeModel(model: CompiledModel, options: AnalyzeModelOptions)
     mecs,
     fullScc,
     precision,
-    maxSweeps: Math.min(MAX_SWEEPS, Math.max(10_000, Math.floor(SWEEP_WORK_LIMIT / Math.max(1, model.outcomeCount)))),
+    maxSweeps: Math.min(MAX_SWEEPS, Math.max(1000, Math.floor(SWEEP_WORK_LIMIT / Math.max(1, model.outcomeCount)))),
     gainBudget: GAIN_WORK_LIMIT,
   };
   const reachable = reachableFromStart(model);
