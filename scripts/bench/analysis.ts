@@ -20,25 +20,14 @@ import {
 import { stronglyConnectedComponents } from '../../server/src/analysis/scc';
 import { solveValues, sortWithinComponents, type AnalysisContext } from '../../server/src/analysis/total-reward';
 import { ModelBuilder, type CompiledModel } from '../../server/src/model/compiled';
+import { seededRandom } from '../../test/reference/gridworlds';
 
 const ACTIONS = 4;
 const OUTCOMES = 8;
 
-/** mulberry32 (common practice): a small seeded generator, so every run builds the same model. */
-function seeded(seed: number): () => number {
-  let a = seed >>> 0;
-  return () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = a;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-}
-
 /** Builds the random model through ModelBuilder, the same path the spec compiler uses. */
 function buildModel(states: number, discount: number): CompiledModel {
-  const random = seeded(20240601);
+  const random = seededRandom(20240601);
   const builder = new ModelBuilder({ discount, maximize: true });
   const nowhere = { start: 0, end: 0 };
   for (let s = 0; s < states; s++) builder.addState(`s${s}`, undefined, nowhere);

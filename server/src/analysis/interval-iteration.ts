@@ -183,6 +183,9 @@ export interface EstimateStats {
 }
 
 /**
+ * (The Bellman step is written out here and in sweepBounds rather than shared: a call per choice
+ * in the innermost loop costs a large share of the throughput.)
+ *
  * One sweep of plain value iteration on a single vector (an estimate; it becomes a bound only
  * through the contraction arguments of contractionBounds). Gauss-Seidel in place by default; with
  * a separate `out`, a Jacobi sweep that reads `value` and writes `out`. Allocation-free.
