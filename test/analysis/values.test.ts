@@ -430,3 +430,38 @@ describe('extreme numbers', () => {
     });
   }
 });
+
+describe('potential-based shaping at discount 1 (Ng, Harada and Russell 1999)', () => {
+  // s <-> u cost nothing; u.leave enters the goal for +1. Potential: Phi(s) = 0, Phi(u) = 2,
+  // Phi(goal) = 0, so the shaping adds +2 on s -> u, -2 on u -> s and -2 on u -> goal. Around the
+  // loop it adds nothing, so the shaped values are the unshaped ones minus Phi:
+  // V(s) = 1 - 0 = 1, V(u) = 1 - 2 = -1.
+  function shapedLoop(): CompiledModel {
+    const b = new ModelBuilder({ discount: 1, maximize: true });
+    const nowhere = { start: 0, end: 0 };
+    const s = b.addState('s', undefined, nowhere);
+    const u = b.addState('u', undefined, nowhere);
+    const goal = b.addState('goal', 'goal', nowhere);
+    b.addChoice(s, 'over', 0, [{ target: u, probability: 1, reward: 2, shaping: 2 }]);
+    b.addChoice(u, 'back', 1, [{ target: s, probability: 1, reward: -2, shaping: -2 }]);
+    b.addChoice(u, 'leave', 2, [{ target: goal, probability: 1, reward: -1, shaping: -2 }]);
+    return b.finish([{ state: u, probability: 1 }], Float64Array.from([0, 2, 0]));
+  }
+
+  it('gives the finite shaped values instead of calling the loop undefined', () => {
+    const model = shapedLoop();
+    const analysis = analyzeModel(model, { precision: 1e-6 });
+    const [s, u] = [0, 1];
+    expect(analysis.optimal.values.lower[s]).toBeCloseTo(1, 9);
+    expect(analysis.optimal.values.upper[s]).toBeCloseTo(1, 9);
+    expect(analysis.optimal.values.lower[u]).toBeCloseTo(-1, 9);
+    expect(analysis.endComponents[0].gainSign).toBe(0);
+    // Q(u, back) = -2 + V(s) = -1 = Q(u, leave): a tie, and the policy moves on to the goal.
+    expect(analysis.q.lower[model.choiceStart[u]]).toBeCloseTo(-1, 9);
+    expect(model.actionNames[model.choiceAction[analysis.optimal.policy![u]]]).toBe('leave');
+    const shaping = analysis.termShares.find((t) => t.term === 'shaping')!;
+    // From u the shaping adds Phi(goal) - Phi(u) = -2 in total; the rest of the reward is +1.
+    expect(shaping.value).toBeCloseTo(-2, 9);
+    expect(analysis.termShares.find((t) => t.term === '')!.value).toBeCloseTo(1, 9);
+  });
+});

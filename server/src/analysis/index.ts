@@ -154,9 +154,44 @@ function termRewards(model: CompiledModel, reward: Float64Array): TermReward[] {
   return out;
 }
 
-function stationaryAnalysis(ctx: AnalysisContext, reward: Float64Array, entry: (Float64Array | undefined)[], terms: TermReward[]): CoreResult {
+/**
+ * At discount 1 the shaping reward Phi(s') - Phi(s) adds up to Phi(end) - Phi(start) along any
+ * run and to 0 around any loop, yet it gives loops that pay nothing rewards of both signs, whose
+ * total the end-component analysis could only call undefined. When every terminal has potential
+ * 0, the values are therefore solved for the unshaped rewards and shifted by -Phi(s): the shaped
+ * return of every policy that ends the episode surely is its unshaped return minus Phi(start)
+ * (A. Ng, D. Harada and S. Russell, "Policy invariance under reward transformations", ICML 1999).
+ * Undefined when that does not apply.
+ */
+function shapingShift(model: CompiledModel, graph: ModelGraph): { unshaped: Float64Array; shift: Float64Array } | undefined {
+  const { potential, outcomePotentialReward } = model;
+  if (model.discount !== 1 || !potential || !outcomePotentialReward) return undefined;
+  for (let s = 0; s < model.stateCount; s++) if (model.terminal[s] !== 0 && potential[s] !== 0) return undefined;
+  const base = new Float64Array(model.outcomeCount);
+  for (let k = 0; k < base.length; k++) base[k] = model.outcomeReward[k] - outcomePotentialReward[k];
+  const shift = new Float64Array(model.stateCount);
+  for (let s = 0; s < shift.length; s++) shift[s] = graph.absorbing[s] ? 0 : -potential[s];
+  return { unshaped: expectedChoiceValues(model, base), shift };
+}
+
+/** Bounds moved by a per-state (or, with `owner`, per-choice owner state) shift; infinite bounds stay. */
+function shifted(bounds: Bounds, shift: Float64Array, owner?: Int32Array): Bounds {
+  const lower = bounds.lower.slice();
+  const upper = bounds.upper.slice();
+  for (let i = 0; i < lower.length; i++) {
+    const d = shift[owner ? owner[i] : i];
+    if (Number.isFinite(lower[i])) lower[i] += d;
+    if (Number.isFinite(upper[i])) upper[i] += d;
+  }
+  return { lower, upper };
+}
+
+function stationaryAnalysis(ctx: AnalysisContext, shapedReward: Float64Array, entry: (Float64Array | undefined)[], terms: TermReward[]): CoreResult {
   const { model, graph } = ctx;
   const discount = model.discount;
+  const transform = shapingShift(model, graph);
+  // Everything below is solved in unshaped terms when the transform applies, and shifted at the end.
+  const reward = transform ? transform.unshaped : shapedReward;
   const maxSolution = solveValues(ctx, { combine: COMBINE_MAX, reward, discount });
   const minSolution = solveValues(ctx, { combine: COMBINE_MIN, reward, discount });
   const randomSolution = solveValues(ctx, { combine: COMBINE_AVERAGE, reward, discount });
@@ -188,16 +223,20 @@ function stationaryAnalysis(ctx: AnalysisContext, reward: Float64Array, entry: (
 
   // Each term's total under the optimal policy; a lone remainder is the optimal value itself.
   const termValues: Bounds[] = terms.map((t) => {
-    if (terms.length === 1 && t.perChoice === reward) return optimal.values;
+    if (terms.length === 1 && t.perChoice === shapedReward) return optimal.values;
+    if (transform && t.name === 'shaping') return shapingTotal(transform.shift, optimal.reach.none);
     const solution = underPolicy(optimalPolicy)(t.perChoice, discount);
     return { lower: solution.lower, upper: solution.upper };
   });
 
+  if (transform) {
+    for (const analysis of [optimal, worst, random]) analysis.values = shifted(analysis.values, transform.shift);
+  }
   return {
     optimal,
     worst,
     random,
-    q,
+    q: transform ? shifted(q, transform.shift, graph.choiceState) : q,
     isBest,
     maxGoalReach,
     termValues,
@@ -205,6 +244,18 @@ function stationaryAnalysis(ctx: AnalysisContext, reward: Float64Array, entry: (
     exact: maxSolution.exact && minSolution.exact && randomSolution.exact,
     iterations: maxSolution.sweeps + minSolution.sweeps + randomSolution.sweeps,
   };
+}
+
+/** The shaping term's total at discount 1: -Phi(s) where the optimal policy ends surely, undefined elsewhere. */
+function shapingTotal(shift: Float64Array, neverEnds: Float64Array): Bounds {
+  const lower = new Float64Array(shift.length);
+  const upper = new Float64Array(shift.length);
+  for (let s = 0; s < shift.length; s++) {
+    const sure = neverEnds[s] <= 1e-9;
+    lower[s] = sure ? shift[s] : -Infinity;
+    upper[s] = sure ? shift[s] : Infinity;
+  }
+  return { lower, upper };
 }
 
 function horizonAnalysis(graph: ModelGraph, horizon: number, reward: Float64Array, entry: (Float64Array | undefined)[], terms: TermReward[]): CoreResult {
