@@ -64,6 +64,10 @@ describe('unbounded return at discount 1 (a loop that pays every round)', () => 
     expectValue(analysis, 'random', at('start'), 12);
     // Length: L(a) = 1 + 0.5 * L(b), L(b) = 1 + L(a)  =>  L(a) = 3, and one more step from the start.
     expect(analysis.start.expectedLength.random).toBeCloseTo(4, 6);
+    // The random policy finishes almost surely: decided by the graph, so exactly 1.
+    expect(analysis.start.reach.random.goal).toBe(1);
+    expect(analysis.start.reach.random.none).toBe(0);
+    expect(analysis.start.maxGoalReach).toBe(1);
   });
 
   it('minimize (the rewards are costs): V* = 10, the worst is +inf, and the loop is not in the optimiser favour', () => {

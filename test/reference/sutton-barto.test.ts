@@ -57,9 +57,9 @@ describe('Sutton and Barto (2018), Example 4.1: 4x4 gridworld, random policy, di
     }
   });
 
-  it('ends every episode of the random policy in the terminal state with probability 1 (to the 1e-6 precision)', () => {
-    expect(analysis.start.reach.random.neutral).toBeGreaterThanOrEqual(1 - 1e-6);
-    expect(analysis.start.reach.random.none).toBeLessThanOrEqual(1e-6);
+  it('ends every episode of the random policy in the terminal state with probability 1', () => {
+    expect(analysis.start.reach.random.neutral).toBe(1);
+    expect(analysis.start.reach.random.none).toBe(0);
   });
 });
 

@@ -17,9 +17,9 @@ import { expectedChoiceValues, graphOf, expectedRewards, terminalEntryProbabilit
 import { COMBINE_AVERAGE, COMBINE_MAX, COMBINE_MIN, COMBINE_POLICY } from './interval-iteration';
 import { classifyMdpGains, GAIN_NEGATIVE, GAIN_POSITIVE, GAIN_ZERO, type MdpGainClasses } from './mean-payoff';
 import { attainingPolicy, bestChoices, choiceBounds } from './policy';
-import { reachableFromStart } from './reachability';
+import { almostSureReach, canReach, reachableFromStart } from './reachability';
 import { stronglyConnectedComponents } from './scc';
-import { solveValues, sortWithinComponents, type AnalysisContext, type ValueSolution } from './total-reward';
+import { policyChoiceMask, solveValues, sortWithinComponents, type AnalysisContext, type ValueSolution } from './total-reward';
 import type {
   Analysis,
   Bounds,
@@ -209,7 +209,11 @@ function stationaryAnalysis(ctx: AnalysisContext, shapedReward: Float64Array, en
     solveValues(ctx, { combine: policy ? COMBINE_POLICY : COMBINE_AVERAGE, policy, reward: perChoice, discount: discountFactor, lowerBound, upperBound });
   const describe = (solution: ValueSolution, policy: Int32Array | undefined): PolicyAnalysis => {
     const solve = underPolicy(policy);
-    const reach = reachOf(model.stateCount, entry.map((e) => (e ? pointValues(solve(e, 1, 0, 1)) : undefined)));
+    const chain = policy ? policyChoiceMask(graph, policy) : undefined;
+    const reach = reachOf(
+      model.stateCount,
+      entry.map((e, i) => (e ? withCertainties(graph, pointValues(solve(e, 1, 0, 1)), KIND_CODES[i], 'chain', chain) : undefined)),
+    );
     const ones = new Float64Array(model.choiceCount).fill(1);
     const expectedLength = pointValues(solve(ones, 1, 0));
     return { values: { lower: solution.lower, upper: solution.upper }, reach, expectedLength, policy };
@@ -219,7 +223,9 @@ function stationaryAnalysis(ctx: AnalysisContext, shapedReward: Float64Array, en
   const random = describe(randomSolution, undefined);
 
   const goal = entry[0];
-  const maxGoalReach = goal ? pointValues(solveValues(ctx, { combine: COMBINE_MAX, reward: goal, discount: 1, lowerBound: 0, upperBound: 1 })) : new Float64Array(model.stateCount);
+  const maxGoalReach = goal
+    ? withCertainties(graph, pointValues(solveValues(ctx, { combine: COMBINE_MAX, reward: goal, discount: 1, lowerBound: 0, upperBound: 1 })), TERMINAL_CODE.goal, 'max')
+    : new Float64Array(model.stateCount);
 
   // Each term's total under the optimal policy; a lone remainder is the optimal value itself.
   const termValues: Bounds[] = terms.map((t) => {
@@ -301,6 +307,35 @@ function horizonAnalysis(graph: ModelGraph, horizon: number, reward: Float64Arra
     exact,
     iterations: solved.steps,
   };
+}
+
+/**
+ * Probabilities that are exactly 0 or 1 by the graph alone replace their numeric estimates (the
+ * "prob0 / prob1" precomputations of probabilistic model checking; Baier and Katoen, Principles of
+ * Model Checking, 2008, section 10.1.1): 0 where no terminal of the kind can be reached, 1 where
+ * (under a chain) no state that misses it can be reached, or (maximising over choices) where some
+ * policy reaches it almost surely.
+ */
+function withCertainties(graph: ModelGraph, estimate: Float64Array, kindCode: number, how: 'max' | 'chain', chain?: Uint8Array): Float64Array {
+  const { model } = graph;
+  const kind = new Uint8Array(model.stateCount);
+  for (let s = 0; s < kind.length; s++) kind[s] = model.terminal[s] === kindCode ? 1 : 0;
+  const reaches = canReach(graph, kind, chain);
+  let sure: Uint8Array;
+  if (how === 'max') sure = almostSureReach(graph, kind);
+  else {
+    const misses = new Uint8Array(model.stateCount);
+    for (let s = 0; s < misses.length; s++) misses[s] = reaches[s] ? 0 : 1;
+    const canMiss = canReach(graph, misses, chain);
+    sure = new Uint8Array(model.stateCount);
+    for (let s = 0; s < sure.length; s++) sure[s] = canMiss[s] ? 0 : 1;
+  }
+  const out = estimate.slice();
+  for (let s = 0; s < out.length; s++) {
+    if (!reaches[s]) out[s] = 0;
+    else if (sure[s]) out[s] = 1;
+  }
+  return out;
 }
 
 function reachOf(n: number, perKind: (Float64Array | undefined)[]): ReachProbabilities {
