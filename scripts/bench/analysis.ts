@@ -116,7 +116,7 @@ export async function run(): Promise<void> {
   const graph = buildModelGraph(model);
   const live = new Uint8Array(model.stateCount).fill(1);
   const fullScc = stronglyConnectedComponents(model, live);
-  sortWithinComponents(fullScc);
+  sortWithinComponents(fullScc, graph);
   const mecs = maximalEndComponents(graph, undefined, undefined, fullScc);
   const prepared = seconds(t);
   const ctx: AnalysisContext = { model, graph, mecs, fullScc, precision: 1e-6, maxSweeps: 100_000, gainBudget: 2e8 };

@@ -62,7 +62,7 @@ export function analyzeModel(model: CompiledModel, options: AnalyzeModelOptions)
   const live = new Uint8Array(model.stateCount);
   for (let s = 0; s < live.length; s++) live[s] = graph.absorbing[s] ? 0 : 1;
   const fullScc = stronglyConnectedComponents(model, live);
-  sortWithinComponents(fullScc);
+  sortWithinComponents(fullScc, graph);
   const mecs = maximalEndComponents(graph, undefined, undefined, fullScc);
   const ctx: AnalysisContext = {
     model,

@@ -71,6 +71,20 @@ export function scaledWidth(lower: number, upper: number): number {
   return magnitude > RELATIVE_FROM ? (width * RELATIVE_FROM) / magnitude : width;
 }
 
+/**
+ * The closed-form factor for a state's self-loop: with weight `used` on the state's own update and
+ * `selfWeight` (discount times probability) of it returning to itself, the update
+ * x = (rest + selfWeight * x) / used solves to x = rest / (used - selfWeight). Same fixed point,
+ * still monotone, and u >= T(u) holds exactly when it holds for the closed form, so interval
+ * iteration and its checks stay sound; Gauss-Seidel on a corridor of states that mostly stay put
+ * then converges in a few sweeps instead of thousands. Returns 0 when the loop (almost) never
+ * leaves: the plain update is used then.
+ */
+function selfLoopFactor(selfWeight: number, used: number): number {
+  const denominator = used - selfWeight;
+  return selfWeight > 0 && denominator > 1e-9 * used ? 1 / denominator : 0;
+}
+
 /** Statistics of one sweep. */
 export interface SweepStats {
   /** Largest scaledWidth over updated states. */
@@ -104,6 +118,9 @@ export function sweepBounds(op: Operator, nodes: Nodes, bounds: Float64Array, cl
     else if (combine === COMBINE_MIN) bestLower = bestUpper = stay[i] ? 0 : Infinity;
     else bestLower = bestUpper = 0;
     let used = 0;
+    // A single state's own self-loops are solved in closed form (see selfLoopFactor).
+    const self = m1 - m0 === 1 ? members[m0] : -1;
+    let selfTotal = 0;
     for (let m = m0; m < m1; m++) {
       const s = members[m];
       let c0 = choiceStart[s];
@@ -116,32 +133,62 @@ export function sweepBounds(op: Operator, nodes: Nodes, bounds: Float64Array, cl
         if (allowed !== undefined && allowed[c] === 0) continue;
         let accLower = 0;
         let accUpper = 0;
+        let selfP = 0;
         const k1 = outcomeStart[c + 1];
         for (let k = outcomeStart[c]; k < k1; k++) {
-          const t = outcomeTarget[k] << 1;
+          const target = outcomeTarget[k];
           const p = outcomeProb[k];
+          if (target === self) {
+            selfP += p;
+            continue;
+          }
+          const t = target << 1;
           accLower += p * bounds[t];
           accUpper += p * bounds[t + 1];
         }
         const r = reward[c];
-        const qLower = r + discount * accLower;
-        const qUpper = r + discount * accUpper;
+        if (combine === COMBINE_AVERAGE || combine === COMBINE_POLICY) {
+          bestLower += r + discount * accLower;
+          bestUpper += r + discount * accUpper;
+          selfTotal += selfP;
+          used++;
+          continue;
+        }
+        let qLower: number;
+        let qUpper: number;
+        const factor = selfLoopFactor(discount * selfP, 1);
+        if (factor > 0) {
+          qLower = (r + discount * accLower) * factor;
+          qUpper = (r + discount * accUpper) * factor;
+        } else if (selfP > 0) {
+          qLower = r + discount * (accLower + selfP * bounds[self << 1]);
+          qUpper = r + discount * (accUpper + selfP * bounds[(self << 1) + 1]);
+        } else {
+          qLower = r + discount * accLower;
+          qUpper = r + discount * accUpper;
+        }
         if (combine === COMBINE_MAX) {
           if (qLower > bestLower) bestLower = qLower;
           if (qUpper > bestUpper) bestUpper = qUpper;
-        } else if (combine === COMBINE_MIN) {
+        } else {
           if (qLower < bestLower) bestLower = qLower;
           if (qUpper < bestUpper) bestUpper = qUpper;
-        } else {
-          bestLower += qLower;
-          bestUpper += qUpper;
-          used++;
         }
       }
     }
-    if (combine === COMBINE_AVERAGE && used > 0) {
-      bestLower /= used;
-      bestUpper /= used;
+    // A policy's one choice is an average over one.
+    if ((combine === COMBINE_AVERAGE || combine === COMBINE_POLICY) && used > 0) {
+      const factor = selfLoopFactor(discount * selfTotal, used);
+      if (factor > 0) {
+        bestLower *= factor;
+        bestUpper *= factor;
+      } else if (selfTotal > 0) {
+        bestLower = (bestLower + discount * selfTotal * bounds[self << 1]) / used;
+        bestUpper = (bestUpper + discount * selfTotal * bounds[(self << 1) + 1]) / used;
+      } else {
+        bestLower /= used;
+        bestUpper /= used;
+      }
     }
     for (let m = m0; m < m1; m++) {
       const s2 = members[m] << 1;
@@ -207,6 +254,10 @@ export function sweepEstimate(op: Operator, nodes: Nodes, value: Float64Array, s
     else if (combine === COMBINE_MIN) best = stay[i] ? 0 : Infinity;
     else best = 0;
     let used = 0;
+    // At discount 1 (and only in place: the contraction and MacQueen certificates of discount < 1
+    // assume the plain operator), a single state's self-loops are solved in closed form.
+    const self = discount === 1 && out === value && m1 - m0 === 1 ? members[m0] : -1;
+    let selfTotal = 0;
     for (let m = m0; m < m1; m++) {
       const s = members[m];
       let c0 = choiceStart[s];
@@ -218,20 +269,35 @@ export function sweepEstimate(op: Operator, nodes: Nodes, value: Float64Array, s
       for (let c = c0; c < c1; c++) {
         if (allowed !== undefined && allowed[c] === 0) continue;
         let acc = 0;
+        let selfP = 0;
         const k1 = outcomeStart[c + 1];
-        for (let k = outcomeStart[c]; k < k1; k++) acc += outcomeProb[k] * value[outcomeTarget[k]];
-        const q = reward[c] + discount * acc;
+        for (let k = outcomeStart[c]; k < k1; k++) {
+          const target = outcomeTarget[k];
+          if (target === self) selfP += outcomeProb[k];
+          else acc += outcomeProb[k] * value[target];
+        }
+        if (combine === COMBINE_AVERAGE || combine === COMBINE_POLICY) {
+          best += reward[c] + discount * acc;
+          selfTotal += selfP;
+          used++;
+          continue;
+        }
+        const factor = selfLoopFactor(discount * selfP, 1);
+        const q =
+          factor > 0
+            ? (reward[c] + discount * acc) * factor
+            : reward[c] + discount * (selfP > 0 ? acc + selfP * value[self] : acc);
         if (combine === COMBINE_MAX) {
           if (q > best) best = q;
-        } else if (combine === COMBINE_MIN) {
-          if (q < best) best = q;
-        } else {
-          best += q;
-          used++;
-        }
+        } else if (q < best) best = q;
       }
     }
-    if (combine === COMBINE_AVERAGE && used > 0) best /= used;
+    // A policy's one choice is an average over one.
+    if ((combine === COMBINE_AVERAGE || combine === COMBINE_POLICY) && used > 0) {
+      const factor = selfLoopFactor(discount * selfTotal, used);
+      if (factor > 0) best *= factor;
+      else best = (selfTotal > 0 ? best + discount * selfTotal * value[self] : best) / used;
+    }
     const magnitude = Math.abs(best);
     const scale = magnitude > RELATIVE_FROM ? magnitude / RELATIVE_FROM : 1;
     if (magnitude < minMagnitude) minMagnitude = magnitude;

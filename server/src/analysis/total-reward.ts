@@ -72,8 +72,7 @@ export interface AnalysisContext {
 /**
  * The SCCs of all non-absorbing states under all choices, or under a policy's choices (`mask`
  * marks them), computed once and shared by the solves that use the same graph. Each component's
- * states are put in memory order: inside a component the order brings no Gauss-Seidel benefit,
- * and memory order keeps the CSR reads sequential.
+ * states are put in exit-first order (see sortWithinComponents).
  */
 function liveComponents(ctx: AnalysisContext, policy?: Int32Array, mask?: Uint8Array): SccDecomposition {
   const cached = policy ? ctx.policyScc?.get(policy) : ctx.fullScc;
@@ -81,14 +80,53 @@ function liveComponents(ctx: AnalysisContext, policy?: Int32Array, mask?: Uint8A
   const live = new Uint8Array(ctx.model.stateCount);
   for (let s = 0; s < live.length; s++) live[s] = ctx.graph.absorbing[s] ? 0 : 1;
   const scc = stronglyConnectedComponents(ctx.model, live, mask);
-  sortWithinComponents(scc);
+  sortWithinComponents(scc, ctx.graph);
   if (policy) (ctx.policyScc ??= new WeakMap()).set(policy, scc);
   else ctx.fullScc = scc;
   return scc;
 }
 
-export function sortWithinComponents(scc: SccDecomposition): void {
-  for (let i = 0; i < scc.count; i++) if (scc.start[i + 1] - scc.start[i] > 1) scc.order.subarray(scc.start[i], scc.start[i + 1]).sort();
+/**
+ * Orders the states of each component exit-first: the states with an outcome leaving the
+ * component, then their predecessors inside it by breadth-first search, then any state that cannot
+ * reach an exit (in memory order). Gauss-Seidel sweeps in this order carry the values of solved
+ * components through a long corridor in one sweep instead of one state per sweep (the idea of
+ * topological value iteration: P. Dai, Mausam, D. Weld and J. Goldsmith, "Topological value
+ * iteration algorithms", JAIR 42, 2011, applied inside a component). The order changes only the
+ * speed: every sweep is still a monotone Bellman update, so the bounds stay sound.
+ */
+export function sortWithinComponents(scc: SccDecomposition, graph: ModelGraph): void {
+  const { componentOf, order, start } = scc;
+  const { choiceStart, outcomeStart, outcomeTarget, outcomeProb } = graph.model;
+  const { predStart, predChoice, choiceState } = graph;
+  const placed = new Uint8Array(componentOf.length);
+  for (let i = 0; i < scc.count; i++) {
+    const first = start[i];
+    const end = start[i + 1];
+    if (end - first < 2) continue;
+    const members = order.slice(first, end).sort();
+    let fill = first;
+    for (const s of members) {
+      let exits = false;
+      for (let k = outcomeStart[choiceStart[s]]; k < outcomeStart[choiceStart[s + 1]] && !exits; k++) {
+        if (outcomeProb[k] > 0 && componentOf[outcomeTarget[k]] !== i) exits = true;
+      }
+      if (exits) {
+        order[fill++] = s;
+        placed[s] = 1;
+      }
+    }
+    for (let head = first; head < fill; head++) {
+      const t = order[head];
+      for (let p = predStart[t]; p < predStart[t + 1]; p++) {
+        const s = choiceState[predChoice[p]];
+        if (componentOf[s] !== i || placed[s]) continue;
+        placed[s] = 1;
+        order[fill++] = s;
+      }
+    }
+    for (const s of members) if (!placed[s]) order[fill++] = s;
+  }
 }
 
 /**
@@ -118,7 +156,7 @@ function sweepOrder(ctx: AnalysisContext, iterate: Uint8Array, policy: Int32Arra
 /** The sweep order over the finite region at discount 1, where collapsed groups must stay together. */
 function groupSweepOrder(ctx: AnalysisContext, iterate: Uint8Array, choices: Uint8Array | undefined): { order: Int32Array; acyclic: boolean } {
   const scc = stronglyConnectedComponents(ctx.model, iterate, choices);
-  sortWithinComponents(scc);
+  sortWithinComponents(scc, ctx.graph);
   let acyclic = true;
   for (let i = 0; i < scc.count && acyclic; i++) if (isCyclicComponent(ctx.model, scc, i, choices)) acyclic = false;
   return { order: scc.order, acyclic };
