@@ -129,7 +129,8 @@ describe('pull-request flow through the command line', () => {
     expect(added).toHaveLength(1);
     expect(added[0]).toContain('`failure-preferred`');
     const cells = moved[0].split('|').map((c) => c.trim());
-    expect(cells[4]).toMatch(/^>0\.9999 → \*\*0\.7\*\* \(−0\.3\)$/);
+    // Goal reach before the edit is exactly 1 (decided from the graph alone), then 0.7.
+    expect(cells[4]).toMatch(/^1 → \*\*0\.7\*\* \(−0\.3\)$/);
   });
 
   it('a malformed baseline stops the run with exit status 2 and one line', async () => {

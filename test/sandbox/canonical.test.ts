@@ -6,9 +6,8 @@ import { canonicalKey } from '../../server/src/sandbox/runtime';
 function reversed(value: unknown): unknown {
   if (Array.isArray(value)) return value.map(reversed);
   if (value && typeof value === 'object') {
-    const out: Record<string, unknown> = {};
-    for (const key of Object.keys(value).reverse()) out[key] = reversed((value as Record<string, unknown>)[key]);
-    return out;
+    // fromEntries defines own properties, so a key named __proto__ stays a key (assignment would drop it).
+    return Object.fromEntries(Object.keys(value).reverse().map((key) => [key, reversed((value as Record<string, unknown>)[key])]));
   }
   return value;
 }
