@@ -41,22 +41,6 @@ const CATALOG: Record<string, Severity> = {
   'episode-never-ends': 'warning',
 };
 
-/** The rules this helper's issue item 6 asks for at the spec level; they must all be registered. */
-const STRUCTURAL = [
-  'schema',
-  'undeclared-state',
-  'undeclared-action',
-  'probability-sum',
-  'negative-probability',
-  'missing-outcomes',
-  'dead-end',
-  'terminal-has-transitions',
-  'duplicate-transition',
-  'tiny-probability',
-  'reward-scale',
-  'non-finite-reward',
-];
-
 describe('rule registry', () => {
   it('is sorted by id in code-unit order, so the list is easy to scan and merge', () => {
     const ids = RULES.map((rule) => rule.id);
@@ -78,9 +62,9 @@ describe('rule registry', () => {
     }
   });
 
-  it('registers every structural rule of the spec level', () => {
+  it('registers every rule of the catalog', () => {
     const ids = new Set(RULES.map((rule) => rule.id));
-    for (const id of STRUCTURAL) expect(ids.has(id), id).toBe(true);
+    for (const id of Object.keys(CATALOG)) expect(ids.has(id), id).toBe(true);
   });
 
   it.each(RULES.map((rule) => [rule.id, rule] as const))('%s is documented: summary, when it fires, how to fix', (_id, rule) => {
