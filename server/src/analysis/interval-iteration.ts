@@ -425,7 +425,7 @@ function allFinite(values: Float64Array, members: Int32Array): boolean {
   return true;
 }
 
-function measureWidth(nodes: Nodes, bounds: Float64Array): number {
+export function measureWidth(nodes: Nodes, bounds: Float64Array): number {
   let widest = 0;
   for (let m = 0; m < nodes.members.length; m++) {
     const s2 = nodes.members[m] << 1;

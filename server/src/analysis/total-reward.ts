@@ -31,14 +31,17 @@
  */
 import type { CompiledModel } from '../model/compiled';
 import { maximalEndComponents, type EndComponentDecomposition } from './end-components';
+import { buildChainSystem, certifiedChainSolve, type ChainSystem } from './chain-solve';
 import type { ModelGraph } from './graph';
 import {
   COMBINE_AVERAGE,
   COMBINE_MAX,
   COMBINE_MIN,
   COMBINE_POLICY,
+  measureWidth,
   singletonNodes,
   solveBounds,
+  type SolveResult,
   type Combine,
   type Nodes,
   type Operator,
@@ -46,6 +49,7 @@ import {
 import { classifyMdpGains, gainBounds, GAIN_NEGATIVE, GAIN_POSITIVE, GAIN_UNDECIDED, GAIN_ZERO, type MdpGainClasses } from './mean-payoff';
 import { almostSureReach, backwardLayering, canReach } from './reachability';
 import { isCyclicComponent, stronglyConnectedComponents, type SccDecomposition } from './scc';
+import { newSolverCounters, type SolverCounters } from './sparse-linear';
 
 export const STATUS_FINITE = 0;
 export const STATUS_PLUS_INFINITE = 1;
@@ -67,6 +71,51 @@ export interface AnalysisContext {
   fullScc?: SccDecomposition;
   /** The same under a policy's choices, per policy. */
   policyScc?: WeakMap<Int32Array, SccDecomposition>;
+  /** Linear systems of the chains solved so far (chain-solve.ts), shared by every solve on the same chain. */
+  chains?: ChainCache;
+  /** How the direct solves went, for reporting. */
+  counters?: SolverCounters;
+  /** Solve fixed-policy and best or worst values directly (linear solves, policy iteration) before sweeping. On unless false. */
+  directSolves?: boolean;
+}
+
+/** Chain systems keyed by discount, then by policy (content-compared) or "random". */
+interface ChainCache {
+  entries: Array<{ discount: number; policy: Int32Array | undefined; system: ChainSystem }>;
+}
+
+/**
+ * The linear system of a chain, built once per distinct chain and discount. With one choice per
+ * state, every policy and the random policy are the same chain.
+ */
+function chainSystemOf(ctx: AnalysisContext, policy: Int32Array | undefined, discount: number): ChainSystem {
+  const cache = (ctx.chains ??= { entries: [] });
+  const key = singleChoiceModel(ctx.graph) ? undefined : policy;
+  for (const entry of cache.entries) {
+    if (entry.discount === discount && samePolicy(entry.policy, key)) return entry.system;
+  }
+  const system = buildChainSystem(ctx.model, ctx.graph, key, discount, (ctx.counters ??= newSolverCounters()));
+  cache.entries.push({ discount, policy: key, system });
+  return system;
+}
+
+const singleChoice = new WeakMap<ModelGraph, boolean>();
+function singleChoiceModel(graph: ModelGraph): boolean {
+  let known = singleChoice.get(graph);
+  if (known === undefined) {
+    const { choiceStart, stateCount } = graph.model;
+    known = true;
+    for (let s = 0; s < stateCount && known; s++) if (!graph.absorbing[s] && choiceStart[s + 1] - choiceStart[s] !== 1) known = false;
+    singleChoice.set(graph, known);
+  }
+  return known;
+}
+
+function samePolicy(a: Int32Array | undefined, b: Int32Array | undefined): boolean {
+  if (a === b) return true;
+  if (!a || !b || a.length !== b.length) return false;
+  for (let i = 0; i < a.length; i++) if (a[i] !== b[i]) return false;
+  return true;
 }
 
 /**
@@ -234,13 +283,8 @@ export function solveValues(ctx: AnalysisContext, problem: ValueProblem): ValueS
 
   const op: Operator = { model, combine: problem.combine, policy: problem.policy, reward: problem.reward, discount: problem.discount, allowed };
   const apriori = aprioriBounds(model, problem, iterate, allowed);
-  const result = solveBounds(op, nodes, bounds, {
-    precision: ctx.precision,
-    lowerBound: apriori.lower,
-    upperBound: apriori.upper,
-    acyclic,
-    maxSweeps: ctx.maxSweeps,
-  });
+  const solveOptions = { precision: ctx.precision, lowerBound: apriori.lower, upperBound: apriori.upper, acyclic, maxSweeps: ctx.maxSweeps };
+  const result = (!acyclic && directSolve(ctx, op, problem, nodes, iterate, solveOptions, bounds)) || solveBounds(op, nodes, bounds, solveOptions);
 
   const lower = new Float64Array(n);
   const upper = new Float64Array(n);
@@ -266,6 +310,29 @@ export function solveValues(ctx: AnalysisContext, problem: ValueProblem): ValueS
     }
   }
   return { lower, upper, status, exact, sweeps: result.sweeps, relativeWidth: result.relativeWidth, ...extras };
+}
+
+/**
+ * The direct route: a certified linear solve for a chain (chain-solve.ts), certified policy
+ * iteration for the best or worst values (policy-iteration.ts). Undefined when it does not apply
+ * or its certificate fails; the sweeps of solveBounds are the fallback.
+ */
+function directSolve(
+  ctx: AnalysisContext,
+  op: Operator,
+  problem: ValueProblem,
+  nodes: Nodes,
+  iterate: Uint8Array,
+  options: { precision: number; lowerBound?: number; upperBound?: number },
+  bounds: Float64Array,
+): SolveResult | undefined {
+  if (ctx.directSolves === false || nodes.count === 0) return undefined;
+  if (problem.combine === COMBINE_POLICY || problem.combine === COMBINE_AVERAGE) {
+    const system = chainSystemOf(ctx, problem.policy, problem.discount);
+    if (!certifiedChainSolve(system, problem.reward, iterate, options, bounds)) return undefined;
+    return { sweeps: 0, exact: false, relativeWidth: measureWidth(nodes, bounds) };
+  }
+  return undefined;
 }
 
 /** A priori bounds on the iterated states' values, or undefined sides. */
