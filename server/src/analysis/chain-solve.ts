@@ -18,43 +18,46 @@ import type { ModelGraph } from './graph';
 import { scaledWidth } from './interval-iteration';
 import { BlockSolver, newSolverCounters, type SolverCounters, type SparseMatrix } from './sparse-linear';
 
-/** The linear system of one Markov chain (a policy's choices, or all choices averaged) at one discount. */
-export interface ChainSystem {
-  model: CompiledModel;
-  /** rowOf[s]: the row of state s, -1 for absorbing states. */
+/**
+ * How the rows of a system map to the model: rowOf[s] is the row of state s (several states may
+ * share a row: a collapsed end component) or -1 for a state whose value is 0; each row averages
+ * the choices first .. end-1 (none: the row's value is 0, as for "stay forever for nothing").
+ */
+export interface RowLayout {
+  rows: number;
   rowOf: Int32Array;
-  stateOf: Int32Array;
-  /** Per row, the choices that make it up, with their weight (1 / number of choices). */
-  choicesOf: (row: number) => { first: number; end: number; weight: number };
-  /** The number of choices a row averages (1 under a policy). */
-  choiceCount: (row: number) => number;
+  choicesOf: (row: number) => { first: number; end: number };
+}
+
+/** The linear system x = r + discount P x of a layout, with its block solver. */
+export interface LinearSystem {
+  model: CompiledModel;
+  layout: RowLayout;
   matrix: SparseMatrix;
   solver: BlockSolver;
   discount: number;
 }
 
-/**
- * Builds the system for a policy (its choice per state) or, without one, for the uniformly
- * random policy over every choice.
- */
-export function buildChainSystem(model: CompiledModel, graph: ModelGraph, policy: Int32Array | undefined, discount: number, counters: SolverCounters = newSolverCounters()): ChainSystem {
-  const n = model.stateCount;
-  const { choiceStart, outcomeStart, outcomeTarget, outcomeProb } = model;
-  const rowOf = new Int32Array(n).fill(-1);
-  let rows = 0;
-  for (let s = 0; s < n; s++) if (!graph.absorbing[s]) rowOf[s] = rows++;
-  const stateOf = new Int32Array(rows);
-  for (let s = 0; s < n; s++) if (rowOf[s] >= 0) stateOf[rowOf[s]] = s;
-  const choicesOf = (row: number): { first: number; end: number; weight: number } => {
-    const s = stateOf[row];
-    if (policy) return { first: policy[s], end: policy[s] + 1, weight: 1 };
-    return { first: choiceStart[s], end: choiceStart[s + 1], weight: 1 / (choiceStart[s + 1] - choiceStart[s]) };
-  };
+/** A chain's system with the state of each row (one state per row). */
+export interface ChainSystem extends LinearSystem {
+  stateOf: Int32Array;
+}
+
+/** The number of choices a row averages; a row without choices counts as one (x = 0). */
+function weightCount(layout: RowLayout, row: number): number {
+  const { first, end } = layout.choicesOf(row);
+  return Math.max(1, end - first);
+}
+
+/** Assembles I - discount P of a layout in CSR form, repeated targets merged, columns sorted. */
+export function buildLinearSystem(model: CompiledModel, layout: RowLayout, discount: number, counters: SolverCounters = newSolverCounters()): LinearSystem {
+  const { outcomeStart, outcomeTarget, outcomeProb } = model;
+  const { rows, rowOf } = layout;
   // Two passes: count distinct columns per row, then fill; `seen` merges repeated targets.
   const seen = new Int32Array(rows).fill(-1);
   const rowStart = new Int32Array(rows + 1);
   for (let i = 0; i < rows; i++) {
-    const { first, end } = choicesOf(i);
+    const { first, end } = layout.choicesOf(i);
     let count = 1;
     seen[i] = i;
     for (let c = first; c < end; c++) {
@@ -71,7 +74,8 @@ export function buildChainSystem(model: CompiledModel, graph: ModelGraph, policy
   const column = new Int32Array(rowStart[rows]);
   const value = new Float64Array(rowStart[rows]);
   for (let i = 0; i < rows; i++) {
-    const { first, end, weight } = choicesOf(i);
+    const { first, end } = layout.choicesOf(i);
+    const weight = 1 / weightCount(layout, i);
     let fill = rowStart[i];
     column[fill] = i;
     value[fill] = 1;
@@ -88,17 +92,65 @@ export function buildChainSystem(model: CompiledModel, graph: ModelGraph, policy
         value[seen[j]] -= discount * weight * outcomeProb[k];
       }
     }
+    sortRow(column, value, rowStart[i], rowStart[i + 1]);
   }
   const matrix: SparseMatrix = { n: rows, rowStart, column, value };
-  const choiceCount = (row: number): number => (policy ? 1 : choiceStart[stateOf[row] + 1] - choiceStart[stateOf[row]]);
-  return { model, rowOf, stateOf, choicesOf, choiceCount, matrix, solver: new BlockSolver(matrix, counters), discount };
+  return { model, layout, matrix, solver: new BlockSolver(matrix, counters), discount };
+}
+
+/** Insertion sort of one short row by column. */
+function sortRow(column: Int32Array, value: Float64Array, first: number, end: number): void {
+  for (let e = first + 1; e < end; e++) {
+    const c = column[e];
+    const v = value[e];
+    let f = e - 1;
+    while (f >= first && column[f] > c) {
+      column[f + 1] = column[f];
+      value[f + 1] = value[f];
+      f--;
+    }
+    column[f + 1] = c;
+    value[f + 1] = v;
+  }
+}
+
+/**
+ * The system of a policy (its choice per state) or, without one, of the uniformly random policy
+ * over every choice; one row per non-absorbing state.
+ */
+export function buildChainSystem(model: CompiledModel, graph: ModelGraph, policy: Int32Array | undefined, discount: number, counters?: SolverCounters): ChainSystem {
+  const n = model.stateCount;
+  const { choiceStart } = model;
+  const rowOf = new Int32Array(n).fill(-1);
+  let rows = 0;
+  for (let s = 0; s < n; s++) if (!graph.absorbing[s]) rowOf[s] = rows++;
+  const stateOf = new Int32Array(rows);
+  for (let s = 0; s < n; s++) if (rowOf[s] >= 0) stateOf[rowOf[s]] = s;
+  const choicesOf = (row: number): { first: number; end: number } => {
+    const s = stateOf[row];
+    return policy ? { first: policy[s], end: policy[s] + 1 } : { first: choiceStart[s], end: choiceStart[s + 1] };
+  };
+  return { ...buildLinearSystem(model, { rows, rowOf, choicesOf }, discount, counters), stateOf };
+}
+
+/** The wanted blocks of a chain system for the `iterate` states, or undefined when a block is only partly covered. */
+function wantedBlocksOf(system: ChainSystem, iterate: Uint8Array): Uint8Array | undefined {
+  const { solver, stateOf } = system;
+  const wanted = new Uint8Array(solver.blockCount);
+  const other = new Uint8Array(solver.blockCount);
+  for (let i = 0; i < stateOf.length; i++) {
+    if (iterate[stateOf[i]]) wanted[solver.blockOf[i]] = 1;
+    else other[solver.blockOf[i]] = 1;
+  }
+  for (let b = 0; b < wanted.length; b++) if (wanted[b] && other[b]) return undefined;
+  return wanted;
 }
 
 /**
  * Sound bounds on the values of `iterate` states (each a finite-valued, non-absorbing state;
- * every other state's value is 0) for the reward `reward` per choice, or undefined when the solve
- * or its certificate fails, or the bounds are wider than `precision` (scaled as scaledWidth).
- * The bounds are written interleaved into `bounds` (lower at 2s, upper at 2s+1).
+ * every other state's value is 0) for the reward `reward` per choice, written interleaved into
+ * `bounds` (lower at 2s, upper at 2s+1). False, with nothing written, when the solve or its
+ * certificate fails or the bounds are wider than `precision` (scaled as scaledWidth).
  */
 export function certifiedChainSolve(
   system: ChainSystem,
@@ -107,68 +159,77 @@ export function certifiedChainSolve(
   options: { precision: number; lowerBound?: number; upperBound?: number },
   bounds: Float64Array,
 ): boolean {
-  const { matrix, solver, stateOf } = system;
-  const rows = matrix.n;
-  // The wanted blocks are those of iterate states; a block the mask only partly covers is not a
-  // shape this solve handles.
-  const wanted = new Uint8Array(solver.blockCount);
-  const mixed = new Uint8Array(solver.blockCount);
-  for (let i = 0; i < rows; i++) {
-    const b = solver.blockOf[i];
-    if (iterate[stateOf[i]]) wanted[b] = 1;
-    else mixed[b] = 1;
+  const wanted = wantedBlocksOf(system, iterate);
+  if (!wanted) return false;
+  const solved = certifiedSolve(system, reward, wanted);
+  if (!solved) return false;
+  const { x, radius } = solved;
+  const floor = options.lowerBound ?? -Infinity;
+  const ceiling = options.upperBound ?? Infinity;
+  const { blockOf } = system.solver;
+  const lower = new Float64Array(x.length);
+  const upper = new Float64Array(x.length);
+  for (let i = 0; i < x.length; i++) {
+    if (!wanted[blockOf[i]]) continue;
+    lower[i] = Math.max(floor, x[i] - radius[i]);
+    upper[i] = Math.min(ceiling, x[i] + radius[i]);
+    if (!(scaledWidth(lower[i], upper[i]) <= options.precision)) return false;
   }
-  for (let b = 0; b < wanted.length; b++) if (wanted[b] && mixed[b]) return false;
+  for (let i = 0; i < x.length; i++) {
+    if (!wanted[blockOf[i]]) continue;
+    bounds[2 * system.stateOf[i]] = lower[i];
+    bounds[2 * system.stateOf[i] + 1] = upper[i];
+  }
+  return true;
+}
 
+/**
+ * Solves the system for `reward` on the wanted blocks (rows elsewhere are 0; a row without
+ * choices is the constant `emptyRowValue`) and certifies it:
+ * the true solution lies within x -+ radius, row by row (the two roundings of forming x -+ radius
+ * included). Undefined when a solve or the certificate fails.
+ */
+export function certifiedSolve(system: LinearSystem, reward: Float64Array, wanted?: Uint8Array, emptyRowValue = 0): { x: Float64Array; radius: Float64Array } | undefined {
+  const { matrix, solver, layout } = system;
+  const rows = matrix.n;
+  const want = wanted ?? new Uint8Array(solver.blockCount).fill(1);
   const rhs = new Float64Array(rows);
   for (let i = 0; i < rows; i++) {
-    if (!wanted[solver.blockOf[i]]) continue;
-    const { first, end, weight } = system.choicesOf(i);
-    let sum = 0;
+    if (!want[solver.blockOf[i]]) continue;
+    const { first, end } = layout.choicesOf(i);
+    let sum = first === end ? emptyRowValue : 0;
     for (let c = first; c < end; c++) sum += reward[c];
-    rhs[i] = sum * weight;
+    rhs[i] = sum / weightCount(layout, i);
   }
   const x = new Float64Array(rows);
-  if (!solver.solve(rhs, x, wanted)) return false;
+  if (!solver.solve(rhs, x, want)) return undefined;
   const residual = new Float64Array(rows);
   const residualError = new Float64Array(rows);
-  let worst = modelResidual(system, reward, x, wanted, residual, residualError);
+  let worst = modelResidual(system, reward, emptyRowValue, x, want, residual, residualError);
   // Iterative refinement with a residual computed in double-double (Higham 2002, ch. 12): a
   // correction or two bring the residual to the rounding floor of x itself.
   const correction = new Float64Array(rows);
+  const step = new Float64Array(rows);
   const trial = new Float64Array(rows);
   const trialResidual = new Float64Array(rows);
   const trialError = new Float64Array(rows);
   for (let round = 0; round < 3 && worst > 0; round++) {
-    for (let i = 0; i < rows; i++) correction[i] = residual[i] / system.choiceCount(i);
-    const step = new Float64Array(rows);
-    if (!solver.solve(correction, step, wanted)) break;
+    for (let i = 0; i < rows; i++) correction[i] = residual[i] / weightCount(layout, i);
+    if (!solver.solve(correction, step, want)) break;
     for (let i = 0; i < rows; i++) trial[i] = x[i] + step[i];
-    const trialWorst = modelResidual(system, reward, trial, wanted, trialResidual, trialError);
+    const trialWorst = modelResidual(system, reward, emptyRowValue, trial, want, trialResidual, trialError);
     if (!(trialWorst < worst)) break;
     x.set(trial);
     residual.set(trialResidual);
     residualError.set(trialError);
     worst = trialWorst;
   }
-  if (!Number.isFinite(worst)) return false;
-  const radius = errorBound(system, residual, residualError, wanted);
-  if (!radius) return false;
-
-  const floor = options.lowerBound ?? -Infinity;
-  const ceiling = options.upperBound ?? Infinity;
-  for (let i = 0; i < rows; i++) {
-    if (!wanted[solver.blockOf[i]]) continue;
-    // The two subtractions below round too; two units in the last place cover them.
-    const margin = 2 * Number.EPSILON * (Math.abs(x[i]) + radius[i]);
-    const lower = Math.max(floor, x[i] - radius[i] - margin);
-    const upper = Math.min(ceiling, x[i] + radius[i] + margin);
-    if (!(scaledWidth(lower, upper) <= options.precision)) return false;
-    const s = stateOf[i];
-    bounds[2 * s] = lower;
-    bounds[2 * s + 1] = upper;
-  }
-  return true;
+  if (!Number.isFinite(worst)) return undefined;
+  const radius = errorBound(system, residual, residualError, want);
+  if (!radius) return undefined;
+  // The subtraction and addition that form x -+ radius round too; two units in the last place cover them.
+  for (let i = 0; i < rows; i++) radius[i] += 2 * Number.EPSILON * (Math.abs(x[i]) + radius[i]);
+  return { x, radius };
 }
 
 /** Veltkamp's splitting constant for Dekker's exact product (2^27 + 1). */
@@ -195,16 +256,17 @@ function productError(a: number, b: number, p: number): number {
  * Comput. 26(6), 2005, algorithm Dot2). Writes the residual and a bound on its computing error
  * (their Proposition 5.5, with room to spare); returns the largest |residual| + error.
  */
-function modelResidual(system: ChainSystem, reward: Float64Array, x: Float64Array, wanted: Uint8Array, residual: Float64Array, error: Float64Array): number {
-  const { model, rowOf, stateOf, solver, discount } = system;
+function modelResidual(system: LinearSystem, reward: Float64Array, emptyRowValue: number, x: Float64Array, wanted: Uint8Array, residual: Float64Array, error: Float64Array): number {
+  const { model, solver, discount, layout } = system;
+  const { rowOf } = layout;
   const { outcomeStart, outcomeTarget, outcomeProb } = model;
   let worst = 0;
-  for (let i = 0; i < stateOf.length; i++) {
+  for (let i = 0; i < layout.rows; i++) {
     if (!wanted[solver.blockOf[i]]) {
       residual[i] = error[i] = 0;
       continue;
     }
-    const { first, end } = system.choicesOf(i);
+    const { first, end } = layout.choicesOf(i);
     let high = 0;
     let low = 0;
     let magnitude = 0;
@@ -217,10 +279,11 @@ function modelResidual(system: ChainSystem, reward: Float64Array, x: Float64Arra
       magnitude += Math.abs(v);
       terms++;
     };
-    const m = end - first;
+    const m = Math.max(1, end - first);
     const own = -m * x[i];
     add(own);
     low += -productError(m, x[i], -own);
+    if (first === end) add(emptyRowValue);
     for (let c = first; c < end; c++) {
       add(reward[c]);
       for (let k = outcomeStart[c]; k < outcomeStart[c + 1]; k++) {
@@ -255,17 +318,32 @@ function modelResidual(system: ChainSystem, reward: Float64Array, x: Float64Arra
  * with A E > 0 makes A a nonsingular M-matrix, so |v - x| = |A^-1 res / m| <= E row by row.
  * Undefined when the check fails.
  */
-function errorBound(system: ChainSystem, residual: Float64Array, residualError: Float64Array, wanted: Uint8Array): Float64Array | undefined {
-  const { model, rowOf, stateOf, solver, discount } = system;
+function errorBound(system: LinearSystem, residual: Float64Array, residualError: Float64Array, wanted: Uint8Array): Float64Array | undefined {
+  const { layout, solver } = system;
+  const n = layout.rows;
+  let largest = 0;
+  for (let i = 0; i < n; i++) if (wanted[solver.blockOf[i]]) largest = Math.max(largest, Math.abs(residual[i]) + residualError[i]);
+  // A floor keeps every entry of the target positive, as the M-matrix test needs. Where A E is a
+  // small difference of large entries of E the check cannot see it through rounding; a higher
+  // floor (still far below the values' precision) then makes every row's A E clearly positive.
+  for (let floor = 1e-12; floor <= 1; floor *= 1e4) {
+    const bound = scaledErrorBound(system, residual, residualError, wanted, Math.max(1e-280, floor * largest));
+    if (bound !== 'rounding') return bound;
+  }
+  return undefined;
+}
+
+function scaledErrorBound(system: LinearSystem, residual: Float64Array, residualError: Float64Array, wanted: Uint8Array, floor: number): Float64Array | undefined | 'rounding' {
+  const { model, solver, discount, layout } = system;
+  const { rowOf } = layout;
   const { outcomeStart, outcomeTarget, outcomeProb } = model;
-  const n = stateOf.length;
+  const n = layout.rows;
   const target = new Float64Array(n);
   const scaledTarget = new Float64Array(n);
   for (let i = 0; i < n; i++) {
     if (!wanted[solver.blockOf[i]]) continue;
-    // A tiny floor keeps every entry positive, as the M-matrix test needs.
-    target[i] = Math.abs(residual[i]) + residualError[i] + 1e-290;
-    scaledTarget[i] = target[i] / system.choiceCount(i);
+    target[i] = Math.abs(residual[i]) + residualError[i] + floor;
+    scaledTarget[i] = target[i] / weightCount(layout, i);
   }
   const bound = new Float64Array(n);
   if (!solver.solve(scaledTarget, bound, wanted)) return undefined;
@@ -273,8 +351,8 @@ function errorBound(system: ChainSystem, residual: Float64Array, residualError: 
   for (let i = 0; i < n; i++) {
     if (!wanted[solver.blockOf[i]]) continue;
     if (!(bound[i] > 0) || !Number.isFinite(bound[i])) return undefined;
-    const { first, end } = system.choicesOf(i);
-    let sum = (end - first) * bound[i];
+    const { first, end } = layout.choicesOf(i);
+    let sum = Math.max(1, end - first) * bound[i];
     let magnitude = sum;
     let terms = 1;
     for (let c = first; c < end; c++) {
@@ -288,7 +366,7 @@ function errorBound(system: ChainSystem, residual: Float64Array, residualError: 
       }
     }
     const least = sum - (2 * terms + 4) * Number.EPSILON * magnitude;
-    if (!(least > 0)) return undefined;
+    if (!(least > 0)) return 'rounding';
     if (target[i] / least > scale) scale = target[i] / least;
   }
   // The scaled vector is rounded too; a relative 1e-12 more covers it.

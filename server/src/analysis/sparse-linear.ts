@@ -100,7 +100,7 @@ export class BlockSolver {
   /**
    * Solves A x = b on the rows of the blocks with wanted[block] set (all when absent). Those
    * blocks must not depend on unwanted ones except through zero values. Returns false when a
-   * block could not be factored or its iterative solve did not converge.
+   * block could not be factored or its solve gave a value that is not finite.
    */
   solve(b: Float64Array, x: Float64Array, wantedBlocks?: Uint8Array): boolean {
     this.counters.solves++;
@@ -132,9 +132,10 @@ export class BlockSolver {
         for (let j = 0; j < size; j++) x[this.order[first + j]] = rhs[j];
       } else {
         const local = new Float64Array(size);
+        // A solve that stopped short is still passed on: the caller's certificate judges it.
         const iterations = bicgstab(factor, rhs, local);
         this.counters.krylovIterations += Math.abs(iterations);
-        if (iterations < 0) return false;
+        for (let j = 0; j < size; j++) if (!Number.isFinite(local[j])) return false;
         for (let j = 0; j < size; j++) x[this.order[first + j]] = local[j];
       }
     }

@@ -32,6 +32,7 @@
 import type { CompiledModel } from '../model/compiled';
 import { maximalEndComponents, type EndComponentDecomposition } from './end-components';
 import { buildChainSystem, certifiedChainSolve, type ChainSystem } from './chain-solve';
+import { policyIterationBounds } from './policy-iteration';
 import type { ModelGraph } from './graph';
 import {
   COMBINE_AVERAGE,
@@ -326,14 +327,39 @@ function directSolve(
   options: { precision: number; lowerBound?: number; upperBound?: number },
   bounds: Float64Array,
 ): SolveResult | undefined {
-  if (ctx.directSolves === false || nodes.count === 0) return undefined;
-  if (problem.combine === COMBINE_POLICY || problem.combine === COMBINE_AVERAGE) {
+  // The assembled systems hold about 12 bytes per outcome (more with ILU(0)); past this size the
+  // sweeps, which need no extra memory, are kept.
+  if (ctx.directSolves === false || nodes.count === 0 || ctx.model.outcomeCount > DIRECT_OUTCOME_LIMIT) return undefined;
+  // With one choice per state and no collapsed component, the best, the worst and every policy's
+  // values are those of the one chain: solve it once.
+  const oneChain = singleChoiceModel(ctx.graph) && nodes.count === nodes.members.length && !nodes.stay.includes(1);
+  if (problem.combine === COMBINE_POLICY || problem.combine === COMBINE_AVERAGE || oneChain) {
     const system = chainSystemOf(ctx, problem.policy, problem.discount);
     if (!certifiedChainSolve(system, problem.reward, iterate, options, bounds)) return undefined;
     return { sweeps: 0, exact: false, relativeWidth: measureWidth(nodes, bounds) };
   }
-  return undefined;
+  // Best or worst values: policy iteration where value iteration would need many sweeps (long
+  // effective horizons); short ones converge in a few sweeps anyway.
+  if (problem.discount < DIRECT_FROM_DISCOUNT) return undefined;
+  const solved = policyIterationBounds(ctx.graph, op, nodes, options.precision, (ctx.counters ??= newSolverCounters()));
+  if (!solved) return undefined;
+  const floor = options.lowerBound ?? -Infinity;
+  const ceiling = options.upperBound ?? Infinity;
+  for (let i = 0; i < nodes.count; i++) {
+    for (let m = nodes.start[i]; m < nodes.start[i + 1]; m++) {
+      const s2 = nodes.members[m] << 1;
+      bounds[s2] = Math.max(floor, solved.lower[i]);
+      bounds[s2 + 1] = Math.min(ceiling, solved.upper[i]);
+    }
+  }
+  return { sweeps: 0, exact: false, relativeWidth: measureWidth(nodes, bounds) };
 }
+
+/** The most outcomes a model may have for the direct solves (memory). */
+const DIRECT_OUTCOME_LIMIT = 8_000_000;
+
+/** Policy iteration replaces sweeps for best and worst values from this discount up (effective horizon 100 steps). */
+const DIRECT_FROM_DISCOUNT = 0.99;
 
 /** A priori bounds on the iterated states' values, or undefined sides. */
 function aprioriBounds(model: CompiledModel, problem: ValueProblem, iterate: Uint8Array, allowed: Uint8Array | undefined): { lower?: number; upper?: number } {

@@ -1,0 +1,320 @@
+/**
+ * Best (or worst) values by policy iteration (R. Howard, Dynamic Programming and Markov
+ * Processes, 1960; M. Puterman, Markov Decision Processes, 1994, section 6.4 and, for total reward
+ * at discount 1, section 7.2 and D. Bertsekas and J. Tsitsiklis, "An analysis of stochastic
+ * shortest path problems", Math. Oper. Res. 16(3), 1991), each policy evaluated by a linear solve
+ * (chain-solve.ts) on the nodes of the value problem (collapsed end components count as one node
+ * that may also stay for 0). At discount 1 it starts from a proper policy: each node takes a
+ * choice that moves, with positive probability, towards a node that already has one (an
+ * attractor), so every evaluation is a nonsingular system; Howard's improvement keeps it proper.
+ *
+ * Certificate, in the optimiser's direction (maximise sigma * value): the final policy's certified
+ * solve gives l <= V_pi <= V*. An upper vector u = x + rho W is built from the gaps of the
+ * choices (W: expected steps, maximised over the choices that tie with the best), and accepted
+ * only if one Bellman step checked with rounding gives T(u) <= u, which puts V* <= u: at discount
+ * < 1 by the contraction, at discount 1 because on these nodes every policy that never ends loses
+ * without bound (the solver's caller establishes it, as for interval iteration), so value
+ * iteration from u decreases to V* (Bertsekas and Tsitsiklis 1991).
+ */
+import type { CompiledModel } from '../model/compiled';
+import { buildLinearSystem, certifiedSolve, type LinearSystem, type RowLayout } from './chain-solve';
+import type { ModelGraph } from './graph';
+import { COMBINE_MAX, scaledWidth, type Nodes, type Operator } from './interval-iteration';
+import type { SolverCounters } from './sparse-linear';
+
+/** Howard iterations at most before giving up (in practice a few dozen at the most). */
+const MAX_IMPROVEMENTS = 200;
+
+export interface PolicyIterationResult {
+  /** Per node: the sound bounds, in the problem's own sign. */
+  lower: Float64Array;
+  upper: Float64Array;
+  /** Linear solves spent. */
+  solves: number;
+  improvements: number;
+}
+
+/**
+ * Sound bounds for the nodes of a best (COMBINE_MAX) or worst (COMBINE_MIN) value problem whose
+ * states outside the nodes all hold 0, or undefined when policy iteration or its certificate does
+ * not apply or fails (then the caller sweeps).
+ */
+export function policyIterationBounds(
+  graph: ModelGraph,
+  op: Operator,
+  nodes: Nodes,
+  precision: number,
+  counters: SolverCounters,
+): PolicyIterationResult | undefined {
+  const model = op.model;
+  const sigma = op.combine === COMBINE_MAX ? 1 : -1;
+  const reward = sigma === 1 ? op.reward : op.reward.map((r) => -r);
+  const nodeOf = new Int32Array(model.stateCount).fill(-1);
+  for (let i = 0; i < nodes.count; i++) for (let m = nodes.start[i]; m < nodes.start[i + 1]; m++) nodeOf[nodes.members[m]] = i;
+  const allowed = (c: number): boolean => op.allowed === undefined || op.allowed[c] === 1;
+
+  const policy = attractorPolicy(graph, nodes, nodeOf, allowed, op.discount);
+  if (!policy) return undefined;
+  let solves = 0;
+  let improvements = 0;
+  let system: LinearSystem;
+  let solved: { x: Float64Array; radius: Float64Array } | undefined;
+  for (;;) {
+    system = buildLinearSystem(model, layoutOf(nodes, nodeOf, policy), op.discount, counters);
+    solved = certifiedSolve(system, reward);
+    solves++;
+    if (!solved) return undefined;
+    if (!improve(model, nodes, nodeOf, allowed, reward, op.discount, solved.x, policy)) break;
+    if (++improvements >= MAX_IMPROVEMENTS) return undefined;
+  }
+  const { x, radius } = solved;
+  const upperVector = upperCertificate(graph, nodes, nodeOf, allowed, reward, op.discount, x, policy, counters);
+  if (!upperVector) return undefined;
+  solves += upperVector.solves;
+  const lower = new Float64Array(nodes.count);
+  const upper = new Float64Array(nodes.count);
+  for (let i = 0; i < nodes.count; i++) {
+    const low = x[i] - radius[i];
+    const high = upperVector.u[i];
+    if (!(low <= high) || !(scaledWidth(low, high) <= precision)) return undefined;
+    lower[i] = sigma === 1 ? low : -high;
+    upper[i] = sigma === 1 ? high : -low;
+  }
+  return { lower, upper, solves, improvements };
+}
+
+/** The rows of a node policy: node i's row uses its policy's choice, or none for "stay" (-1). */
+function layoutOf(nodes: Nodes, nodeOf: Int32Array, policy: Int32Array): RowLayout {
+  return {
+    rows: nodes.count,
+    rowOf: nodeOf,
+    choicesOf: (row) => (policy[row] < 0 ? { first: 0, end: 0 } : { first: policy[row], end: policy[row] + 1 }),
+  };
+}
+
+/**
+ * A policy that ends the episode (or stays for 0) with probability 1 from every node: a
+ * breadth-first search backwards from the states outside the nodes and the nodes that may stay,
+ * each node taking the first choice found that leads, with positive probability, to a state
+ * already covered. At discount < 1 any choice will do for a node the search misses; at discount 1
+ * such a node has no proper policy and undefined is returned.
+ */
+function attractorPolicy(graph: ModelGraph, nodes: Nodes, nodeOf: Int32Array, allowed: (c: number) => boolean, discount: number): Int32Array | undefined {
+  const model = graph.model;
+  const policy = new Int32Array(nodes.count).fill(-2);
+  const queue = new Int32Array(model.stateCount);
+  let head = 0;
+  let tail = 0;
+  for (let s = 0; s < model.stateCount; s++) if (nodeOf[s] < 0) queue[tail++] = s;
+  const cover = (i: number, choice: number): void => {
+    policy[i] = choice;
+    for (let m = nodes.start[i]; m < nodes.start[i + 1]; m++) queue[tail++] = nodes.members[m];
+  };
+  for (let i = 0; i < nodes.count; i++) if (nodes.stay[i]) cover(i, -1);
+  while (head < tail) {
+    const t = queue[head++];
+    for (let p = graph.predStart[t]; p < graph.predStart[t + 1]; p++) {
+      const c = graph.predChoice[p];
+      const i = nodeOf[graph.choiceState[c]];
+      if (i < 0 || policy[i] !== -2 || nodeOf[t] === i || !allowed(c)) continue;
+      cover(i, c);
+    }
+  }
+  for (let i = 0; i < nodes.count; i++) {
+    if (policy[i] !== -2) continue;
+    if (discount === 1) return undefined;
+    const s = nodes.members[nodes.start[i]];
+    for (let c = model.choiceStart[s]; c < model.choiceStart[s + 1] && policy[i] === -2; c++) if (allowed(c)) policy[i] = c;
+    if (policy[i] === -2) return undefined;
+  }
+  return policy;
+}
+
+/** Q of choice c under node values x (states outside the nodes hold 0). */
+function choiceValue(model: CompiledModel, nodeOf: Int32Array, reward: Float64Array, discount: number, x: Float64Array, c: number): number {
+  let acc = 0;
+  for (let k = model.outcomeStart[c]; k < model.outcomeStart[c + 1]; k++) {
+    const j = nodeOf[model.outcomeTarget[k]];
+    if (j >= 0) acc += model.outcomeProb[k] * x[j];
+  }
+  return reward[c] + discount * acc;
+}
+
+/**
+ * Howard's improvement step: each node switches to a choice (or to staying) whose value beats its
+ * current one by more than the rounding of the evaluation; returns whether any node switched.
+ */
+function improve(model: CompiledModel, nodes: Nodes, nodeOf: Int32Array, allowed: (c: number) => boolean, reward: Float64Array, discount: number, x: Float64Array, policy: Int32Array): boolean {
+  let changed = false;
+  for (let i = 0; i < nodes.count; i++) {
+    const tolerance = 1e-13 * Math.max(1, Math.abs(x[i]));
+    let best = x[i] + tolerance;
+    let bestChoice = policy[i];
+    if (nodes.stay[i] && 0 > best) {
+      best = 0;
+      bestChoice = -1;
+    }
+    for (let m = nodes.start[i]; m < nodes.start[i + 1]; m++) {
+      const s = nodes.members[m];
+      for (let c = model.choiceStart[s]; c < model.choiceStart[s + 1]; c++) {
+        if (c === policy[i] || !allowed(c)) continue;
+        const q = choiceValue(model, nodeOf, reward, discount, x, c);
+        if (q > best) {
+          best = q;
+          bestChoice = c;
+        }
+      }
+    }
+    if (bestChoice !== policy[i]) {
+      policy[i] = bestChoice;
+      changed = true;
+    }
+  }
+  return changed;
+}
+
+/**
+ * An upper vector u >= x with T(u) <= u checked with rounding, or undefined. With gap g(c) =
+ * x_i - Q_x(c) >= -rho for every choice, u = x + rho W satisfies T(u) <= u if W >= 1 + discount
+ * P_c W for the choices that (nearly) tie and rho (discount P_c W - W_i) <= g(c) for the others;
+ * W is the expected number of steps under the longest policy among the tying choices, found by
+ * policy iteration on that length, and choices that break the second condition join the tying ones.
+ */
+function upperCertificate(
+  graph: ModelGraph,
+  nodes: Nodes,
+  nodeOf: Int32Array,
+  allowed: (c: number) => boolean,
+  reward: Float64Array,
+  discount: number,
+  x: Float64Array,
+  policy: Int32Array,
+  counters: SolverCounters,
+): { u: Float64Array; solves: number } | undefined {
+  const model = graph.model;
+  const { choiceStart } = model;
+  // Gaps of every allowed choice, and rho from the largest excess over x (with its rounding).
+  const gap = new Float64Array(model.choiceCount).fill(Infinity);
+  let rho = 0;
+  for (let i = 0; i < nodes.count; i++) {
+    for (let m = nodes.start[i]; m < nodes.start[i + 1]; m++) {
+      const s = nodes.members[m];
+      for (let c = choiceStart[s]; c < choiceStart[s + 1]; c++) {
+        if (!allowed(c)) continue;
+        const q = choiceValue(model, nodeOf, reward, discount, x, c);
+        gap[c] = x[i] - q;
+        // The rounding of q and of the difference: a few units in the last place of the terms.
+        const terms = model.outcomeStart[c + 1] - model.outcomeStart[c] + 3;
+        const excess = q - x[i] + 2 * terms * Number.EPSILON * (Math.abs(x[i]) + Math.abs(q) + Math.abs(reward[c]));
+        if (excess > rho) rho = excess;
+      }
+    }
+    if (nodes.stay[i] && -x[i] > rho) rho = -x[i];
+  }
+  rho = rho * 2 + Number.MIN_VALUE;
+  const tying = new Uint8Array(model.choiceCount);
+  for (let c = 0; c < model.choiceCount; c++) {
+    const i = nodeOf[graph.choiceState[c]];
+    if (i >= 0 && gap[c] <= 1e-9 * Math.max(1, Math.abs(x[i]))) tying[c] = 1;
+  }
+  const lengthReward = new Float64Array(model.choiceCount).fill(1);
+  const longest = Int32Array.from(policy);
+  let solves = 0;
+  for (let round = 0; round < 4; round++) {
+    // The longest policy among the tying choices, by policy iteration on the expected length.
+    let length: Float64Array | undefined;
+    for (let step = 0; step < 30; step++) {
+      const system = buildLinearSystem(model, layoutOf(nodes, nodeOf, longest), discount, counters);
+      // A node that stays counts one step for it, as the choice "stay" does in T.
+      const solved = certifiedSolve(system, lengthReward, undefined, 1);
+      solves++;
+      if (!solved) return undefined;
+      length = solved.x;
+      let changed = false;
+      for (let i = 0; i < nodes.count; i++) {
+        let best = length[i] * (1 + 1e-9);
+        for (let m = nodes.start[i]; m < nodes.start[i + 1]; m++) {
+          const s = nodes.members[m];
+          for (let c = choiceStart[s]; c < choiceStart[s + 1]; c++) {
+            if (!tying[c] || c === longest[i]) continue;
+            const q = choiceValue(model, nodeOf, lengthReward, discount, length, c);
+            if (q > best) {
+              best = q;
+              longest[i] = c;
+              changed = true;
+            }
+          }
+        }
+      }
+      if (!changed) break;
+    }
+    if (!length) return undefined;
+    // Scale W until W_i - discount P_c W >= 1 for every tying choice (and a stay node's 1).
+    let scale = 1;
+    for (let i = 0; i < nodes.count; i++) {
+      if (nodes.stay[i]) {
+        if (!(length[i] > 0)) return undefined;
+        scale = Math.max(scale, 1 / (length[i] * (1 - 64 * Number.EPSILON)));
+      }
+      for (let m = nodes.start[i]; m < nodes.start[i + 1]; m++) {
+        const s = nodes.members[m];
+        for (let c = choiceStart[s]; c < choiceStart[s + 1]; c++) {
+          if (!tying[c]) continue;
+          const room = length[i] - (choiceValue(model, nodeOf, lengthReward, discount, length, c) - 1) - 64 * Number.EPSILON * length[i];
+          if (!(room > 0)) return undefined;
+          if (1 / room > scale) scale = 1 / room;
+        }
+      }
+    }
+    const weight = length.map((w) => w * scale * (1 + 1e-9));
+    // The other choices must absorb rho times their growth of W.
+    let joined = false;
+    for (let i = 0; i < nodes.count; i++) {
+      for (let m = nodes.start[i]; m < nodes.start[i + 1]; m++) {
+        const s = nodes.members[m];
+        for (let c = choiceStart[s]; c < choiceStart[s + 1]; c++) {
+          if (tying[c] || !allowed(c)) continue;
+          const growth = choiceValue(model, nodeOf, lengthReward, discount, weight, c) - 1 - weight[i];
+          if (growth > 0 && rho * growth * 2 > gap[c]) {
+            tying[c] = 1;
+            joined = true;
+          }
+        }
+      }
+    }
+    if (joined) continue;
+    const u = new Float64Array(nodes.count);
+    for (let i = 0; i < nodes.count; i++) u[i] = x[i] + rho * weight[i];
+    return checkUpper(model, nodes, nodeOf, allowed, reward, discount, u) ? { u, solves } : undefined;
+  }
+  return undefined;
+}
+
+/** T(u) <= u on every node, each choice's value computed with a bound on its rounding. */
+function checkUpper(model: CompiledModel, nodes: Nodes, nodeOf: Int32Array, allowed: (c: number) => boolean, reward: Float64Array, discount: number, u: Float64Array): boolean {
+  const { choiceStart, outcomeStart, outcomeTarget, outcomeProb } = model;
+  for (let i = 0; i < nodes.count; i++) {
+    if (nodes.stay[i] && !(u[i] >= 0)) return false;
+    for (let m = nodes.start[i]; m < nodes.start[i + 1]; m++) {
+      const s = nodes.members[m];
+      for (let c = choiceStart[s]; c < choiceStart[s + 1]; c++) {
+        if (!allowed(c)) continue;
+        let acc = 0;
+        let magnitude = 0;
+        let terms = 2;
+        for (let k = outcomeStart[c]; k < outcomeStart[c + 1]; k++) {
+          const j = nodeOf[outcomeTarget[k]];
+          if (j < 0) continue;
+          const term = outcomeProb[k] * u[j];
+          acc += term;
+          magnitude += Math.abs(term);
+          terms++;
+        }
+        const q = reward[c] + discount * acc;
+        const rounding = (2 * terms + 4) * Number.EPSILON * (Math.abs(reward[c]) + magnitude);
+        if (!(q + rounding <= u[i])) return false;
+      }
+    }
+  }
+  return true;
+}
