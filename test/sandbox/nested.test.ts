@@ -3,6 +3,7 @@ import { mkdirSync, mkdtempSync, rmSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { Worker } from 'node:worker_threads';
 import { describe, expect, test } from 'vitest';
+import { TEST_CALL_TIMEOUT_MS } from '../typescript/ts-specs';
 
 const root = join(__dirname, '..', '..');
 
@@ -26,10 +27,10 @@ describe('the sandbox started from a worker thread', () => {
       const worker = new Worker(
         `const { parentPort, workerData } = require('node:worker_threads');
          const { analyzeTypeScriptText } = require(workerData.module);
-         const config = { rules: {}, thresholds: { 'model-error.callTimeoutMs': 300 }, ignore: [], stateCap: 100, rollouts: 0, seed: 1, precision: 1e-6 };
+         const config = { rules: {}, thresholds: { 'model-error.callTimeoutMs': workerData.callTimeoutMs }, ignore: [], stateCap: 100, rollouts: 0, seed: 1, precision: 1e-6 };
          analyzeTypeScriptText(workerData.path, workerData.text, { config }).then((r) =>
            parentPort.postMessage(r.findings.map((f) => [f.rule, r.lines.position(f.span.start).line + 1])));`,
-        { eval: true, workerData: { module: join(out, 'typescript-analysis.js'), path: specPath, text } },
+        { eval: true, workerData: { module: join(out, 'typescript-analysis.js'), path: specPath, text, callTimeoutMs: TEST_CALL_TIMEOUT_MS } },
       );
       worker.once('message', (message) => {
         resolve(message);
