@@ -45,6 +45,7 @@ import {
   type WorkspaceAnalysisSummary,
 } from './protocol';
 import { AnalysisScheduler, type JobInput } from './scheduler';
+import { isSpecPath } from '../spec/paths';
 import { DEFAULT_SETTINGS, readSettings, type EpiscopeSettings } from './settings';
 import { DiagnosticSeverity } from 'vscode-languageserver-protocol';
 import { version } from '../../../package.json';
@@ -614,11 +615,6 @@ function collectSpecs(folder: string, out: string[]): void {
       if (!SKIPPED_FOLDERS.has(entry.name) && !entry.name.startsWith('.')) collectSpecs(path, out);
     } else if (entry.isFile() && isSpecPath(entry.name)) out.push(path);
   }
-}
-
-/** The spec file names (the same rule as the command line's). */
-function isSpecPath(path: string): boolean {
-  return path.endsWith('.mdp.json') || path.endsWith('.mdp.ts');
 }
 
 function readOrUndefined(path: string): string | undefined {
