@@ -21,7 +21,10 @@ vi.mock('jsonc-parser', async (importOriginal) => {
   const original = await importOriginal<typeof import('jsonc-parser')>();
   return {
     ...original,
-    parseTree: (text: string, ...rest: Parameters<typeof original.parseTree> extends [string, ...infer R] ? R : never) => {
+    parseTree: (
+      text: string,
+      ...rest: Parameters<typeof original.parseTree> extends [string, ...infer R] ? R : never
+    ) => {
       if (text.includes(LOADER_BOMB)) throw new Error('planted loader failure');
       return original.parseTree(text, ...rest);
     },
@@ -53,9 +56,13 @@ vi.mock('../../server/src/suppress', async (importOriginal) => {
 vi.mock('../../server/src/sandbox/host', async (importOriginal) => {
   const original = await importOriginal<typeof import('../../server/src/sandbox/host')>();
   const start: typeof original.ModelSandbox.start = (...args) =>
-    args[1].includes(SANDBOX_BOMB) ? Promise.reject(new Error('planted sandbox host failure')) : original.ModelSandbox.start(...args);
+    args[1].includes(SANDBOX_BOMB)
+      ? Promise.reject(new Error('planted sandbox host failure'))
+      : original.ModelSandbox.start(...args);
   // The constructor is private, so the class is wrapped rather than extended.
-  const ModelSandbox = new Proxy(original.ModelSandbox, { get: (target, key, receiver) => (key === 'start' ? start : Reflect.get(target, key, receiver)) });
+  const ModelSandbox = new Proxy(original.ModelSandbox, {
+    get: (target, key, receiver) => (key === 'start' ? start : Reflect.get(target, key, receiver)),
+  });
   return { ...original, ModelSandbox };
 });
 
@@ -81,8 +88,16 @@ describe('internal failures land in internalErrors', () => {
   });
 
   it.each([
-    ['the JSON loader', LOADER_BOMB, 'the spec could not be read because of an internal error of Episcope (planted loader failure)'],
-    ['the compiler', COMPILER_BOMB, 'the spec could not be compiled because of an internal error (planted compiler failure)'],
+    [
+      'the JSON loader',
+      LOADER_BOMB,
+      'the spec could not be read because of an internal error of Episcope (planted loader failure)',
+    ],
+    [
+      'the compiler',
+      COMPILER_BOMB,
+      'the spec could not be compiled because of an internal error (planted compiler failure)',
+    ],
     ['suppression', SUPPRESSION_BOMB, 'applying suppressions failed: planted suppression failure'],
   ])('a failure in %s', async (_stage, marker, expected) => {
     const report = await analyzeFile('bug.mdp.json', markedSpec(marker));
@@ -95,7 +110,10 @@ describe('internal failures land in internalErrors', () => {
   it('a failure of the TypeScript sandbox host (not of the model code)', async () => {
     const folder = tempFolder('internal');
     const file = path.join(folder, 'bug.mdp.ts');
-    const text = counterSpec(`    return [{ state: { n: s.n + 1 }, probability: 1, reward: -1 }];`).replace("name: 'counter'", `name: '${SANDBOX_BOMB}'`);
+    const text = counterSpec(`    return [{ state: { n: s.n + 1 }, probability: 1, reward: -1 }];`).replace(
+      "name: 'counter'",
+      `name: '${SANDBOX_BOMB}'`,
+    );
     writeFileSync(file, text);
     const report = await analyzeFile(file, text);
     expect(report.internalErrors).toEqual(['running the model failed: planted sandbox host failure']);

@@ -14,16 +14,20 @@ export function propertySeed(setting: string | undefined): number {
   if (setting === undefined || setting === '') return FIXED_SEED;
   if (setting === 'random') return (Math.random() * 0x1_0000_0000) | 0;
   const seed = Number(setting);
-  if (!Number.isInteger(seed)) throw new Error(`EPISCOPE_PROPERTY_SEED must be an integer or "random", not ${JSON.stringify(setting)}`);
+  if (!Number.isInteger(seed))
+    throw new Error(`EPISCOPE_PROPERTY_SEED must be an integer or "random", not ${JSON.stringify(setting)}`);
   return seed;
 }
 
 const seed = propertySeed(process.env.EPISCOPE_PROPERTY_SEED);
 fc.configureGlobal({ seed });
-if (process.env.EPISCOPE_PROPERTY_SEED === 'random') console.log(`fast-check seed of this run: ${seed} (replay with EPISCOPE_PROPERTY_SEED=${seed})`);
+if (process.env.EPISCOPE_PROPERTY_SEED === 'random')
+  console.log(`fast-check seed of this run: ${seed} (replay with EPISCOPE_PROPERTY_SEED=${seed})`);
 
 beforeEach((context) => {
   context.onTestFailed(() => {
-    console.error(`fast-check seed of this run: ${seed}; if this test checks a property, replay it with EPISCOPE_PROPERTY_SEED=${seed}`);
+    console.error(
+      `fast-check seed of this run: ${seed}; if this test checks a property, replay it with EPISCOPE_PROPERTY_SEED=${seed}`,
+    );
   });
 });

@@ -120,6 +120,17 @@ export function startServer(options: ServerOptions = {}): Connection {
     };
   }
 
+  /**
+   * A notification handler returns nothing to the client, so its promise is settled here: a
+   * failure is logged (by guard) and never left as an unhandled rejection.
+   */
+  function guardNotification<P extends unknown[]>(name: string, handler: (...args: P) => void | Promise<void>): (...args: P) => void {
+    const guarded = guard(name, undefined, handler);
+    return (...args: P) => {
+      guarded(...args).catch((error: unknown) => logError(`${name} failed: ${error instanceof Error ? error.message : String(error)}`));
+    };
+  }
+
   // ---------------------------------------------------------------------------------------------
   // Life cycle
 
@@ -151,7 +162,7 @@ export function startServer(options: ServerOptions = {}): Connection {
   );
 
   connection.onInitialized(
-    guard('initialized', undefined, async () => {
+    guardNotification('initialized', async () => {
       pool.warmUp();
       if (capabilities.workspace?.didChangeConfiguration?.dynamicRegistration) {
         await connection.client.register(DidChangeConfigurationNotification.type, { section: 'episcope' });
@@ -178,7 +189,7 @@ export function startServer(options: ServerOptions = {}): Connection {
   // Documents
 
   connection.onDidOpenTextDocument(
-    guard('didOpen', undefined, (params) => {
+    guardNotification('didOpen', (params) => {
       const { uri, languageId, version, text } = params.textDocument;
       documents.open(uri, languageId, version, text);
       if (isConfigUri(uri)) configChanged(uri);
@@ -190,7 +201,7 @@ export function startServer(options: ServerOptions = {}): Connection {
   );
 
   connection.onDidChangeTextDocument(
-    guard('didChange', undefined, (params) => {
+    guardNotification('didChange', (params) => {
       const { uri, version } = params.textDocument;
       if (!documents.change(uri, version, params.contentChanges)) return;
       if (isConfigUri(uri)) configChanged(uri);
@@ -199,7 +210,7 @@ export function startServer(options: ServerOptions = {}): Connection {
   );
 
   connection.onDidCloseTextDocument(
-    guard('didClose', undefined, (params) => {
+    guardNotification('didClose', (params) => {
       const uri = params.textDocument.uri;
       documents.close(uri);
       lensShown.delete(uri);
@@ -211,7 +222,7 @@ export function startServer(options: ServerOptions = {}): Connection {
   );
 
   connection.onDidChangeConfiguration(
-    guard('didChangeConfiguration', undefined, (params) => {
+    guardNotification('didChangeConfiguration', (params) => {
       settingsCache.clear();
       const settings = (params.settings as { episcope?: unknown } | null)?.episcope;
       if (settings !== undefined) globalSettings = readSettings(settings);
@@ -220,7 +231,7 @@ export function startServer(options: ServerOptions = {}): Connection {
   );
 
   connection.onDidChangeWatchedFiles(
-    guard('didChangeWatchedFiles', undefined, (params) => {
+    guardNotification('didChangeWatchedFiles', (params) => {
       const configEvents = params.changes.filter((c) => isConfigUri(c.uri));
       if (configEvents.length === 0) return;
       for (const change of configEvents) {
@@ -235,7 +246,7 @@ export function startServer(options: ServerOptions = {}): Connection {
 
   connection.onNotification(
     TRUST_NOTIFICATION,
-    guard('trust', undefined, (params: TrustParams) => {
+    guardNotification('trust', (params: TrustParams) => {
       if (typeof params?.trusted !== 'boolean' || params.trusted === trusted) return;
       trusted = params.trusted;
       reanalyseAll();
