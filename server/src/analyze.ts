@@ -1,85 +1,66 @@
 /**
- * The one analysis call behind every front (CLI, language server, library):
- * text and config in, a FileReport out. Pure: no LSP, no VS Code, no file system writes.
+ * The one analysis call behind every front (CLI, language server, library): text and config in, a
+ * FileReport out. Pure: no LSP, no VS Code, no file system writes.
+ *
+ * The pipeline is a straight line: a loader (spec/json.ts, or the TypeScript loader with its
+ * sandbox) returns a LoadedSpec; this file alone continues through compile, analyse, check and
+ * suppress. Nothing downstream imports this file back.
  */
 import { analyzeModel } from './analysis';
-import { DEFAULT_STEP_CAP, exactModelRollouts, type RolloutReport } from './analysis/rollouts';
-import type { Analysis } from './analysis/types';
-import { DEFAULT_CONFIG, type ResolvedConfig } from './config';
+import { exactModelRollouts } from './analysis/rollouts';
+import { DEFAULT_CONFIG, ruleThreshold, type ResolvedConfig } from './config';
+import type { Finding, FindingInput } from './findings';
 import type { CompiledModel } from './model/compiled';
-import { compileSpec } from './model/compile';
+import { compileSpec, type CompileResult } from './model/compile';
+import type { AnalyzeOptions, FileReport, LoadedSpec } from './report';
+import { episodeNeverEnds } from './rules/episode-never-ends';
 import { RULES } from './rules/registry';
-import type { Finding, FindingInput, Rule, RuleContext } from './rules/types';
+import type { Rule, RuleContext } from './rules/types';
 import { parseJsonSpec } from './spec/json';
 import { LineIndex } from './spec/lines';
-import type { ParsedSpec } from './spec/types';
-import { suppressReport, type SuppressedFinding } from './suppress';
+import { emptySpec, type ParsedSpec } from './spec/types';
+import { suppressReport } from './suppress';
 
-export interface AnalyzeOptions {
-  config?: ResolvedConfig;
-  /** Whether TypeScript model code may run (false: static checks only, as with `--no-exec`). */
-  exec?: boolean;
-  /** Checked between phases; when it returns true the call stops early and the report says so. */
-  isCancelled?: () => boolean;
-  /**
-   * Compute the analysis (value bounds, reach probabilities) even when no enabled rule needs it,
-   * because the front shows it (the CLI's return ranges, hovers). Default: only when a rule needs it.
-   */
-  analysis?: boolean;
-}
-
-export interface FileReport {
-  path: string;
-  text: string;
-  lines: LineIndex;
-  spec: ParsedSpec;
-  /** Sorted by position; severities resolved through the config. */
-  findings: Finding[];
-  model?: CompiledModel;
-  analysis?: Analysis;
-  /** Why there is no model or analysis, when there is none. */
-  notAnalysed?: string;
-  /** Rules whose check failed unexpectedly (a bug of ours), with the error text. */
-  internalErrors: string[];
-  cancelled?: boolean;
-  /** Findings hidden by a config `ignore` entry or an `episcope-ignore` comment (see suppress.ts). */
-  suppressed?: SuppressedFinding[];
-  /**
-   * Monte Carlo figures (analysis/rollouts.ts): for sampled TypeScript models always, for exactly
-   * analysed models when config `rollouts` > 0 (optimal and random policy).
-   */
-  rollouts?: RolloutReport;
-}
-
-/** True for the file names Episcope analyses (`*.mdp.json`, `*.mdp.ts`). */
-export function isSpecPath(path: string): boolean {
-  return path.endsWith('.mdp.json') || path.endsWith('.mdp.ts');
-}
+export type { AnalyzeOptions, FileReport, LoadedSpec } from './report';
+export { isSpecPath } from './spec/paths';
 
 /**
  * Analyses a spec of either format; the fronts (CLI, language server) call this. Never rejects
- * for any input text.
+ * for any input text: a failure of ours anywhere lands in `internalErrors` (the CLI exits 2).
  */
 export async function analyzeFile(path: string, text: string, options: AnalyzeOptions = {}): Promise<FileReport> {
-  if (path.endsWith('.mdp.ts')) {
-    // Loaded on first use: the TypeScript toolchain (ts-morph, esbuild) takes a second or more to
-    // load, which JSON specs (and the language server's workers) should never pay for.
-    const { analyzeTypeScriptText } = await import('./sandbox/analyze-typescript');
-    return analyzeTypeScriptText(path, text, options);
+  let loaded: LoadedSpec;
+  try {
+    loaded = path.endsWith('.mdp.ts') ? await loadTypeScript(path, text, options) : loadJsonSpec(text);
+  } catch (error) {
+    loaded = failedLoad(path, text, `loading the spec failed: ${errorText(error)}`);
   }
-  return analyzeJsonText(path, text, options);
+  return analyzeLoaded(path, text, loaded, options);
+}
+
+/**
+ * Loaded on first use: the TypeScript toolchain (ts-morph, esbuild) takes a second or more to
+ * load, which JSON specs (and the language server's workers) should never pay for.
+ */
+async function loadTypeScript(path: string, text: string, options: AnalyzeOptions): Promise<LoadedSpec> {
+  const { loadTypeScriptSpec } = await import('./sandbox/analyze-typescript');
+  return loadTypeScriptSpec(path, text, options);
+}
+
+/** Loads a JSON spec (`*.mdp.json`). Never throws. */
+export function loadJsonSpec(text: string): LoadedSpec {
+  const parsed = parseJsonSpec(text);
+  return { spec: parsed.spec, findings: parsed.findings, internalErrors: parsed.internalError ? [parsed.internalError] : [] };
 }
 
 /** Analyses a JSON spec (`*.mdp.json`). Never throws for any input text. */
 export function analyzeJsonText(path: string, text: string, options: AnalyzeOptions = {}): FileReport {
-  const config = options.config ?? DEFAULT_CONFIG;
-  const parsed = parseJsonSpec(text);
-  return analyzeParsed(path, text, parsed.spec, parsed.findings, config, options);
+  return analyzeLoaded(path, text, loadJsonSpec(text), options);
 }
 
 /**
- * Runs compilation, analysis and every enabled rule on an already parsed spec. Loader findings
- * (schema problems and the like) are merged in. Exported for the TypeScript-spec loader.
+ * Runs compilation, analysis and every enabled rule on an already parsed spec, with the loader's
+ * findings merged in. Kept for callers that hold a ParsedSpec; the loaders return a LoadedSpec.
  */
 export function analyzeParsed(
   path: string,
@@ -90,18 +71,26 @@ export function analyzeParsed(
   options: AnalyzeOptions = {},
   prebuiltModel?: { model?: CompiledModel; reason?: string },
 ): FileReport {
+  return analyzeLoaded(path, text, { spec, findings: loaderFindings, enumerated: prebuiltModel, internalErrors: [] }, { ...options, config });
+}
+
+/** Compile, analyse, check and suppress a loaded spec. Never throws. */
+export function analyzeLoaded(path: string, text: string, loaded: LoadedSpec, options: AnalyzeOptions = {}): FileReport {
+  const config = options.config ?? DEFAULT_CONFIG;
   const lines = new LineIndex(text);
-  const report: FileReport = { path, text, lines, spec, findings: [], internalErrors: [] };
+  const report: FileReport = { path, text, lines, spec: loaded.spec, findings: [], internalErrors: [...loaded.internalErrors] };
+  if (report.internalErrors.length > 0) report.notAnalysed = report.internalErrors[0];
   const findings: Finding[] = [];
-  for (const f of loaderFindings) {
+  for (const f of loaded.findings) {
     const severity = config.rules[f.rule];
     if (severity === 'off') continue;
     findings.push(severity ? { ...f, severity } : f);
   }
 
-  const compiled = prebuiltModel ?? compileSpec(spec);
+  const compiled: CompileResult = loaded.enumerated ?? compileSpec(loaded.spec);
   report.model = compiled.model;
-  if (!compiled.model) report.notAnalysed = compiled.reason;
+  if (!compiled.model) report.notAnalysed ??= compiled.reason;
+  if (compiled.internalError) report.internalErrors.push(compiled.internalError);
 
   const enabled = RULES.filter((rule) => config.rules[rule.id] !== 'off');
   const analysisWanted = options.analysis === true || enabled.some((rule) => rule.needs === 'analysis');
@@ -114,9 +103,14 @@ export function analyzeParsed(
     }
   }
   if (report.model && report.analysis && config.rollouts > 0 && !options.isCancelled?.()) {
-    const stepCap = config.thresholds['episode-never-ends.stepCap'] ?? DEFAULT_STEP_CAP;
-    report.rollouts = exactModelRollouts(report.model, report.analysis, { episodes: config.rollouts, seed: config.seed, stepCap });
+    try {
+      const stepCap = ruleThreshold(config, episodeNeverEnds, 'stepCap');
+      report.rollouts = exactModelRollouts(report.model, report.analysis, { episodes: config.rollouts, seed: config.seed, stepCap });
+    } catch (error) {
+      report.internalErrors.push(`the rollouts failed: ${errorText(error)}`);
+    }
   }
+  if (loaded.rollouts) report.rollouts = { ...report.rollouts, ...loaded.rollouts };
 
   for (const rule of enabled) {
     if (options.isCancelled?.()) {
@@ -130,7 +124,15 @@ export function analyzeParsed(
 
   findings.sort((a, b) => a.span.start - b.span.start || a.span.end - b.span.end || a.rule.localeCompare(b.rule));
   report.findings = findings;
-  suppressReport(report, config);
+  try {
+    suppressReport(report, config);
+  } catch (error) {
+    // The findings stay as they were: showing a suppressed finding beats hiding a real one.
+    report.findings = findings;
+    report.suppressed = undefined;
+    report.internalErrors.push(`applying suppressions failed: ${errorText(error)}`);
+  }
+  if (loaded.cancelled || options.isCancelled?.()) report.cancelled = true;
   return report;
 }
 
@@ -141,13 +143,7 @@ function runRule(rule: Rule, report: FileReport, config: ResolvedConfig, out: Fi
     model: report.model,
     analysis: report.analysis,
     config,
-    threshold(name: string): number {
-      const configured = config.thresholds[`${rule.id}.${name}`];
-      if (configured !== undefined) return configured;
-      const spec = rule.thresholds?.[name];
-      if (!spec) throw new Error(`rule ${rule.id} has no threshold named ${name}`);
-      return spec.default;
-    },
+    threshold: (name) => ruleThreshold(config, rule, name),
     report(input: FindingInput): void {
       const severity = config.rules[rule.id] ?? input.severity ?? rule.defaultSeverity;
       if (severity === 'off') return;
@@ -159,6 +155,11 @@ function runRule(rule: Rule, report: FileReport, config: ResolvedConfig, out: Fi
   } catch (error) {
     report.internalErrors.push(`rule ${rule.id} failed: ${errorText(error)}`);
   }
+}
+
+/** A LoadedSpec for a load that failed through a bug of ours: an empty spec and the reason. */
+function failedLoad(path: string, text: string, reason: string): LoadedSpec {
+  return { spec: emptySpec(path.endsWith('.mdp.ts') ? 'ts' : 'json', { start: 0, end: text.length }), findings: [], enumerated: { reason }, internalErrors: [reason] };
 }
 
 function errorText(error: unknown): string {

@@ -12,7 +12,7 @@ import { findNodeAtLocation, getNodeValue, parseTree, printParseErrorCode, type 
 import { existsSync, readFileSync, statSync } from 'node:fs';
 import * as nodePath from 'node:path';
 import configSchema from '../../schemas/config.schema.json';
-import { suggestRules } from './cli/explain';
+import { suggestRules } from './rules/suggest';
 import { resolveConfig, type EpiscopeConfig, type ResolvedConfig } from './config';
 import { RULES } from './rules/registry';
 import type { Finding, Rule, Severity } from './rules/types';

@@ -1,4 +1,4 @@
-import type { Severity } from './rules/types';
+import type { Severity } from './findings';
 
 /** The contents of `episcope.config.json` (schema: schemas/config.schema.json). */
 export interface EpiscopeConfig {
@@ -52,4 +52,23 @@ export function resolveConfig(config: EpiscopeConfig | undefined): ResolvedConfi
     seed: config?.seed ?? DEFAULT_CONFIG.seed,
     precision: config?.precision ?? DEFAULT_CONFIG.precision,
   };
+}
+
+/** What a threshold lookup needs of a rule: its id and its documented thresholds. */
+export interface ThresholdOwner {
+  id: string;
+  thresholds?: Record<string, { default: number }>;
+}
+
+/**
+ * A rule's threshold: the configured `rule-id.name`, else the rule's documented default. The one
+ * lookup for rules, the sandbox limits and the rollout step cap. Throws for a name the rule does
+ * not document (a bug of ours, reported as an internal error).
+ */
+export function ruleThreshold(config: ResolvedConfig, rule: ThresholdOwner, name: string): number {
+  const configured = config.thresholds[`${rule.id}.${name}`];
+  if (configured !== undefined) return configured;
+  const documented = rule.thresholds?.[name];
+  if (!documented) throw new Error(`rule ${rule.id} has no threshold named ${name}`);
+  return documented.default;
 }

@@ -14,10 +14,11 @@
  * `unusedIgnoreFindings` once a whole run is done, as `suppression` findings on the config file.
  * Pure: no file system access.
  */
-import type { FileReport } from './analyze';
+import type { FileReport } from './report';
 import type { ResolvedConfig } from './config';
 import { RULES } from './rules/registry';
-import type { Finding, FindingInput, Rule, Severity } from './rules/types';
+import type { Finding, FindingInput, Severity, SuppressedFinding } from './findings';
+import type { Rule } from './rules/types';
 import { LineIndex } from './spec/lines';
 import type { Span } from './spec/types';
 
@@ -49,13 +50,8 @@ export const SUPPRESSION_RULE: FrontRule = {
 };
 
 /** Where a suppressed finding was suppressed. */
-export type SuppressionSource = { kind: 'config'; ignoreIndex: number } | { kind: 'comment'; line: number };
-
-export interface SuppressedFinding {
-  finding: Finding;
-  reason: string;
-  source: SuppressionSource;
-}
+// A suppressed finding is one of Finding's kin (findings.ts); re-exported for the fronts.
+export type { SuppressedFinding, SuppressionSource } from './findings';
 
 export interface SuppressionResult {
   /** The findings that remain, in their original order, plus problems with comments. */

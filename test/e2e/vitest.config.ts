@@ -5,7 +5,10 @@ import { defineConfig } from 'vitest/config';
 export default defineConfig({
   test: {
     root: new URL('../..', import.meta.url).pathname,
-    include: ['test/e2e/**/*.e2e.test.ts'],
+    // The HTML report's browser checks need the Chromium that scripts/e2e-install.sh installs; here
+    // a missing browser is a failure, in the default run a visible skip.
+    include: ['test/e2e/**/*.e2e.test.ts', 'test/gate/report-html.test.ts'],
+    env: { EPISCOPE_BROWSER_REQUIRED: '1' },
     fileParallelism: false,
     testTimeout: 180_000,
     hookTimeout: 300_000,

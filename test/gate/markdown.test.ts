@@ -1,6 +1,5 @@
 import { describe, expect, it } from 'vitest';
 import { compareWithBaseline } from '../../server/src/cli/baseline';
-import type { JsonFile } from '../../server/src/cli/json-output';
 import { analysis as analysisOf, finding, output as out } from './json-fixtures';
 import { markdownReport } from '../../server/src/cli/markdown';
 

@@ -1,4 +1,4 @@
-import { mkdirSync, writeFileSync } from 'node:fs';
+import { existsSync, mkdirSync, writeFileSync } from 'node:fs';
 import * as path from 'node:path';
 import { chromium, type Browser } from 'playwright-core';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
@@ -7,7 +7,15 @@ import type { JsonFile } from '../../server/src/cli/json-output';
 import type { JsonRollouts } from '../../server/src/cli/json-output';
 import { SAFETY_CAUTION, htmlReport, niceTicks, type ReportFile } from '../../server/src/cli/report-html';
 
-export const CHROMIUM = '/usr/bin/chromium';
+export const CHROMIUM = process.env.EPISCOPE_E2E_CHROMIUM ?? '/usr/bin/chromium';
+/**
+ * The README's set-up installs no browser, so without one the browser checks are skipped and say
+ * why. The editor tier (test/e2e/vitest.config.ts, after scripts/e2e-install.sh) sets
+ * EPISCOPE_BROWSER_REQUIRED=1 and runs this file too: there a missing browser fails.
+ */
+const BROWSER_PRESENT = existsSync(CHROMIUM) || process.env.EPISCOPE_BROWSER_REQUIRED === '1';
+const BROWSER_SKIP_REASON = `skipped: no browser at ${CHROMIUM}; the editor tier (npm run test:e2e) runs these`;
+if (!BROWSER_PRESENT) console.warn(`HTML report in headless Chromium: ${BROWSER_SKIP_REASON}`);
 export const CHROMIUM_ARGS = ['--no-sandbox', '--disable-gpu', '--disable-background-networking', '--disable-component-update', '--disable-sync', '--no-first-run'];
 export const SCREENSHOT_DIR = path.resolve(__dirname, '..', '..', 'test-results');
 
@@ -110,7 +118,7 @@ describe('HTML report, as text', () => {
   });
 });
 
-describe('HTML report in headless Chromium', () => {
+describe.skipIf(!BROWSER_PRESENT)(`HTML report in headless Chromium${BROWSER_PRESENT ? '' : ` (${BROWSER_SKIP_REASON})`}`, () => {
   let browser: Browser;
   beforeAll(async () => {
     browser = await chromium.launch({ executablePath: CHROMIUM, args: CHROMIUM_ARGS });

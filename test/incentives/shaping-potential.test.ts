@@ -9,7 +9,7 @@ import fc from 'fast-check';
 import { describe, expect, it } from 'vitest';
 import { compileSpec } from '../../server/src/model/compile';
 import type { CompiledModel } from '../../server/src/model/compiled';
-import { recoverPotential, type PotentialConflict, type ShapingStep } from '../../server/src/analysis/shaping';
+import { recoverPotential, type ShapingStep } from '../../server/src/analysis/shaping';
 import { parseJsonSpec } from '../../server/src/spec/json';
 import type { ParsedSpec } from '../../server/src/spec/types';
 
@@ -42,7 +42,7 @@ function shapedSpec(discount: number, edges: Array<[string, string, string, numb
 }
 
 /** Re-derives, from the model's own numbers, the value each derivation claims for Phi at the conflict state. */
-function replay(model: CompiledModel, conflict: PotentialConflict, start: number, steps: ShapingStep[]): number {
+function replay(model: CompiledModel, start: number, steps: ShapingStep[]): number {
   // Derivations run from the anchor to the state; each step solves its equation for the next unknown.
   let value = start;
   for (const step of steps) {
@@ -143,8 +143,8 @@ describe('recoverPotential: amounts that no potential produces', () => {
     expect(model.stateIds[conflict!.state]).toBe('s');
     // With Phi = 0 on terminals, s --win--> goal (+5) needs Phi(s) = -5 and s --lose--> fail (+3) needs -3.
     expect([conflict!.first.value, conflict!.second.value].sort((a, b) => a - b)).toEqual([-5, -3]);
-    expect(replay(model, conflict!, 0, conflict!.first.steps)).toBeCloseTo(conflict!.first.value, 12);
-    expect(replay(model, conflict!, 0, conflict!.second.steps)).toBeCloseTo(conflict!.second.value, 12);
+    expect(replay(model, 0, conflict!.first.steps)).toBeCloseTo(conflict!.first.value, 12);
+    expect(replay(model, 0, conflict!.second.steps)).toBeCloseTo(conflict!.second.value, 12);
   });
 
   it('property: changing one amount on a state with two routes to the goal is always caught', () => {
@@ -169,8 +169,8 @@ describe('recoverPotential: amounts that no potential produces', () => {
           expect(conflict).toBeDefined();
           // Both derivations must be exact consequences of the equations they list.
           const anchorValue = 0;
-          expect(replay(model, conflict!, anchorValue, conflict!.first.steps)).toBeCloseTo(conflict!.first.value, 9);
-          expect(replay(model, conflict!, anchorValue, conflict!.second.steps)).toBeCloseTo(conflict!.second.value, 9);
+          expect(replay(model, anchorValue, conflict!.first.steps)).toBeCloseTo(conflict!.first.value, 9);
+          expect(replay(model, anchorValue, conflict!.second.steps)).toBeCloseTo(conflict!.second.value, 9);
           expect(Math.abs(conflict!.first.value - conflict!.second.value)).toBeGreaterThan(1e-6);
         },
       ),

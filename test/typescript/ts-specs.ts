@@ -55,5 +55,14 @@ ${body}
 `;
 }
 
-/** Short limits so that hostile cases finish quickly. */
-export const FAST_LIMITS: EpiscopeConfig = { thresholds: { 'model-error.callTimeoutMs': 400, 'model-error.memoryMb': 64 } };
+/**
+ * The hang detector's limit in tests. It protects against a test waiting forever on an endless loop,
+ * and it must not fire for a model that is fine: the watch starts before the worker thread has
+ * loaded the model, so the limit must cover a worker start plus one call on a loaded machine. At a
+ * load average of 8 on 2 cores a process gets about a quarter of a core, and 400 ms (the old value)
+ * was not enough there; 3 s is about 750 ms of CPU time even then.
+ */
+export const TEST_CALL_TIMEOUT_MS = 3000;
+
+/** Limits for hostile cases: a hang ends after TEST_CALL_TIMEOUT_MS, a memory bomb at 64 MB. */
+export const FAST_LIMITS: EpiscopeConfig = { thresholds: { 'model-error.callTimeoutMs': TEST_CALL_TIMEOUT_MS, 'model-error.memoryMb': 64 } };

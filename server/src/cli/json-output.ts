@@ -6,7 +6,7 @@
  * readers must ignore fields they do not know.
  */
 import type { FileReport } from '../analyze';
-import type { RolloutStats } from '../analysis/rollouts';
+import type { Percentiles, RolloutStats } from '../analysis/rollout-stats';
 import type { Analysis, Interval, ReachAtStart } from '../analysis/types';
 import type { CompiledModel } from '../model/compiled';
 import { TERMINAL_OF_CODE } from '../model/compiled';
@@ -121,40 +121,13 @@ export interface JsonFile {
 }
 
 /**
- * Seeded rollouts of one policy (analysis/rollouts.ts); returns are discounted sums of rewards.
- * Figures are finite numbers rounded to nearest (null only when no episode finished).
+ * Seeded rollouts of one policy (analysis/rollouts.ts), in the analysis's own shape less the
+ * policy (the key says it) and the step total; returns are discounted sums of rewards. Figures
+ * are finite numbers rounded to nearest.
  */
-export interface JsonRollouts {
-  episodes: number;
-  seed: number;
-  /** Steps after which an episode without a horizon is stopped. */
-  stepCap: number;
-  return: {
-    mean: number;
-    standardError: number;
-    /** Normal-approximation 95% interval: mean +- 1.96 standard errors (an estimate, not a sound bound). */
-    ci95: { lower: number; upper: number };
-    min: number;
-    max: number;
-    /** Hyndman and Fan definition 7 (as R and NumPy by default). */
-    percentiles: JsonPercentiles;
-    /** Equal-width bins from `lower` to `upper`. */
-    histogram: { lower: number; upper: number; counts: number[] };
-  };
-  length: { mean: number; min: number; max: number; percentiles: JsonPercentiles; histogram: { lower: number; upper: number; counts: number[] } };
-  /** Share of episodes ending in each terminal kind; "none": cut by the horizon or the step cap. */
-  reach: JsonReach;
-  /** Episodes stopped at the step cap without ending. */
-  stepCapped: number;
-}
+export type JsonRollouts = Omit<RolloutStats, 'policy' | 'totalSteps'>;
 
-export interface JsonPercentiles {
-  p5: number;
-  p25: number;
-  p50: number;
-  p75: number;
-  p95: number;
-}
+export type JsonPercentiles = Percentiles;
 
 export interface JsonOutput {
   version: 1;

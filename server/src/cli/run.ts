@@ -12,7 +12,6 @@ import { CONFIG_RULE } from '../config-file';
 import { SEVERITY_ORDER, type Severity } from '../rules/types';
 import { UsageError, parseArgs, usageText, type CommandSpec, type ParsedArgs } from './args';
 import { explainRule, listRules, suggestRules, type DocumentedRule } from './explain';
-import { startServer } from '../lsp/server';
 import { PathError, collectSpecFiles, readSpecFile } from './files';
 import { CheckGate, GateError } from './gate';
 import { fileReportToJson, jsonOutput, type JsonFile } from './json-output';
@@ -217,6 +216,8 @@ async function runServer(args: ParsedArgs, io: CliIo): Promise<number> {
     io.stderr.write(`${TOOL_NAME}: server needs a transport: --stdio, --node-ipc or --socket=PORT\n`);
     return EXIT_ERROR;
   }
+  // Loaded only for this command, so that `check` and `explain` never load the language server.
+  const { startServer } = await import('../lsp/server');
   startServer({ exec: args.options['no-exec'] !== true });
   return new Promise<number>(() => undefined);
 }

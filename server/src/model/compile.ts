@@ -11,6 +11,8 @@ export interface CompileResult {
   model?: CompiledModel;
   /** Why there is no model: the first problem found, in one sentence. */
   reason?: string;
+  /** Set when compiling failed through a bug of ours rather than a problem of the spec. */
+  internalError?: string;
 }
 
 /** Outcome probabilities of a transition (and of the start) must add up to 1 within this. */
@@ -43,7 +45,8 @@ export function compileSpec(spec: ParsedSpec): CompileResult {
     return compileChecked(spec);
   } catch (error) {
     // The checks below are meant to leave nothing that can throw; a failure is a bug of ours.
-    return { reason: `the spec could not be compiled because of an internal error (${error instanceof Error ? error.message : String(error)})` };
+    const reason = `the spec could not be compiled because of an internal error (${error instanceof Error ? error.message : String(error)})`;
+    return { reason, internalError: reason };
   }
 }
 

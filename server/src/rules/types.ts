@@ -1,52 +1,13 @@
+import type { FindingInput, Severity } from '../findings';
 import type { Analysis } from '../analysis/types';
 import type { ResolvedConfig } from '../config';
 import type { CompiledModel } from '../model/compiled';
-import type { ParsedSpec, Span } from '../spec/types';
+import type { ParsedSpec } from '../spec/types';
 
-export type Severity = 'error' | 'warning' | 'info';
-export const SEVERITY_ORDER: Record<Severity, number> = { error: 3, warning: 2, info: 1 };
 
-/** One step of a concrete state/action sequence shown with a finding. */
-export interface TraceStep {
-  state: string;
-  action?: string;
-  /** Where the step's transition (or the state) is written, when it is written anywhere. */
-  span?: Span;
-}
-
-export interface RelatedLocation {
-  span: Span;
-  message: string;
-}
-
-export interface TextEdit {
-  span: Span;
-  newText: string;
-}
-
-/** A quick fix that is sound for the finding: applying the edits removes its cause. */
-export interface Fix {
-  title: string;
-  edits: TextEdit[];
-}
-
-/** What a rule reports; the pipeline adds the rule id and the resolved severity. */
-export interface FindingInput {
-  message: string;
-  span: Span;
-  /** Overrides the rule's default severity (config still wins), e.g. trap-state at discount 1. */
-  severity?: Severity;
-  trace?: TraceStep[];
-  related?: RelatedLocation[];
-  fixes?: Fix[];
-  /** Tags for editors: code that is never used, or a deprecated construct. */
-  tags?: Array<'unnecessary' | 'deprecated'>;
-}
-
-export interface Finding extends FindingInput {
-  rule: string;
-  severity: Severity;
-}
+// Finding and its kin live in findings.ts; re-exported here for the rules.
+export { SEVERITY_ORDER } from '../findings';
+export type { Finding, FindingInput, Fix, RelatedLocation, Severity, TextEdit, TraceStep } from '../findings';
 
 export interface RuleContext {
   readonly text: string;

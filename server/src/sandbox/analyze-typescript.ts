@@ -5,13 +5,13 @@
  */
 import { isAbsolute, relative, resolve } from 'node:path';
 import { effectiveStepCap, END_NONE, summarizeEpisodes, type EpisodeRecords, type RolloutReport } from '../analysis/rollouts';
-import { analyzeParsed, type AnalyzeOptions, type FileReport } from '../analyze';
-import { DEFAULT_CONFIG, type ResolvedConfig } from '../config';
+import { DEFAULT_CONFIG, ruleThreshold, type ResolvedConfig } from '../config';
+import type { Finding } from '../findings';
+import type { AnalyzeOptions, LoadedSpec } from '../report';
 import type { CompiledModel } from '../model/compiled';
 import { episodeNeverEnds } from '../rules/episode-never-ends';
 import { describeCall, modelError } from '../rules/model-error';
 import { findRule } from '../rules/registry';
-import type { Finding } from '../rules/types';
 import { LineIndex } from '../spec/lines';
 import { applyField, readTypeScriptSpec, type TypeScriptReading } from '../spec/typescript';
 import type { LocatedProblem, RandomnessSite, TypeScriptEvidence } from '../spec/typescript-evidence';
@@ -28,37 +28,41 @@ const RECHECKED_STATES = 200;
 /** Episodes replayed to check that a sampled model is deterministic. */
 const REPLAYED_EPISODES = 16;
 
-function threshold(config: ResolvedConfig, rule: { id: string; thresholds?: Record<string, { default: number }> }, name: string): number {
-  return config.thresholds[`${rule.id}.${name}`] ?? rule.thresholds![name].default;
-}
-
-/** Analyses a `*.mdp.ts` spec. */
-export async function analyzeTypeScriptText(path: string, text: string, options: AnalyzeOptions = {}): Promise<FileReport> {
+/**
+ * Loads a `*.mdp.ts` spec: reads its static fields and, when execution is allowed, runs the model
+ * code in the sandbox. The result holds the enumerated model (or why there is none) and the
+ * rollouts; analyze.ts continues from there. Never throws.
+ */
+export async function loadTypeScriptSpec(path: string, text: string, options: AnalyzeOptions = {}): Promise<LoadedSpec> {
   const config = options.config ?? DEFAULT_CONFIG;
   const reading = readTypeScriptSpec(text);
   const evidence = reading.spec.typescript!;
   const findings: Finding[] = [...reading.findings];
-  let prebuilt: { model?: CompiledModel; reason?: string };
+  const internalErrors = reading.internalError ? [reading.internalError] : [];
+  let enumerated: { model?: CompiledModel; reason?: string };
   let rollouts: RolloutReport | undefined;
-  if (options.exec === false) {
+  if (reading.internalError) {
+    evidence.notExecuted = 'the model code was not run because the spec could not be read';
+    enumerated = { reason: reading.internalError };
+  } else if (options.exec === false) {
     evidence.notExecuted = 'the model code was not run (static checks only: --no-exec, or a workspace that is not trusted)';
-    prebuilt = { reason: evidence.notExecuted };
+    enumerated = { reason: evidence.notExecuted };
   } else if (!reading.found || reading.syntaxErrors) {
     evidence.notExecuted = 'the model code was not run because the spec could not be read';
-    prebuilt = { reason: evidence.notExecuted };
+    enumerated = { reason: evidence.notExecuted };
   } else {
     try {
       const run = await runModel(path, text, reading, config, options, findings);
-      prebuilt = run.prebuilt;
+      enumerated = run.prebuilt;
       rollouts = run.rollouts;
     } catch (error) {
-      prebuilt = { reason: `running the model failed: ${error instanceof Error ? error.message : String(error)}` };
+      // Failures of model code arrive as ModelFailure values; a throw here is a bug of ours.
+      const reason = `running the model failed: ${error instanceof Error ? error.message : String(error)}`;
+      enumerated = { reason };
+      internalErrors.push(reason);
     }
   }
-  const report = analyzeParsed(path, text, reading.spec, findings, config, options, prebuilt);
-  if (rollouts) report.rollouts = { ...report.rollouts, ...rollouts };
-  if (options.isCancelled?.()) report.cancelled = true;
-  return report;
+  return { spec: reading.spec, findings, enumerated, rollouts, internalErrors, cancelled: options.isCancelled?.() === true };
 }
 
 interface RunResult {
@@ -78,9 +82,9 @@ async function runModel(
   const evidence = spec.typescript!;
   const place = new Placer(path, text, spec);
   const limits = {
-    callTimeoutMs: threshold(config, modelError, 'callTimeoutMs'),
-    memoryMb: threshold(config, modelError, 'memoryMb'),
-    jobTimeoutMs: threshold(config, modelError, 'jobTimeoutMs'),
+    callTimeoutMs: ruleThreshold(config, modelError, 'callTimeoutMs'),
+    memoryMb: ruleThreshold(config, modelError, 'memoryMb'),
+    jobTimeoutMs: ruleThreshold(config, modelError, 'jobTimeoutMs'),
   };
   const isCancelled = options.isCancelled ?? (() => false);
   const started = await ModelSandbox.start(path, text, limits, isCancelled);
@@ -169,7 +173,7 @@ async function sampleByRollouts(
   findings: Finding[],
 ) {
   const episodes = config.rollouts > 0 ? config.rollouts : DEFAULT_SAMPLED_ROLLOUTS;
-  const stepCap = threshold(config, episodeNeverEnds, 'stepCap');
+  const stepCap = ruleThreshold(config, episodeNeverEnds, 'stepCap');
   const common = { seed: config.seed, discount: spec.discount!.value, horizon: spec.horizon?.value, stepCap, declaredTerms };
   const ran = await sandbox.rollouts({ ...common, episodes, fingerprintEpisodes: REPLAYED_EPISODES });
   addRandomness(evidence, ran.randomness, place);

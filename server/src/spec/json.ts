@@ -11,7 +11,7 @@ import type { ErrorObject, ValidateFunction } from 'ajv';
 import { createScanner, getNodeValue, parseTree, type Node, type ParseError } from 'jsonc-parser';
 import schemaDocument from '../../../schemas/mdp.schema.json';
 import { schemaFinding } from '../rules/schema';
-import type { Finding } from '../rules/types';
+import type { Finding } from '../findings';
 import { closestName, formatNumber, jsonPath } from './names';
 import {
   emptySpec,
@@ -32,6 +32,8 @@ export interface JsonSpecResult {
   spec: ParsedSpec;
   /** `schema` findings: syntax errors, schema violations, duplicate keys, undeclared reward terms. */
   findings: Finding[];
+  /** Set when reading failed through a bug of ours; the spec is then empty. */
+  internalError?: string;
 }
 
 /**
@@ -96,10 +98,7 @@ export function parseJsonSpec(text: string): JsonSpecResult {
   } catch (error) {
     // Nothing above is expected to throw; if it does, say so with a position rather than crash.
     const reason = error instanceof Error ? error.message : String(error);
-    return {
-      spec: emptySpec('json', { start: 0, end: text.length }),
-      findings: [schemaFinding(`the spec could not be read because of an internal error of Episcope (${reason}); please report it`, firstCharacter(text))],
-    };
+    return { spec: emptySpec('json', { start: 0, end: text.length }), findings: [], internalError: `the spec could not be read because of an internal error of Episcope (${reason}); please report it` };
   }
 }
 

@@ -3,11 +3,8 @@
  * the text it came from, so that each finding can point at the exact key or value.
  */
 
-/** A half-open range of UTF-16 offsets into the document text. */
-export interface Span {
-  start: number;
-  end: number;
-}
+export type { Span } from './span';
+import type { Span } from './span';
 
 export type TerminalKind = 'goal' | 'failure' | 'neutral';
 export const TERMINAL_KINDS: readonly TerminalKind[] = ['goal', 'failure', 'neutral'];

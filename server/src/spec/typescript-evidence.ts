@@ -4,8 +4,8 @@
  * at run time, and what running the model found. The TypeScript rules (model-error,
  * unseeded-randomness, nondeterministic-model, enumeration-limit, episode-never-ends) read it.
  */
-import type { RolloutStats } from '../analysis/rollouts';
-import type { Span } from './types';
+import type { RolloutStats } from '../analysis/rollout-stats';
+import type { Span } from './span';
 
 /** One member of the `defineMdp({...})` object. */
 export interface TypeScriptMember {

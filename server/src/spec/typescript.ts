@@ -7,7 +7,7 @@
  */
 import { Node, Project, SyntaxKind, type Expression, type ObjectLiteralExpression, type SourceFile } from 'ts-morph';
 import { canonicalKey } from '../sandbox/runtime';
-import type { Finding } from '../rules/types';
+import type { Finding } from '../findings';
 import { schemaFinding } from '../rules/schema';
 import type { RandomnessSite, TypeScriptEvidence, TypeScriptMember } from './typescript-evidence';
 import { emptySpec, type Objective, type ParsedSpec, type RewardTermSpec, type Span, type TermDirection } from './types';
@@ -22,6 +22,8 @@ export interface TypeScriptReading {
   syntaxErrors: boolean;
   /** Fields written as something other than a literal, to be read from the running code. */
   dynamicFields: Set<string>;
+  /** Set when reading failed through a bug of ours (ts-morph threw), not through a problem of the text. */
+  internalError?: string;
 }
 
 /** Field names the loader knows; other members are reported, as JSON specs report unknown keys. */
@@ -86,7 +88,7 @@ export function readTypeScriptSpec(text: string): TypeScriptReading {
       project?.removeSourceFile(file);
     }
   } catch (error) {
-    reading.findings.push(schemaFinding(`the spec could not be read: ${error instanceof Error ? error.message : String(error)}`, rootSpan));
+    reading.internalError = `the spec could not be read because of an internal error of Episcope (${error instanceof Error ? error.message : String(error)}); please report it`;
   }
   return reading;
 }
