@@ -57,6 +57,12 @@ export interface SpecTransition {
   incomplete?: boolean;
 }
 
+export interface UnreadTransition {
+  from?: string[];
+  action?: string[];
+  span: Span;
+}
+
 export interface SpecState {
   id: string;
   /** The state's key in `states`. */
@@ -117,6 +123,12 @@ export interface ParsedSpec {
   shapingSpan?: Span;
   transitions: SpecTransition[];
   transitionsSpan?: Span;
+  /**
+   * Transitions whose `from` or `action` could not be read (a `schema` finding says why), with the
+   * states and actions they seem to be about; undefined where nothing tells. missing-outcomes does
+   * not repeat the schema finding for these pairs.
+   */
+  unreadTransitions?: UnreadTransition[];
   /** For `*.mdp.ts` specs: member positions, randomness sites and what running the model found. */
   typescript?: import('./typescript-evidence').TypeScriptEvidence;
 }
