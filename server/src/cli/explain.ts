@@ -3,6 +3,7 @@
  * defaults and why the defaults are what they are. Without a rule: the list of rules.
  */
 import type { Rule } from '../rules/types';
+import { editDistance } from '../spec/names';
 
 /** What `explain` needs of a rule; front rules (e.g. `suppression`) have no check of their own. */
 export type DocumentedRule = Pick<Rule, 'id' | 'defaultSeverity' | 'summary' | 'documentation' | 'thresholds'>;
@@ -30,22 +31,9 @@ export function listRules(rules: readonly DocumentedRule[]): string {
 /** The registered rule ids closest to a mistyped one (edit distance at most 3), best first. */
 export function suggestRules(id: string, rules: readonly DocumentedRule[]): string[] {
   return rules
-    .map((r) => ({ id: r.id, distance: editDistance(id, r.id) }))
+    .map((r) => ({ id: r.id, distance: editDistance(id, r.id, 3) }))
     .filter((r) => r.distance <= 3)
     .sort((a, b) => a.distance - b.distance || a.id.localeCompare(b.id))
     .slice(0, 3)
     .map((r) => r.id);
-}
-
-/** Levenshtein distance, by the classic two-row dynamic programme. */
-function editDistance(a: string, b: string): number {
-  let previous = Array.from({ length: b.length + 1 }, (_, j) => j);
-  for (let i = 1; i <= a.length; i++) {
-    const current = [i];
-    for (let j = 1; j <= b.length; j++) {
-      current[j] = Math.min(previous[j] + 1, current[j - 1] + 1, previous[j - 1] + (a[i - 1] === b[j - 1] ? 0 : 1));
-    }
-    previous = current;
-  }
-  return previous[b.length];
 }

@@ -44,7 +44,7 @@ export async function analyzeTypeScriptText(path: string, text: string, options:
     evidence.notExecuted = 'the model code was not run (static checks only: --no-exec, or a workspace that is not trusted)';
     prebuilt = { reason: evidence.notExecuted };
   } else if (!reading.found || reading.syntaxErrors) {
-    evidence.notExecuted = 'the model code was not run because the spec could not be read';
+    evidence.notExecuted = reading.syntaxErrors ? 'the model code was not run because it has syntax errors' : 'the model code was not run because the spec could not be read';
     prebuilt = { reason: evidence.notExecuted };
   } else {
     try {
