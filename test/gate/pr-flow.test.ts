@@ -115,7 +115,7 @@ describe('pull-request flow through the command line', () => {
     const cells = moved[0].split('|').map((c) => c.trim());
     expect(cells[1]).toBe(`\`${SPEC}\``);
     // The random policy's return moved down; the optimal one (which never waits at 'wide') did not.
-    expect(cells[3]).toMatch(/^-[\d.]+ \.\. -[\d.]+ → \*\*-[\d.]+ \.\. -[\d.]+\*\* \(−[\d.]+\)$/);
+    expect(cells[3]).toMatch(/^-[\d.]+ \.\. -[\d.]+ → \*\*-[\d.]+ \.\. -[\d.]+\*\* \(-[\d.]+\)$/);
     expect(cells[2]).not.toContain('→');
   });
 
@@ -130,7 +130,7 @@ describe('pull-request flow through the command line', () => {
     expect(added[0]).toContain('`failure-preferred`');
     const cells = moved[0].split('|').map((c) => c.trim());
     // Goal reach before the edit is exactly 1 (decided from the graph alone), then 0.7.
-    expect(cells[4]).toMatch(/^1 → \*\*0\.7\*\* \(−0\.3\)$/);
+    expect(cells[4]).toMatch(/^1 → \*\*0\.7\*\* \(-0\.3\)$/);
   });
 
   it('a malformed baseline stops the run with exit status 2 and one line', async () => {

@@ -3,7 +3,7 @@
  * and the specs whose start values moved, most important first. Without one: the findings and the
  * start's return ranges. GitHub-flavoured Markdown tables; long lists are cut with a count.
  */
-import { SEVERITY_ORDER, type Severity } from '../rules/types';
+import { SEVERITY_ORDER, severityCount, type Severity } from '../rules/types';
 import type { Comparison, FindingChange, SpecShift, ValueShift } from './baseline';
 import { midpoint } from './baseline';
 import type { JsonInterval, JsonOutput } from './json-output';
@@ -64,7 +64,7 @@ function plainMarkdown(current: JsonOutput, maxRows: number): string[] {
   const count = (severity: Severity) => all.filter((c) => c.finding.severity === severity).length;
   const plural = (n: number, word: string) => `${n} ${word}${n === 1 ? '' : 's'}`;
   const out = [
-    `## Episcope: ${plural(count('error'), 'error')}, ${plural(count('warning'), 'warning')}, ${count('info')} info in ${plural(current.files.length, 'file')}`,
+    `## Episcope: ${severityCount(count('error'), 'error')}, ${severityCount(count('warning'), 'warning')}, ${severityCount(count('info'), 'info')} in ${plural(current.files.length, 'file')}`,
     '',
   ];
   if (all.length > 0) out.push(...findingTable(all, maxRows), '');
@@ -122,7 +122,7 @@ function probabilityShift(shift: ValueShift<number>): string {
 
 function signed(x: number): string {
   const text = String(Number(x.toPrecision(3)));
-  return x > 0 ? `+${text}` : text.replace('-', '−');
+  return x > 0 ? `+${text}` : text;
 }
 
 function interval(i: JsonInterval): string {

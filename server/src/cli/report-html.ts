@@ -7,7 +7,7 @@
  * and the random policy, the value of every state, and, when rollouts ran, the histograms of the
  * returns and of the episode lengths.
  */
-import type { Severity } from '../rules/types';
+import { severityCount, type Severity } from '../rules/types';
 import type { JsonFile, JsonInterval, JsonReach, JsonRollouts } from './json-output';
 import { parseJsonNumber, textInterval, textProbability } from './numbers';
 
@@ -82,7 +82,7 @@ function badges(file: JsonFile): string {
   const n = (s: Severity) => file.findings.filter((f) => f.severity === s).length;
   return (['error', 'warning', 'info'] as const)
     .filter((s) => n(s) > 0)
-    .map((s) => `<span class="badge sev-${s}">${n(s)} ${s}</span>`)
+    .map((s) => `<span class="badge sev-${s}">${severityCount(n(s), s)}</span>`)
     .join(' ');
 }
 
@@ -402,7 +402,7 @@ function percent(p: number): string {
 
 /** A number for axis labels: at most 4 significant digits. */
 function short(x: number): string {
-  if (!Number.isFinite(x)) return x > 0 ? '∞' : x < 0 ? '−∞' : '?';
+  if (!Number.isFinite(x)) return x > 0 ? '∞' : x < 0 ? '-∞' : '?';
   if (x !== 0 && (Math.abs(x) >= 1e6 || Math.abs(x) < 1e-3)) return x.toExponential(2);
   return String(Number(x.toPrecision(4)));
 }

@@ -6,6 +6,14 @@ import type { ParsedSpec, Span } from '../spec/types';
 export type Severity = 'error' | 'warning' | 'info';
 export const SEVERITY_ORDER: Record<Severity, number> = { error: 3, warning: 2, info: 1 };
 
+/**
+ * "3 errors", "1 warning", "2 info": a count of findings of one severity, worded the same in every
+ * output format ("info" is a mass noun and takes no plural).
+ */
+export function severityCount(n: number, severity: Severity): string {
+  return `${n} ${severity}${n === 1 || severity === 'info' ? '' : 's'}`;
+}
+
 /** One step of a concrete state/action sequence shown with a finding. */
 export interface TraceStep {
   state: string;
