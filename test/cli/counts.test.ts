@@ -27,7 +27,7 @@ describe('finding counts', () => {
   it('read the same in the text summary, the Markdown comment and the HTML report', () => {
     const files = [fileWith('a.mdp.json', ['warning', 'info', 'info']), fileWith('b.mdp.json', [])];
     const text = formatSummary(files, PLAIN_STYLE);
-    const markdown = markdownReport({ version: 1, files });
+    const markdown = markdownReport({ version: 1, files, summary: { files: 2, error: 0, warning: 1, info: 2 } });
     const html = htmlReport({ files }, { toolName: 'episcope', toolVersion: '0', generatedAt: new Date(0) });
     expect(text).toBe('2 files checked: 0 errors, 1 warning, 2 info\n');
     expect(markdown).toContain('## Episcope: 0 errors, 1 warning, 2 info in 2 files');
