@@ -117,6 +117,13 @@ describe('pull-request flow through the command line', () => {
     // The random policy's return moved down; the optimal one (which never waits at 'wide') did not.
     expect(cells[3]).toMatch(/^-[\d.]+ \.\. -[\d.]+ → \*\*-[\d.]+ \.\. -[\d.]+\*\* \(-[\d.]+\)$/);
     expect(cells[2]).not.toContain('→');
+
+    // The text format says the same: before, after and the change of each figure that moved.
+    const text = await cli(['check', '.', '--baseline', baseline], { cwd: dir });
+    const tail = text.stdout.trimEnd().split('\n').slice(-2);
+    expect(tail[0]).toBe('compared with the baseline: 0 new, 0 fixed, 1 unchanged; start values moved in 1 spec');
+    const moveText = cells[3].replace('→', '->').replace(/\*\*/g, '');
+    expect(tail[1]).toBe(`  moved ${SPEC}: random return ${moveText}`);
   });
 
   it('an incentive bug introduced by a reward edit shows as its finding, with the goal reach it costs', async () => {
