@@ -52,6 +52,16 @@ describe('missing-outcomes', () => {
     expect(findingsOf(other, RULE)[0].message).toMatch(/^'a' offers 'wait', but/);
   });
 
+  it('does not fire at a state whose terminal kind is misspelt (it was meant to be terminal)', () => {
+    const report = checkSpec(chainSpec({ states: { a: {}, b: {}, goal: { terminal: 'gaol' } } }));
+    expect(findingsOf(report, RULE)).toEqual([]);
+    expect(findingsOf(report, 'dead-end')).toEqual([]);
+    expect(findingsOf(report, 'schema').map((f) => f.message)).toEqual([
+      'states.goal.terminal must be "goal", "failure" or "neutral", not the string "gaol"; did you mean "goal"?',
+    ]);
+    expect(report.notAnalysed).toBe("the terminal kind of 'goal' could not be read");
+  });
+
   it('does not fire for terminals, complete states, or states without actions (dead-end reports those)', () => {
     expect(findingsOf(checkSpec(chainSpec()), RULE)).toEqual([]);
     const report = checkSpec(chainSpec({ states: { a: {}, b: { actions: [] }, goal: { terminal: 'goal' } }, transitions: [{ from: 'a', action: 'go', to: 'b' }] }));

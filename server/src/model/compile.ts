@@ -98,6 +98,7 @@ function compileChecked(spec: ParsedSpec): CompileResult {
     return actionSets.get(state.id);
   };
   for (const state of stateById.values()) {
+    if (state.terminalUnread) return { reason: `the terminal kind of ${quote(state.id)} could not be read` };
     if (!state.terminal && !actionsOf(state)?.size) return { reason: `the non-terminal state ${quote(state.id)} offers no action, so the episode cannot continue there` };
   }
   const defined = new Set<string>();

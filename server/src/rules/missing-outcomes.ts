@@ -17,7 +17,8 @@ back to some default (stay put, reward 0) that nobody chose and that a learner m
 spec's default \`actions\`) and no transition has that state as \`from\` and that action as
 \`action\`. One finding per state lists all its undefined actions. The spec is not compiled
 until it is fixed. A transition that could not be read (its \`schema\` finding says why) counts as
-defining the state and action it seems to be about, so one mistake is reported once.
+defining the state and action it seems to be about, and a state whose \`terminal\` is not a
+terminal kind counts as meant to be terminal, so one mistake is reported once.
 
 **How to fix.** Add a transition for each listed action, or give the state its own narrower
 \`actions\` list. The quick fix narrows the state's action set to the actions that have

@@ -555,6 +555,8 @@ class SpecReader {
       if (terminal && TERMINAL_KINDS.includes(terminal.value as TerminalKind)) {
         state.terminal = terminal.value as TerminalKind;
         state.terminalSpan = nodeSpan(terminal);
+      } else if (terminal) {
+        state.terminalUnread = true;
       }
       const actions = fields.get('actions')?.value;
       if (actions?.type === 'array') {

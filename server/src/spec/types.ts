@@ -69,6 +69,11 @@ export interface SpecState {
   span: Span;
   terminal?: TerminalKind;
   terminalSpan?: Span;
+  /**
+   * The state has a `terminal` field that is not a terminal kind (a `schema` finding says why): it
+   * was meant to be terminal, so missing-outcomes leaves it alone.
+   */
+  terminalUnread?: boolean;
   /** The state's own action set, when it narrows the default one. */
   actions?: Located<string>[];
   actionsSpan?: Span;
