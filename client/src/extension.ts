@@ -20,6 +20,7 @@ import {
   type StatusParams,
   type WorkspaceAnalysisSummary,
 } from '../../server/src/lsp/protocol';
+import { severityCount } from '../../server/src/rules/types';
 
 const SPEC_SELECTOR: Array<{ scheme: string; pattern: string }> = [
   { scheme: 'file', pattern: '**/*.mdp.json' },
@@ -76,7 +77,7 @@ export async function activate(context: vscode.ExtensionContext): Promise<void> 
       if (!summary) return;
       const failed = summary.failed > 0 ? `; ${summary.failed} could not be analysed (see the output)` : '';
       void vscode.window.showInformationMessage(
-        `Episcope analysed ${summary.files} spec file${summary.files === 1 ? '' : 's'}: ${summary.errors} errors, ${summary.warnings} warnings, ${summary.infos} infos${failed}. They are in the Problems panel.`,
+        `Episcope analysed ${summary.files} spec file${summary.files === 1 ? '' : 's'}: ${severityCount(summary.errors, 'error')}, ${severityCount(summary.warnings, 'warning')}, ${severityCount(summary.infos, 'info')}${failed}. They are in the Problems panel.`,
       );
     }),
     vscode.workspace.onDidGrantWorkspaceTrust(() => {

@@ -58,3 +58,11 @@ export interface SuppressedFinding {
   reason: string;
   source: SuppressionSource;
 }
+
+/**
+ * "3 errors", "1 warning", "2 info": a count of findings of one severity, worded the same in every
+ * output format ("info" is a mass noun and takes no plural).
+ */
+export function severityCount(n: number, severity: Severity): string {
+  return `${n} ${severity}${n === 1 || severity === 'info' ? '' : 's'}`;
+}

@@ -52,6 +52,12 @@ describe('argument parser', () => {
       [['explain', 'a', 'b'], "'explain' takes at most 1 operand, got 2"],
       [['--values'], "option '--values' needs a command"],
       [['check', '-hV'], "unknown option '-hV' (short options cannot be combined)"],
+      // A near miss names what was probably meant.
+      [['chek'], "unknown command 'chek'; did you mean 'check'?"],
+      [['check', '--formt', 'json'], "unknown option '--formt'; did you mean '--format'?"],
+      [['check', '--fail-on=warn'], "option '--fail-on' must be one of error, warning, info, never; got 'warn'"],
+      [['check', '--format', 'jsn'], "option '--format' must be one of text, json, sarif, markdown; got 'jsn'; did you mean 'json'?"],
+      [['check', '--base-line', 'b.json'], "unknown option '--base-line'; did you mean '--baseline'?"],
     ];
     for (const [argv, message] of cases) {
       const got = usageMessage(argv);

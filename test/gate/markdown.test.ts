@@ -54,7 +54,7 @@ describe('markdown pull-request comment', () => {
     expect(added[3][3]).toBe('entering "crash" pays 5 \\| more than "dock" pays 1');
     expect(md).toContain('### New findings (1 at or above `--fail-on error`)');
     expect(fixed.slice(2).map((row) => row[1])).toEqual(['`dead-end`']);
-    expect(moved.slice(2)).toEqual([['`a.mdp.json`', '10 → **4** (−6)', '0.5', '0.9 → **0.6** (−0.3)', '0.9 → **0.6** (−0.3)']]);
+    expect(moved.slice(2)).toEqual([['`a.mdp.json`', '10 → **4** (-6)', '0.5', '0.9 → **0.6** (-0.3)', '0.9 → **0.6** (-0.3)']]);
     expect(md).toContain('1 finding unchanged from the baseline.');
     expect(md.trim().split('\n').pop()).toMatch(/^_Passing checks means the spec is well-posed, not that a trained policy is safe/);
   });

@@ -115,8 +115,15 @@ describe('pull-request flow through the command line', () => {
     const cells = moved[0].split('|').map((c) => c.trim());
     expect(cells[1]).toBe(`\`${SPEC}\``);
     // The random policy's return moved down; the optimal one (which never waits at 'wide') did not.
-    expect(cells[3]).toMatch(/^-[\d.]+ \.\. -[\d.]+ → \*\*-[\d.]+ \.\. -[\d.]+\*\* \(−[\d.]+\)$/);
+    expect(cells[3]).toMatch(/^-[\d.]+ \.\. -[\d.]+ → \*\*-[\d.]+ \.\. -[\d.]+\*\* \(-[\d.]+\)$/);
     expect(cells[2]).not.toContain('→');
+
+    // The text format says the same: before, after and the change of each figure that moved.
+    const text = await cli(['check', '.', '--baseline', baseline], { cwd: dir });
+    const tail = text.stdout.trimEnd().split('\n').slice(-2);
+    expect(tail[0]).toBe('compared with the baseline: 0 new, 0 fixed, 1 unchanged; start values moved in 1 spec');
+    const moveText = cells[3].replace('→', '->').replace(/\*\*/g, '');
+    expect(tail[1]).toBe(`  moved ${SPEC}: random return ${moveText}`);
   });
 
   it('an incentive bug introduced by a reward edit shows as its finding, with the goal reach it costs', async () => {
@@ -130,7 +137,7 @@ describe('pull-request flow through the command line', () => {
     expect(added[0]).toContain('`failure-preferred`');
     const cells = moved[0].split('|').map((c) => c.trim());
     // Goal reach before the edit is exactly 1 (decided from the graph alone), then 0.7.
-    expect(cells[4]).toMatch(/^1 → \*\*0\.7\*\* \(−0\.3\)$/);
+    expect(cells[4]).toMatch(/^1 → \*\*0\.7\*\* \(-0\.3\)$/);
   });
 
   it('a malformed baseline stops the run with exit status 2 and one line', async () => {

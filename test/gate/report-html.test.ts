@@ -5,7 +5,7 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { cli, REPO_ROOT, tempFolder } from '../cli/cli-harness';
 import type { JsonFile } from '../../server/src/cli/json-output';
 import type { JsonRollouts } from '../../server/src/cli/json-output';
-import { SAFETY_CAUTION, htmlReport, niceTicks, type ReportFile } from '../../server/src/cli/report-html';
+import { SAFETY_CAUTION, histogramTicks, htmlReport, niceTicks, stateName, type ReportFile } from '../../server/src/cli/report-html';
 
 export const CHROMIUM = process.env.EPISCOPE_E2E_CHROMIUM ?? '/usr/bin/chromium';
 /**
@@ -115,6 +115,62 @@ describe('HTML report, as text', () => {
   it('puts axis ticks at 1, 2 or 5 times a power of ten (common practice)', () => {
     expect(niceTicks(-12.5, 8.43, 5)).toEqual([-15, -10, -5, 0, 5, 10]);
     expect(niceTicks(0, 0.97, 5)).toEqual([0, 0.2, 0.4, 0.6, 0.8, 1]);
+  });
+
+  it('labels histograms at round values inside their range, whole numbers for steps', () => {
+    expect(histogramTicks(-3.7, 12.2, false)).toEqual([0, 5, 10]);
+    expect(histogramTicks(3, 17, true)).toEqual([5, 10, 15]);
+    expect(histogramTicks(1, 2.4, true)).toEqual([1, 2]);
+    expect(histogramTicks(3.01, 3.02, false)).toEqual([3.01, 3.015, 3.02]);
+    // Too narrow for two whole numbers: the ends.
+    expect(histogramTicks(4, 4.6, true)).toEqual([4, 4.6]);
+    // The return histogram of the invented rollouts (about 2 to 11.8) is labelled 4, 6, 8, 10 rather than at its ends.
+    const returnHistogram = html.slice(html.indexOf('Return per episode'), html.indexOf('Episode length'));
+    const ticks = [...returnHistogram.matchAll(/class="tick">([^<]+)</g)].map((m) => m[1]);
+    expect(ticks).toEqual(expect.arrayContaining(['4', '6', '8', '10']));
+  });
+
+  it('names object states by their fields, shortened, and keeps labels and plain ids', () => {
+    expect(stateName('{"stock":4,"weekday":0}')).toBe('stock=4 weekday=0');
+    expect(stateName('{"at":"dock","cargo":[1,2],"lit":true}')).toBe('at=dock cargo=[1,2] lit=true');
+    expect(stateName('[3,"up"]')).toBe('[3, up]');
+    expect(stateName('"idle"', 'idle')).toBe('idle');
+    expect(stateName('roof')).toBe('roof');
+    expect(stateName('{not json')).toBe('{not json');
+    const long = stateName(JSON.stringify(Object.fromEntries(Array.from({ length: 12 }, (_, i) => [`field${i}`, i]))));
+    expect(long).toHaveLength(48);
+    expect(long.startsWith('field0=0 field1=1 ')).toBe(true);
+    expect(long.endsWith('…')).toBe(true);
+    const objectStates: ReportFile = {
+      ...spec,
+      analysis: { ...spec.analysis!, values: { '{"stock":4,"weekday":0}': spec.analysis!.values!.aisle } },
+    };
+    const page = htmlReport({ files: [objectStates] }, { toolName: 'episcope', toolVersion: '0', generatedAt: new Date(0) });
+    expect(page).toContain('<td title="{&quot;stock&quot;:4,&quot;weekday&quot;:0}">stock=4 weekday=0</td>');
+    expect(page).not.toContain('>{&quot;stock');
+  });
+
+  it('counts the states beyond the plotted and listed ones', () => {
+    const page = htmlReport({ files: [spec] }, { toolName: 'episcope', toolVersion: '0', generatedAt: new Date(0), maxPlottedStates: 2, maxTableStates: 3 });
+    expect(page).toContain('The plot shows 2 of 5 states (reachable ones first); 3 more are not plotted.');
+    expect(page).toContain('<summary>Values of 3 of 5 states</summary>');
+    expect(page).toContain('2 more rows not shown');
+    expect(html).toContain('<summary>Values of 5 states</summary>');
+    expect(html).not.toContain('not shown');
+  });
+
+  it('shows how episodes of a sampled model ended, from its rollouts', () => {
+    const sampled: ReportFile = { path: 'examples/courier.mdp.ts', findings: [], rollouts: spec.rollouts, notAnalysed: 'a sampled model: estimates only' };
+    const page = htmlReport({ files: [sampled] }, { toolName: 'episcope', toolVersion: '0', generatedAt: new Date(0) });
+    const figure = page.slice(page.indexOf('<figure class="plot-rollout-reach">'));
+    expect(figure).toContain('How episodes ended');
+    // The invented rollouts end in a goal 40%, a failure 50% and neutrally 10% of the time.
+    expect(figure).toContain('random: goal 0.4');
+    expect(figure).toContain('random: failure 0.5');
+    expect(figure).toContain('random: neutral 0.1');
+    expect(figure).toContain('Estimated from 400 random-policy episodes');
+    // An exact model has its exact bars; the estimate is not repeated.
+    expect(html).not.toContain('plot-rollout-reach');
   });
 });
 

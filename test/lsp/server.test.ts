@@ -166,7 +166,7 @@ describe('a push client (no pull diagnostics)', () => {
     expect(stay!.contents.value).toBe('`a` → `stay`: Q* 9, 1 below the best action (`go`, 10)');
     const discount = await client.hover(uri, positionOf(CHAIN, '"discount"'));
     // 1 / (1 - 0.9) = 10 steps; the goal is two steps away and pays 10, worth 10 * 0.9 = 9 from the start.
-    expect(discount!.contents.value).toContain('effective horizon 1/(1 − 0.9) = 10 steps');
+    expect(discount!.contents.value).toContain('effective horizon 1/(1 - 0.9) = 10 steps');
     expect(discount!.contents.value).toContain('entering it pays 10, worth 9 seen from the start');
   });
 

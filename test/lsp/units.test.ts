@@ -76,7 +76,7 @@ describe('interval and probability display', () => {
         const upper = lower + width;
         const shown = formatInterval(lower, upper);
         if (shown.startsWith('[')) return;
-        const value = Number(shown.replace('−', '-'));
+        const value = Number(shown);
         // Four significant digits: the shown number is within half a unit of its last digit of a point inside.
         const tolerance = Math.max(Math.abs(value) * 5e-4, 5e-4 * Math.max(1, Math.abs(lower)));
         expect(value).toBeGreaterThanOrEqual(lower - tolerance);
@@ -90,7 +90,10 @@ describe('interval and probability display', () => {
     expect(formatInterval(9.0909088, 9.0909093)).toBe('9.091');
     expect(formatInterval(1, 2)).toBe('[1, 2]');
     expect(formatInterval(5, Infinity)).toBe('[5, ∞]');
-    expect(formatInterval(-Infinity, -Infinity)).toBe('−∞');
+    expect(formatInterval(-Infinity, -Infinity)).toBe('-∞');
+    // ASCII hyphen-minus, so that a number copied from a hover parses in code (U+2212 does not).
+    expect(formatInterval(-12.5, -12.5)).toBe('-12.5');
+    expect(Number(formatInterval(-3.25e-5, -3.25e-5))).toBe(-3.25e-5);
   });
 
   it('never shows a positive probability as 0% or one below 1 as 100%, except within the precision', () => {

@@ -28,13 +28,26 @@ describe('dead-end', () => {
     expect(fixed.model).toBeDefined();
   });
 
-  it('fires for every non-terminal state when neither they nor the spec declare actions', () => {
+  it('fires once, at the spec, when neither the states nor the spec declare actions, and its fix declares the used ones', () => {
     const report = checkSpec(chainSpec({ actions: undefined }));
     const findings = findingsOf(report, RULE);
-    expect(findings.map((f) => spanText(report, f))).toEqual(['"a"', '"b"']);
-    expect(findings[0].message).toContain('(neither it nor the spec declares "actions")');
+    expect(findings.map((f) => spanText(report, f))).toEqual(['{']);
+    expect(findings[0].message).toBe(
+      `no state offers an action: neither the spec nor any state declares "actions" (the transitions use 'go'), so all 2 non-terminal states are dead ends and the spec is not compiled; give the spec a default "actions" list (or each state its own)`,
+    );
     // The transitions are not also reported as using undeclared actions.
     expect(findingsOf(report, 'undeclared-action')).toEqual([]);
+    expect(findings[0].fixes?.map((f) => f.title)).toEqual(['Declare "actions": ["go"]']);
+    const fixed = checkSpec(applyFix(report, findings[0].fixes![0].edits));
+    expect(fixed.findings).toEqual([]);
+    expect(fixed.model).toBeDefined();
+  });
+
+  it('fires per state when some state declares actions and another has none', () => {
+    const report = checkSpec(chainSpec({ actions: undefined, states: { a: { actions: ['go'] }, b: {}, goal: { terminal: 'goal' } } }));
+    const findings = findingsOf(report, RULE);
+    expect(findings.map((f) => spanText(report, f))).toEqual(['"b"']);
+    expect(findings[0].message).toContain('(neither it nor the spec declares "actions")');
   });
 
   it('does not fire for terminals or states with actions', () => {

@@ -39,6 +39,8 @@ const CATALOG: Record<string, Severity> = {
   'unseeded-randomness': 'warning',
   'nondeterministic-model': 'error',
   'episode-never-ends': 'warning',
+  // Added after version 1 (issue 14): TypeScript syntax errors, which were reported as `schema`.
+  syntax: 'error',
 };
 
 describe('rule registry', () => {

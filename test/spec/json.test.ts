@@ -249,9 +249,50 @@ describe('bad input: never a throw, always a positioned schema finding', () => {
     const r = load(base(`{ "from": "a", "action": "go", "too": "b" }`));
     const unknown = r.findings.find((f) => f.message.includes('unknown property'));
     expect(unknown && r.at(unknown.span)).toBe('"too"');
-    expect(unknown?.message).toBe('unknown property "too" in transitions[0]; did you mean "to"?');
-    const missing = r.findings.find((f) => f.message.includes('missing the required property "to"'));
-    expect(missing && r.at(missing.span)).toBe('{ "from": "a", "action": "go", "too": "b" }');
+    expect(unknown?.message).toMatch(/^unknown property "too" in transitions\[0\]; did you mean "to"\? It is required \(the outcomes: /);
+    // One misnamed property is one mistake: the missing "to" is part of the same finding.
+    expect(r.findings).toHaveLength(1);
+  });
+
+  it('reports an unknown property with the required one it lacks as one finding', () => {
+    const r = load(base(`{ "from": "a", "action": "go", "next": "b" }`));
+    expect(r.messages).toEqual([
+      '"next" | unknown property "next" in transitions[0], which is missing the required property "to" (the outcomes: a state id (probability 1), a map from state id to probability, or a list of outcomes {state, probability, reward}): if "next" is meant as "to", rename it',
+    ]);
+    const several = load(base(`{ "state": "a", "act": "go", "to": "b" }`));
+    expect(several.messages).toEqual([
+      '"state" | transitions[0] has the unknown properties "state" and "act" and lacks the required "from" and "action"; its properties are from, action, to, reward',
+    ]);
+    // Without a missing property, each unknown one is its own finding.
+    expect(load(base(`{ "from": "a", "action": "go", "to": "b", "note": 1, "notes": 2 }`)).findings).toHaveLength(2);
+  });
+
+  it('reports one outcome object written without the list brackets once, not as states named "state" and "probability"', () => {
+    const r = load(base(`{ "from": "a", "action": "go", "to": { "state": "b", "probability": 1, "reward": -1 } }`));
+    expect(r.messages).toEqual([
+      '{ "state": "b", "probability": 1, "reward": -1 } | transitions[0].to is written as one outcome {state, probability, reward}; the outcomes are a list, so put it in brackets: "to": [ { "state": …, "probability": … } ], or for a single next state simply "to": "b"',
+    ]);
+    expect(r.spec.transitions[0]).toMatchObject({ outcomes: [], incomplete: true });
+    // A spec that really has a state named "state" keeps the map form.
+    const named = load(base(`{ "from": "a", "action": "go", "to": { "state": 1 } }`).replace('"b": {}', '"state": {}'));
+    expect(named.findings).toEqual([]);
+    expect(named.spec.transitions[0].outcomes.map((o) => o.state)).toEqual(['state']);
+  });
+
+  it('reports a probability that is not a number', () => {
+    const r = load(base(`{ "from": "a", "action": "go", "to": { "b": "0.5", "goal": 0.5 } }`));
+    expect(r.messages).toEqual(['"0.5" | transitions[0].to.b must be a number, not the string "0.5" (A probability, from 0 to 1)']);
+  });
+
+  it('keeps the state and action a transition without a readable from or action seems to be about', () => {
+    const typo = load(base(`{ "form": "a", "action": "go", "to": "b" }`));
+    expect(typo.spec.transitions).toEqual([]);
+    expect(typo.spec.unreadTransitions).toEqual([{ from: ['a'], action: ['go'], span: expect.anything() }]);
+    expect(load(base(`{ "from": "b", "acton": "stay", "to": "b" }`)).spec.unreadTransitions).toEqual([{ from: ['b'], action: ['stay'], span: expect.anything() }]);
+    // The from value names no declared state: any state with that action may be the one meant.
+    expect(load(base(`{ "form": "nowhere", "action": "go", "to": "b" }`)).spec.unreadTransitions).toEqual([{ from: undefined, action: ['go'], span: expect.anything() }]);
+    // Nothing at all tells the pair.
+    expect(load(base(`{ "to": "b" }`)).spec.unreadTransitions).toBeUndefined();
   });
 
   it('reports a missing top-level field at the opening brace and a missing nested one at its parent key', () => {

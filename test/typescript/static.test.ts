@@ -97,6 +97,7 @@ describe('static reading of TypeScript specs (ts-morph)', () => {
     const broken = readTypeScriptSpec(`export default defineMdp({ discount: 0.9, start: 0 `);
     expect(broken.syntaxErrors).toBe(true);
     expect(broken.findings[0].message).toMatch(/^syntax error: /);
+    expect(broken.findings[0].rule).toBe('syntax');
     for (const text of ['', '}}}{{{', 'export default 5;', '\u0000\uffff', 'export default defineMdp(...args);']) {
       expect(() => readTypeScriptSpec(text)).not.toThrow();
     }

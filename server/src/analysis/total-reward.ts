@@ -320,7 +320,7 @@ export function solveValues(ctx: AnalysisContext, problem: ValueProblem): ValueS
  */
 function directSolve(
   ctx: AnalysisContext,
-  _op: Operator,
+  op: Operator,
   problem: ValueProblem,
   nodes: Nodes,
   iterate: Uint8Array,

@@ -4,6 +4,8 @@
  * commands that accept it; adding a subcommand is one entry in the command table of main.ts.
  */
 
+import { closestName } from '../spec/names';
+
 export type OptionValue = string | number | boolean;
 
 export interface OptionSpec {
@@ -123,7 +125,7 @@ export function parseArgs(argv: readonly string[], commands: readonly CommandSpe
     const arg = argv[i];
     if (optionsEnded || arg === '-' || !arg.startsWith('-')) {
       if (result.command === undefined) {
-        if (!commands.some((c) => c.name === arg)) throw new UsageError(`unknown command '${arg}'`);
+        if (!commands.some((c) => c.name === arg)) throw new UsageError(`unknown command '${arg}'${didYouMean(arg, commands.map((c) => c.name))}`);
         result.command = arg;
       } else {
         result.operands.push(arg);
@@ -142,7 +144,7 @@ export function parseArgs(argv: readonly string[], commands: readonly CommandSpe
       const name = eq >= 0 ? arg.slice(2, eq) : arg.slice(2);
       inlineValue = eq >= 0 ? arg.slice(eq + 1) : undefined;
       option = optionByName.get(name);
-      if (!option) throw new UsageError(`unknown option '--${name}'`);
+      if (!option) throw new UsageError(`unknown option '--${name}'${didYouMean(name, optionByName.keys(), '--')}`);
     } else {
       if (arg.length !== 2) throw new UsageError(`unknown option '${arg}' (short options cannot be combined)`);
       option = optionByShort.get(arg.slice(1));
@@ -188,11 +190,17 @@ export function parseArgs(argv: readonly string[], commands: readonly CommandSpe
   return result;
 }
 
+/** "; did you mean '--format'?" when one known name is close to the mistyped one, else ''. */
+function didYouMean(typed: string, known: Iterable<string>, prefix = ''): string {
+  const near = closestName(typed, known);
+  return near === undefined ? '' : `; did you mean '${prefix}${near}'?`;
+}
+
 function convertValue(option: OptionSpec, raw: string): OptionValue {
   switch (option.kind) {
     case 'choice':
       if (!option.choices?.includes(raw)) {
-        throw new UsageError(`option '--${option.name}' must be one of ${option.choices?.join(', ')}; got '${raw}'`);
+        throw new UsageError(`option '--${option.name}' must be one of ${option.choices?.join(', ')}; got '${raw}'${didYouMean(raw, option.choices ?? [])}`);
       }
       return raw;
     case 'integer': {

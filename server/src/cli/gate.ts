@@ -13,13 +13,27 @@ import { DEFAULT_CONFIG, type ResolvedConfig } from '../config';
 import { RULES } from '../rules/registry';
 import type { Severity } from '../rules/types';
 import { SUPPRESSION_RULE, isCompletelyChecked, unusedIgnoreFindings, type CheckedFile } from '../suppress';
-import { BaselineError, compareWithBaseline, newFindingsAtOrAbove, parseBaseline, type Comparison, type FindingChange } from './baseline';
+import { BaselineError, compareWithBaseline, newFindingsAtOrAbove, parseBaseline, type Comparison, type FindingChange, type SpecShift } from './baseline';
 import { displayPath, type SpecFile } from './files';
 import { fileReportToJson, findingToJson, jsonOutput, type JsonFile, type JsonOutput } from './json-output';
-import { markdownReport } from './markdown';
+import { TEXT_SHIFT, hasMoved, intervalShift, markdownReport, probabilityShift } from './markdown';
 import { ProgressBar, type ProgressStream } from './progress';
 import { htmlReport, type ReportFile } from './report-html';
 import { toSarif } from './sarif';
+
+/** "  moved a.mdp.json: optimal return 10 -> 4 (-6), goal reach (optimal) 0.9 -> 0.6 (-0.3)": only the figures that moved. */
+function movedLine(spec: SpecShift): string {
+  const figures: Array<[string, string]> = [
+    ['optimal return', intervalShift(spec.optimal, TEXT_SHIFT)],
+    ['random return', intervalShift(spec.random, TEXT_SHIFT)],
+    ['goal reach (optimal)', probabilityShift(spec.goalOptimal, TEXT_SHIFT)],
+    ['goal reach (random)', probabilityShift(spec.goalRandom, TEXT_SHIFT)],
+  ];
+  const shown = figures.filter(([, text]) => hasMoved(text, TEXT_SHIFT)).map(([label, text]) => `${label} ${text}`);
+  const name = spec.status === 'added' ? `${spec.path} (new)` : spec.status === 'removed' ? `${spec.path} (removed)` : spec.path;
+  const none = spec.status === 'changed' ? 'moved by less than the digits shown' : 'not analysed';
+  return `  moved ${name}: ${shown.length > 0 ? shown.join(', ') : none}`;
+}
 
 /** A problem with a gate option (baseline, config, report path); the message is one line. */
 export class GateError extends Error {}
@@ -147,11 +161,12 @@ export class CheckGate {
     const comparison = this.compare(jsonOutput(results));
     if (!comparison) return '';
     const line = (label: string, c: FindingChange) => `  ${label} ${c.path}:${c.finding.line}:${c.finding.column} ${c.finding.severity} ${c.finding.rule} ${c.finding.message}`;
-    const moved = comparison.specs.filter((s) => s.status !== 'unchanged').length;
+    const moved = comparison.specs.filter((s) => s.status !== 'unchanged');
     return [
-      `compared with the baseline: ${comparison.newFindings.length} new, ${comparison.fixedFindings.length} fixed, ${comparison.unchangedFindings} unchanged; start values moved in ${moved} spec${moved === 1 ? '' : 's'}`,
+      `compared with the baseline: ${comparison.newFindings.length} new, ${comparison.fixedFindings.length} fixed, ${comparison.unchangedFindings} unchanged; start values moved in ${moved.length} spec${moved.length === 1 ? '' : 's'}`,
       ...comparison.newFindings.map((c) => line('new  ', c)),
       ...comparison.fixedFindings.map((c) => line('fixed', c)),
+      ...moved.map(movedLine),
     ].join('\n') + '\n';
   }
 

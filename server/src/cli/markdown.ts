@@ -3,7 +3,7 @@
  * and the specs whose start values moved, most important first. Without one: the findings and the
  * start's return ranges. GitHub-flavoured Markdown tables; long lists are cut with a count.
  */
-import { SEVERITY_ORDER, type Severity } from '../rules/types';
+import { SEVERITY_ORDER, severityCount, type Severity } from '../rules/types';
 import type { Comparison, FindingChange, SpecShift, ValueShift } from './baseline';
 import { midpoint } from './baseline';
 import type { JsonInterval, JsonOutput } from './json-output';
@@ -64,7 +64,7 @@ function plainMarkdown(current: JsonOutput, maxRows: number): string[] {
   const count = (severity: Severity) => all.filter((c) => c.finding.severity === severity).length;
   const plural = (n: number, word: string) => `${n} ${word}${n === 1 ? '' : 's'}`;
   const out = [
-    `## Episcope: ${plural(count('error'), 'error')}, ${plural(count('warning'), 'warning')}, ${count('info')} info in ${plural(current.files.length, 'file')}`,
+    `## Episcope: ${severityCount(count('error'), 'error')}, ${severityCount(count('warning'), 'warning')}, ${severityCount(count('info'), 'info')} in ${plural(current.files.length, 'file')}`,
     '',
   ];
   if (all.length > 0) out.push(...findingTable(all, maxRows), '');
@@ -98,31 +98,47 @@ function shiftRow(spec: SpecShift): string {
   return `| ${name} | ${intervalShift(spec.optimal)} | ${intervalShift(spec.random)} | ${probabilityShift(spec.goalOptimal)} | ${probabilityShift(spec.goalRandom)} |`;
 }
 
-function intervalShift(shift: ValueShift<JsonInterval>): string {
+/** How the shift of one figure is written: Markdown emphasises the new value, text does not. */
+export interface ShiftStyle {
+  arrow: string;
+  emphasis: (text: string) => string;
+  none: string;
+}
+
+const MARKDOWN_SHIFT: ShiftStyle = { arrow: '→', emphasis: (text) => `**${text}**`, none: '—' };
+export const TEXT_SHIFT: ShiftStyle = { arrow: '->', emphasis: (text) => text, none: 'none' };
+
+/** "before → after (change)"; the value alone when it did not move; '' when neither run has it. */
+export function intervalShift(shift: ValueShift<JsonInterval>, style: ShiftStyle = MARKDOWN_SHIFT): string {
   const { before, after } = shift;
   if (!before && !after) return '';
-  if (!before) return `— → ${interval(after!)}`;
-  if (!after) return `${interval(before)} → —`;
+  if (!before) return `${style.none} ${style.arrow} ${interval(after!)}`;
+  if (!after) return `${interval(before)} ${style.arrow} ${style.none}`;
   const same = interval(before) === interval(after);
   if (same) return interval(after);
   const m0 = midpoint(parseJsonNumber(before.lower), parseJsonNumber(before.upper));
   const m1 = midpoint(parseJsonNumber(after.lower), parseJsonNumber(after.upper));
   const delta = Number.isFinite(m0) && Number.isFinite(m1) ? ` (${signed(m1 - m0)})` : '';
-  return `${interval(before)} → **${interval(after)}**${delta}`;
+  return `${interval(before)} ${style.arrow} ${style.emphasis(interval(after))}${delta}`;
 }
 
-function probabilityShift(shift: ValueShift<number>): string {
+export function probabilityShift(shift: ValueShift<number>, style: ShiftStyle = MARKDOWN_SHIFT): string {
   const { before, after } = shift;
   if (before === undefined && after === undefined) return '';
-  if (before === undefined) return `— → ${textProbability(after!)}`;
-  if (after === undefined) return `${textProbability(before)} → —`;
+  if (before === undefined) return `${style.none} ${style.arrow} ${textProbability(after!)}`;
+  if (after === undefined) return `${textProbability(before)} ${style.arrow} ${style.none}`;
   if (Math.abs(after - before) <= 1e-9) return textProbability(after);
-  return `${textProbability(before)} → **${textProbability(after)}** (${signed(after - before)})`;
+  return `${textProbability(before)} ${style.arrow} ${style.emphasis(textProbability(after))} (${signed(after - before)})`;
+}
+
+/** Whether a shift text shows a move (it has an arrow), rather than an unchanged value. */
+export function hasMoved(text: string, style: ShiftStyle): boolean {
+  return text.includes(` ${style.arrow} `);
 }
 
 function signed(x: number): string {
   const text = String(Number(x.toPrecision(3)));
-  return x > 0 ? `+${text}` : text.replace('-', '−');
+  return x > 0 ? `+${text}` : text;
 }
 
 function interval(i: JsonInterval): string {

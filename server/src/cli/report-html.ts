@@ -7,7 +7,7 @@
  * and the random policy, the value of every state, and, when rollouts ran, the histograms of the
  * returns and of the episode lengths.
  */
-import type { Severity } from '../rules/types';
+import { severityCount, type Severity } from '../rules/types';
 import type { JsonFile, JsonInterval, JsonReach, JsonRollouts } from './json-output';
 import { parseJsonNumber, textInterval, textProbability } from './numbers';
 
@@ -82,7 +82,7 @@ function badges(file: JsonFile): string {
   const n = (s: Severity) => file.findings.filter((f) => f.severity === s).length;
   return (['error', 'warning', 'info'] as const)
     .filter((s) => n(s) > 0)
-    .map((s) => `<span class="badge sev-${s}">${n(s)} ${s}</span>`)
+    .map((s) => `<span class="badge sev-${s}">${severityCount(n(s), s)}</span>`)
     .join(' ');
 }
 
@@ -113,7 +113,7 @@ function fileSection(file: ReportFile, index: number, options: ReportOptions): s
     parts.push('</div>');
     if (a.values) parts.push(valuesSection(a.values, options));
   }
-  if (file.rollouts) parts.push(rolloutSection(file.rollouts));
+  if (file.rollouts) parts.push(rolloutSection(file.rollouts, !a));
   parts.push('</section>');
   return parts.join('\n');
 }
@@ -272,16 +272,42 @@ function valuesSection(values: StateValues, options: ReportOptions): string {
   // Reachable states first: they are the ones a policy can see.
   const ordered = [...ids.filter((id) => values[id].reachable !== false), ...ids.filter((id) => values[id].reachable === false)];
   const plotted = ordered.slice(0, maxPlotted);
-  const note = ordered.length > plotted.length ? `<p class="note">The plot shows ${plotted.length} of ${ordered.length} states (reachable ones first); the table lists ${Math.min(maxTable, ordered.length)}.</p>` : '';
+  const listed = Math.min(maxTable, ordered.length);
+  const note = ordered.length > plotted.length ? `<p class="note">The plot shows ${plotted.length} of ${ordered.length} states (reachable ones first); ${ordered.length - plotted.length} more are not plotted.</p>` : '';
   const rows = ordered.slice(0, maxTable).map((id) => {
     const v = values[id];
-    const name = v.label ?? id;
+    const name = stateName(id, v.label);
     const kind = v.terminal ? ` <span class="terminal">${esc(v.terminal)}</span>` : '';
     const unreachable = v.reachable === false ? ' <span class="note">unreachable</span>' : '';
-    return `<tr><td>${esc(name)}${kind}${unreachable}</td><td>${esc(interval(v.optimal))}</td><td>${esc(interval(v.random))}</td><td>${esc(interval(v.worst))}</td><td>${esc(v.best.join(', '))}</td></tr>`;
+    const raw = name === id ? '' : ` title="${esc(id)}"`;
+    return `<tr><td${raw}>${esc(name)}${kind}${unreachable}</td><td>${esc(interval(v.optimal))}</td><td>${esc(interval(v.random))}</td><td>${esc(interval(v.worst))}</td><td>${esc(v.best.join(', '))}</td></tr>`;
   });
-  const table = `<details><summary>Values of ${Math.min(maxTable, ordered.length)} state${ordered.length === 1 ? '' : 's'}</summary><table class="values"><thead><tr><th>state</th><th>optimal</th><th>random</th><th>worst</th><th>best actions</th></tr></thead><tbody>${rows.join('')}</tbody></table></details>`;
-  return figure('Value of each state', statePlot(plotted.map((id) => ({ id: values[id].label ?? id, v: values[id] }))) + note + table, 'plot-values');
+  if (ordered.length > listed) rows.push(`<tr><td colspan="5" class="note">${ordered.length - listed} more row${ordered.length - listed === 1 ? '' : 's'} not shown</td></tr>`);
+  const summary = ordered.length > listed ? `Values of ${listed} of ${ordered.length} states` : `Values of ${listed} state${listed === 1 ? '' : 's'}`;
+  const table = `<details><summary>${summary}</summary><table class="values"><thead><tr><th>state</th><th>optimal</th><th>random</th><th>worst</th><th>best actions</th></tr></thead><tbody>${rows.join('')}</tbody></table></details>`;
+  return figure('Value of each state', statePlot(plotted.map((id) => ({ id: stateName(id, values[id].label), v: values[id] }))) + note + table, 'plot-values');
+}
+
+/**
+ * How a state is named in the report: its label when it has one, else its id; the canonical JSON
+ * key of an object state reads as its fields ("stock=4 weekday=0"), shortened to `max` characters.
+ */
+export function stateName(id: string, label?: string, max = 48): string {
+  if (label !== undefined) return truncate(label, max);
+  if (!id.startsWith('{') && !id.startsWith('[')) return truncate(id, max);
+  let value: unknown;
+  try {
+    value = JSON.parse(id);
+  } catch {
+    return truncate(id, max);
+  }
+  const part = (v: unknown): string => (typeof v === 'string' ? v : JSON.stringify(v));
+  const text = Array.isArray(value)
+    ? `[${value.map(part).join(', ')}]`
+    : Object.entries(value as Record<string, unknown>)
+        .map(([key, v]) => `${key}=${part(v)}`)
+        .join(' ');
+  return truncate(text, max);
 }
 
 /** One row per state: the optimal, random and worst values as markers with their bounds. */
@@ -321,10 +347,15 @@ function statePlot(rows: Array<{ id: string; v: StateValues[string] }>): string 
   return svg(width, height, 'Optimal, random and worst value of each state', parts.join(''));
 }
 
-function rolloutSection(rollouts: NonNullable<JsonFile['rollouts']>): string {
+/** The rollouts' histograms; for a sampled model (no exact analysis) also how its episodes ended. */
+function rolloutSection(rollouts: NonNullable<JsonFile['rollouts']>, sampledOnly: boolean): string {
   const entries = (['optimal', 'random'] as const).flatMap((policy) => (rollouts[policy] ? [[policy, rollouts[policy]!] as const] : []));
   if (entries.length === 0) return '';
   const parts = ['<h3>Rollouts</h3>', '<div class="plots">'];
+  if (sampledOnly) {
+    const episodes = entries.map(([policy, stats]) => `${stats.episodes} ${policy}-policy episodes`).join(' and ');
+    parts.push(figure('How episodes ended', reachPlot(entries.map(([policy, stats]) => ({ label: policy, reach: stats.reach }))) + `<p class="note">Estimated from ${esc(episodes)}; "never ends / cut" counts episodes stopped at the step cap or by the horizon.</p>`, 'plot-rollout-reach'));
+  }
   for (const [policy, stats] of entries) {
     const color = policy === 'optimal' ? COLORS.optimal : COLORS.random;
     const ci = stats.return.ci95;
@@ -379,11 +410,22 @@ function histogramPlot(histogram: ReportHistogram, unit: string, color: string, 
       parts.push(`<rect class="bin" x="${r(left + i * binWidth + 1)}" y="${r(y)}" width="${r(Math.max(1, binWidth - 2))}" height="${r(Math.max(0, bottom - y))}" fill="${color}"><title>${esc(`${short(from)} to ${short(to)} ${unit}: ${count}`)}</title></rect>`);
     });
     parts.push(`<line x1="${left}" y1="${bottom}" x2="${right}" y2="${bottom}" stroke="${COLORS.axis}"/>`);
-    parts.push(`<text x="${left}" y="${bottom + 16}" class="tick">${esc(fmt(lower))}</text>`);
-    parts.push(`<text x="${right}" y="${bottom + 16}" text-anchor="end" class="tick">${esc(fmt(upper))}</text>`);
+    for (const t of histogramTicks(lower, upper, integer)) {
+      const x = r(left + ((t - lower) / span) * (right - left));
+      parts.push(`<line x1="${x}" y1="${bottom}" x2="${x}" y2="${bottom + 4}" stroke="${COLORS.axis}"/><text x="${x}" y="${bottom + 16}" text-anchor="middle" class="tick">${esc(fmt(t))}</text>`);
+    }
   }
   parts.push(`<text x="${(left + right) / 2}" y="${bottom + 28}" text-anchor="middle" class="tick">${esc(unit)}</text>`);
   return svg(width, height, `Histogram of ${unit}`, parts.join(''));
+}
+
+/**
+ * Round tick values inside a histogram's range [lower, upper] (1, 2 or 5 times a power of ten;
+ * whole numbers for counts of steps); the two ends when fewer than two round values fall inside.
+ */
+export function histogramTicks(lower: number, upper: number, integer: boolean): number[] {
+  const inside = niceTicks(lower, upper, 5).filter((t) => t >= lower - 1e-9 * Math.abs(upper - lower) && t <= upper + 1e-9 * Math.abs(upper - lower) && (!integer || Number.isInteger(t)));
+  return inside.length >= 2 ? inside : [lower, upper];
 }
 
 function svg(width: number, height: number, title: string, body: string): string {
@@ -402,7 +444,7 @@ function percent(p: number): string {
 
 /** A number for axis labels: at most 4 significant digits. */
 function short(x: number): string {
-  if (!Number.isFinite(x)) return x > 0 ? '∞' : x < 0 ? '−∞' : '?';
+  if (!Number.isFinite(x)) return x > 0 ? '∞' : x < 0 ? '-∞' : '?';
   if (x !== 0 && (Math.abs(x) >= 1e6 || Math.abs(x) < 1e-3)) return x.toExponential(2);
   return String(Number(x.toPrecision(4)));
 }

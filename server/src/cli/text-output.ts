@@ -5,7 +5,7 @@
  */
 import type { JsonFile, JsonInterval, JsonReach } from './json-output';
 import { parseJsonNumber, textInterval, textProbability, type JsonNumber } from './numbers';
-import type { Severity } from '../rules/types';
+import { severityCount, type Severity } from '../rules/types';
 
 export interface Style {
   severity(severity: Severity, text: string): string;
@@ -137,11 +137,10 @@ function steps(n: JsonNumber): string {
 export function formatSummary(files: readonly JsonFile[], style: Style): string {
   const counts: Record<Severity, number> = { error: 0, warning: 0, info: 0 };
   for (const file of files) for (const f of file.findings) counts[f.severity]++;
-  const part = (severity: Severity, word: string) => {
-    const n = counts[severity];
-    const text = `${n} ${word}${n === 1 ? '' : 's'}`;
-    return n > 0 ? style.severity(severity, text) : text;
+  const part = (severity: Severity) => {
+    const text = severityCount(counts[severity], severity);
+    return counts[severity] > 0 ? style.severity(severity, text) : text;
   };
   const fileCount = `${files.length} file${files.length === 1 ? '' : 's'} checked`;
-  return `${fileCount}: ${part('error', 'error')}, ${part('warning', 'warning')}, ${part('info', 'info')}\n`;
+  return `${fileCount}: ${part('error')}, ${part('warning')}, ${part('info')}\n`;
 }

@@ -1,17 +1,15 @@
 /** Compact number formatting for hovers, lenses and status lines. */
 
-/** A value with about four significant digits; infinities as ∞, minus signs as the typographic one. */
+/** A value with about four significant digits; infinities as ∞. The minus is ASCII, so that a copied number pastes into code. */
 export function formatNumber(x: number): string {
   if (Number.isNaN(x)) return '?';
   if (x === Infinity) return '∞';
-  if (x === -Infinity) return '−∞';
+  if (x === -Infinity) return '-∞';
   if (x === 0) return '0';
   const magnitude = Math.abs(x);
-  let text: string;
-  if (magnitude >= 1e4 && magnitude < 1e9) text = String(Math.round(x));
-  else if (magnitude >= 1e9 || magnitude < 1e-3) text = x.toExponential(2).replace('e+', 'e');
-  else text = String(Number(x.toPrecision(4)));
-  return text.replace(/^-/, '−');
+  if (magnitude >= 1e4 && magnitude < 1e9) return String(Math.round(x));
+  if (magnitude >= 1e9 || magnitude < 1e-3) return x.toExponential(2).replace('e+', 'e');
+  return String(Number(x.toPrecision(4)));
 }
 
 /**

@@ -341,7 +341,7 @@ function fixedHovers(text: string, spec: ParsedSpec, model: CompiledModel, analy
   const lines: string[] = [];
   if (spec.discount) {
     const discount = spec.discount.value;
-    const effective = discount < 1 ? `1/(1 − ${formatNumber(discount)}) = ${formatNumber(1 / (1 - discount))} steps` : '∞ (undiscounted)';
+    const effective = discount < 1 ? `1/(1 - ${formatNumber(discount)}) = ${formatNumber(1 / (1 - discount))} steps` : '∞ (undiscounted)';
     lines.push(`**discount ${formatNumber(discount)}** · effective horizon ${effective}`);
     if (goals.length === 0) lines.push('', 'No goal terminal is reachable from the start.');
     for (const goal of goals) {

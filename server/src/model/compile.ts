@@ -101,6 +101,7 @@ function compileChecked(spec: ParsedSpec): CompileResult {
     return actionSets.get(state.id);
   };
   for (const state of stateById.values()) {
+    if (state.terminalUnread) return { reason: `the terminal kind of ${quote(state.id)} could not be read` };
     if (!state.terminal && !actionsOf(state)?.size) return { reason: `the non-terminal state ${quote(state.id)} offers no action, so the episode cannot continue there` };
   }
   const defined = new Set<string>();
@@ -143,6 +144,9 @@ function compileChecked(spec: ParsedSpec): CompileResult {
     builder.addChoice(stateIndex, transition.action, index, outcomes);
   }
 
+  // A transition without a readable from or action is the cause of any pair that looks missing.
+  const unread = spec.unreadTransitions?.length ?? 0;
+  if (unread > 0) return { reason: `${unread === 1 ? 'a transition' : `${unread} transitions`} could not be read (no readable "from" or "action")` };
   for (const state of stateById.values()) {
     if (state.terminal) continue;
     for (const action of actionsOf(state)!) {

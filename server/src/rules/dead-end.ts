@@ -1,7 +1,8 @@
-import { quote } from '../spec/names';
+import { listNames, quote } from '../spec/names';
+import type { ParsedSpec } from '../spec/types';
 import { TERMINAL_KINDS } from '../spec/types';
 import { forEachNonTerminalState, jsonEditorFor } from './spec-walk';
-import type { Fix, Rule } from './types';
+import type { Fix, Rule, RuleContext } from './types';
 
 /** A non-terminal state must offer at least one action, or the episode has no way to go on. */
 export const deadEnd: Rule = {
@@ -19,6 +20,9 @@ undefined there. In code this is the classic "the environment returns no valid a
 its own while the spec declares no default \`actions\`. The spec is not compiled until it is
 fixed.
 
+When no state and not the spec declare any \`actions\` at all, that one omission is reported
+once, at the spec, with a fix that declares the actions its transitions use.
+
 **How to fix.** Give the state actions and transitions, or mark it terminal with the kind of
 end it is: \`"goal"\`, \`"failure"\` or \`"neutral"\` (offered as quick fixes).
 
@@ -30,6 +34,10 @@ end it is: \`"goal"\`, \`"failure"\` or \`"neutral"\` (offered as quick fixes).
   check(ctx) {
     const spec = ctx.spec;
     const editor = jsonEditorFor(ctx);
+    if (declaresNoActions(spec)) {
+      reportNoActionsAnywhere(ctx, editor);
+      return;
+    }
     forEachNonTerminalState(spec, (state, offered) => {
       if (offered && offered.length > 0) return;
       const why = offered ? 'its "actions" list is empty' : 'neither it nor the spec declares "actions"';
@@ -47,3 +55,28 @@ end it is: \`"goal"\`, \`"failure"\` or \`"neutral"\` (offered as quick fixes).
     });
   },
 };
+
+/** Neither the spec nor any state has an action set, though some state is not terminal. */
+function declaresNoActions(spec: ParsedSpec): boolean {
+  // TypeScript specs give actions by a function; their dead ends come from running it.
+  if (spec.format !== 'json' || spec.actionsSpan !== undefined || spec.actions.length > 0) return false;
+  return spec.states.every((state) => state.actions === undefined) && spec.states.some((state) => !state.terminal && !state.terminalUnread);
+}
+
+/** One finding for the one omission, instead of one per state; the fix declares what the transitions use. */
+function reportNoActionsAnywhere(ctx: RuleContext, editor: ReturnType<typeof jsonEditorFor>): void {
+  const spec = ctx.spec;
+  const used = [...new Set(spec.transitions.map((t) => t.action))];
+  const fixes: Fix[] = [];
+  const edits = used.length > 0 ? editor?.setProperty([], 'actions', used) : undefined;
+  if (edits) fixes.push({ title: `Declare "actions": ${JSON.stringify(used)}`, edits });
+  const hint = used.length > 0 ? ` (the transitions use ${listNames(used)})` : '';
+  const states = spec.states.filter((state) => !state.terminal && !state.terminalUnread).length;
+  ctx.report({
+    message:
+      `no state offers an action: neither the spec nor any state declares "actions"${hint}, so ${states === 1 ? 'the non-terminal state is a dead end' : `all ${states} non-terminal states are dead ends`} ` +
+      `and the spec is not compiled; give the spec a default "actions" list (or each state its own)`,
+    span: { start: spec.rootSpan.start, end: Math.min(spec.rootSpan.end, spec.rootSpan.start + 1) },
+    fixes,
+  });
+}

@@ -16,7 +16,9 @@ back to some default (stay put, reward 0) that nobody chose and that a learner m
 **When it fires.** A non-terminal state offers an action (from its own \`actions\` or the
 spec's default \`actions\`) and no transition has that state as \`from\` and that action as
 \`action\`. One finding per state lists all its undefined actions. The spec is not compiled
-until it is fixed.
+until it is fixed. A transition that could not be read (its \`schema\` finding says why) counts as
+defining the state and action it seems to be about, and a state whose \`terminal\` is not a
+terminal kind counts as meant to be terminal, so one mistake is reported once.
 
 **How to fix.** Add a transition for each listed action, or give the state its own narrower
 \`actions\` list. The quick fix narrows the state's action set to the actions that have
@@ -37,14 +39,17 @@ transitions (check that this is what you meant: it removes the choice from the a
       if (!actions) defined.set(transition.from, (actions = new Set()));
       actions.add(transition.action);
     }
+    const unread = spec.unreadTransitions ?? [];
     const editor = jsonEditorFor(ctx);
     forEachNonTerminalState(spec, (state, offered) => {
       // A state without any action is dead-end's finding.
       if (!offered || offered.length === 0) return;
       const has = defined.get(state.id);
-      const missing = offered.filter((action) => !has?.has(action));
+      // A transition that could not be read is its schema finding; saying again that its pair
+      // has no transition would bury the cause.
+      const missing = offered.filter((action) => !has?.has(action) && !unread.some((u) => (!u.from || u.from.includes(state.id)) && (!u.action || u.action.includes(action))));
       if (missing.length === 0) return;
-      const present = offered.filter((action) => has?.has(action));
+      const present = offered.filter((action) => !missing.includes(action));
       const them = missing.length === 1 ? 'it does' : 'they do';
       const fixes: Fix[] = [];
       if (present.length > 0) {

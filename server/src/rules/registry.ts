@@ -22,6 +22,7 @@ import { rewardScale } from './reward-scale';
 import { schemaRule } from './schema';
 import { shapingChangesPolicy } from './shaping-changes-policy';
 import { shapingNotPotential } from './shaping-not-potential';
+import { syntaxRule } from './syntax';
 import { termDirection } from './term-direction';
 import { terminalHasTransitions } from './terminal-has-transitions';
 import { terminalPotential } from './terminal-potential';
@@ -57,6 +58,7 @@ export const RULES: readonly Rule[] = [
   schemaRule,
   shapingChangesPolicy,
   shapingNotPotential,
+  syntaxRule,
   termDirection,
   terminalHasTransitions,
   terminalPotential,

@@ -138,7 +138,8 @@ export function renameFix(text: string, span: Span, replacement: string): Fix | 
 export function forEachNonTerminalState(spec: ParsedSpec, visit: (state: SpecState, offered: readonly string[] | undefined) => void): void {
   const seen = new Set<string>();
   for (const state of spec.states) {
-    if (state.terminal || seen.has(state.id)) continue;
+    // A state with a misspelt terminal kind was meant to be terminal; its schema finding says why.
+    if (state.terminal || state.terminalUnread || seen.has(state.id)) continue;
     seen.add(state.id);
     visit(state, actionSetOf(spec, state));
   }

@@ -6,7 +6,7 @@ import type { ParsedSpec } from '../spec/types';
 
 
 // Finding and its kin live in findings.ts; re-exported here for the rules.
-export { SEVERITY_ORDER } from '../findings';
+export { SEVERITY_ORDER, severityCount } from '../findings';
 export type { Finding, FindingInput, Fix, RelatedLocation, Severity, TextEdit, TraceStep } from '../findings';
 
 export interface RuleContext {

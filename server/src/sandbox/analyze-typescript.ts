@@ -48,7 +48,7 @@ export async function loadTypeScriptSpec(path: string, text: string, options: An
     evidence.notExecuted = 'the model code was not run (static checks only: --no-exec, or a workspace that is not trusted)';
     enumerated = { reason: evidence.notExecuted };
   } else if (!reading.found || reading.syntaxErrors) {
-    evidence.notExecuted = 'the model code was not run because the spec could not be read';
+    evidence.notExecuted = reading.syntaxErrors ? 'the model code was not run because it has syntax errors' : 'the model code was not run because the spec could not be read';
     enumerated = { reason: evidence.notExecuted };
   } else {
     try {

@@ -408,7 +408,7 @@ export function enumerateModel(model: ModelFunctions, options: EnumerationOption
           const out = outs[o] as { state?: unknown; probability?: unknown; reward?: unknown };
           if (typeof out !== 'object' || out === null) throw new MalformedValue(`outcome ${o} is ${describeValue(out)}; expected { state, probability, reward }`);
           const p = out.probability;
-          if (typeof p !== 'number' || Number.isNaN(p)) throw new MalformedValue(`outcome ${o} has probability ${describeValue(p)}; expected a number`);
+          if (typeof p !== 'number' || Number.isNaN(p)) throw new MalformedValue(p === undefined ? noProbability(out, o) : `outcome ${o} has probability ${describeValue(p)}; expected a number`);
           if (p < 0 || p > 1) throw new MalformedValue(`outcome ${o} has probability ${p}, outside [0, 1]`);
           sum += p;
           if (p === 0) continue;
@@ -716,6 +716,13 @@ function drawOutcome(outs: unknown[], u: number): { state: unknown; reward: unkn
     if (u < cumulative || i === outs.length - 1) return out;
   }
   throw new MalformedValue('outcomes() returned an empty list; every action needs at least one outcome');
+}
+
+/** An outcome without `probability`: its own field names usually show the misnamed one. */
+function noProbability(out: object, index: number): string {
+  const fields = Object.keys(out);
+  const own = fields.length > 0 ? ` (its fields: ${fields.slice(0, 8).join(', ')})` : '';
+  return `outcome ${index} has no probability${own}; expected { state, probability, reward }`;
 }
 
 /** FNV-1a, 32 bits (Fowler, Noll and Vo), over the UTF-16 code units of `text`. */

@@ -140,6 +140,7 @@ function parseUnchecked(text: string): JsonSpecResult {
   reportDuplicateKeys(root, schemaProblems);
   const reader = new SpecReader(root, schemaProblems);
   const spec = reader.read();
+  dropExplainedProblems(schemaProblems, reader.explained);
 
   schemaProblems.sort((a, b) => a.span.start - b.span.start);
   findings.push(...schemaProblems.slice(0, MAX_SCHEMA_FINDINGS));
@@ -182,12 +183,16 @@ function validateAgainstSchema(root: Node, strictText: string | undefined, out: 
   const validate = schemaValidator();
   if (validate(documentValue(root, strictText))) return;
   const seen = new Set<string>();
+  const misnamed = misnamedProperties(validate.errors ?? []);
   for (const error of validate.errors ?? []) {
-    // Probabilities outside [0, 1] are the negative-probability rule's (with what they cost).
-    if (error.schemaPath.startsWith('#/$defs/probability/')) continue;
+    // Probabilities outside [0, 1] are the negative-probability rule's (with what they cost); a
+    // probability that is not a number at all is reported here.
+    if (error.schemaPath.startsWith('#/$defs/probability/') && error.keyword !== 'type') continue;
     // The inner error of propertyNames carries the details; the outer one would repeat it.
     if (error.keyword === 'propertyNames') continue;
-    const finding = describeSchemaError(root, error);
+    const mixUp = misnamed.get(error.instancePath);
+    if (mixUp && (error.keyword === 'required' || (error.keyword === 'additionalProperties' && error.params.additionalProperty !== mixUp.unknown[0]))) continue;
+    const finding = describeSchemaError(root, error, mixUp);
     const key = `${finding.span.start}:${finding.span.end}:${finding.message}`;
     if (seen.has(key)) continue;
     seen.add(key);
@@ -211,6 +216,39 @@ function documentValue(root: Node, strictText: string | undefined): unknown {
   return getNodeValue(root);
 }
 
+/**
+ * Objects that lack required properties and have unknown ones: most likely misnamed properties, so
+ * each such object gets one finding (at its first unknown key) instead of one per property. Keyed
+ * by the object's instance path.
+ */
+interface Misnamed {
+  missing: string[];
+  unknown: string[];
+}
+
+function misnamedProperties(errors: readonly ErrorObject[]): Map<string, Misnamed> {
+  const byObject = new Map<string, Misnamed>();
+  for (const error of errors) {
+    if (error.keyword !== 'required' && error.keyword !== 'additionalProperties') continue;
+    let entry = byObject.get(error.instancePath);
+    if (!entry) byObject.set(error.instancePath, (entry = { missing: [], unknown: [] }));
+    if (error.keyword === 'required') entry.missing.push(String(error.params.missingProperty));
+    else entry.unknown.push(String(error.params.additionalProperty));
+  }
+  for (const [where, entry] of byObject) if (entry.missing.length === 0 || entry.unknown.length === 0) byObject.delete(where);
+  return byObject;
+}
+
+/** Drops schema problems inside a value whose mistake the reader explained as a whole. */
+function dropExplainedProblems(problems: Finding[], explained: ReadonlyArray<{ span: Span; finding: Finding }>): void {
+  if (explained.length === 0) return;
+  const inside = (finding: Finding) =>
+    explained.some((e) => e.finding !== finding && finding.span.start >= e.span.start && finding.span.end <= e.span.end);
+  const kept = problems.filter((finding) => !inside(finding));
+  problems.length = 0;
+  problems.push(...kept);
+}
+
 const TYPE_PHRASE: Record<string, string> = {
   string: 'a string',
   number: 'a number',
@@ -221,7 +259,7 @@ const TYPE_PHRASE: Record<string, string> = {
   null: 'null',
 };
 
-function describeSchemaError(root: Node, error: ErrorObject): Finding {
+function describeSchemaError(root: Node, error: ErrorObject, misnamed?: Misnamed): Finding {
   const { node, segments } = locate(root, pointerSegments(error.instancePath));
   const path = jsonPath(segments);
   const subject = segments.length === 0 ? 'the spec' : path;
@@ -248,9 +286,10 @@ function describeSchemaError(root: Node, error: ErrorObject): Finding {
     case 'additionalProperties': {
       const extra = String(error.params.additionalProperty);
       const known = Object.keys(parentSchema.properties ?? {});
+      const keyNode = propertyKey(node, extra);
+      if (misnamed) return schemaFinding(misnamedMessage(subject, misnamed, parentSchema, known), keyNode ? nodeSpan(keyNode) : nodeSpan(node));
       const suggestion = closestName(extra, known);
       const advice = suggestion ? `; did you mean "${suggestion}"?` : known.length > 0 ? `; known properties: ${known.join(', ')}` : '';
-      const keyNode = propertyKey(node, extra);
       return schemaFinding(`unknown property "${extra}" in ${subject}${advice}`, keyNode ? nodeSpan(keyNode) : nodeSpan(node));
     }
     case 'enum': {
@@ -285,6 +324,18 @@ function describeSchemaError(root: Node, error: ErrorObject): Finding {
     default:
       return schemaFinding(`${subject} ${error.message ?? 'does not match the spec format'}${hint}`, nodeSpan(node));
   }
+}
+
+/** One message for an object's unknown and missing properties (one misnamed property, usually). */
+function misnamedMessage(subject: string, { missing, unknown }: Misnamed, parentSchema: { properties?: Record<string, { description?: string }> }, known: string[]): string {
+  const quoted = (names: string[]) => joinAlternatives(names.map((n) => `"${n}"`)).replace(/ or /, ' and ');
+  if (missing.length === 1 && unknown.length === 1) {
+    const about = parentSchema.properties?.[missing[0]]?.description;
+    const what = about ? ` (${lowerFirst(firstSentence(about))})` : '';
+    if (closestName(unknown[0], known) === missing[0]) return `unknown property "${unknown[0]}" in ${subject}; did you mean "${missing[0]}"? It is required${what}`;
+    return `unknown property "${unknown[0]}" in ${subject}, which is missing the required property "${missing[0]}"${what}: if "${unknown[0]}" is meant as "${missing[0]}", rename it`;
+  }
+  return `${subject} has the unknown properties ${quoted(unknown)} and lacks the required ${quoted(missing)}; its properties are ${known.join(', ')}`;
 }
 
 /** Where a missing property is reported: the key that holds the object, else its opening brace. */
@@ -432,6 +483,9 @@ class SpecReader {
   /** Declared reward term names, when the spec has `rewardTerms`. */
   private declaredTerms: Set<string> | undefined;
   private readonly reportedTermKeys = new Set<number>();
+  private stateIds: Set<string> | undefined;
+  /** Values whose mistake one finding explains as a whole; schema problems inside them are dropped. */
+  readonly explained: Array<{ span: Span; finding: Finding }> = [];
 
   constructor(
     private readonly root: Node,
@@ -500,6 +554,8 @@ class SpecReader {
       if (terminal && TERMINAL_KINDS.includes(terminal.value as TerminalKind)) {
         state.terminal = terminal.value as TerminalKind;
         state.terminalSpan = nodeSpan(terminal);
+      } else if (terminal) {
+        state.terminalUnread = true;
       }
       const actions = fields.get('actions')?.value;
       if (actions?.type === 'array') {
@@ -556,7 +612,10 @@ class SpecReader {
     const reward = rewardNode ? this.readReward(rewardNode, [index, 'reward']) : [];
     const toNode = fields.get('to')?.value;
     const read = toNode ? this.readOutcomes(toNode, reward ?? [], index) : { outcomes: [], complete: false };
-    if (froms.length === 0 || actions.length === 0) return;
+    if (froms.length === 0 || actions.length === 0) {
+      this.recordUnread(node, fields, froms, actions);
+      return;
+    }
     const incomplete = reward === undefined || !read.complete;
     for (const from of froms) {
       for (const action of actions) {
@@ -576,6 +635,47 @@ class SpecReader {
     }
   }
 
+  private declaredStateIds(): Set<string> {
+    this.stateIds ??= new Set(this.spec.states.map((s) => s.id));
+    return this.stateIds;
+  }
+
+  /**
+   * Keeps what a transition without a readable `from` or `action` seems to be about: the readable
+   * field, else the declared states (or actions) that its unknown properties name.
+   */
+  private recordUnread(node: Node, fields: Map<string, Member>, froms: Located<string>[], actions: Located<string>[]): void {
+    const strays = [...fields].filter(([key]) => !TRANSITION_FIELDS.has(key)).flatMap(([, member]) => stringOrStrings(member.value).map((s) => s.value));
+    const declaredActions = new Set([...this.spec.actions.map((a) => a.value), ...this.spec.states.flatMap((s) => (s.actions ?? []).map((a) => a.value))]);
+    const pick = (read: Located<string>[], declared: Set<string>): string[] | undefined => {
+      if (read.length > 0) return read.map((r) => r.value);
+      const named = strays.filter((value) => declared.has(value));
+      return named.length > 0 ? named : undefined;
+    };
+    const from = pick(froms, this.declaredStateIds());
+    const action = pick(actions, declaredActions);
+    // With neither known, nothing tells which (state, action) pair the transition was meant for.
+    if (!from && !action) return;
+    (this.spec.unreadTransitions ??= []).push({ from, action, span: nodeSpan(node) });
+  }
+
+  /**
+   * `to` written as one outcome object, `{ "state": …, "probability": … }`, without the list's
+   * brackets: the map form would read its keys as state ids. One finding says so.
+   */
+  private explainOneOutcome(node: Node, members: Map<string, Member>, index: number): boolean {
+    if (!members.has('state') || this.declaredStateIds().has('state')) return false;
+    const next = members.get('state')!.value;
+    const simple = next.type === 'string' ? `, or for a single next state simply "to": ${JSON.stringify(next.value)}` : '';
+    const finding = schemaFinding(
+      `${jsonPath(['transitions', index, 'to'])} is written as one outcome {state, probability, reward}; the outcomes are a list, so put it in brackets: "to": [ { "state": …, "probability": … } ]${simple}`,
+      nodeSpan(node),
+    );
+    this.findings.push(finding);
+    this.explained.push({ span: nodeSpan(node), finding });
+    return true;
+  }
+
   /** The outcomes of `to`, in any of its three forms; `complete` is false when some could not be read. */
   private readOutcomes(node: Node, reward: RewardPart[], index: number): { outcomes: SpecOutcome[]; complete: boolean } {
     const outcomes: SpecOutcome[] = [];
@@ -584,7 +684,9 @@ class SpecReader {
       const span = nodeSpan(node);
       outcomes.push({ state: node.value, stateSpan: span, probability: 1, probabilitySpan: span, reward, span });
     } else if (node.type === 'object') {
-      for (const [state, member] of membersOf(node)) {
+      const members = membersOf(node);
+      if (this.explainOneOutcome(node, members, index)) return { outcomes, complete: false };
+      for (const [state, member] of members) {
         if (member.value.type !== 'number') {
           complete = false;
           continue;
@@ -656,6 +758,9 @@ class SpecReader {
     );
   }
 }
+
+/** The properties of a transition object (the schema's). */
+const TRANSITION_FIELDS = new Set(Object.keys(schemaDocument.$defs.transition.properties));
 
 function stringItems(node: Node): Located<string>[] {
   const items: Located<string>[] = [];

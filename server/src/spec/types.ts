@@ -54,12 +54,23 @@ export interface SpecTransition {
   incomplete?: boolean;
 }
 
+export interface UnreadTransition {
+  from?: string[];
+  action?: string[];
+  span: Span;
+}
+
 export interface SpecState {
   id: string;
   /** The state's key in `states`. */
   span: Span;
   terminal?: TerminalKind;
   terminalSpan?: Span;
+  /**
+   * The state has a `terminal` field that is not a terminal kind (a `schema` finding says why): it
+   * was meant to be terminal, so missing-outcomes leaves it alone.
+   */
+  terminalUnread?: boolean;
   /** The state's own action set, when it narrows the default one. */
   actions?: Located<string>[];
   actionsSpan?: Span;
@@ -114,6 +125,12 @@ export interface ParsedSpec {
   shapingSpan?: Span;
   transitions: SpecTransition[];
   transitionsSpan?: Span;
+  /**
+   * Transitions whose `from` or `action` could not be read (a `schema` finding says why), with the
+   * states and actions they seem to be about; undefined where nothing tells. missing-outcomes does
+   * not repeat the schema finding for these pairs.
+   */
+  unreadTransitions?: UnreadTransition[];
   /** For `*.mdp.ts` specs: member positions, randomness sites and what running the model found. */
   typescript?: import('./typescript-evidence').TypeScriptEvidence;
 }

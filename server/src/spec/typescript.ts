@@ -9,12 +9,13 @@ import { Node, Project, SyntaxKind, type Expression, type ObjectLiteralExpressio
 import { canonicalKey } from '../sandbox/runtime';
 import type { Finding } from '../findings';
 import { schemaFinding } from '../rules/schema';
+import { syntaxFinding } from '../rules/syntax';
 import type { RandomnessSite, TypeScriptEvidence, TypeScriptMember } from './typescript-evidence';
 import { emptySpec, type Objective, type ParsedSpec, type RewardTermSpec, type Span, type TermDirection } from './types';
 
 export interface TypeScriptReading {
   spec: ParsedSpec;
-  /** `schema` findings: no default export, syntax errors, literal fields of the wrong type or range. */
+  /** `syntax` findings (parse errors) and `schema` findings: no default export, literal fields of the wrong type or range. */
   findings: Finding[];
   /** The `defineMdp({...})` object was found (otherwise nothing can run). */
   found: boolean;
@@ -99,7 +100,7 @@ function readFile(file: SourceFile, reading: TypeScriptReading, evidence: TypeSc
   for (const diagnostic of diagnostics.slice(0, 20)) {
     const start = diagnostic.start ?? 0;
     const message = typeof diagnostic.messageText === 'string' ? diagnostic.messageText : String((diagnostic.messageText as { messageText?: string }).messageText ?? 'syntax error');
-    reading.findings.push(schemaFinding(`syntax error: ${message}`, { start, end: start + Math.max(1, diagnostic.length ?? 1) }));
+    reading.findings.push(syntaxFinding(`syntax error: ${message}`, { start, end: start + Math.max(1, diagnostic.length ?? 1) }));
     reading.syntaxErrors = true;
   }
   evidence.staticRandomness = findRandomness(file);
