@@ -7,9 +7,9 @@ import { DEFAULT_STEP_CAP, exactModelRollouts, type RolloutReport } from './anal
 import type { Analysis } from './analysis/types';
 import { DEFAULT_CONFIG, type ResolvedConfig } from './config';
 import type { CompiledModel } from './model/compiled';
-import { compileSpec } from './model/compile';
+import { compileSpec, type CompileResult } from './model/compile';
 import { RULES } from './rules/registry';
-import type { Finding, FindingInput, Rule, RuleContext } from './rules/types';
+import type { Finding, FindingInput, IncompleteModel, Rule, RuleContext } from './rules/types';
 import { parseJsonSpec } from './spec/json';
 import { LineIndex } from './spec/lines';
 import type { ParsedSpec } from './spec/types';
@@ -88,7 +88,7 @@ export function analyzeParsed(
   loaderFindings: Finding[],
   config: ResolvedConfig,
   options: AnalyzeOptions = {},
-  prebuiltModel?: { model?: CompiledModel; reason?: string },
+  prebuiltModel?: CompileResult,
 ): FileReport {
   const lines = new LineIndex(text);
   const report: FileReport = { path, text, lines, spec, findings: [], internalErrors: [] };
@@ -123,6 +123,14 @@ export function analyzeParsed(
       report.cancelled = true;
       break;
     }
+    if (rule.needs === 'graph' && !report.model) {
+      // A spec that does not compile still gets the checks that need only its graph.
+      if (compiled.declared && compiled.reason) {
+        const incomplete: IncompleteModel = { reason: compiled.reason, brokenStates: compiled.declared.brokenStates };
+        runRule(rule, report, config, findings, { model: compiled.declared.model, incomplete });
+      }
+      continue;
+    }
     if (rule.needs === 'model' && !report.model) continue;
     if (rule.needs === 'analysis' && !report.analysis) continue;
     runRule(rule, report, config, findings);
@@ -134,12 +142,19 @@ export function analyzeParsed(
   return report;
 }
 
-function runRule(rule: Rule, report: FileReport, config: ResolvedConfig, out: Finding[]): void {
+function runRule(
+  rule: Rule,
+  report: FileReport,
+  config: ResolvedConfig,
+  out: Finding[],
+  declaredPart?: { model: CompiledModel; incomplete: IncompleteModel },
+): void {
   const ctx: RuleContext = {
     text: report.text,
     spec: report.spec,
-    model: report.model,
-    analysis: report.analysis,
+    model: declaredPart?.model ?? report.model,
+    incomplete: declaredPart?.incomplete,
+    analysis: declaredPart ? undefined : report.analysis,
     config,
     threshold(name: string): number {
       const configured = config.thresholds[`${rule.id}.${name}`];

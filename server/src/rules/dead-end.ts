@@ -1,6 +1,7 @@
 import { quote } from '../spec/names';
 import { TERMINAL_KINDS } from '../spec/types';
 import { forEachNonTerminalState, jsonEditorFor } from './spec-walk';
+import { describeCall } from './model-error';
 import type { Fix, Rule } from './types';
 
 /** A non-terminal state must offer at least one action, or the episode has no way to go on. */
@@ -9,6 +10,7 @@ export const deadEnd: Rule = {
   defaultSeverity: 'error',
   summary: 'A non-terminal state offers no action at all.',
   needs: 'spec',
+  sources: ['json', 'enumerable', 'sampled'],
   documentation: `
 **Why it matters.** An episode that enters a non-terminal state must continue: the agent picks
 one of the state's actions. A state with no action is neither an end nor a step, so the MDP is
@@ -29,6 +31,14 @@ end it is: \`"goal"\`, \`"failure"\` or \`"neutral"\` (offered as quick fixes).
 `.trim(),
   check(ctx) {
     const spec = ctx.spec;
+    for (const problem of spec.typescript?.structuralProblems ?? []) {
+      if (problem.kind !== 'dead-end') continue;
+      const where = problem.elsewhere ? ` (at ${problem.elsewhere})` : '';
+      ctx.report({
+        message: `${describeCall(problem)} returned no action, and terminal() does not call that state terminal${where}: an episode that enters it can neither continue nor end, so the MDP is undefined there and no values are computed`,
+        span: problem.span,
+      });
+    }
     const editor = jsonEditorFor(ctx);
     forEachNonTerminalState(spec, (state, offered) => {
       if (offered && offered.length > 0) return;

@@ -2,6 +2,7 @@ import { PROBABILITY_SUM_TOLERANCE } from '../model/compile';
 import { formatNumber } from '../spec/names';
 import type { Span, SpecTransition } from '../spec/types';
 import { malformedCost, transitionLabel, writtenTransitions } from './spec-walk';
+import { describeCall } from './model-error';
 import type { Fix, Rule, RuleContext } from './types';
 
 /** True for a number in [0, 1] (false for NaN). */
@@ -18,6 +19,7 @@ export const probabilitySum: Rule = {
   defaultSeverity: 'error',
   summary: "A transition's outcome probabilities (or the start's) do not add up to 1.",
   needs: 'spec',
+  sources: ['json', 'enumerable'],
   documentation: `
 **Why it matters.** The outcomes of a transition are a probability distribution over next
 states. If they add up to 0.9, a tenth of the episodes that take the action have no defined
@@ -40,6 +42,14 @@ divides each probability by their sum, which keeps their ratios.
 `.trim(),
   check(ctx) {
     const spec = ctx.spec;
+    for (const problem of spec.typescript?.structuralProblems ?? []) {
+      if (problem.kind !== 'probability-sum') continue;
+      const where = problem.elsewhere ? ` (at ${problem.elsewhere})` : '';
+      ctx.report({
+        message: `${describeCall(problem)} returned ${problem.message.replace('the outcome probabilities', 'outcome probabilities that')}${where}: no distribution matches them, so the MDP is undefined there and no values are computed`,
+        span: problem.span,
+      });
+    }
     for (const transition of writtenTransitions(spec)) {
       if (transition.incomplete || transition.outcomes.length === 0) continue;
       const probabilities = transition.outcomes.map((o) => ({ value: o.probability, span: o.probabilitySpan }));

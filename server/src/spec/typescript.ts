@@ -73,6 +73,7 @@ export function readTypeScriptSpec(text: string): TypeScriptReading {
     staticRandomness: [],
     runtimeRandomness: [],
     modelErrors: [],
+    structuralProblems: [],
     nonFiniteRewards: [],
     nondeterminism: [],
   };
