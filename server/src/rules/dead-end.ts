@@ -19,7 +19,8 @@ undefined there. In code this is the classic "the environment returns no valid a
 
 **When it fires.** A state without \`"terminal"\` has an empty \`actions\` list, or has none of
 its own while the spec declares no default \`actions\`. The spec is not compiled until it is
-fixed.
+fixed. In a TypeScript model: \`actions(state)\` returns an empty list for a state that
+\`terminal\` does not end (reported at \`actions\`, with the state).
 
 **How to fix.** Give the state actions and transitions, or mark it terminal with the kind of
 end it is: \`"goal"\`, \`"failure"\` or \`"neutral"\` (offered as quick fixes).

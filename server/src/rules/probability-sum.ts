@@ -30,7 +30,8 @@ three different environments from one spec.
 **When it fires.** The probabilities in a map or list \`to\`, or in a \`start\` map, add up to
 a number more than 1e-9 away from 1 (the tolerance absorbs rounding of decimal fractions such
 as 0.1 + 0.2). Probabilities outside [0, 1] are \`negative-probability\`'s and are not summed
-here. The spec is not compiled until the finding is fixed.
+here. The spec is not compiled until the finding is fixed. In a TypeScript model: the outcomes
+\`outcomes(state, action)\` returns (reported at \`outcomes\`, with the state and action).
 
 **How to fix.** Correct the numbers, or add the missing outcome. The quick fix "normalise"
 divides each probability by their sum, which keeps their ratios.
