@@ -5,7 +5,9 @@
  */
 import { readFileSync, writeFileSync } from 'node:fs';
 import * as path from 'node:path';
+import type { DocumentedRule } from '../server/src/cli/explain';
 import { documentedRules, usageFor } from '../server/src/cli/run';
+import { RULE_SOURCES, type RuleSource } from '../server/src/rules/types';
 
 /** Rule ids of the design's catalog, version 1, in catalog order (the order the table uses). */
 export const CATALOG_RULE_IDS: readonly string[] = [
@@ -43,6 +45,13 @@ export const CATALOG_RULE_IDS: readonly string[] = [
   'episode-never-ends',
 ];
 
+/** The kinds of spec a rule fires on, short: "JSON, TS enumerable, TS sampled". */
+function sourcesCell(rule: DocumentedRule): string {
+  if (!rule.sources) return 'all (config and comments)';
+  const short: Record<RuleSource, string> = { json: 'JSON', enumerable: 'TS enumerable', sampled: 'TS sampled' };
+  return RULE_SOURCES.filter((source) => rule.sources!.includes(source)).map((source) => short[source]).join(', ');
+}
+
 function escapeCell(text: string): string {
   return text.replace(/\|/g, '\\|').replace(/\s*\n\s*/g, ' ');
 }
@@ -55,8 +64,8 @@ export function renderRulesTable(): string {
     return i < 0 ? CATALOG_RULE_IDS.length : i;
   };
   const sorted = [...rules].sort((a, b) => order(a.id) - order(b.id) || a.id.localeCompare(b.id));
-  const lines = ['| rule | default | finds |', '|---|---|---|'];
-  for (const rule of sorted) lines.push(`| \`${rule.id}\` | ${rule.defaultSeverity} | ${escapeCell(rule.summary)} |`);
+  const lines = ['| rule | default | finds | runs on |', '|---|---|---|---|'];
+  for (const rule of sorted) lines.push(`| \`${rule.id}\` | ${rule.defaultSeverity} | ${escapeCell(rule.summary)} | ${sourcesCell(rule)} |`);
   const implemented = new Set(rules.map((r) => r.id));
   const planned = CATALOG_RULE_IDS.filter((id) => !implemented.has(id));
   if (planned.length > 0) {

@@ -15,7 +15,7 @@ import { compileSpec, type CompileResult } from './model/compile';
 import type { AnalyzeOptions, FileReport, LoadedSpec } from './report';
 import { episodeNeverEnds } from './rules/episode-never-ends';
 import { RULES } from './rules/registry';
-import type { Rule, RuleContext } from './rules/types';
+import type { IncompleteModel, Rule, RuleContext } from './rules/types';
 import { parseJsonSpec } from './spec/json';
 import { LineIndex } from './spec/lines';
 import { emptySpec, type ParsedSpec } from './spec/types';
@@ -69,7 +69,7 @@ export function analyzeParsed(
   loaderFindings: Finding[],
   config: ResolvedConfig,
   options: AnalyzeOptions = {},
-  prebuiltModel?: { model?: CompiledModel; reason?: string },
+  prebuiltModel?: CompileResult,
 ): FileReport {
   return analyzeLoaded(path, text, { spec, findings: loaderFindings, enumerated: prebuiltModel, internalErrors: [] }, { ...options, config });
 }
@@ -117,6 +117,14 @@ export function analyzeLoaded(path: string, text: string, loaded: LoadedSpec, op
       report.cancelled = true;
       break;
     }
+    if (rule.needs === 'graph' && !report.model) {
+      // A spec that does not compile still gets the checks that need only its graph.
+      if (compiled.declared && compiled.reason) {
+        const incomplete: IncompleteModel = { reason: compiled.reason, brokenStates: compiled.declared.brokenStates };
+        runRule(rule, report, config, findings, { model: compiled.declared.model, incomplete });
+      }
+      continue;
+    }
     if (rule.needs === 'model' && !report.model) continue;
     if (rule.needs === 'analysis' && !report.analysis) continue;
     runRule(rule, report, config, findings);
@@ -136,12 +144,19 @@ export function analyzeLoaded(path: string, text: string, loaded: LoadedSpec, op
   return report;
 }
 
-function runRule(rule: Rule, report: FileReport, config: ResolvedConfig, out: Finding[]): void {
+function runRule(
+  rule: Rule,
+  report: FileReport,
+  config: ResolvedConfig,
+  out: Finding[],
+  declaredPart?: { model: CompiledModel; incomplete: IncompleteModel },
+): void {
   const ctx: RuleContext = {
     text: report.text,
     spec: report.spec,
-    model: report.model,
-    analysis: report.analysis,
+    model: declaredPart?.model ?? report.model,
+    incomplete: declaredPart?.incomplete,
+    analysis: declaredPart ? undefined : report.analysis,
     config,
     threshold: (name) => ruleThreshold(config, rule, name),
     report(input: FindingInput): void {

@@ -14,10 +14,11 @@ const RULES: Rule[] = [
     summary: 'loop',
     documentation: 'loop',
     needs: 'analysis',
+    sources: ['json'],
     thresholds: { probabilityGap: { default: 0.2, description: 'gap' } },
     check: () => undefined,
   },
-  { id: 'schema', defaultSeverity: 'error', summary: 's', documentation: 's', needs: 'spec', check: () => undefined },
+  { id: 'schema', defaultSeverity: 'error', summary: 's', documentation: 's', needs: 'spec', sources: ['json'], check: () => undefined },
 ];
 
 /** The 1-based line and column where a finding starts, and the text it covers. */

@@ -1,8 +1,11 @@
 /**
  * term-direction: cases that must fire and cases that must not (scenarios of our own, invented numbers).
  */
+import { readFileSync } from 'node:fs';
+import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
 import { checkSpec, findingsOf, spanText, type SpecObject } from '../helpers/specs';
+import { analyzeTs } from '../typescript/ts-specs';
 
 /** A courier robot: drive to the locker (battery drain), drop the parcel (delivery bonus). */
 function courier(overrides: SpecObject = {}, drive: object = { battery: -0.2 }, drop: object = { delivery: 5 }): SpecObject {
@@ -66,5 +69,23 @@ describe('term-direction: must not fire', () => {
     const report = checkSpec(spec);
     expect(report.notAnalysed).toBeUndefined();
     expect(findingsOf(report, 'term-direction')).toEqual([]);
+  });
+});
+
+describe('term-direction on an enumerable TypeScript model', () => {
+  it('fires once at outcomes when the restocking example pays its holding penalty as a gain', async () => {
+    const text = readFileSync(join(__dirname, '../../examples/shelf-restocking.mdp.ts'), 'utf8');
+    const flipped = text.replace('holding: -HOLDING_COST * left', 'holding: HOLDING_COST * left');
+    expect(flipped).not.toBe(text);
+    const clean = await analyzeTs(text);
+    expect(findingsOf(clean, 'term-direction')).toEqual([]);
+    const report = await analyzeTs(flipped);
+    const found = findingsOf(report, 'term-direction');
+    expect(found).toHaveLength(1);
+    expect(spanText(report, found[0])).toBe('outcomes');
+    // HOLDING_COST * left with at least one unit left: 0.1 per unit, a gain of +0.1 or more.
+    expect(found[0].message).toMatch(/reward term 'holding' is declared a penalty \(reward <= 0\) but is \+0\.[1-8]\d* here/);
+    expect(found[0].message).toMatch(/and in \d+ more outcomes from the same code/);
+    expect(spanText(report, found[0].related![0].span)).toContain('holding');
   });
 });

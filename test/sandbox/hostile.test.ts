@@ -66,7 +66,6 @@ describe('hostile model code is contained and reported as model-error with the s
       // A misnamed field: the outcome's own field names show which.
       [`    return [{ next: { n: s.n + 1 }, p: 1, reward: -1 }];`, 'outcome 0 has no probability (its fields: next, p, reward); expected { state, probability, reward }'],
       [`    return { state: { n: s.n + 1 }, probability: 1, reward: -1 };`, 'the returned outcome list is {"probability":1,"reward":-1,"state":{"n":1}}; expected an array'],
-      [`    return [{ state: { n: s.n + 1 }, probability: 0.5, reward: -1 }];`, 'the outcome probabilities add up to 0.5, not 1'],
       [`    return [{ state: new Map(), probability: 1, reward: -1 }];`, "outcome 0's state is a Map; states must be plain JSON values"],
       [`    return Promise.resolve([]);`, 'is a Promise; model functions must return their value synchronously'],
       [`    return [{ state: { n: s.n + 1 }, probability: 1, reward: { speed: 1 } }];`, 'names the reward term "speed", which rewardTerms does not declare'],

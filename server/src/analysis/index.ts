@@ -11,7 +11,7 @@
  * for entering a terminal of the kind, or for every step) under each policy's Markov chain.
  */
 import { TERMINAL_CODE, type CompiledModel } from '../model/compiled';
-import { maximalEndComponents } from './end-components';
+import { maximalEndComponents, type EndComponentDecomposition } from './end-components';
 import { solveFiniteHorizon } from './finite-horizon';
 import { expectedChoiceValues, graphOf, expectedRewards, terminalEntryProbabilities, type ModelGraph } from './graph';
 import { COMBINE_AVERAGE, COMBINE_MAX, COMBINE_MIN, COMBINE_POLICY } from './interval-iteration';
@@ -158,20 +158,40 @@ function termRewards(model: CompiledModel, reward: Float64Array): TermReward[] {
  * At discount 1 the shaping reward Phi(s') - Phi(s) adds up to Phi(end) - Phi(start) along any
  * run and to 0 around any loop, yet it gives loops that pay nothing rewards of both signs, whose
  * total the end-component analysis could only call undefined. When every terminal has potential
- * 0, the values are therefore solved for the unshaped rewards and shifted by -Phi(s): the shaped
- * return of every policy that ends the episode surely is its unshaped return minus Phi(start)
- * (A. Ng, D. Harada and S. Russell, "Policy invariance under reward transformations", ICML 1999).
- * Undefined when that does not apply.
+ * 0, the part of the potential outside end components, Psi, is therefore taken out: the values are
+ * solved for the rewards without Psi's shaping and shifted by -Psi(s). This is exact for every
+ * policy, also those that never end: a run that never ends stays in end components from some step
+ * on (almost surely), where Psi is 0, so Psi's shaping adds up to -Psi(start) on every run
+ * (A. Ng, D. Harada and S. Russell, "Policy invariance under reward transformations", ICML 1999,
+ * Theorem 1, applied to the runs rather than to proper policies only). The potential on end
+ * components stays in the rewards: staying forever there is not ending, and taking it out too
+ * would shift the return of a policy that stays by Phi (the unsound [-1, -1] for a state that can
+ * stay forever at Phi = 1 for 0 per step). Undefined when that does not apply or changes nothing.
  */
-function shapingShift(model: CompiledModel, graph: ModelGraph): { unshaped: Float64Array; shift: Float64Array } | undefined {
+function shapingShift(model: CompiledModel, graph: ModelGraph, mecs: EndComponentDecomposition): { unshaped: Float64Array; shift: Float64Array; potentialShift: Float64Array } | undefined {
   const { potential, outcomePotentialReward } = model;
   if (model.discount !== 1 || !potential || !outcomePotentialReward) return undefined;
   for (let s = 0; s < model.stateCount; s++) if (model.terminal[s] !== 0 && potential[s] !== 0) return undefined;
+  const outside = new Float64Array(model.stateCount);
+  let any = false;
+  for (let s = 0; s < model.stateCount; s++) {
+    outside[s] = graph.absorbing[s] || mecs.componentOf[s] >= 0 ? 0 : potential[s];
+    if (outside[s] !== 0) any = true;
+  }
+  if (!any) return undefined;
   const base = new Float64Array(model.outcomeCount);
-  for (let k = 0; k < base.length; k++) base[k] = model.outcomeReward[k] - outcomePotentialReward[k];
+  for (let s = 0; s < model.stateCount; s++) {
+    for (let k = model.outcomeStart[model.choiceStart[s]]; k < model.outcomeStart[model.choiceStart[s + 1]]; k++) {
+      base[k] = model.outcomeReward[k] - (outside[model.outcomeTarget[k]] - outside[s]);
+    }
+  }
   const shift = new Float64Array(model.stateCount);
-  for (let s = 0; s < shift.length; s++) shift[s] = graph.absorbing[s] ? 0 : -potential[s];
-  return { unshaped: expectedChoiceValues(model, base), shift };
+  const potentialShift = new Float64Array(model.stateCount);
+  for (let s = 0; s < shift.length; s++) {
+    shift[s] = -outside[s];
+    potentialShift[s] = graph.absorbing[s] ? 0 : -potential[s];
+  }
+  return { unshaped: expectedChoiceValues(model, base), shift, potentialShift };
 }
 
 /** Bounds moved by a per-state (or, with `owner`, per-choice owner state) shift; infinite bounds stay. */
@@ -189,7 +209,7 @@ function shifted(bounds: Bounds, shift: Float64Array, owner?: Int32Array): Bound
 function stationaryAnalysis(ctx: AnalysisContext, shapedReward: Float64Array, entry: (Float64Array | undefined)[], terms: TermReward[]): CoreResult {
   const { model, graph } = ctx;
   const discount = model.discount;
-  const transform = shapingShift(model, graph);
+  const transform = shapingShift(model, graph, ctx.mecs);
   // Everything below is solved in unshaped terms when the transform applies, and shifted at the end.
   const reward = transform ? transform.unshaped : shapedReward;
   const maxSolution = solveValues(ctx, { combine: COMBINE_MAX, reward, discount });
@@ -230,7 +250,7 @@ function stationaryAnalysis(ctx: AnalysisContext, shapedReward: Float64Array, en
   // Each term's total under the optimal policy; a lone remainder is the optimal value itself.
   const termValues: Bounds[] = terms.map((t) => {
     if (terms.length === 1 && t.perChoice === shapedReward) return optimal.values;
-    if (transform && t.name === 'shaping') return shapingTotal(transform.shift, optimal.reach.none);
+    if (transform && t.name === 'shaping') return shapingTotal(transform.potentialShift, optimal.reach.none);
     const solution = underPolicy(optimalPolicy)(t.perChoice, discount);
     return { lower: solution.lower, upper: solution.upper };
   });

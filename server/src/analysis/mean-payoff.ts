@@ -192,6 +192,8 @@ export interface GainBounds {
   upper: number;
   /** The greedy choice of each member (in member order) at the last vector. */
   greedy: Int32Array;
+  /** The last vector (member order): a relative value (bias) estimate when the best mean is 0. */
+  relative: Float64Array;
 }
 
 /**
@@ -263,5 +265,5 @@ export function gainBounds(
     for (let i = 0; i < m; i++) v[i] = v[i] + tau * (next[i] - v[i]) - anchor;
   }
   for (let i = 0; i < m; i++) local[members[i]] = -1;
-  return { lower, upper, greedy };
+  return { lower, upper, greedy, relative: v };
 }

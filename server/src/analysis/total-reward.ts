@@ -49,6 +49,7 @@ import {
 } from './interval-iteration';
 import { classifyMdpGains, gainBounds, GAIN_NEGATIVE, GAIN_POSITIVE, GAIN_UNDECIDED, GAIN_ZERO, type MdpGainClasses } from './mean-payoff';
 import { almostSureReach, backwardLayering, canReach } from './reachability';
+import { reshapeZeroGains } from './zero-gain';
 import { isCyclicComponent, stronglyConnectedComponents, type SccDecomposition } from './scc';
 import { newSolverCounters, type SolverCounters } from './sparse-linear';
 
@@ -256,17 +257,26 @@ export function solveValues(ctx: AnalysisContext, problem: ValueProblem): ValueS
   let allowed = chainMask;
   let extras: Partial<ValueSolution> = {};
   let groups: EndComponentDecomposition | undefined;
+  let reward = problem.reward;
+  let bias: Float64Array | undefined;
 
   if (problem.discount < 1) {
     for (let s = 0; s < n; s++) iterate[s] = graph.absorbing[s] ? 0 : 1;
   } else if (problem.combine === COMBINE_MAX || problem.combine === COMBINE_MIN) {
     const sigma = problem.combine === COMBINE_MAX ? 1 : -1;
-    const decided = classifyBestTotal(ctx, problem.reward, sigma);
+    let decided = classifyBestTotal(ctx, problem.reward, sigma);
+    // End components of best mean exactly 0 with non-zero rewards: solved for bias-reshaped rewards.
+    const zeroGain = reshapeZeroGains(ctx, decided.gains, problem.reward, sigma);
+    if (zeroGain) {
+      reward = zeroGain.reward;
+      bias = zeroGain.bias;
+      decided = classifyBestTotal(ctx, reward, sigma);
+    }
     status = decided.status;
     for (let s = 0; s < n; s++) iterate[s] = status[s] === STATUS_FINITE && !graph.absorbing[s] ? 1 : 0;
     const finiteChoices = choicesWithin(graph, iterate);
     const zeroChoices = new Uint8Array(model.choiceCount);
-    for (let c = 0; c < model.choiceCount; c++) zeroChoices[c] = finiteChoices[c] && problem.reward[c] === 0 ? 1 : 0;
+    for (let c = 0; c < model.choiceCount; c++) zeroChoices[c] = finiteChoices[c] && reward[c] === 0 ? 1 : 0;
     groups = maximalEndComponents(graph, iterate, zeroChoices);
     allowed = finiteChoices.slice();
     // Inside a collapsed group, the zero-reward choices that stay inside are its "stay" option.
@@ -282,10 +292,11 @@ export function solveValues(ctx: AnalysisContext, problem: ValueProblem): ValueS
   const { order, acyclic } = groups ? groupSweepOrder(ctx, iterate, unionMask(allowed, groups.choiceIn)) : sweepOrder(ctx, iterate, problem.policy, chainMask);
   const nodes = groups && groups.count > 0 ? groupedNodes(order, groups) : singletonNodes(order);
 
-  const op: Operator = { model, combine: problem.combine, policy: problem.policy, reward: problem.reward, discount: problem.discount, allowed };
-  const apriori = aprioriBounds(model, problem, iterate, allowed);
+  const op: Operator = { model, combine: problem.combine, policy: problem.policy, reward, discount: problem.discount, allowed };
+  const solved = bias ? { ...problem, reward, lowerBound: undefined, upperBound: undefined } : problem;
+  const apriori = aprioriBounds(model, solved, iterate, allowed);
   const solveOptions = { precision: ctx.precision, lowerBound: apriori.lower, upperBound: apriori.upper, acyclic, maxSweeps: ctx.maxSweeps };
-  const result = (!acyclic && directSolve(ctx, op, problem, nodes, iterate, solveOptions, bounds)) || solveBounds(op, nodes, bounds, solveOptions);
+  const result = (!acyclic && directSolve(ctx, op, solved, nodes, iterate, solveOptions, bounds)) || solveBounds(op, nodes, bounds, solveOptions);
 
   const lower = new Float64Array(n);
   const upper = new Float64Array(n);
@@ -307,6 +318,12 @@ export function solveValues(ctx: AnalysisContext, problem: ValueProblem): ValueS
         if (iterate[s]) {
           lower[s] = bounds[2 * s];
           upper[s] = bounds[2 * s + 1];
+          if (bias && bias[s] !== 0) {
+            // Adding the bias back rounds; widen by a few units in the last place to stay sound.
+            const slack = 4 * Number.EPSILON * (Math.abs(lower[s]) + Math.abs(upper[s]) + Math.abs(bias[s]));
+            lower[s] += bias[s] - slack;
+            upper[s] += bias[s] + slack;
+          }
         }
     }
   }

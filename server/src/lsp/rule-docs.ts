@@ -4,7 +4,7 @@
  */
 import { mkdirSync, readdirSync, rmSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
-import type { DocumentedRule } from '../cli/explain';
+import { sourcesText, type DocumentedRule } from '../cli/explain';
 import { CONFIG_RULE } from '../config-file';
 import { RULES } from '../rules/registry';
 import { SUPPRESSION_RULE } from '../suppress';
@@ -15,7 +15,7 @@ export function documentedRules(): DocumentedRule[] {
 }
 
 export function ruleMarkdown(rule: DocumentedRule): string {
-  const lines = [`# ${rule.id}`, '', `Default severity: **${rule.defaultSeverity}**`, '', rule.summary, '', rule.documentation.trim()];
+  const lines = [`# ${rule.id}`, '', `Default severity: **${rule.defaultSeverity}**`, '', rule.summary, '', `Runs on: ${sourcesText(rule)}.`, '', rule.documentation.trim()];
   const thresholds = Object.entries(rule.thresholds ?? {});
   if (thresholds.length > 0) {
     lines.push('', '## Thresholds', '', 'Set in `episcope.config.json` under `"thresholds"`, or in the editor setting `episcope.thresholds`.', '');

@@ -13,6 +13,11 @@ export interface CompileResult {
   reason?: string;
   /** Set when compiling failed through a bug of ours rather than a problem of the spec. */
   internalError?: string;
+  /**
+   * When there is no model but the states could be read: the declared part, with the broken edges
+   * left out, for the rules that need only the graph. Never analysed for values.
+   */
+  declared?: { model: CompiledModel; brokenStates: Uint8Array };
 }
 
 /** Outcome probabilities of a transition (and of the start) must add up to 1 within this. */
@@ -50,46 +55,68 @@ export function compileSpec(spec: ParsedSpec): CompileResult {
   }
 }
 
+/**
+ * Builds the model of every well-formed part and notes the first problem. Without a problem that is
+ * the compiled model; with one, it is only the declared part (see CompileResult.declared), and the
+ * problem is the reason there is no model.
+ */
 function compileChecked(spec: ParsedSpec): CompileResult {
-  const discount = spec.discount?.value;
-  if (discount === undefined) return { reason: 'the spec has no discount, so returns are not defined' };
-  if (!Number.isFinite(discount) || discount < 0 || discount > 1) return { reason: `the discount ${formatNumber(discount)} is not between 0 and 1` };
-  const horizon = spec.horizon?.value;
+  let reason: string | undefined;
+  const note = (problem: string): void => {
+    reason ??= problem;
+  };
+  const written = spec.discount?.value;
+  if (written === undefined) note('the spec has no discount, so returns are not defined');
+  else if (!Number.isFinite(written) || written < 0 || written > 1) note(`the discount ${formatNumber(written)} is not between 0 and 1`);
+  // The declared part of a spec without a valid discount is only read for its graph.
+  const discount = reason === undefined ? written! : 1;
+  let horizon = spec.horizon?.value;
   if (horizon !== undefined && !(Number.isInteger(horizon) && horizon >= 1 && horizon <= 2147483647)) {
-    return { reason: `the horizon ${formatNumber(horizon)} is not a whole number of steps of at least 1` };
+    note(`the horizon ${formatNumber(horizon)} is not a whole number of steps of at least 1`);
+    horizon = undefined;
   }
-  if (spec.states.length === 0) return { reason: 'the spec declares no states' };
+  if (spec.states.length === 0) return { reason: reason ?? 'the spec declares no states' };
 
   const stateById = new Map<string, SpecState>();
   for (const state of spec.states) if (!stateById.has(state.id)) stateById.set(state.id, state);
 
   // Start distribution.
-  if (spec.start.length === 0) return { reason: 'the spec has no start state' };
+  if (spec.start.length === 0) note('the spec has no start state');
   const startProbability = new Map<string, number>();
   let startSum = 0;
   for (const entry of spec.start) {
-    if (!stateById.has(entry.state)) return { reason: `the start names ${quote(entry.state)}, which is not a declared state` };
-    if (!(entry.probability >= 0 && entry.probability <= 1)) return { reason: `the start probability of ${quote(entry.state)} is ${formatNumber(entry.probability)}, not between 0 and 1` };
+    if (!stateById.has(entry.state)) {
+      note(`the start names ${quote(entry.state)}, which is not a declared state`);
+      continue;
+    }
+    if (!(entry.probability >= 0 && entry.probability <= 1)) {
+      note(`the start probability of ${quote(entry.state)} is ${formatNumber(entry.probability)}, not between 0 and 1`);
+      continue;
+    }
     startProbability.set(entry.state, (startProbability.get(entry.state) ?? 0) + entry.probability);
     startSum += entry.probability;
   }
-  if (Math.abs(startSum - 1) > PROBABILITY_SUM_TOLERANCE) return { reason: `the start probabilities add up to ${formatNumber(startSum)}, not 1` };
+  if (spec.start.length > 0 && Math.abs(startSum - 1) > PROBABILITY_SUM_TOLERANCE) note(`the start probabilities add up to ${formatNumber(startSum)}, not 1`);
 
   // Shaping potential.
-  for (const entry of spec.potential) {
-    if (!stateById.has(entry.state)) return { reason: `the shaping potential names ${quote(entry.state)}, which is not a declared state` };
-    if (!Number.isFinite(entry.value)) return { reason: `the shaping potential of ${quote(entry.state)} is ${formatNumber(entry.value)}, not a finite number` };
-  }
+  const potentialEntries = spec.potential.filter((entry) => {
+    if (!stateById.has(entry.state)) note(`the shaping potential names ${quote(entry.state)}, which is not a declared state`);
+    else if (!Number.isFinite(entry.value)) note(`the shaping potential of ${quote(entry.state)} is ${formatNumber(entry.value)}, not a finite number`);
+    else return true;
+    return false;
+  });
 
   const termNames = termNamesOf(spec);
   const tracked = new Set(termNames);
   const builder = new ModelBuilder({ discount, horizon, maximize: spec.objective !== 'minimize', terms: termNames });
   for (const state of stateById.values()) builder.addState(state.id, state.terminal, state.span, state.label);
+  // States whose written dynamics lost a part to a problem: what they do is not fully known.
+  const brokenStates = new Uint8Array(stateById.size);
 
   let potential: Float64Array | undefined;
   if (spec.potential.length > 0) {
     potential = new Float64Array(stateById.size);
-    for (const entry of spec.potential) potential[builder.indexOf(entry.state)!] = entry.value;
+    for (const entry of potentialEntries) potential[builder.indexOf(entry.state)!] = entry.value;
   }
 
   const actionSets = new Map<string, ReadonlySet<string> | undefined>();
@@ -101,8 +128,15 @@ function compileChecked(spec: ParsedSpec): CompileResult {
     return actionSets.get(state.id);
   };
   for (const state of stateById.values()) {
-    if (state.terminalUnread) return { reason: `the terminal kind of ${quote(state.id)} could not be read` };
-    if (!state.terminal && !actionsOf(state)?.size) return { reason: `the non-terminal state ${quote(state.id)} offers no action, so the episode cannot continue there` };
+    if (state.terminalUnread) {
+      note(`the terminal kind of ${quote(state.id)} could not be read`);
+      brokenStates[builder.indexOf(state.id)!] = 1;
+      continue;
+    }
+    if (!state.terminal && !actionsOf(state)?.size) {
+      note(`the non-terminal state ${quote(state.id)} offers no action, so the episode cannot continue there`);
+      brokenStates[builder.indexOf(state.id)!] = 1;
+    }
   }
   const defined = new Set<string>();
 
@@ -110,29 +144,53 @@ function compileChecked(spec: ParsedSpec): CompileResult {
     const transition = spec.transitions[index];
     const from = stateById.get(transition.from);
     const where = (): string => `transitions[${transition.sourceIndex}]`;
-    if (!from) return { reason: `${where()} leaves ${quote(transition.from)}, which is not a declared state` };
+    if (!from) {
+      note(`${where()} leaves ${quote(transition.from)}, which is not a declared state`);
+      continue;
+    }
     // Entering a terminal ends the episode: what a terminal "does" is never used.
     if (from.terminal) continue;
+    const stateIndex = builder.indexOf(from.id)!;
     const offered = actionsOf(from);
-    if (!offered?.has(transition.action)) return { reason: `${where()} takes ${quote(transition.action)} in ${quote(from.id)}, which does not offer that action` };
+    if (!offered?.has(transition.action)) {
+      note(`${where()} takes ${quote(transition.action)} in ${quote(from.id)}, which does not offer that action`);
+      brokenStates[stateIndex] = 1;
+      continue;
+    }
     const pairKey = `${from.id}\u0000${transition.action}`;
     // The first definition of a (state, action) pair wins; later ones are reported, not used.
     if (defined.has(pairKey)) continue;
     defined.add(pairKey);
     // Messages are built only on failure: this loop runs once per transition of large specs.
     const label = (): string => `${where()} (${arrow(from.id, transition.action)})`;
-    if (transition.incomplete) return { reason: `${label()} could not be read completely` };
+    if (transition.incomplete) {
+      note(`${label()} could not be read completely`);
+      brokenStates[stateIndex] = 1;
+      continue;
+    }
 
-    const stateIndex = builder.indexOf(from.id)!;
     const outcomes: Array<{ target: number; probability: number; reward: number; terms: Array<[string, number]>; shaping?: number }> = [];
     let sum = 0;
+    let broken = false;
     for (const outcome of transition.outcomes) {
       const target = builder.indexOf(outcome.state);
-      if (target === undefined) return { reason: `${label()} leads to ${quote(outcome.state)}, which is not a declared state` };
-      if (!(outcome.probability >= 0 && outcome.probability <= 1)) return { reason: `${label()} gives ${quote(outcome.state)} the probability ${formatNumber(outcome.probability)}, not between 0 and 1` };
+      if (target === undefined) {
+        note(`${label()} leads to ${quote(outcome.state)}, which is not a declared state`);
+        broken = true;
+        continue;
+      }
+      if (!(outcome.probability >= 0 && outcome.probability <= 1)) {
+        note(`${label()} gives ${quote(outcome.state)} the probability ${formatNumber(outcome.probability)}, not between 0 and 1`);
+        broken = true;
+        continue;
+      }
       sum += outcome.probability;
       const { reward, terms, problem } = sumReward(outcome.reward, tracked);
-      if (problem) return { reason: `${label()} has the reward ${problem} toward ${quote(outcome.state)}, not a finite number` };
+      if (problem) {
+        note(`${label()} has the reward ${problem} toward ${quote(outcome.state)}, not a finite number`);
+        broken = true;
+        continue;
+      }
       let shaping: number | undefined;
       if (potential) {
         // Potential-based shaping F = discount * Phi(s') - Phi(s) (Ng, Harada and Russell, 1999).
@@ -140,8 +198,12 @@ function compileChecked(spec: ParsedSpec): CompileResult {
       }
       outcomes.push({ target, probability: outcome.probability, reward: reward + (shaping ?? 0), terms, shaping });
     }
-    if (Math.abs(sum - 1) > PROBABILITY_SUM_TOLERANCE) return { reason: `${label()} has outcome probabilities that add up to ${formatNumber(sum)}, not 1` };
-    builder.addChoice(stateIndex, transition.action, index, outcomes);
+    if (!broken && Math.abs(sum - 1) > PROBABILITY_SUM_TOLERANCE) {
+      note(`${label()} has outcome probabilities that add up to ${formatNumber(sum)}, not 1`);
+      broken = true;
+    }
+    if (broken) brokenStates[stateIndex] = 1;
+    if (outcomes.length > 0) builder.addChoice(stateIndex, transition.action, index, outcomes);
   }
 
   // A transition without a readable from or action is the cause of any pair that looks missing.
@@ -149,13 +211,18 @@ function compileChecked(spec: ParsedSpec): CompileResult {
   if (unread > 0) return { reason: `${unread === 1 ? 'a transition' : `${unread} transitions`} could not be read (no readable "from" or "action")` };
   for (const state of stateById.values()) {
     if (state.terminal) continue;
-    for (const action of actionsOf(state)!) {
-      if (!defined.has(`${state.id}\u0000${action}`)) return { reason: `${quote(state.id)} offers ${quote(action)}, but no transition says what it does` };
+    for (const action of actionsOf(state) ?? []) {
+      if (!defined.has(`${state.id}\u0000${action}`)) {
+        note(`${quote(state.id)} offers ${quote(action)}, but no transition says what it does`);
+        brokenStates[builder.indexOf(state.id)!] = 1;
+      }
     }
   }
 
   const start = [...startProbability].map(([id, probability]) => ({ state: builder.indexOf(id)!, probability }));
-  return { model: builder.finish(start, potential) };
+  const model = builder.finish(start, potential);
+  if (reason === undefined) return { model };
+  return { reason, declared: { model, brokenStates } };
 }
 
 function sumReward(parts: readonly RewardPart[], tracked: ReadonlySet<string>): { reward: number; terms: Array<[string, number]>; problem?: string } {

@@ -2,6 +2,7 @@ import { listNames, quote } from '../spec/names';
 import type { ParsedSpec } from '../spec/types';
 import { TERMINAL_KINDS } from '../spec/types';
 import { forEachNonTerminalState, jsonEditorFor } from './spec-walk';
+import { describeCall } from './model-error';
 import type { Fix, Rule, RuleContext } from './types';
 
 /** A non-terminal state must offer at least one action, or the episode has no way to go on. */
@@ -10,6 +11,7 @@ export const deadEnd: Rule = {
   defaultSeverity: 'error',
   summary: 'A non-terminal state offers no action at all.',
   needs: 'spec',
+  sources: ['json', 'enumerable', 'sampled'],
   documentation: `
 **Why it matters.** An episode that enters a non-terminal state must continue: the agent picks
 one of the state's actions. A state with no action is neither an end nor a step, so the MDP is
@@ -18,7 +20,8 @@ undefined there. In code this is the classic "the environment returns no valid a
 
 **When it fires.** A state without \`"terminal"\` has an empty \`actions\` list, or has none of
 its own while the spec declares no default \`actions\`. The spec is not compiled until it is
-fixed.
+fixed. In a TypeScript model: \`actions(state)\` returns an empty list for a state that
+\`terminal\` does not end (reported at \`actions\`, with the state).
 
 When no state and not the spec declare any \`actions\` at all, that one omission is reported
 once, at the spec, with a fix that declares the actions its transitions use.
@@ -33,6 +36,14 @@ end it is: \`"goal"\`, \`"failure"\` or \`"neutral"\` (offered as quick fixes).
 `.trim(),
   check(ctx) {
     const spec = ctx.spec;
+    for (const problem of spec.typescript?.structuralProblems ?? []) {
+      if (problem.kind !== 'dead-end') continue;
+      const where = problem.elsewhere ? ` (at ${problem.elsewhere})` : '';
+      ctx.report({
+        message: `${describeCall(problem)} returned no action, and terminal() does not call that state terminal${where}: an episode that enters it can neither continue nor end, so the MDP is undefined there and no values are computed`,
+        span: problem.span,
+      });
+    }
     const editor = jsonEditorFor(ctx);
     if (declaresNoActions(spec)) {
       reportNoActionsAnywhere(ctx, editor);

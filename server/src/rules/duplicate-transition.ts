@@ -10,6 +10,7 @@ export const duplicateTransition: Rule = {
   defaultSeverity: 'warning',
   summary: 'The same (state, action) pair is defined by more than one transition.',
   needs: 'spec',
+  sources: ['json'],
   documentation: `
 **Why it matters.** A (state, action) pair has one distribution of outcomes. When two
 transitions define the same pair, Episcope uses the first and ignores the rest, so edits to the

@@ -5,6 +5,7 @@ export const enumerationLimit: Rule = {
   defaultSeverity: 'warning',
   summary: 'Enumeration of a TypeScript model stopped at the state cap.',
   needs: 'spec',
+  sources: ['enumerable'],
   documentation: `
 **What it finds.** An enumerable TypeScript model (one with \`outcomes\`) that reaches more states from its
 start than the state cap allows (\`stateCap\` in \`episcope.config.json\`, default 200,000; the editor's

@@ -6,6 +6,7 @@ export const episodeNeverEnds: Rule = {
   defaultSeverity: 'warning',
   summary: 'Sampled model, discount 1, no horizon, and rollouts hit the step cap without ending.',
   needs: 'spec',
+  sources: ['enumerable', 'sampled'],
   thresholds: {
     stepCap: {
       default: DEFAULT_STEP_CAP,

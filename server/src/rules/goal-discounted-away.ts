@@ -10,6 +10,7 @@ export const goalDiscountedAway: Rule = {
   defaultSeverity: 'warning',
   summary: "The goal's discounted reward seen from the start is a negligible part of its size.",
   needs: 'model',
+  sources: ['json', 'enumerable'],
   thresholds: {
     share: {
       default: 1e-3,

@@ -8,6 +8,7 @@ export const horizonTooShort: Rule = {
   defaultSeverity: 'warning',
   summary: 'The time limit is shorter than the shortest path from the start to every goal.',
   needs: 'model',
+  sources: ['json', 'enumerable'],
   documentation: `
 **What it finds.** A \`horizon\` (time limit) that cuts every episode before any goal can be reached. No
 policy can succeed, every episode ends by truncation, and training sees no goal reward at all; the learner

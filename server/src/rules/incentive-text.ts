@@ -4,9 +4,9 @@
  * model choices and outcomes.
  */
 import { stateName, type CompiledModel } from '../model/compiled';
-import type { ParsedSpec, Span } from '../spec/types';
+import type { ParsedSpec, Span, SpecOutcome } from '../spec/types';
 import type { PathStep } from '../analysis/paths';
-import type { RelatedLocation, TraceStep } from './types';
+import type { IncompleteModel, RelatedLocation, TraceStep } from './types';
 
 /**
  * A number for a message: about three significant digits, at least one decimal for values of
@@ -86,16 +86,26 @@ export function choiceSpan(spec: ParsedSpec, model: CompiledModel, choice: numbe
 }
 
 /**
- * Where one outcome is written. The compiler keeps a transition's outcomes in written order, so the
- * k-th outcome of a choice is the k-th outcome of its transition when the counts agree.
+ * The written outcome behind a model outcome of a JSON spec, or undefined (TypeScript models, or
+ * when it cannot be told). The compiler keeps a transition's outcomes in written order, so the k-th
+ * outcome of a choice is the k-th outcome of its transition when the counts agree; otherwise (a
+ * declared part that lost a broken outcome) the first written outcome into the same state.
  */
+export function writtenOutcome(spec: ParsedSpec, model: CompiledModel, choice: number, outcome: number): SpecOutcome | undefined {
+  const transition = spec.transitions[model.choiceTransition[choice]];
+  if (!transition) return undefined;
+  const index = outcome - model.outcomeStart[choice];
+  const count = model.outcomeStart[choice + 1] - model.outcomeStart[choice];
+  if (transition.outcomes.length === count) return transition.outcomes[index];
+  const target = model.stateIds[model.outcomeTarget[outcome]];
+  return transition.outcomes.find((o) => o.state === target);
+}
+
+/** Where one outcome is written: the written outcome, else its choice's transition. */
 export function outcomeSpan(spec: ParsedSpec, model: CompiledModel, choice: number, outcome: number): Span {
   const transition = spec.transitions[model.choiceTransition[choice]];
   if (!transition) return choiceSpan(spec, model, choice);
-  const index = outcome - model.outcomeStart[choice];
-  const count = model.outcomeStart[choice + 1] - model.outcomeStart[choice];
-  if (transition.outcomes.length === count && transition.outcomes[index]) return transition.outcomes[index].span;
-  return transition.span;
+  return writtenOutcome(spec, model, choice, outcome)?.span ?? transition.span;
 }
 
 /** Where a state is declared (the model keeps the declaration span). */
@@ -153,4 +163,41 @@ export function midpoint(interval: { lower: number; upper: number }): number {
 /** The middle of a state's bounds. */
 export function valueAt(bounds: { lower: Float64Array; upper: Float64Array }, state: number): number {
   return midpoint({ lower: bounds.lower[state], upper: bounds.upper[state] });
+}
+
+/** What a graph finding on a spec that does not compile adds to its message, else ''. */
+export function incompleteNote(incomplete: IncompleteModel | undefined): string {
+  if (!incomplete) return '';
+  return ` (the spec does not compile yet, so this is read from its declared part with the broken transitions left out: ${incomplete.reason})`;
+}
+
+/** One reward amount of a model outcome, with where it is written and what to call it. */
+export interface RewardAmount {
+  value: number;
+  /** The term's name, or null for a plain reward. */
+  term: string | null;
+  choice: number;
+  outcome: number;
+  span: Span;
+}
+
+/**
+ * Visits the reward amounts of every model outcome as they are written: in a JSON spec each
+ * written reward part (plain number or term) of the outcome, exact as typed; in a TypeScript model
+ * each term's part, or the scalar reward when the model has no terms. Shaping from a potential is
+ * not a written reward and is left out.
+ */
+export function forEachRewardAmount(spec: ParsedSpec, model: CompiledModel, visit: (amount: RewardAmount) => void): void {
+  for (let c = 0; c < model.choiceCount; c++) {
+    for (let k = model.outcomeStart[c]; k < model.outcomeStart[c + 1]; k++) {
+      const written = writtenOutcome(spec, model, c, k);
+      if (written) {
+        for (const part of written.reward) visit({ value: part.value, term: part.term, choice: c, outcome: k, span: part.span });
+        continue;
+      }
+      const span = choiceSpan(spec, model, c);
+      if (model.termNames.length === 0) visit({ value: model.outcomeReward[k], term: null, choice: c, outcome: k, span });
+      model.termNames.forEach((term, t) => visit({ value: model.outcomeTermReward[t][k], term, choice: c, outcome: k, span }));
+    }
+  }
 }

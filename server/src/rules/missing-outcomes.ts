@@ -8,6 +8,7 @@ export const missingOutcomes: Rule = {
   defaultSeverity: 'error',
   summary: 'A non-terminal state offers an action that has no transition.',
   needs: 'spec',
+  sources: ['json'],
   documentation: `
 **Why it matters.** A policy may choose any action its state offers. If no transition says what
 an action does there, the MDP is undefined at that point: a simulator would crash, or fall

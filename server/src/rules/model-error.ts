@@ -26,6 +26,7 @@ export const modelError: Rule = {
   defaultSeverity: 'error',
   summary: 'TypeScript model code threw, returned a malformed value, or timed out.',
   needs: 'spec',
+  sources: ['enumerable', 'sampled'],
   thresholds: {
     callTimeoutMs: {
       default: 2000,

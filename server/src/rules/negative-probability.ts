@@ -10,6 +10,7 @@ export const negativeProbability: Rule = {
   defaultSeverity: 'error',
   summary: 'An outcome probability is below 0 or above 1.',
   needs: 'spec',
+  sources: ['json'],
   documentation: `
 **Why it matters.** A probability below 0 or above 1 is not a probability. It usually comes from
 a sign slip (\`-0.1\`), a percentage written as a number (\`80\` for 0.8), or a number too large

@@ -8,6 +8,7 @@ export const nonFiniteReward: Rule = {
   defaultSeverity: 'error',
   summary: 'A reward (or shaping potential) is NaN or infinite.',
   needs: 'spec',
+  sources: ['json', 'enumerable', 'sampled'],
   documentation: `
 **Why it matters.** An infinite or NaN reward makes every return that can include it infinite or
 NaN: values, gradients and losses built on it are meaningless, and one such sample can wreck a

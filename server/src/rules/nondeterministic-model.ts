@@ -5,6 +5,7 @@ export const nondeterministicModel: Rule = {
   defaultSeverity: 'error',
   summary: 'The same state and action gave different outcome lists, or the same seed gave different trajectories.',
   needs: 'spec',
+  sources: ['enumerable', 'sampled'],
   documentation: `
 **What it finds.** Model code whose answers are not a function of its inputs. For an enumerable model,
 Episcope calls \`actions\` and \`outcomes\` a second time on up to 200 states spread over the enumeration and

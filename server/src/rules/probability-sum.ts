@@ -2,6 +2,7 @@ import { PROBABILITY_SUM_TOLERANCE } from '../model/compile';
 import { formatNumber } from '../spec/names';
 import type { Span, SpecTransition } from '../spec/types';
 import { malformedCost, transitionLabel, writtenTransitions } from './spec-walk';
+import { describeCall } from './model-error';
 import type { Fix, Rule, RuleContext } from './types';
 
 /** True for a number in [0, 1] (false for NaN). */
@@ -18,6 +19,7 @@ export const probabilitySum: Rule = {
   defaultSeverity: 'error',
   summary: "A transition's outcome probabilities (or the start's) do not add up to 1.",
   needs: 'spec',
+  sources: ['json', 'enumerable'],
   documentation: `
 **Why it matters.** The outcomes of a transition are a probability distribution over next
 states. If they add up to 0.9, a tenth of the episodes that take the action have no defined
@@ -28,7 +30,8 @@ three different environments from one spec.
 **When it fires.** The probabilities in a map or list \`to\`, or in a \`start\` map, add up to
 a number more than 1e-9 away from 1 (the tolerance absorbs rounding of decimal fractions such
 as 0.1 + 0.2). Probabilities outside [0, 1] are \`negative-probability\`'s and are not summed
-here. The spec is not compiled until the finding is fixed.
+here. The spec is not compiled until the finding is fixed. In a TypeScript model: the outcomes
+\`outcomes(state, action)\` returns (reported at \`outcomes\`, with the state and action).
 
 **How to fix.** Correct the numbers, or add the missing outcome. The quick fix "normalise"
 divides each probability by their sum, which keeps their ratios.
@@ -40,6 +43,14 @@ divides each probability by their sum, which keeps their ratios.
 `.trim(),
   check(ctx) {
     const spec = ctx.spec;
+    for (const problem of spec.typescript?.structuralProblems ?? []) {
+      if (problem.kind !== 'probability-sum') continue;
+      const where = problem.elsewhere ? ` (at ${problem.elsewhere})` : '';
+      ctx.report({
+        message: `${describeCall(problem)} returned ${problem.message.replace('the outcome probabilities', 'outcome probabilities that')}${where}: no distribution matches them, so the MDP is undefined there and no values are computed`,
+        span: problem.span,
+      });
+    }
     for (const transition of writtenTransitions(spec)) {
       if (transition.incomplete || transition.outcomes.length === 0) continue;
       const probabilities = transition.outcomes.map((o) => ({ value: o.probability, span: o.probabilitySpan }));

@@ -1,6 +1,6 @@
 import { formatNumber, quote } from '../spec/names';
-import type { RewardPart, SpecOutcome, SpecTransition } from '../spec/types';
-import { forEachRewardPart, transitionLabel } from './spec-walk';
+import { describeStep, forEachRewardAmount, type RewardAmount } from './incentive-text';
+import { transitionLabel } from './spec-walk';
 import type { FindingInput, Rule } from './types';
 
 /** Rewards on very different scales, or very large ones, make learning harder than it needs to be. */
@@ -8,7 +8,8 @@ export const rewardScale: Rule = {
   id: 'reward-scale',
   defaultSeverity: 'info',
   summary: 'Rewards span more than 1e4 in magnitude, or exceed 1e3.',
-  needs: 'spec',
+  needs: 'graph',
+  sources: ['json', 'enumerable'],
   thresholds: {
     maxMagnitude: {
       default: 1e3,
@@ -45,38 +46,42 @@ orders of magnitude: a tiny term may be dead weight, and a huge one may dominate
 `.trim(),
   check(ctx) {
     const spec = ctx.spec;
+    const model = ctx.model;
+    if (!model) return;
     const maxMagnitude = ctx.threshold('maxMagnitude');
     const maxRatio = ctx.threshold('maxRatio');
-    type Place = { part: RewardPart; outcome: SpecOutcome; transition: SpecTransition };
-    let largest: Place | undefined;
-    let smallest: Place | undefined;
-    forEachRewardPart(spec, (part, outcome, transition) => {
-      const size = Math.abs(part.value);
+    let largest: RewardAmount | undefined;
+    let smallest: RewardAmount | undefined;
+    forEachRewardAmount(spec, model, (amount) => {
+      const size = Math.abs(amount.value);
       if (!Number.isFinite(size) || size === 0) return;
-      if (!largest || size > Math.abs(largest.part.value)) largest = { part, outcome, transition };
-      if (!smallest || size < Math.abs(smallest.part.value)) smallest = { part, outcome, transition };
+      if (!largest || size > Math.abs(largest.value)) largest = amount;
+      if (!smallest || size < Math.abs(smallest.value)) smallest = amount;
     });
     if (!largest || !smallest) return;
-    const top = Math.abs(largest.part.value);
-    const bottom = Math.abs(smallest.part.value);
+    const top = Math.abs(largest.value);
+    const bottom = Math.abs(smallest.value);
     const ratio = top / bottom;
     const tooLarge = top > maxMagnitude;
     const tooWide = ratio > maxRatio;
     if (!tooLarge && !tooWide) return;
 
     const unit = spec.objective === 'minimize' ? 'cost' : 'reward';
-    const where = (place: Place): string =>
-      `${transitionLabel(spec, place.transition)}${place.part.term !== null ? ` term ${quote(place.part.term)}` : ''}`;
+    const where = (place: RewardAmount): string => {
+      const transition = spec.transitions[model.choiceTransition[place.choice]];
+      const step = transition ? transitionLabel(spec, transition) : describeStep(model, place.choice, place.outcome);
+      return `${step}${place.term !== null ? ` term ${quote(place.term)}` : ''}`;
+    };
     const problems: string[] = [];
-    if (tooLarge) problems.push(`the ${unit} ${formatNumber(largest.part.value)} of ${where(largest)} exceeds ${formatNumber(maxMagnitude)} in magnitude`);
-    if (tooWide) problems.push(`${unit}s span a factor of ${formatNumber(ratio)} in magnitude, from ${formatNumber(smallest.part.value)} (${where(smallest)}) to ${formatNumber(largest.part.value)}, more than ${formatNumber(maxRatio)}`);
+    if (tooLarge) problems.push(`the ${unit} ${formatNumber(largest.value)} of ${where(largest)} exceeds ${formatNumber(maxMagnitude)} in magnitude`);
+    if (tooWide) problems.push(`${unit}s span a factor of ${formatNumber(ratio)} in magnitude, from ${formatNumber(smallest.value)} (${where(smallest)}) to ${formatNumber(largest.value)}, more than ${formatNumber(maxRatio)}`);
     const finding: FindingInput = {
       message:
         `${problems.join('; ')}: learners tuned to one scale treat the smallest ${unit}s as noise and large value targets destabilise training; ` +
         `dividing every ${unit} by the same positive factor keeps the optimal policy`,
-      span: largest.part.span,
+      span: largest.span,
     };
-    if (tooWide) finding.related = [{ span: smallest.part.span, message: `the smallest non-zero ${unit}, ${formatNumber(smallest.part.value)}` }];
+    if (tooWide) finding.related = [{ span: smallest.span, message: `the smallest non-zero ${unit}, ${formatNumber(smallest.value)}` }];
     ctx.report(finding);
   },
 };

@@ -16,6 +16,7 @@ export const schemaRule: Rule = {
   defaultSeverity: 'error',
   summary: 'The document does not match the spec format (JSON Schema of format version 1).',
   needs: 'spec',
+  sources: ['json', 'enumerable', 'sampled'],
   documentation: `
 The spec must follow the spec format, version 1 (\`schemas/mdp.schema.json\`, JSON Schema 2020-12):
 an object with \`discount\`, \`start\`, \`states\` and \`transitions\`, and optionally \`name\`,

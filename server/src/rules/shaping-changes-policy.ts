@@ -9,6 +9,7 @@ export const shapingChangesPolicy: Rule = {
   defaultSeverity: 'warning',
   summary: 'The optimal policy with shaping differs from the one without it.',
   needs: 'analysis',
+  sources: ['json', 'enumerable'],
   documentation: `
 **What it finds.** Shaping is meant to speed learning up, not to change what is learned. This rule solves
 the spec twice, with the full reward and with the shaping removed (the terms marked \`shaping\` and the

@@ -11,6 +11,7 @@ export const syntaxRule: Rule = {
   defaultSeverity: 'error',
   summary: 'A TypeScript spec has a syntax error, so its code is not run.',
   needs: 'spec',
+  sources: ['enumerable', 'sampled'],
   documentation: `
 **Why it matters.** A \`*.mdp.ts\` spec that the TypeScript parser cannot read has no well-defined
 code to run: Episcope reports where the parser stopped and does not run the model, so no state is

@@ -1,5 +1,5 @@
-import type { RewardTermSpec } from '../spec/types';
-import { formatAmount, formatSigned } from './incentive-text';
+import type { RewardTermSpec, Span } from '../spec/types';
+import { choiceSpan, describeStep, formatAmount, formatSigned, writtenOutcome } from './incentive-text';
 import type { Rule } from './types';
 
 /**
@@ -10,7 +10,8 @@ export const termDirection: Rule = {
   id: 'term-direction',
   defaultSeverity: 'warning',
   summary: 'A reward term declared `bonus` takes a value against the objective, or a `penalty` one in its favour.',
-  needs: 'spec',
+  needs: 'graph',
+  sources: ['json', 'enumerable'],
   documentation: `
 **What it finds.** \`rewardTerms\` lets you declare each named reward component a \`bonus\` (it should only
 ever help the agent) or a \`penalty\` (it should only ever hurt). This rule flags every reward value of a
@@ -28,31 +29,40 @@ is allowed for both directions.
 **Thresholds.** None: any value of the wrong sign is a contradiction of what the spec says about itself.
 `.trim(),
   check(ctx) {
+    const model = ctx.model;
+    if (!model) return;
     const terms = new Map<string, RewardTermSpec>(ctx.spec.rewardTerms.map((t) => [t.name, t]));
-    const maximize = ctx.spec.objective !== 'minimize';
-    const seen = new Set<string>();
-    for (const transition of ctx.spec.transitions) {
-      for (const outcome of transition.outcomes) {
-        for (const part of outcome.reward) {
-          if (part.term === null) continue;
-          const term = terms.get(part.term);
-          if (!term || term.direction === 'either' || !Number.isFinite(part.value)) continue;
-          if (!contradicts(term.direction, part.value, maximize)) continue;
-          // Transitions whose `from` or `action` is an array share their reward text; report it once.
-          const key = `${part.term}@${part.span.start}:${part.span.end}`;
-          if (seen.has(key)) continue;
-          seen.add(key);
-          ctx.report({
-            message: messageFor(term, part.value, maximize, `${transition.from} --${transition.action}-->`),
-            span: part.span,
-            related: [{ span: term.span, message: `'${term.name}' is declared a ${term.direction} here` }],
-          });
+    const maximize = model.maximize;
+    // One finding per place in the text: a written reward value in JSON (a transition written once
+    // for several states shares it), a term of the generating function in TypeScript.
+    const places = new Map<string, { span: Span; term: RewardTermSpec; value: number; where: string; count: number }>();
+    model.termNames.forEach((name, t) => {
+      const term = terms.get(name);
+      if (!term || term.direction === 'either') return;
+      const values = model.outcomeTermReward[t];
+      for (let c = 0; c < model.choiceCount; c++) {
+        for (let k = model.outcomeStart[c]; k < model.outcomeStart[c + 1]; k++) {
+          const value = values[k];
+          if (!Number.isFinite(value) || !contradicts(term.direction, value, maximize)) continue;
+          const part = writtenOutcome(ctx.spec, model, c, k)?.reward.find((p) => p.term === name);
+          const span = part?.span ?? choiceSpan(ctx.spec, model, c);
+          const key = `${name}@${span.start}:${span.end}`;
+          const known = places.get(key);
+          if (known) known.count += part ? 0 : 1;
+          else places.set(key, { span, term, value: part?.value ?? value, where: describeStep(model, c, part ? -1 : k), count: 1 });
         }
       }
+    });
+    for (const place of places.values()) {
+      const more = place.count > 1 ? ` (and in ${place.count - 1} more outcome${place.count > 2 ? 's' : ''} from the same code)` : '';
+      ctx.report({
+        message: messageFor(place.term, place.value, maximize, place.where) + more,
+        span: place.span,
+        related: [{ span: place.term.span, message: `'${place.term.name}' is declared a ${place.term.direction} here` }],
+      });
     }
   },
 };
-
 function contradicts(direction: 'bonus' | 'penalty', value: number, maximize: boolean): boolean {
   const helps = maximize ? value > 0 : value < 0;
   const hurts = maximize ? value < 0 : value > 0;

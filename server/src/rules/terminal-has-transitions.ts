@@ -9,6 +9,7 @@ export const terminalHasTransitions: Rule = {
   defaultSeverity: 'warning',
   summary: 'A terminal state has transitions (they are never taken).',
   needs: 'spec',
+  sources: ['json'],
   documentation: `
 **Why it matters.** Entering a terminal state ends the episode; its value is 0 and nothing after
 it counts. A transition out of a terminal is dead text, and usually a sign of a mistake: either

@@ -5,7 +5,8 @@ export const terminalPotential: Rule = {
   id: 'terminal-potential',
   defaultSeverity: 'warning',
   summary: 'A shaping potential is non-zero on a terminal state.',
-  needs: 'spec',
+  needs: 'graph',
+  sources: ['json'],
   documentation: `
 **What it finds.** \`shaping.potential\` adds discount * Phi(s') - Phi(s) to every transition. Along an
 episode these amounts telescope: everything but -Phi(start) and discount^T * Phi(last state) cancels. When
@@ -23,11 +24,16 @@ terminal, write it as a reward on the transitions that enter it, where it is vis
 **Thresholds.** None: any non-zero terminal potential breaks the invariance argument.
 `.trim(),
   check(ctx) {
-    const terminals = new Map(ctx.spec.states.filter((s) => s.terminal).map((s) => [s.id, s]));
+    const model = ctx.model;
+    if (!model?.potential) return;
     const discount = ctx.spec.discount?.value ?? 1;
-    for (const entry of ctx.spec.potential) {
-      const state = terminals.get(entry.state);
-      if (!state || entry.value === 0 || !Number.isFinite(entry.value)) continue;
+    for (let s = 0; s < model.stateCount; s++) {
+      const value = model.potential[s];
+      if (model.terminal[s] === 0 || value === 0 || !Number.isFinite(value)) continue;
+      const id = model.stateIds[s];
+      const state = ctx.spec.states.find((candidate) => candidate.id === id);
+      const entry = ctx.spec.potential.find((candidate) => candidate.state === id);
+      if (!state || !entry) continue;
       const gain = discount * entry.value;
       ctx.report({
         message:

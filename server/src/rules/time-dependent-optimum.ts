@@ -8,6 +8,7 @@ export const timeDependentOptimum: Rule = {
   defaultSeverity: 'warning',
   summary: 'With a horizon, the optimal action at a visited state changes with the steps left.',
   needs: 'analysis',
+  sources: ['json', 'enumerable'],
   thresholds: {
     tieTolerance: {
       default: 1e-6,

@@ -1,5 +1,7 @@
 import { formatNumber, quote } from '../spec/names';
-import { forEachOutcome, transitionLabel } from './spec-walk';
+import { describeStep, writtenOutcome, choiceSpan } from './incentive-text';
+import { transitionLabel } from './spec-walk';
+import type { Span } from '../spec/types';
 import type { Rule } from './types';
 
 /** An outcome so unlikely that it cannot matter to any value, and is often a mistyped exponent. */
@@ -7,7 +9,8 @@ export const tinyProbability: Rule = {
   id: 'tiny-probability',
   defaultSeverity: 'info',
   summary: 'An outcome probability is positive but below 1e-12.',
-  needs: 'spec',
+  needs: 'graph',
+  sources: ['json', 'enumerable'],
   thresholds: {
     minimum: {
       default: 1e-12,
@@ -37,15 +40,35 @@ deserves its own check, not a rounding-level probability).
   check(ctx) {
     const minimum = ctx.threshold('minimum');
     const spec = ctx.spec;
-    forEachOutcome(spec, (outcome, transition) => {
-      const p = outcome.probability;
-      if (!(p > 0 && p < minimum)) return;
+    const model = ctx.model;
+    if (!model) return;
+    // One finding per place in the text: a written probability, or the generating function.
+    const places = new Map<string, { span: Span; probability: number; what: string; count: number }>();
+    for (let c = 0; c < model.choiceCount; c++) {
+      for (let k = model.outcomeStart[c]; k < model.outcomeStart[c + 1]; k++) {
+        const p = model.outcomeProb[k];
+        if (!(p > 0 && p < minimum)) continue;
+        const written = writtenOutcome(spec, model, c, k);
+        const transition = spec.transitions[model.choiceTransition[c]];
+        const span = written?.probabilitySpan ?? choiceSpan(spec, model, c);
+        const key = `${span.start}:${span.end}`;
+        const known = places.get(key);
+        if (known) {
+          known.count += written ? 0 : 1;
+          continue;
+        }
+        const what = written && transition ? `${quote(written.state)} after ${transitionLabel(spec, transition)}` : `${describeStep(model, c, k)}`;
+        places.set(key, { span, probability: written?.probability ?? p, what, count: 1 });
+      }
+    }
+    for (const place of places.values()) {
+      const more = place.count > 1 ? ` (and ${place.count - 1} more such outcome${place.count > 2 ? 's' : ''} from the same code)` : '';
       ctx.report({
         message:
-          `the probability ${formatNumber(p)} of ${quote(outcome.state)} after ${transitionLabel(spec, transition)} is below ${formatNumber(minimum)}: ` +
-          `the outcome changes no value by more than ${formatNumber(p)} times its reward, and no learner will see it; check the exponent, or write 0 if it cannot happen`,
-        span: outcome.probabilitySpan,
+          `the probability ${formatNumber(place.probability)} of ${place.what} is below ${formatNumber(minimum)}${more}: ` +
+          `the outcome changes no value by more than ${formatNumber(place.probability)} times its reward, and no learner will see it; check the exponent, or write 0 if it cannot happen`,
+        span: place.span,
       });
-    });
+    }
   },
 };

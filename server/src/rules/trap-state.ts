@@ -4,7 +4,7 @@ import { canReach, reachableFromStart } from '../analysis/reachability';
 import type { Analysis } from '../analysis/types';
 import { stateName, type CompiledModel } from '../model/compiled';
 import { listNames, quote } from '../spec/names';
-import { describePath, formatAmount, formatProbability, formatSigned, stateSpan, traceOfPath } from './incentive-text';
+import { describePath, formatAmount, formatProbability, formatSigned, incompleteNote, stateSpan, traceOfPath } from './incentive-text';
 import type { RelatedLocation, Rule } from './types';
 
 /** A reachable region of an episodic spec that no policy can leave and that reaches no terminal. */
@@ -12,7 +12,8 @@ export const trapState: Rule = {
   id: 'trap-state',
   defaultSeverity: 'warning',
   summary: 'A reachable region that no policy can leave and from which no terminal is reachable.',
-  needs: 'model',
+  needs: 'graph',
+  sources: ['json', 'enumerable'],
   documentation: `
 **Why it matters.** In an episodic spec (one that declares terminals) every episode is meant to
 end. A region with no way out and no terminal inside is a trap: an episode that enters it runs
@@ -45,7 +46,9 @@ horizon (the return there is not finite), **warning** otherwise.
     if (!model || !model.terminal.some((code) => code !== 0)) return;
     const graph = graphOf(model);
     const reachable = ctx.analysis?.reachable ?? reachableFromStart(model);
-    const endsSomewhere = canReach(graph, graph.absorbing);
+    // A state that lost part of its dynamics to a broken edge may well lead out: never call it a trap.
+    const exits = ctx.incomplete ? graph.absorbing.map((a, s) => a | ctx.incomplete!.brokenStates[s]) : graph.absorbing;
+    const endsSomewhere = canReach(graph, exits);
     const trapped = new Uint8Array(model.stateCount);
     let any = false;
     for (let s = 0; s < model.stateCount; s++) {
@@ -73,9 +76,9 @@ horizon (the return there is not finite), **warning** otherwise.
       ctx.report({
         message:
           `trap: once in ${name}${withOthers}, no action leads out and no terminal can be reached, so an episode that enters never ends` +
-          `${model.horizon !== undefined ? ' before the time limit' : ''}; ${costOf(model, ctx.analysis, reward, region, entry)}${path}`,
+          `${model.horizon !== undefined ? ' before the time limit' : ''}; ${costOf(model, ctx.analysis, reward, region, entry)}${path}${incompleteNote(ctx.incomplete)}`,
         span: stateSpan(ctx.spec, model, entry),
-        severity: unending ? 'error' : 'warning',
+        severity: unending && !ctx.incomplete ? 'error' : 'warning',
         trace: route.length > 0 ? traceOfPath(ctx.spec, model, route) : undefined,
         related,
       });

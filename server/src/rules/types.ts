@@ -12,8 +12,13 @@ export type { Finding, FindingInput, Fix, RelatedLocation, Severity, TextEdit, T
 export interface RuleContext {
   readonly text: string;
   readonly spec: ParsedSpec;
-  /** Present when the spec compiled into a well-formed MDP. */
+  /**
+   * Present when the spec compiled into a well-formed MDP; for rules that need only the graph, also
+   * the declared part of a spec that does not compile (then `incomplete` is set).
+   */
   readonly model?: CompiledModel;
+  /** Set when `model` is only the declared part of a spec that does not compile. */
+  readonly incomplete?: IncompleteModel;
   /** Present when the model exists and the analysis ran (computed once, shared by every rule). */
   readonly analysis?: Analysis;
   readonly config: ResolvedConfig;
@@ -21,6 +26,27 @@ export interface RuleContext {
   threshold(name: string): number;
   report(finding: FindingInput): void;
 }
+
+/**
+ * The declared part of a spec that does not compile: every state, and every choice and outcome that
+ * is well formed. Outcomes into undeclared states, and choices with an unreadable or out-of-range
+ * probability, are left out; `brokenStates` marks the states that lost one, because what they do is
+ * not known (a graph rule must not conclude, say, that no action leaves them).
+ */
+export interface IncompleteModel {
+  /** Why the spec does not compile, in one sentence (the compiler's reason). */
+  reason: string;
+  brokenStates: Uint8Array;
+}
+
+/** The kinds of spec a rule's check can fire on. */
+export type RuleSource = 'json' | 'enumerable' | 'sampled';
+export const RULE_SOURCES: readonly RuleSource[] = ['json', 'enumerable', 'sampled'];
+export const RULE_SOURCE_NAMES: Record<RuleSource, string> = {
+  json: 'JSON specs',
+  enumerable: 'enumerable TypeScript models',
+  sampled: 'sampled TypeScript models',
+};
 
 export interface ThresholdSpec {
   default: number;
@@ -35,8 +61,13 @@ export interface Rule {
   summary: string;
   /** Markdown: why it matters, when it fires, how to fix it, the thresholds' justification. */
   documentation: string;
-  /** What the check needs: the parsed spec only, the compiled model, or the analysis. */
-  needs: 'spec' | 'model' | 'analysis';
+  /**
+   * What the check needs: the parsed spec only; the graph (the compiled model, or the declared part
+   * of a spec that does not compile); the compiled model; or the analysis.
+   */
+  needs: 'spec' | 'graph' | 'model' | 'analysis';
+  /** The kinds of spec the check can fire on (shown by `episcope explain` and the README table). */
+  sources: readonly RuleSource[];
   thresholds?: Record<string, ThresholdSpec>;
   check(ctx: RuleContext): void;
 }

@@ -13,6 +13,7 @@ export const undeclaredAction: Rule = {
   defaultSeverity: 'error',
   summary: "A transition names an action that is not in its state's action set.",
   needs: 'spec',
+  sources: ['json'],
   documentation: `
 **Why it matters.** A state's action set is its own \`actions\` list, or else the spec's top-level
 \`actions\`. A transition for an action outside that set can never be chosen by any policy: it

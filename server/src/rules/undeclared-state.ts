@@ -13,6 +13,7 @@ export const undeclaredState: Rule = {
   defaultSeverity: 'error',
   summary: 'A transition, the start or the shaping potential names a state that is not declared.',
   needs: 'spec',
+  sources: ['json'],
   documentation: `
 **Why it matters.** Every state must be declared in \`states\`. A transition that leads to
 \`"rooof"\` instead of \`"roof"\` does not create a new state in Episcope: it leaves the MDP

@@ -1,7 +1,7 @@
 import { reachableFromStart } from '../analysis/reachability';
 import { stateName } from '../model/compiled';
 import { quote } from '../spec/names';
-import { choiceSpan, describeStep, stateSpan } from './incentive-text';
+import { choiceSpan, describeStep, incompleteNote, stateSpan } from './incentive-text';
 import type { RelatedLocation, Rule } from './types';
 
 /** A non-terminal state that no policy reaches from the start. */
@@ -9,7 +9,8 @@ export const unreachableState: Rule = {
   id: 'unreachable-state',
   defaultSeverity: 'info',
   summary: 'No policy reaches the state from the start.',
-  needs: 'model',
+  needs: 'graph',
+  sources: ['json'],
   documentation: `
 **Why it matters.** A state that no sequence of actions reaches from the start never appears in
 an episode: its transitions never run and their rewards never count toward any return. Usually
@@ -49,7 +50,7 @@ transitions if they are obsolete.
           ? `${count === 1 ? 'its transition never runs and its rewards never count' : `its ${count} transitions never run and their rewards never count`} toward any return`
           : 'it plays no part in any return';
       ctx.report({
-        message: `${quote(stateName(model, s))} is never reached: no policy gets there from the start, so ${cost}`,
+        message: `${quote(stateName(model, s))} is never reached: no policy gets there from the start, so ${cost}${incompleteNote(ctx.incomplete)}`,
         span: stateSpan(ctx.spec, model, s),
         related,
         tags: ['unnecessary'],

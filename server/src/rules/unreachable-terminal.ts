@@ -2,7 +2,7 @@ import { graphOf } from '../analysis/graph';
 import { reachableFromStart } from '../analysis/reachability';
 import { stateName, TERMINAL_OF_CODE } from '../model/compiled';
 import { quote } from '../spec/names';
-import { describeStep, formatSigned, outcomeSpan, stateSpan } from './incentive-text';
+import { describeStep, formatSigned, incompleteNote, outcomeSpan, stateSpan } from './incentive-text';
 import type { RelatedLocation, Rule } from './types';
 
 /** A declared terminal that no policy reaches from the start. */
@@ -10,7 +10,8 @@ export const unreachableTerminal: Rule = {
   id: 'unreachable-terminal',
   defaultSeverity: 'warning',
   summary: 'A declared terminal that no policy reaches from the start.',
-  needs: 'model',
+  needs: 'graph',
+  sources: ['json'],
   documentation: `
 **Why it matters.** Terminals are where episodes end and, usually, where the big rewards and
 penalties are paid: the goal's bonus, the crash's penalty. A terminal no policy can reach never
@@ -69,7 +70,7 @@ it is obsolete.
             ? '; no failure is reachable, so the hazard it stands for has no effect on the agent'
             : '';
       ctx.report({
-        message: `terminal ${quote(stateName(model, s))} (${kind}) is never reached from the start: ${cost}${consequence}`,
+        message: `terminal ${quote(stateName(model, s))} (${kind}) is never reached from the start: ${cost}${consequence}${incompleteNote(ctx.incomplete)}`,
         span: stateSpan(ctx.spec, model, s),
         related,
       });

@@ -5,6 +5,7 @@ export const unseededRandomness: Rule = {
   defaultSeverity: 'warning',
   summary: 'Model code calls Math.random, Date.now, crypto or similar instead of the rng it is given.',
   needs: 'spec',
+  sources: ['enumerable', 'sampled'],
   documentation: `
 **What it finds.** TypeScript model code that draws from a random source Episcope does not seed
 (\`Math.random\`, \`crypto.getRandomValues\`, \`crypto.randomInt\`, ...) or reads the clock (\`Date.now\`,

@@ -135,7 +135,9 @@ async function runModel(
       };
       if (result.problem) {
         place.failure(evidence, sandbox.locate(result.problem), findings);
-        return { prebuilt: { reason: 'the model code failed (see model-error)' } };
+        const kind = result.problem.kind;
+        const rule = kind === 'dead-end' || kind === 'probability-sum' || kind === 'non-finite-reward' ? kind : 'model-error';
+        return { prebuilt: { reason: `the model code describes no well-defined MDP (see ${rule})` } };
       }
       for (const site of result.nondeterminism) {
         const call = describeCall({ phase: site.phase, state: site.state, action: site.action });
@@ -317,6 +319,10 @@ class Placer {
     if (failure.kind === 'non-finite-reward' && findings) {
       findings.push(nonFiniteFinding(problem, undefined, undefined));
       evidence.nonFiniteRewards.push(problem);
+      return;
+    }
+    if (failure.kind === 'dead-end' || failure.kind === 'probability-sum') {
+      evidence.structuralProblems.push(problem);
       return;
     }
     evidence.modelErrors.push(problem);

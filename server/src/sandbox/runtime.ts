@@ -8,7 +8,7 @@ import { effectiveStepCap, END_FAILURE, END_GOAL, END_NEUTRAL, END_NONE, END_STE
 
 /** What a model function did wrong; `phase` names the function. */
 export interface RuntimeProblem {
-  kind: 'threw' | 'malformed' | 'exit' | 'dead-end' | 'non-finite-reward';
+  kind: 'threw' | 'malformed' | 'exit' | 'dead-end' | 'probability-sum' | 'non-finite-reward';
   phase: ModelFunction;
   message: string;
   /** The stack of a thrown error (generated positions; the host maps them to the source). */
@@ -433,7 +433,10 @@ export function enumerateModel(model: ModelFunctions, options: EnumerationOption
           }
         }
         if (problem || capped) break;
-        if (Math.abs(sum - 1) > 1e-9) throw new MalformedValue(`the outcome probabilities add up to ${sum}, not 1`);
+        if (Math.abs(sum - 1) > 1e-9) {
+          problem = { kind: 'probability-sum', phase, message: `the outcome probabilities add up to ${sum}, not 1`, state: keys[current], action: name };
+          break;
+        }
       }
       if (problem) break;
     }

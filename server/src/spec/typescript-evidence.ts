@@ -57,6 +57,11 @@ export interface TypeScriptEvidence {
   staticRandomness: RandomnessSite[];
   runtimeRandomness: RandomnessSite[];
   modelErrors: LocatedProblem[];
+  /**
+   * Structural problems of the MDP the code describes, reported under the rule a JSON spec gets:
+   * kind "dead-end" (a non-terminal state without actions) or "probability-sum".
+   */
+  structuralProblems: LocatedProblem[];
   nonFiniteRewards: Array<LocatedProblem & { episodes?: number }>;
   nondeterminism: NondeterminismSite[];
   enumeration?: {

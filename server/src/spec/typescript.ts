@@ -76,6 +76,7 @@ export function readTypeScriptSpec(text: string): TypeScriptReading {
     staticRandomness: [],
     runtimeRandomness: [],
     modelErrors: [],
+    structuralProblems: [],
     nonFiniteRewards: [],
     nondeterminism: [],
   };
