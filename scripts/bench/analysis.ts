@@ -28,7 +28,9 @@ const OUTCOMES = 8;
 /** Builds the random model through ModelBuilder, the same path the spec compiler uses. */
 function buildModel(states: number, discount: number): CompiledModel {
   const random = seededRandom(20240601);
-  const builder = new ModelBuilder({ discount, maximize: true });
+  // Room reserved up front as the spec compiler does (BENCH_RESERVE=0 measures the doubling path instead).
+  const reserve = process.env.BENCH_RESERVE === '0' ? undefined : { states, choices: states * ACTIONS, outcomes: states * ACTIONS * OUTCOMES };
+  const builder = new ModelBuilder({ discount, maximize: true, reserve });
   const nowhere = { start: 0, end: 0 };
   for (let s = 0; s < states; s++) builder.addState(`s${s}`, undefined, nowhere);
   const outcomes = Array.from({ length: OUTCOMES }, () => ({ target: 0, probability: 0, reward: 0 }));
@@ -51,6 +53,9 @@ function buildModel(states: number, discount: number): CompiledModel {
 const seconds = (start: bigint): number => Number(process.hrtime.bigint() - start) / 1e9;
 const millions = (x: number): string => `${(x / 1e6).toFixed(1)} M`;
 const megabytes = (bytes: number): string => `${Math.round(bytes / (1 << 20))} MB`;
+/** The process's peak resident memory so far, in bytes (it never decreases, so each reading covers the phases before it). */
+const peakBytes = (): number => resourceUsage().maxRSS * 1024;
+const perTransition = (bytes: number, transitions: number): string => `${megabytes(bytes)}, ${(bytes / transitions).toFixed(1)} B per transition`;
 
 /** A plain Jacobi sweep over the CSR arrays, one vector, no bookkeeping: the baseline. */
 function plainSweep(model: CompiledModel, from: Float64Array, to: Float64Array, discount: number, reward: Float64Array): void {
@@ -76,7 +81,8 @@ export async function run(): Promise<void> {
   let t = process.hrtime.bigint();
   const model = buildModel(states, discount);
   const transitions = model.outcomeCount;
-  console.log(`compile (ModelBuilder to CSR arrays): ${seconds(t).toFixed(2)} s, ${millions(transitions)} transitions`);
+  console.log(`compile (ModelBuilder to CSR arrays): ${seconds(t).toFixed(2)} s (target < 10 s), ${millions(transitions)} transitions`);
+  console.log(`peak memory after compile: ${perTransition(peakBytes(), transitions)}`);
 
   const reward = expectedRewards(model);
   const rounds = 5;
@@ -119,6 +125,7 @@ export async function run(): Promise<void> {
   sortWithinComponents(fullScc, graph);
   const mecs = maximalEndComponents(graph, undefined, undefined, fullScc);
   const prepared = seconds(t);
+  const peakAfterGraph = peakBytes();
   const ctx: AnalysisContext = { model, graph, mecs, fullScc, precision: 1e-6, maxSweeps: 100_000, gainBudget: 2e8 };
   t = process.hrtime.bigint();
   const solution = solveValues(ctx, { combine: COMBINE_MAX, reward, discount });
@@ -126,6 +133,7 @@ export async function run(): Promise<void> {
   let widest = 0;
   for (let s = 0; s < model.stateCount; s++) widest = Math.max(widest, solution.upper[s] - solution.lower[s]);
   console.log(`graph preparation (predecessors, SCCs, end components): ${prepared.toFixed(2)} s, ${mecs.count} end component(s)`);
+  console.log(`peak memory after graph preparation: ${perTransition(peakAfterGraph, transitions)}`);
   console.log(
     `time to V* bounds of width <= 1e-6: ${solved.toFixed(2)} s, ${solution.sweeps} sweeps, widest bound ${widest.toExponential(2)}, V*(start) in [${solution.lower[0].toFixed(6)}, ${solution.upper[0].toFixed(6)}]`,
   );
@@ -138,5 +146,5 @@ export async function run(): Promise<void> {
 
   const memory = process.memoryUsage();
   console.log(`memory now: rss ${megabytes(memory.rss)}, heap ${megabytes(memory.heapUsed)}, typed arrays ${megabytes(memory.arrayBuffers)}`);
-  console.log(`peak memory (maxRSS): ${megabytes(resourceUsage().maxRSS * 1024)}`);
+  console.log(`peak memory (maxRSS): ${perTransition(peakBytes(), transitions)} (target <= 40 B per transition)`);
 }
