@@ -1,9 +1,11 @@
 /**
  * Analysis figures on a seeded random sparse MDP of our own, built in memory: by default
  * 1,000,000 states x 4 actions x 8 outcomes (32M transitions), rewards uniform in [0, 1),
- * discount 0.9. Environment variables BENCH_STATES, BENCH_DISCOUNT and BENCH_FULL=1 (also run the
- * whole analyzeModel) change that. Prints build time, sweep throughput against a plain
- * typed-array sweep, time to value bounds of width 1e-6, and peak memory.
+ * discount 0.9. Environment variables BENCH_STATES, BENCH_DISCOUNT, BENCH_FULL=1 (also run the
+ * whole analyzeModel), BENCH_BOUNDS_ONLY=1 (skip the sweep-throughput figures) and BENCH_RESERVE=0
+ * (let ModelBuilder grow its arrays instead of reserving room) change that. Prints build time,
+ * sweep throughput against a plain typed-array sweep, time to value bounds of width 1e-6, and peak
+ * memory per phase.
  */
 import { resourceUsage } from 'node:process';
 import { analyzeModel } from '../../server/src/analysis';
@@ -73,25 +75,19 @@ function plainSweep(model: CompiledModel, from: Float64Array, to: Float64Array, 
   }
 }
 
-export async function run(): Promise<void> {
-  const states = Number(process.env.BENCH_STATES ?? 1_000_000);
-  const discount = Number(process.env.BENCH_DISCOUNT ?? 0.9);
-  console.log(`random sparse MDP: ${states} states x ${ACTIONS} actions x ${OUTCOMES} outcomes, rewards in [0, 1), discount ${discount} (seeded, our own)`);
-
-  let t = process.hrtime.bigint();
-  const model = buildModel(states, discount);
-  const transitions = model.outcomeCount;
-  console.log(`compile (ModelBuilder to CSR arrays): ${seconds(t).toFixed(2)} s (target < 10 s), ${millions(transitions)} transitions`);
-  console.log(`peak memory after compile: ${perTransition(peakBytes(), transitions)}`);
-
-  const reward = expectedRewards(model);
+/**
+ * Sweep throughput: a plain typed-array sweep (the baseline) against the analysis kernels. Its
+ * vectors are local, so they can be collected before the graph preparation that follows.
+ */
+function measureSweepRates(model: CompiledModel, discount: number, reward: Float64Array): void {
   const rounds = 5;
+  const transitions = model.outcomeCount;
 
   // Baseline: a plain typed-array sweep.
   const a = new Float64Array(model.stateCount);
   const b = new Float64Array(model.stateCount);
   plainSweep(model, a, b, discount, reward);
-  t = process.hrtime.bigint();
+  let t = process.hrtime.bigint();
   for (let i = 0; i < rounds; i++) plainSweep(model, i % 2 ? b : a, i % 2 ? a : b, discount, reward);
   const plainRate = (rounds * transitions) / seconds(t);
   console.log(`plain typed-array sweep (baseline, one vector): ${millions(plainRate)} transitions/s`);
@@ -115,6 +111,21 @@ export async function run(): Promise<void> {
   for (let i = 0; i < rounds; i++) sweepBounds(op, nodes, bounds, true, true, stats);
   const boundsRate = (rounds * transitions) / seconds(t);
   console.log(`analysis sweep, lower and upper bounds together: ${millions(boundsRate)} transitions/s (${millions(2 * boundsRate)} bound updates/s)`);
+}
+
+export async function run(): Promise<void> {
+  const states = Number(process.env.BENCH_STATES ?? 1_000_000);
+  const discount = Number(process.env.BENCH_DISCOUNT ?? 0.9);
+  console.log(`random sparse MDP: ${states} states x ${ACTIONS} actions x ${OUTCOMES} outcomes, rewards in [0, 1), discount ${discount} (seeded, our own)`);
+
+  let t = process.hrtime.bigint();
+  const model = buildModel(states, discount);
+  const transitions = model.outcomeCount;
+  console.log(`compile (ModelBuilder to CSR arrays): ${seconds(t).toFixed(2)} s (target < 10 s), ${millions(transitions)} transitions`);
+  console.log(`peak memory after compile: ${perTransition(peakBytes(), transitions)}`);
+
+  const reward = expectedRewards(model);
+  if (process.env.BENCH_BOUNDS_ONLY !== '1') measureSweepRates(model, discount, reward);
 
   // Time to sound bounds of width 1e-6 for V* (graph preparation included).
   // Prepared as analyzeModel does: the whole graph's SCCs also serve as the first end-component round.
