@@ -18,6 +18,8 @@ import { randomTypeScriptSpec, randomWalkSpec, slipperyGridSpec, walkTruth, type
 
 interface BenchSpec {
   name: string;
+  /** Known before the run for JSON specs; a TypeScript model's count comes from its analysis. */
+  states?: number;
   /** Run by BENCH_SOLVER_QUICK=1. */
   small: boolean;
   /** The target time in seconds, whole `episcope check`. */
@@ -47,6 +49,7 @@ function specs(): BenchSpec[] {
     for (const discount of [0.9, 0.99, 0.999, 1]) {
       out.push({
         name: `grid ${size}x${size} discount ${discount}`,
+        states: size * size,
         small: size === 50,
         target: 3,
         file: `grid-${size}-${discount}.mdp.json`,
@@ -61,6 +64,7 @@ function specs(): BenchSpec[] {
       const truth = walkTruth(n, up, start);
       out.push({
         name: `${up === 0.5 ? 'fair walk' : `walk up ${up}`} 0..${n}`,
+        states: n + 1,
         small: n === 1000,
         target: n === 1000 ? 1 : 4,
         file: `walk-${n}-${up}.mdp.json`,
@@ -82,6 +86,30 @@ function specs(): BenchSpec[] {
   return out;
 }
 
+/** Process groups of the runs in progress and the folder of generated specs, cleaned up when the section is interrupted. */
+const running = new Set<number>();
+let specFolder: string | undefined;
+let stopOnSignal = false;
+function stopRunsOnSignal(): void {
+  if (stopOnSignal) return;
+  stopOnSignal = true;
+  for (const signal of ['SIGINT', 'SIGTERM'] as const) {
+    process.once(signal, () => {
+      for (const group of running) killGroup(group);
+      if (specFolder) rmSync(specFolder, { recursive: true, force: true });
+      process.exit(130);
+    });
+  }
+}
+
+function killGroup(group: number): void {
+  try {
+    process.kill(-group, 'SIGKILL');
+  } catch {
+    // Already gone.
+  }
+}
+
 /** Runs a command with a time limit; past it the whole process group is killed. */
 function runLimited(command: string, args: readonly string[], limitSeconds: number, env?: NodeJS.ProcessEnv): Promise<RunResult> {
   return new Promise((resolve) => {
@@ -93,16 +121,14 @@ function runLimited(command: string, args: readonly string[], limitSeconds: numb
     child.stdout.on('data', (chunk: Buffer) => stdout.push(chunk));
     child.stderr.on('data', (chunk: Buffer) => stderr.push(chunk));
     let over = false;
+    if (child.pid !== undefined) running.add(child.pid);
     const timer = setTimeout(() => {
       over = true;
-      try {
-        process.kill(-child.pid!, 'SIGKILL');
-      } catch {
-        // Already gone.
-      }
+      if (child.pid !== undefined) killGroup(child.pid);
     }, limitSeconds * 1000);
     const finish = (code: number | null, failed: boolean) => {
       clearTimeout(timer);
+      if (child.pid !== undefined) running.delete(child.pid);
       resolve({
         outcome: over ? 'over' : failed ? 'failed' : 'done',
         seconds: (performance.now() - began) / 1000,
@@ -123,7 +149,12 @@ function runLimited(command: string, args: readonly string[], limitSeconds: numb
 type CheckedAnalysis = JsonAnalysis & { solver?: { sweeps?: unknown; solves?: unknown } };
 
 const finite = (x: unknown): x is number => typeof x === 'number' && Number.isFinite(x);
-const width = (i: JsonInterval | undefined): number => (i && finite(i.lower) && finite(i.upper) ? i.upper - i.lower : Infinity);
+/** An interval's width; an exactly known infinite value ("-inf" to "-inf") is 0 wide. */
+const width = (i: JsonInterval | undefined): number => {
+  if (!i) return Infinity;
+  if (i.lower === i.upper) return 0;
+  return finite(i.lower) && finite(i.upper) ? i.upper - i.lower : Infinity;
+};
 
 /** Six significant digits; "inf" and friends as written. */
 function figure(x: unknown): string {
@@ -184,6 +215,7 @@ const header = (): Row => Object.fromEntries(COLUMNS.map(([key, title]) => [key,
 function checkRow(spec: BenchSpec, run: RunResult, limit: number): { row: Row; seconds?: number } {
   const row: Row = { ...header(), spec: spec.name, target: `<= ${spec.target} s`, truth: '-', scipy: '-', ratio: '-' };
   for (const key of ['states', 'widest', 'sweeps', 'solves', 'value', 'reach', 'length'] as const) row[key] = '-';
+  if (spec.states !== undefined) row.states = String(spec.states);
   if (spec.truth) row.truth = `${figure(spec.truth.goal)} / ${figure(spec.truth.length)}`;
   if (run.outcome === 'over') return { row: { ...row, check: `over ${limit} s` } };
   let report: { files?: Array<Omit<JsonFile, 'analysis'> & { analysis?: CheckedAnalysis }> } | undefined;
@@ -250,7 +282,10 @@ export async function run(): Promise<void> {
     .split(',')
     .map((word) => word.trim())
     .filter(Boolean);
-  const wanted = (name: string) => only.length === 0 || only.some((word) => name.includes(word));
+  // A word that is a whole spec name picks that spec alone ("grid 100x100 discount 0.9" not also 0.99).
+  const names = specs().map((spec) => spec.name);
+  const wanted = (name: string) => only.length === 0 || only.some((word) => (names.includes(word) ? name === word : name.includes(word)));
+  stopRunsOnSignal();
   const cli = join(__dirname, 'cli.js');
   if (!existsSync(cli)) throw new Error(`the built CLI is missing at ${cli}: run 'node scripts/bundle.mjs' first`);
   const script = scipyScript();
@@ -264,6 +299,7 @@ export async function run(): Promise<void> {
   );
   console.log(line(header()));
   const folder = mkdtempSync(join(tmpdir(), 'episcope-solver-bench-'));
+  specFolder = folder;
   try {
     for (const spec of specs()) {
       if ((quick && !spec.small) || !wanted(spec.name)) continue;
@@ -297,5 +333,6 @@ export async function run(): Promise<void> {
     if (!quick && wanted('random 1M')) console.log(line(await timeToBounds(limit)));
   } finally {
     rmSync(folder, { recursive: true, force: true });
+    specFolder = undefined;
   }
 }
