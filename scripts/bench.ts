@@ -6,11 +6,13 @@
 import { run as analysis } from './bench/analysis';
 import { run as typescript } from './bench/typescript';
 import { run as lsp } from './bench/lsp';
+import { run as solver } from './bench/solver';
 
 const SECTIONS: ReadonlyArray<{ name: string; run: () => Promise<void> }> = [
   { name: 'analysis', run: analysis },
   { name: 'typescript', run: typescript },
   { name: 'lsp', run: lsp },
+  { name: 'solver', run: solver },
 ];
 
 async function main(): Promise<void> {

@@ -1,9 +1,11 @@
 /**
  * Analysis figures on a seeded random sparse MDP of our own, built in memory: by default
  * 1,000,000 states x 4 actions x 8 outcomes (32M transitions), rewards uniform in [0, 1),
- * discount 0.9. Environment variables BENCH_STATES, BENCH_DISCOUNT and BENCH_FULL=1 (also run the
- * whole analyzeModel) change that. Prints build time, sweep throughput against a plain
- * typed-array sweep, time to value bounds of width 1e-6, and peak memory.
+ * discount 0.9. Environment variables BENCH_STATES, BENCH_DISCOUNT, BENCH_FULL=1 (also run the
+ * whole analyzeModel), BENCH_BOUNDS_ONLY=1 (skip the sweep-throughput figures) and BENCH_RESERVE=0
+ * (let ModelBuilder grow its arrays instead of reserving room) change that. Prints build time,
+ * sweep throughput against a plain typed-array sweep, time to value bounds of width 1e-6, and peak
+ * memory per phase.
  */
 import { resourceUsage } from 'node:process';
 import { analyzeModel } from '../../server/src/analysis';
@@ -28,7 +30,9 @@ const OUTCOMES = 8;
 /** Builds the random model through ModelBuilder, the same path the spec compiler uses. */
 function buildModel(states: number, discount: number): CompiledModel {
   const random = seededRandom(20240601);
-  const builder = new ModelBuilder({ discount, maximize: true });
+  // Room reserved up front as the spec compiler does (BENCH_RESERVE=0 measures the doubling path instead).
+  const reserve = process.env.BENCH_RESERVE === '0' ? undefined : { states, choices: states * ACTIONS, outcomes: states * ACTIONS * OUTCOMES };
+  const builder = new ModelBuilder({ discount, maximize: true, reserve });
   const nowhere = { start: 0, end: 0 };
   for (let s = 0; s < states; s++) builder.addState(`s${s}`, undefined, nowhere);
   const outcomes = Array.from({ length: OUTCOMES }, () => ({ target: 0, probability: 0, reward: 0 }));
@@ -51,6 +55,9 @@ function buildModel(states: number, discount: number): CompiledModel {
 const seconds = (start: bigint): number => Number(process.hrtime.bigint() - start) / 1e9;
 const millions = (x: number): string => `${(x / 1e6).toFixed(1)} M`;
 const megabytes = (bytes: number): string => `${Math.round(bytes / (1 << 20))} MB`;
+/** The process's peak resident memory so far, in bytes (it never decreases, so each reading covers the phases before it). */
+const peakBytes = (): number => resourceUsage().maxRSS * 1024;
+const perTransition = (bytes: number, transitions: number): string => `${megabytes(bytes)}, ${(bytes / transitions).toFixed(1)} B per transition`;
 
 /** A plain Jacobi sweep over the CSR arrays, one vector, no bookkeeping: the baseline. */
 function plainSweep(model: CompiledModel, from: Float64Array, to: Float64Array, discount: number, reward: Float64Array): void {
@@ -68,24 +75,19 @@ function plainSweep(model: CompiledModel, from: Float64Array, to: Float64Array, 
   }
 }
 
-export async function run(): Promise<void> {
-  const states = Number(process.env.BENCH_STATES ?? 1_000_000);
-  const discount = Number(process.env.BENCH_DISCOUNT ?? 0.9);
-  console.log(`random sparse MDP: ${states} states x ${ACTIONS} actions x ${OUTCOMES} outcomes, rewards in [0, 1), discount ${discount} (seeded, our own)`);
-
-  let t = process.hrtime.bigint();
-  const model = buildModel(states, discount);
-  const transitions = model.outcomeCount;
-  console.log(`compile (ModelBuilder to CSR arrays): ${seconds(t).toFixed(2)} s, ${millions(transitions)} transitions`);
-
-  const reward = expectedRewards(model);
+/**
+ * Sweep throughput: a plain typed-array sweep (the baseline) against the analysis kernels. Its
+ * vectors are local, so they can be collected before the graph preparation that follows.
+ */
+function measureSweepRates(model: CompiledModel, discount: number, reward: Float64Array): void {
   const rounds = 5;
+  const transitions = model.outcomeCount;
 
   // Baseline: a plain typed-array sweep.
   const a = new Float64Array(model.stateCount);
   const b = new Float64Array(model.stateCount);
   plainSweep(model, a, b, discount, reward);
-  t = process.hrtime.bigint();
+  let t = process.hrtime.bigint();
   for (let i = 0; i < rounds; i++) plainSweep(model, i % 2 ? b : a, i % 2 ? a : b, discount, reward);
   const plainRate = (rounds * transitions) / seconds(t);
   console.log(`plain typed-array sweep (baseline, one vector): ${millions(plainRate)} transitions/s`);
@@ -109,6 +111,21 @@ export async function run(): Promise<void> {
   for (let i = 0; i < rounds; i++) sweepBounds(op, nodes, bounds, true, true, stats);
   const boundsRate = (rounds * transitions) / seconds(t);
   console.log(`analysis sweep, lower and upper bounds together: ${millions(boundsRate)} transitions/s (${millions(2 * boundsRate)} bound updates/s)`);
+}
+
+export async function run(): Promise<void> {
+  const states = Number(process.env.BENCH_STATES ?? 1_000_000);
+  const discount = Number(process.env.BENCH_DISCOUNT ?? 0.9);
+  console.log(`random sparse MDP: ${states} states x ${ACTIONS} actions x ${OUTCOMES} outcomes, rewards in [0, 1), discount ${discount} (seeded, our own)`);
+
+  let t = process.hrtime.bigint();
+  const model = buildModel(states, discount);
+  const transitions = model.outcomeCount;
+  console.log(`compile (ModelBuilder to CSR arrays): ${seconds(t).toFixed(2)} s (target < 10 s), ${millions(transitions)} transitions`);
+  console.log(`peak memory after compile: ${perTransition(peakBytes(), transitions)}`);
+
+  const reward = expectedRewards(model);
+  if (process.env.BENCH_BOUNDS_ONLY !== '1') measureSweepRates(model, discount, reward);
 
   // Time to sound bounds of width 1e-6 for V* (graph preparation included).
   // Prepared as analyzeModel does: the whole graph's SCCs also serve as the first end-component round.
@@ -119,6 +136,7 @@ export async function run(): Promise<void> {
   sortWithinComponents(fullScc, graph);
   const mecs = maximalEndComponents(graph, undefined, undefined, fullScc);
   const prepared = seconds(t);
+  const peakAfterGraph = peakBytes();
   const ctx: AnalysisContext = { model, graph, mecs, fullScc, precision: 1e-6, maxSweeps: 100_000, gainBudget: 2e8 };
   t = process.hrtime.bigint();
   const solution = solveValues(ctx, { combine: COMBINE_MAX, reward, discount });
@@ -126,6 +144,7 @@ export async function run(): Promise<void> {
   let widest = 0;
   for (let s = 0; s < model.stateCount; s++) widest = Math.max(widest, solution.upper[s] - solution.lower[s]);
   console.log(`graph preparation (predecessors, SCCs, end components): ${prepared.toFixed(2)} s, ${mecs.count} end component(s)`);
+  console.log(`peak memory after graph preparation: ${perTransition(peakAfterGraph, transitions)}`);
   console.log(
     `time to V* bounds of width <= 1e-6: ${solved.toFixed(2)} s, ${solution.sweeps} sweeps, widest bound ${widest.toExponential(2)}, V*(start) in [${solution.lower[0].toFixed(6)}, ${solution.upper[0].toFixed(6)}]`,
   );
@@ -138,5 +157,5 @@ export async function run(): Promise<void> {
 
   const memory = process.memoryUsage();
   console.log(`memory now: rss ${megabytes(memory.rss)}, heap ${megabytes(memory.heapUsed)}, typed arrays ${megabytes(memory.arrayBuffers)}`);
-  console.log(`peak memory (maxRSS): ${megabytes(resourceUsage().maxRSS * 1024)}`);
+  console.log(`peak memory (maxRSS): ${perTransition(peakBytes(), transitions)} (target <= 40 B per transition)`);
 }

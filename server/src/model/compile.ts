@@ -108,7 +108,11 @@ function compileChecked(spec: ParsedSpec): CompileResult {
 
   const termNames = termNamesOf(spec);
   const tracked = new Set(termNames);
-  const builder = new ModelBuilder({ discount, horizon, maximize: spec.objective !== 'minimize', terms: termNames });
+  // Room for every written outcome up front (an upper bound: repeated pairs and terminal sources are skipped).
+  let writtenOutcomes = 0;
+  for (const transition of spec.transitions) writtenOutcomes += transition.outcomes.length;
+  const reserve = { states: stateById.size, choices: spec.transitions.length, outcomes: writtenOutcomes };
+  const builder = new ModelBuilder({ discount, horizon, maximize: spec.objective !== 'minimize', terms: termNames, reserve });
   for (const state of stateById.values()) builder.addState(state.id, state.terminal, state.span, state.label);
   // States whose written dynamics lost a part to a problem: what they do is not fully known.
   const brokenStates = new Uint8Array(stateById.size);
