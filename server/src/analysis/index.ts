@@ -14,7 +14,7 @@ import { TERMINAL_CODE, type CompiledModel } from '../model/compiled';
 import { maximalEndComponents, type EndComponentDecomposition } from './end-components';
 import { solveFiniteHorizon } from './finite-horizon';
 import { expectedChoiceValues, graphOf, expectedRewards, terminalEntryProbabilities, type ModelGraph } from './graph';
-import { COMBINE_AVERAGE, COMBINE_MAX, COMBINE_MIN, COMBINE_POLICY } from './interval-iteration';
+import { COMBINE_AVERAGE, COMBINE_MAX, COMBINE_MIN, COMBINE_POLICY, scaledWidth } from './interval-iteration';
 import { classifyMdpGains, GAIN_NEGATIVE, GAIN_POSITIVE, GAIN_ZERO, type MdpGainClasses } from './mean-payoff';
 import { attainingPolicy, bestChoices, choiceBounds } from './policy';
 import { almostSureReach, canReach, reachableFromStart } from './reachability';
@@ -112,7 +112,8 @@ export function analyzeModel(model: CompiledModel, options: AnalyzeModelOptions)
     horizon: base.horizon,
     termShares,
     start,
-    precision: Math.max(widestBound(base.optimal.values), widestBound(base.worst.values), widestBound(base.random.values)),
+    precision: Math.max(widestBound(base.optimal.values), widestBound(base.worst.values), widestBound(base.random.values), ctx.widestFigure ?? 0),
+    solves: ctx.counters?.solves ?? 0,
     exact: base.exact,
     iterations: base.iterations,
   };
@@ -232,10 +233,10 @@ function stationaryAnalysis(ctx: AnalysisContext, shapedReward: Float64Array, en
     const chain = policy ? policyChoiceMask(graph, policy) : undefined;
     const reach = reachOf(
       model.stateCount,
-      entry.map((e, i) => (e ? withCertainties(graph, pointValues(solve(e, 1, 0, 1)), KIND_CODES[i], 'chain', chain) : undefined)),
+      entry.map((e, i) => (e ? withCertainties(graph, pointValues(solve(e, 1, 0, 1), ctx), KIND_CODES[i], 'chain', chain) : undefined)),
     );
     const ones = new Float64Array(model.choiceCount).fill(1);
-    const expectedLength = pointValues(solve(ones, 1, 0));
+    const expectedLength = pointValues(solve(ones, 1, 0), ctx);
     return { values: { lower: solution.lower, upper: solution.upper }, reach, expectedLength, policy };
   };
   const optimal = describe(optimalSolution, optimalPolicy);
@@ -244,7 +245,7 @@ function stationaryAnalysis(ctx: AnalysisContext, shapedReward: Float64Array, en
 
   const goal = entry[0];
   const maxGoalReach = goal
-    ? withCertainties(graph, pointValues(solveValues(ctx, { combine: COMBINE_MAX, reward: goal, discount: 1, lowerBound: 0, upperBound: 1 })), TERMINAL_CODE.goal, 'max')
+    ? withCertainties(graph, pointValues(solveValues(ctx, { combine: COMBINE_MAX, reward: goal, discount: 1, lowerBound: 0, upperBound: 1 }), ctx), TERMINAL_CODE.goal, 'max')
     : new Float64Array(model.stateCount);
 
   // Each term's total under the optimal policy; a lone remainder is the optimal value itself.
@@ -367,17 +368,27 @@ function reachOf(n: number, perKind: (Float64Array | undefined)[]): ReachProbabi
   return { goal, failure, neutral, none };
 }
 
-/** One number per state from a solution's bounds: the midpoint, or the infinite value. */
-function pointValues(solution: { lower: Float64Array; upper: Float64Array }): Float64Array {
+/**
+ * One number per state from a solution's bounds: the midpoint, or the infinite value. A point
+ * whose bounds are wider than the precision target (a solve stopped by its work cap), or that has
+ * a finite bound on one side only, is not known: it is NaN, which the fronts print as undetermined.
+ */
+function pointValues(solution: { lower: Float64Array; upper: Float64Array }, ctx: AnalysisContext): Float64Array {
   const out = new Float64Array(solution.lower.length);
-  for (let s = 0; s < out.length; s++) out[s] = pointOf(solution.lower[s], solution.upper[s]);
+  for (let s = 0; s < out.length; s++) {
+    const lower = solution.lower[s];
+    const upper = solution.upper[s];
+    const width = scaledWidth(lower, upper);
+    // The widest bound behind a figure: Analysis.precision covers every printed figure.
+    if (Number.isFinite(width) && width > (ctx.widestFigure ?? 0)) ctx.widestFigure = width;
+    out[s] = Number.isFinite(width) && width > ctx.precision * (1 + 1e-9) ? NaN : pointOf(lower, upper);
+  }
   return out;
 }
 
 function pointOf(lower: number, upper: number): number {
   if (lower === upper) return lower;
-  if (lower === -Infinity && upper === Infinity) return NaN;
-  if (lower === -Infinity || upper === Infinity) return lower === -Infinity ? -Infinity : Infinity;
+  if (lower === -Infinity || upper === Infinity) return NaN;
   return (lower + upper) / 2;
 }
 

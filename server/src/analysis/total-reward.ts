@@ -75,6 +75,8 @@ export interface AnalysisContext {
   policyScc?: WeakMap<Int32Array, SccDecomposition>;
   /** Linear systems of the chains solved so far (chain-solve.ts), shared by every solve on the same chain. */
   chains?: ChainCache;
+  /** The widest bound behind a printed point figure (reach, length), scaled as scaledWidth. */
+  widestFigure?: number;
   /** How the direct solves went, for reporting. */
   counters?: SolverCounters;
   /** Solve fixed-policy and best or worst values directly (linear solves, policy iteration) before sweeping. On unless false. */

@@ -105,8 +105,15 @@ export interface Analysis {
   horizon?: FiniteHorizonSolution;
   termShares: TermShare[];
   start: StartSummary;
-  /** The largest width of any reported finite bound, and whether every value was solved exactly. */
+  /**
+   * The largest width of any reported finite bound, values and point figures alike (a point
+   * figure whose bounds were wider than the target is NaN: undetermined), and whether every value
+   * was solved exactly.
+   */
   precision: number;
   exact: boolean;
+  /** Sweeps of value or interval iteration spent. */
   iterations: number;
+  /** Sparse linear solves spent (each right-hand side counts once). */
+  solves: number;
 }

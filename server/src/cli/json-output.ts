@@ -96,8 +96,10 @@ export interface JsonAnalysis {
   objective: 'maximize' | 'minimize';
   discount: number;
   horizon?: number;
-  /** Additive: the largest width of any reported finite bound. */
+  /** Additive: the largest width of any reported finite bound or point figure. */
   precision: JsonNumber;
+  /** Additive: the work behind the figures: value-iteration sweeps and sparse linear solves (absent in baselines written before it). */
+  solver?: { sweeps: number; solves: number };
   /** Additive: each reward term's expected discounted total under the optimal policy, and its share. */
   terms: Array<{ term: string; value: JsonNumber; share: number }>;
   /** Present with --values: per state id. */
@@ -267,6 +269,7 @@ export function analysisToJson(analysis: Analysis, model: CompiledModel, withVal
     objective: model.maximize ? 'maximize' : 'minimize',
     discount: model.discount,
     precision: jsonPoint(analysis.precision),
+    solver: { sweeps: analysis.iterations, solves: analysis.solves },
     terms: analysis.termShares.map((t) => ({ term: t.term, value: jsonPoint(t.value), share: Number.isNaN(t.share) ? 0 : roundNearest(t.share) })),
   };
   if (model.horizon !== undefined) out.horizon = model.horizon;

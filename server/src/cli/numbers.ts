@@ -36,7 +36,7 @@ export function roundNearest(x: number, digits: number = JSON_DIGITS): number {
 }
 
 /** A number for JSON, where Infinity cannot be written: "inf" / "-inf". */
-export type JsonNumber = number | 'inf' | '-inf';
+export type JsonNumber = number | 'inf' | '-inf' | 'undetermined';
 
 /**
  * A lower bound for JSON: rounded down; NaN becomes "-inf" (a bound that says nothing, but never
@@ -63,7 +63,8 @@ export function jsonProbability(p: number): number {
 
 /** A point value for JSON that may be infinite (e.g. an expected episode length). */
 export function jsonPoint(x: number): JsonNumber {
-  if (x === Infinity || Number.isNaN(x)) return 'inf';
+  if (Number.isNaN(x)) return 'undetermined';
+  if (x === Infinity) return 'inf';
   if (x === -Infinity) return '-inf';
   return roundNearest(x);
 }
@@ -72,6 +73,7 @@ export function jsonPoint(x: number): JsonNumber {
 export function parseJsonNumber(value: JsonNumber): number {
   if (value === 'inf') return Infinity;
   if (value === '-inf') return -Infinity;
+  if (value === 'undetermined') return NaN;
   return value;
 }
 
@@ -97,7 +99,7 @@ export function textInterval(lower: number, upper: number): string {
 
 /** A probability for people: four decimals, with "<0.0001" and ">0.9999" so tiny non-zero values stay visible. */
 export function textProbability(p: number): string {
-  if (Number.isNaN(p)) return '?';
+  if (Number.isNaN(p)) return 'undetermined';
   if (p <= 0) return '0';
   if (p >= 1) return '1';
   if (p < 5e-5) return '<0.0001';

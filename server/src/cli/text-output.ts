@@ -130,6 +130,7 @@ function interval(i: JsonInterval): string {
 
 function steps(n: JsonNumber): string {
   const x = parseJsonNumber(n);
+  if (Number.isNaN(x)) return 'undetermined';
   return Number.isFinite(x) ? String(Number(x.toPrecision(4))) : 'unbounded';
 }
 

@@ -2,7 +2,7 @@
 
 /** A value with about four significant digits; infinities as ∞. The minus is ASCII, so that a copied number pastes into code. */
 export function formatNumber(x: number): string {
-  if (Number.isNaN(x)) return '?';
+  if (Number.isNaN(x)) return 'undetermined';
   if (x === Infinity) return '∞';
   if (x === -Infinity) return '-∞';
   if (x === 0) return '0';
