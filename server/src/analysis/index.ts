@@ -39,6 +39,10 @@ export interface AnalyzeModelOptions {
    * relative to |value| above 1). The width reached is reported as Analysis.precision.
    */
   precision: number;
+  /** Sweep cap per solve, below the default work cap (for tests of what a capped solve prints). */
+  maxSweeps?: number;
+  /** Set false to solve by sweeps only (no linear solves or policy iteration). */
+  directSolves?: boolean;
 }
 
 /**
@@ -70,7 +74,8 @@ export function analyzeModel(model: CompiledModel, options: AnalyzeModelOptions)
     mecs,
     fullScc,
     precision,
-    maxSweeps: Math.min(MAX_SWEEPS, Math.max(1000, Math.floor(SWEEP_WORK_LIMIT / Math.max(1, model.outcomeCount)))),
+    maxSweeps: Math.min(options.maxSweeps ?? MAX_SWEEPS, MAX_SWEEPS, Math.max(1000, Math.floor(SWEEP_WORK_LIMIT / Math.max(1, model.outcomeCount)))),
+    directSolves: options.directSolves,
     gainBudget: GAIN_WORK_LIMIT,
   };
   const reachable = reachableFromStart(model);

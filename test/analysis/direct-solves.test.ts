@@ -1,0 +1,79 @@
+/**
+ * The direct solves (sparse linear systems per SCC, policy iteration) against closed forms, and the
+ * rule that a figure the solver could not pin down is never printed as a number.
+ *
+ * Gambler's ruin on 0..N, a step up with probability p, down with q = 1 - p: from i the walk ends
+ * at N with probability i/N (p = 1/2) or (1 - r^i)/(1 - r^N), r = q/p, and its expected duration is
+ * i(N - i) (p = 1/2) or i/(q - p) - N/(q - p) (1 - r^i)/(1 - r^N) (W. Feller, An Introduction to
+ * Probability Theory and Its Applications, vol. 1, 3rd ed., 1968, ch. XIV, sections 2 and 3).
+ */
+import { describe, expect, it } from 'vitest';
+import { analyzeModel } from '../../server/src/analysis/index';
+import { ModelBuilder, type CompiledModel } from '../../server/src/model/compiled';
+
+const SPAN = { start: 0, end: 0 };
+
+/** The walk as a one-action MDP; reaching N pays 1, so V(i) is also the goal probability. */
+function walk(n: number, p: number, startAt: number): CompiledModel {
+  const builder = new ModelBuilder({ discount: 1, maximize: true });
+  for (let i = 0; i <= n; i++) builder.addState(`s${i}`, i === 0 ? 'failure' : i === n ? 'goal' : undefined, SPAN);
+  for (let i = 1; i < n; i++) {
+    builder.addChoice(i, 'step', -1, [
+      { target: i + 1, probability: p, reward: i + 1 === n ? 1 : 0 },
+      { target: i - 1, probability: 1 - p, reward: 0 },
+    ]);
+  }
+  return builder.finish([{ state: startAt, probability: 1 }]);
+}
+
+function ruin(n: number, p: number, i: number): { goal: number; duration: number } {
+  if (p === 0.5) return { goal: i / n, duration: i * (n - i) };
+  const q = 1 - p;
+  const r = q / p;
+  const goal = (1 - r ** i) / (1 - r ** n);
+  return { goal, duration: i / (q - p) - (n / (q - p)) * goal };
+}
+
+describe("gambler's ruin at N = 1000 (Feller, vol. 1, 3rd ed., ch. XIV)", () => {
+  for (const p of [0.5, 0.49]) {
+    for (const i of [1, 500, 999]) {
+      it(`p = ${p}, from ${i}: value, reach and expected length inside sound, tight bounds`, () => {
+        const model = walk(1000, p, i);
+        const analysis = analyzeModel(model, { precision: 1e-6 });
+        const truth = ruin(1000, p, i);
+        const { optimal, random, worst } = analysis.start;
+        for (const interval of [optimal, random, worst]) {
+          expect(interval.lower).toBeLessThanOrEqual(truth.goal);
+          expect(interval.upper).toBeGreaterThanOrEqual(truth.goal);
+          expect(interval.upper - interval.lower).toBeLessThanOrEqual(1e-6);
+        }
+        expect(Math.abs(analysis.start.reach.random.goal - truth.goal)).toBeLessThanOrEqual(1e-6);
+        expect(Math.abs(analysis.start.reach.random.failure - (1 - truth.goal))).toBeLessThanOrEqual(1e-6);
+        expect(Math.abs(analysis.start.maxGoalReach - truth.goal)).toBeLessThanOrEqual(1e-6);
+        // Lengths: precision relative above 1000 (1e-6 * |value| / 1000), absolute below.
+        const tolerance = 1e-6 * Math.max(1, truth.duration / 1000);
+        expect(Math.abs(analysis.start.expectedLength.random - truth.duration)).toBeLessThanOrEqual(tolerance);
+        expect(analysis.precision).toBeLessThanOrEqual(1e-6);
+        // One action: the best, worst and random problems are one system, solved directly.
+        expect(analysis.solves).toBeGreaterThan(0);
+        expect(analysis.iterations).toBe(0);
+      });
+    }
+  }
+});
+
+describe('a solve stopped by its work cap', () => {
+  it('prints no point figure it could not determine, and precision says how wide the bounds stayed', () => {
+    // The fair walk on 0..200 needs about N^2 = 40,000 sweeps; three are allowed here and the
+    // direct solves are off, so the reach and length figures stay wide.
+    const model = walk(200, 0.5, 100);
+    const analysis = analyzeModel(model, { precision: 1e-6, maxSweeps: 3, directSolves: false });
+    expect(Number.isNaN(analysis.start.expectedLength.random)).toBe(true);
+    expect(Number.isNaN(analysis.start.reach.random.goal)).toBe(true);
+    expect(analysis.precision).toBeGreaterThan(1e-6);
+    // The same walk with the direct solves gives the closed forms.
+    const direct = analyzeModel(model, { precision: 1e-6 });
+    expect(direct.start.reach.random.goal).toBeCloseTo(0.5, 9);
+    expect(Math.abs(direct.start.expectedLength.random - 10_000)).toBeLessThanOrEqual(1e-5);
+  });
+});
