@@ -7,8 +7,12 @@
  * i(N - i) (p = 1/2) or i/(q - p) - N/(q - p) (1 - r^i)/(1 - r^N) (W. Feller, An Introduction to
  * Probability Theory and Its Applications, vol. 1, 3rd ed., 1968, ch. XIV, sections 2 and 3).
  */
+import Ajv2020 from 'ajv/dist/2020';
 import { describe, expect, it } from 'vitest';
+import outputSchema from '../../schemas/cli-output.schema.json';
 import { analyzeModel } from '../../server/src/analysis/index';
+import { analysisToJson } from '../../server/src/cli/json-output';
+import { textProbability } from '../../server/src/cli/numbers';
 import { ModelBuilder, type CompiledModel } from '../../server/src/model/compiled';
 
 const SPAN = { start: 0, end: 0 };
@@ -71,6 +75,13 @@ describe('a solve stopped by its work cap', () => {
     expect(Number.isNaN(analysis.start.expectedLength.random)).toBe(true);
     expect(Number.isNaN(analysis.start.reach.random.goal)).toBe(true);
     expect(analysis.precision).toBeGreaterThan(1e-6);
+    // JSON says "undetermined" (the contract's schema allows it) rather than a number it does not know.
+    const json = analysisToJson(analysis, model, true);
+    expect(json.start.reach.random.goal).toBe('undetermined');
+    expect(json.start.expectedLength.random).toBe('undetermined');
+    expect(textProbability(json.start.reach.random.goal)).toBe('undetermined');
+    const validate = new Ajv2020({ allErrors: true, strict: false }).compile(outputSchema);
+    expect(validate({ version: 1, files: [{ path: 'walk.mdp.json', findings: [], analysis: json }] }), JSON.stringify(validate.errors)).toBe(true);
     // The same walk with the direct solves gives the closed forms.
     const direct = analyzeModel(model, { precision: 1e-6 });
     expect(direct.start.reach.random.goal).toBeCloseTo(0.5, 9);

@@ -77,6 +77,11 @@ describe('sound rounding of bounds', () => {
     expect(jsonProbability(-1e-18)).toBe(0);
     expect(jsonProbability(0.123456789012345)).toBe(0.123456789);
   });
+
+  it('writes a probability that is not known as "undetermined", never as a number', () => {
+    expect(jsonProbability(NaN)).toBe('undetermined');
+    expect(textProbability('undetermined')).toBe('undetermined');
+  });
 });
 
 describe('numbers for people', () => {

@@ -11,7 +11,7 @@ import Ajv2020 from 'ajv/dist/2020';
 import outputSchema from '../../../schemas/cli-output.schema.json';
 import { SEVERITY_ORDER, type Severity } from '../rules/types';
 import type { JsonFile, JsonFinding, JsonInterval, JsonOutput } from './json-output';
-import { parseJsonNumber } from './numbers';
+import { parseJsonNumber, parseJsonProbability, type JsonProbability } from './numbers';
 
 /** A baseline file that cannot be used; the message is one line for the user. */
 export class BaselineError extends Error {}
@@ -187,8 +187,8 @@ function specShift(before: JsonFile | undefined, after: JsonFile | undefined): S
     status: !before ? 'added' : !after ? 'removed' : 'unchanged',
     optimal: { before: a?.optimal, after: b?.optimal },
     random: { before: a?.random, after: b?.random },
-    goalOptimal: { before: a?.reach.optimal.goal, after: b?.reach.optimal.goal },
-    goalRandom: { before: a?.reach.random.goal, after: b?.reach.random.goal },
+    goalOptimal: { before: probability(a?.reach.optimal.goal), after: probability(b?.reach.optimal.goal) },
+    goalRandom: { before: probability(a?.reach.random.goal), after: probability(b?.reach.random.goal) },
     magnitude: 0,
   };
   if (shift.status !== 'unchanged') {
@@ -224,10 +224,17 @@ function intervalShift(shift: ValueShift<JsonInterval>): number {
 }
 
 /** Probabilities are printed rounded to 10 digits: a smaller difference is no change. */
+/** A JSON probability read back; an "undetermined" one is NaN. */
+function probability(value: JsonProbability | undefined): number | undefined {
+  return value === undefined ? undefined : parseJsonProbability(value);
+}
+
 function probabilityShift(shift: ValueShift<number>): number {
   const { before, after } = shift;
   if (before === undefined && after === undefined) return 0;
   if (before === undefined || after === undefined) return Infinity;
+  // Becoming known or undetermined is a move; staying undetermined is none.
+  if (Number.isNaN(before) || Number.isNaN(after)) return Number.isNaN(before) && Number.isNaN(after) ? 0 : Infinity;
   const d = Math.abs(after - before);
   return d > 1e-9 ? d : 0;
 }

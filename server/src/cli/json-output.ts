@@ -13,7 +13,7 @@ import { TERMINAL_OF_CODE } from '../model/compiled';
 import type { Finding, Severity } from '../rules/types';
 import type { Span } from '../spec/types';
 import type { LineIndex } from '../spec/lines';
-import { jsonLower, jsonPoint, jsonProbability, jsonUpper, roundNearest, type JsonNumber } from './numbers';
+import { jsonLower, jsonPoint, jsonProbability, jsonShare, jsonUpper, roundNearest, type JsonNumber, type JsonProbability } from './numbers';
 
 export const JSON_OUTPUT_VERSION = 1;
 
@@ -22,12 +22,13 @@ export interface JsonInterval {
   upper: JsonNumber;
 }
 
+/** Exact reach probabilities; "undetermined" when a capped solve left one wider than the precision. */
 export interface JsonReach {
-  goal: number;
-  failure: number;
-  none: number;
+  goal: JsonProbability;
+  failure: JsonProbability;
+  none: JsonProbability;
   /** Additive: probability of ending in a neutral terminal. */
-  neutral: number;
+  neutral: JsonProbability;
 }
 
 /** A 1-based range; endColumn is the column just after the last character (as in SARIF). */
@@ -72,7 +73,7 @@ export interface JsonStateValues {
   /** Additive: bounds on Q*(s, a) per action offered in the state. */
   q: Record<string, JsonInterval>;
   /** Additive: the best achievable probability of ending in a goal from this state. */
-  maxGoalReach: number;
+  maxGoalReach: JsonProbability;
 }
 
 export interface JsonAnalysis {
@@ -86,7 +87,7 @@ export interface JsonAnalysis {
     random: JsonInterval;
     reach: { optimal: JsonReach; random: JsonReach };
     /** Additive: the best achievable probability of ending in a goal. */
-    maxGoalReach: number;
+    maxGoalReach: JsonProbability;
     /** Additive: expected number of steps until the episode ends ("inf" when it may never end). */
     expectedLength: { optimal: JsonNumber; random: JsonNumber };
   };
@@ -193,10 +194,10 @@ export function rolloutsToJson(stats: RolloutStats): JsonRollouts {
       histogram: histogram(stats.length.histogram),
     },
     reach: {
-      goal: jsonProbability(stats.reach.goal),
-      failure: jsonProbability(stats.reach.failure),
-      neutral: jsonProbability(stats.reach.neutral),
-      none: jsonProbability(stats.reach.none),
+      goal: jsonShare(stats.reach.goal),
+      failure: jsonShare(stats.reach.failure),
+      neutral: jsonShare(stats.reach.neutral),
+      none: jsonShare(stats.reach.none),
     },
     stepCapped: stats.stepCapped,
   };

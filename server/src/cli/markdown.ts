@@ -127,6 +127,8 @@ export function probabilityShift(shift: ValueShift<number>, style: ShiftStyle = 
   if (before === undefined && after === undefined) return '';
   if (before === undefined) return `${style.none} ${style.arrow} ${textProbability(after!)}`;
   if (after === undefined) return `${textProbability(before)} ${style.arrow} ${style.none}`;
+  if (Number.isNaN(before) && Number.isNaN(after)) return textProbability(after);
+  if (Number.isNaN(before) || Number.isNaN(after)) return `${textProbability(before)} ${style.arrow} ${style.emphasis(textProbability(after))}`;
   if (Math.abs(after - before) <= 1e-9) return textProbability(after);
   return `${textProbability(before)} ${style.arrow} ${style.emphasis(textProbability(after))} (${signed(after - before)})`;
 }

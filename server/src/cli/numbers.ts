@@ -55,10 +55,18 @@ export function jsonUpper(x: number): JsonNumber {
   return roundUp(x);
 }
 
-/** A probability for JSON: rounded to nearest and kept within [0, 1]. */
-export function jsonProbability(p: number): number {
-  if (Number.isNaN(p)) return 0;
+/** A probability for JSON, or "undetermined" when its solve stopped short of the precision. */
+export type JsonProbability = number | 'undetermined';
+
+/** A probability for JSON: rounded to nearest and kept within [0, 1]; NaN (not known) is "undetermined". */
+export function jsonProbability(p: number): JsonProbability {
+  if (Number.isNaN(p)) return 'undetermined';
   return Math.min(1, Math.max(0, roundNearest(p)));
+}
+
+/** A share of sampled episodes for JSON: always known once an episode ran, so always a number. */
+export function jsonShare(p: number): number {
+  return Number.isNaN(p) ? 0 : Math.min(1, Math.max(0, roundNearest(p)));
 }
 
 /** A point value for JSON that may be infinite (e.g. an expected episode length). */
@@ -67,6 +75,11 @@ export function jsonPoint(x: number): JsonNumber {
   if (x === Infinity) return 'inf';
   if (x === -Infinity) return '-inf';
   return roundNearest(x);
+}
+
+/** Reads back a JSON probability: NaN when it is "undetermined". */
+export function parseJsonProbability(value: JsonProbability): number {
+  return value === 'undetermined' ? NaN : value;
 }
 
 /** Reads back a JSON bound written by jsonLower / jsonUpper / jsonPoint. */
@@ -98,8 +111,8 @@ export function textInterval(lower: number, upper: number): string {
 }
 
 /** A probability for people: four decimals, with "<0.0001" and ">0.9999" so tiny non-zero values stay visible. */
-export function textProbability(p: number): string {
-  if (Number.isNaN(p)) return 'undetermined';
+export function textProbability(p: number | 'undetermined'): string {
+  if (p === 'undetermined' || Number.isNaN(p)) return 'undetermined';
   if (p <= 0) return '0';
   if (p >= 1) return '1';
   if (p < 5e-5) return '<0.0001';

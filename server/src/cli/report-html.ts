@@ -109,7 +109,8 @@ function fileSection(file: ReportFile, index: number, options: ReportOptions): s
     parts.push(figure('How episodes end', reachPlot([
       { label: 'optimal', reach: s.reach.optimal },
       { label: 'random', reach: s.reach.random },
-    ]) + `<p class="note">Best achievable goal probability: ${textProbability(s.maxGoalReach ?? s.reach.optimal.goal)}</p>`, 'plot-reach'));
+    ]) + undeterminedReachNote([s.reach.optimal, s.reach.random]) +
+      `<p class="note">Best achievable goal probability: ${textProbability(s.maxGoalReach ?? s.reach.optimal.goal)}</p>`, 'plot-reach'));
     parts.push('</div>');
     if (a.values) parts.push(valuesSection(a.values, options));
   }
@@ -226,6 +227,12 @@ const REACH_KINDS: Array<{ key: keyof JsonReach; label: string; color: string }>
   { key: 'none', label: 'never ends / cut', color: COLORS.none },
 ];
 
+/** Says which bars are missing because their probability was not determined to the precision. */
+function undeterminedReachNote(reaches: JsonReach[]): string {
+  const missing = REACH_KINDS.filter((kind) => reaches.some((reach) => reach[kind.key] === 'undetermined')).map((kind) => kind.label);
+  return missing.length === 0 ? '' : `<p class="note">Undetermined (the solve stopped before the precision), so not drawn: ${esc(missing.join(', '))}</p>`;
+}
+
 /** Stacked bars: the probability of ending in each terminal kind, per policy. */
 function reachPlot(rows: Array<{ label: string; reach: JsonReach }>): string {
   const width = 460;
@@ -246,7 +253,10 @@ function reachPlot(rows: Array<{ label: string; reach: JsonReach }>): string {
     parts.push(`<text x="${left - 8}" y="${y + 11}" text-anchor="end" class="label">${esc(row.label)}</text>`);
     let cumulative = 0;
     for (const kind of REACH_KINDS) {
-      const p = Math.max(0, Number(row.reach[kind.key] ?? 0));
+      const value = row.reach[kind.key] ?? 0;
+      // An undetermined probability gets no bar; the note under the plot says so.
+      if (typeof value !== 'number') continue;
+      const p = Math.max(0, value);
       if (p <= 0) continue;
       const x0 = x(cumulative);
       const w = Math.max(1, x(Math.min(1, cumulative + p)) - x0);

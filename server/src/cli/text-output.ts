@@ -4,7 +4,7 @@
  * ranges per file and a summary line.
  */
 import type { JsonFile, JsonInterval, JsonReach } from './json-output';
-import { parseJsonNumber, textInterval, textProbability, type JsonNumber } from './numbers';
+import { parseJsonNumber, textInterval, textProbability, type JsonNumber, type JsonProbability } from './numbers';
 import { severityCount, type Severity } from '../rules/types';
 
 export interface Style {
@@ -97,8 +97,10 @@ function summariseStart(file: JsonFile, style: Style): string[] {
 
   const reach = a.start.reach;
   // Columns that would show only rounding noise are left out.
-  const showNeutral = reach.optimal.neutral > VISIBLE_PROBABILITY || reach.random.neutral > VISIBLE_PROBABILITY;
-  const showNone = reach.optimal.none > VISIBLE_PROBABILITY || reach.random.none > VISIBLE_PROBABILITY;
+  // An undetermined probability is shown, since it may be large.
+  const visible = (p: JsonProbability) => p === 'undetermined' || p > VISIBLE_PROBABILITY;
+  const showNeutral = visible(reach.optimal.neutral) || visible(reach.random.neutral);
+  const showNone = visible(reach.optimal.none) || visible(reach.random.none);
   const columns = ['return from start', 'goal', 'failure'];
   if (showNeutral) columns.push('neutral');
   if (showNone) columns.push(a.horizon !== undefined ? 'cut/never' : 'never ends');
