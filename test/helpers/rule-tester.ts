@@ -1,0 +1,127 @@
+/**
+ * The rule tester: one table of must-fire (`invalid`) and must-not-fire (`valid`) cases per rule,
+ * JSON or TypeScript specs alike. Besides what each case asks, every finding of the rule is checked
+ * for what all findings owe the user: a span inside the text, a message with no "NaN" or
+ * "undefined", the rule's severity, and fixes whose edited text loads cleanly and no longer draws
+ * that finding.
+ */
+import { describe, expect, it } from 'vitest';
+import type { FileReport } from '../../server/src/analyze';
+import type { EpiscopeConfig } from '../../server/src/config';
+import { findRule } from '../../server/src/rules/registry';
+import type { Finding, Severity } from '../../server/src/rules/types';
+import { analyzeTs } from '../typescript/ts-specs';
+import { applyFix, checkSpec, findingsOf, spanText } from './specs';
+
+/** A spec: a JSON object or text, or the text of a `*.mdp.ts` model. */
+export type CaseSpec = object | string | { typescript: string };
+
+export interface RuleCase {
+  name: string;
+  spec: CaseSpec;
+  config?: EpiscopeConfig;
+}
+
+/** What one expected finding must show; every field is optional. */
+export interface ExpectedFinding {
+  /** The exact text the finding's span covers. */
+  at?: string;
+  message?: RegExp;
+  severity?: Severity;
+  /** Fix titles, in order. */
+  fixes?: RegExp[];
+}
+
+export interface InvalidCase extends RuleCase {
+  /** The rule's findings in document order (their number must match), or just how many. */
+  findings: ExpectedFinding[] | number;
+  /** Further checks on the whole report. */
+  check?: (report: FileReport, findings: Finding[]) => void;
+}
+
+export interface RuleTable {
+  valid: RuleCase[];
+  invalid: InvalidCase[];
+}
+
+/** Loose enough for a model run in the sandbox on a loaded 2-core machine (load average 8). */
+const TYPESCRIPT_CASE_TIMEOUT_MS = 60_000;
+
+function isTypeScript(spec: CaseSpec): spec is { typescript: string } {
+  return typeof spec === 'object' && spec !== null && 'typescript' in spec && typeof (spec as { typescript: unknown }).typescript === 'string';
+}
+
+/** Runs the whole pipeline on a case's spec, as the CLI would. */
+export async function runCase(spec: CaseSpec, config?: EpiscopeConfig): Promise<FileReport> {
+  if (isTypeScript(spec)) return analyzeTs(spec.typescript, config ?? {});
+  return checkSpec(spec, config);
+}
+
+/** Defines the table's tests for `ruleId` (call at the top level of a test file). */
+export function testRule(ruleId: string, table: RuleTable): void {
+  const rule = findRule(ruleId);
+  describe(`${ruleId} (rule table)`, () => {
+    it('is a registered rule', () => {
+      expect(rule, `no rule ${ruleId} in the registry`).toBeDefined();
+    });
+    for (const c of table.valid) {
+      it(`does not fire: ${c.name}`, { timeout: isTypeScript(c.spec) ? TYPESCRIPT_CASE_TIMEOUT_MS : undefined }, async () => {
+        const report = await runCase(c.spec, c.config);
+        expect(findingsOf(report, ruleId).map((f) => f.message)).toEqual([]);
+      });
+    }
+    for (const c of table.invalid) {
+      it(`fires: ${c.name}`, { timeout: isTypeScript(c.spec) ? TYPESCRIPT_CASE_TIMEOUT_MS : undefined }, async () => {
+        const report = await runCase(c.spec, c.config);
+        const findings = findingsOf(report, ruleId);
+        const expected = typeof c.findings === 'number' ? c.findings : c.findings.length;
+        expect(findings.map((f) => f.message), `${ruleId} findings`).toHaveLength(expected);
+        for (const [i, finding] of findings.entries()) {
+          checkFindingBasics(report, finding);
+          if (typeof c.findings !== 'number') checkExpected(report, finding, c.findings[i]);
+          await checkFixes(c, report, finding, ruleId);
+        }
+        c.check?.(report, findings);
+      });
+    }
+  });
+}
+
+function checkFindingBasics(report: FileReport, finding: Finding): void {
+  expect(finding.span.start).toBeGreaterThanOrEqual(0);
+  expect(finding.span.end).toBeGreaterThanOrEqual(finding.span.start);
+  expect(finding.span.end).toBeLessThanOrEqual(report.text.length);
+  expect(finding.message).not.toMatch(/\bNaN\b|\bundefined\b/);
+  expect(finding.message.trim()).not.toBe('');
+  for (const step of finding.trace ?? []) expect(JSON.stringify(step)).not.toMatch(/\bNaN\b/);
+  for (const related of finding.related ?? []) expect(related.message).not.toMatch(/\bNaN\b|\bundefined\b/);
+  // A rule may raise or lower its own severity per finding (documented on the rule); it is always one of the three.
+  expect(['error', 'warning', 'info']).toContain(finding.severity);
+}
+
+function checkExpected(report: FileReport, finding: Finding, expected: ExpectedFinding): void {
+  if (expected.at !== undefined) expect(spanText(report, finding)).toBe(expected.at);
+  if (expected.message) expect(finding.message).toMatch(expected.message);
+  if (expected.severity) expect(finding.severity).toBe(expected.severity);
+  if (expected.fixes) {
+    const titles = (finding.fixes ?? []).map((fix) => fix.title);
+    expect(titles).toHaveLength(expected.fixes.length);
+    expected.fixes.forEach((pattern, i) => expect(titles[i]).toMatch(pattern));
+  }
+}
+
+/**
+ * Each fix, applied alone, must leave text that loads without a syntax or schema error and on which
+ * the rule draws fewer findings than before (the fixed one is gone).
+ */
+async function checkFixes(c: InvalidCase, report: FileReport, finding: Finding, ruleId: string): Promise<void> {
+  const before = findingsOf(report, ruleId).length;
+  for (const fix of finding.fixes ?? []) {
+    const text = applyFix(report, fix.edits);
+    const spec: CaseSpec = isTypeScript(c.spec) ? { typescript: text } : text;
+    const after = await runCase(spec, c.config);
+    const broken = after.findings.filter((f) => f.rule === 'syntax' || f.rule === 'schema');
+    expect(broken.map((f) => f.message), `after "${fix.title}"`).toEqual([]);
+    expect(findingsOf(after, ruleId).length, `after "${fix.title}" the finding is gone`).toBeLessThan(before);
+  }
+}
