@@ -161,7 +161,7 @@ export function certifiedChainSolve(
 ): boolean {
   const wanted = wantedBlocksOf(system, iterate);
   if (!wanted) return false;
-  const solved = certifiedSolve(system, reward, wanted);
+  const solved = certifiedSolve(system, reward, wanted, 0, undefined, options.precision);
   if (!solved) return false;
   const { x, radius } = solved;
   const floor = options.lowerBound ?? -Infinity;
@@ -189,23 +189,29 @@ export function certifiedChainSolve(
  * the true solution lies within x -+ radius, row by row (the two roundings of forming x -+ radius
  * included). Undefined when a solve or the certificate fails.
  */
-export function certifiedSolve(system: LinearSystem, reward: Float64Array, wanted?: Uint8Array, emptyRowValue = 0): { x: Float64Array; radius: Float64Array } | undefined {
+export function certifiedSolve(
+  system: LinearSystem,
+  reward: Float64Array,
+  wanted?: Uint8Array,
+  emptyRowValue = 0,
+  guess?: Float64Array,
+  precision?: number,
+): { x: Float64Array; radius: Float64Array } | undefined {
   const { matrix, solver, layout } = system;
   const rows = matrix.n;
   const want = wanted ?? new Uint8Array(solver.blockCount).fill(1);
-  const rhs = new Float64Array(rows);
-  for (let i = 0; i < rows; i++) {
-    if (!want[solver.blockOf[i]]) continue;
-    const { first, end } = layout.choicesOf(i);
-    let sum = first === end ? emptyRowValue : 0;
-    for (let c = first; c < end; c++) sum += reward[c];
-    rhs[i] = sum / weightCount(layout, i);
-  }
-  const x = new Float64Array(rows);
-  if (!solver.solve(rhs, x, want)) return undefined;
+  const x = approximateSolve(system, reward, want, emptyRowValue, guess);
+  if (!x) return undefined;
   const residual = new Float64Array(rows);
   const residualError = new Float64Array(rows);
   let worst = modelResidual(system, reward, emptyRowValue, x, want, residual, residualError);
+  if (!Number.isFinite(worst)) return undefined;
+  // When the first solve's bound is already well inside the precision, refinement would only
+  // cost solves; the bound is as sound either way.
+  if (precision !== undefined) {
+    const early = certifiedRadius(system, x, residual, residualError, want);
+    if (early && withinPrecision(x, early, want, solver.blockOf, precision / 4)) return { x, radius: early };
+  }
   // Iterative refinement with a residual computed in double-double (Higham 2002, ch. 12): a
   // correction or two bring the residual to the rounding floor of x itself.
   const correction = new Float64Array(rows);
@@ -225,11 +231,50 @@ export function certifiedSolve(system: LinearSystem, reward: Float64Array, wante
     worst = trialWorst;
   }
   if (!Number.isFinite(worst)) return undefined;
+  const radius = certifiedRadius(system, x, residual, residualError, want);
+  return radius ? { x, radius } : undefined;
+}
+
+/** The certified radius around x from its residual, including the rounding of forming x -+ radius. */
+function certifiedRadius(system: LinearSystem, x: Float64Array, residual: Float64Array, residualError: Float64Array, want: Uint8Array): Float64Array | undefined {
   const radius = errorBound(system, residual, residualError, want);
   if (!radius) return undefined;
   // The subtraction and addition that form x -+ radius round too; two units in the last place cover them.
-  for (let i = 0; i < rows; i++) radius[i] += 2 * Number.EPSILON * (Math.abs(x[i]) + radius[i]);
-  return { x, radius };
+  for (let i = 0; i < x.length; i++) radius[i] += 2 * Number.EPSILON * (Math.abs(x[i]) + radius[i]);
+  return radius;
+}
+
+function withinPrecision(x: Float64Array, radius: Float64Array, want: Uint8Array, blockOf: Int32Array, precision: number): boolean {
+  for (let i = 0; i < x.length; i++) {
+    if (want[blockOf[i]] && !(scaledWidth(x[i] - radius[i], x[i] + radius[i]) <= precision)) return false;
+  }
+  return true;
+}
+
+/**
+ * The solution of the system for `reward` on the wanted blocks, uncertified (a guess for policy
+ * iteration's intermediate policies, whose values only steer the next improvement), or undefined
+ * when the solve fails. `guess` is a starting point for the iterative blocks.
+ */
+export function approximateSolve(
+  system: LinearSystem,
+  reward: Float64Array,
+  wanted: Uint8Array,
+  emptyRowValue = 0,
+  guess?: Float64Array,
+): Float64Array | undefined {
+  const { matrix, solver, layout } = system;
+  const rows = matrix.n;
+  const rhs = new Float64Array(rows);
+  for (let i = 0; i < rows; i++) {
+    if (!wanted[solver.blockOf[i]]) continue;
+    const { first, end } = layout.choicesOf(i);
+    let sum = first === end ? emptyRowValue : 0;
+    for (let c = first; c < end; c++) sum += reward[c];
+    rhs[i] = sum / weightCount(layout, i);
+  }
+  const x = new Float64Array(rows);
+  return solver.solve(rhs, x, wanted, guess) ? x : undefined;
 }
 
 /** Veltkamp's splitting constant for Dekker's exact product (2^27 + 1). */
@@ -326,7 +371,9 @@ function errorBound(system: LinearSystem, residual: Float64Array, residualError:
   // A floor keeps every entry of the target positive, as the M-matrix test needs. Where A E is a
   // small difference of large entries of E the check cannot see it through rounding; a higher
   // floor (still far below the values' precision) then makes every row's A E clearly positive.
-  for (let floor = 1e-12; floor <= 1; floor *= 1e4) {
+  // It starts at 1e-8 of the largest residual, which widens the widest bound by at most that
+  // fraction and spares the retry that a lower floor often needs on long chains.
+  for (let floor = 1e-8; floor <= 1; floor *= 1e4) {
     const bound = scaledErrorBound(system, residual, residualError, wanted, Math.max(1e-280, floor * largest));
     if (bound !== 'rounding') return bound;
   }

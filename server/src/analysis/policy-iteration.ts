@@ -17,7 +17,7 @@
  * iteration from u decreases to V* (Bertsekas and Tsitsiklis 1991).
  */
 import type { CompiledModel } from '../model/compiled';
-import { buildLinearSystem, certifiedSolve, type LinearSystem, type RowLayout } from './chain-solve';
+import { approximateSolve, buildLinearSystem, certifiedSolve, type LinearSystem, type RowLayout } from './chain-solve';
 import type { ModelGraph } from './graph';
 import { COMBINE_MAX, scaledWidth, type Nodes, type Operator } from './interval-iteration';
 import type { SolverCounters } from './sparse-linear';
@@ -59,12 +59,27 @@ export function policyIterationBounds(
   let improvements = 0;
   let system: LinearSystem;
   let solved: { x: Float64Array; radius: Float64Array } | undefined;
+  let previous: Float64Array | undefined;
+  // Intermediate policies are evaluated without a certificate, each solve starting from the last
+  // policy's values (policy iteration with inexact evaluations; Puterman 1994, section 6.5); the
+  // policy that no longer improves is then solved and certified, and if its certified values
+  // still improve it, iteration goes on from there.
   for (;;) {
     system = buildLinearSystem(model, layoutOf(nodes, nodeOf, policy), op.discount, counters);
-    solved = certifiedSolve(system, reward);
+    const all = new Uint8Array(system.solver.blockCount).fill(1);
+    const guess = approximateSolve(system, reward, all, 0, previous);
+    solves++;
+    if (!guess) return undefined;
+    previous = guess;
+    if (improve(model, nodes, nodeOf, allowed, reward, op.discount, guess, policy)) {
+      if (++improvements >= MAX_IMPROVEMENTS) return undefined;
+      continue;
+    }
+    solved = certifiedSolve(system, reward, all, 0, guess, precision);
     solves++;
     if (!solved) return undefined;
     if (!improve(model, nodes, nodeOf, allowed, reward, op.discount, solved.x, policy)) break;
+    previous = solved.x;
     if (++improvements >= MAX_IMPROVEMENTS) return undefined;
   }
   const { x, radius } = solved;

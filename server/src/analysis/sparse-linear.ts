@@ -100,9 +100,10 @@ export class BlockSolver {
   /**
    * Solves A x = b on the rows of the blocks with wanted[block] set (all when absent). Those
    * blocks must not depend on unwanted ones except through zero values. Returns false when a
-   * block could not be factored or its solve gave a value that is not finite.
+   * block could not be factored or its solve gave a value that is not finite. `guess`, when
+   * given, is a starting point for the iterative blocks (a nearby system's solution).
    */
-  solve(b: Float64Array, x: Float64Array, wantedBlocks?: Uint8Array): boolean {
+  solve(b: Float64Array, x: Float64Array, wantedBlocks?: Uint8Array, guess?: Float64Array): boolean {
     this.counters.solves++;
     const { rowStart, column, value } = this.matrix;
     x.fill(0);
@@ -132,8 +133,13 @@ export class BlockSolver {
         for (let j = 0; j < size; j++) x[this.order[first + j]] = rhs[j];
       } else {
         const local = new Float64Array(size);
+        let start: Float64Array | undefined;
+        if (guess) {
+          start = new Float64Array(size);
+          for (let j = 0; j < size; j++) start[j] = guess[this.order[first + j]];
+        }
         // A solve that stopped short is still passed on: the caller's certificate judges it.
-        const iterations = bicgstab(factor, rhs, local);
+        const iterations = bicgstab(factor, rhs, local, start);
         this.counters.krylovIterations += Math.abs(iterations);
         for (let j = 0; j < size; j++) if (!Number.isFinite(local[j])) return false;
         for (let j = 0; j < size; j++) x[this.order[first + j]] = local[j];
@@ -414,7 +420,7 @@ function dot(a: Float64Array, b: Float64Array): number {
  * |b| + |A||x| in the last place) or when the residual stops shrinking. Returns the iterations
  * spent, negated when the residual stayed far above that floor (the best iterate is left in x).
  */
-function bicgstab(factor: KrylovFactor, b: Float64Array, x: Float64Array): number {
+function bicgstab(factor: KrylovFactor, b: Float64Array, x: Float64Array, guess?: Float64Array): number {
   const matrix = factor.local;
   const n = matrix.n;
   const bNorm = infinityNorm(b);
@@ -433,9 +439,18 @@ function bicgstab(factor: KrylovFactor, b: Float64Array, x: Float64Array): numbe
   const best = new Float64Array(n);
   // The rounding floor of a residual: |A| x is at most twice the largest |x| for these matrices.
   const floorOf = (xs: Float64Array): number => 64 * Number.EPSILON * (bNorm + 2 * infinityNorm(xs));
-  // Start from the preconditioner's own solution: exact for a block it factors exactly (a chain).
+  // Start from the preconditioner's own solution (exact for a block it factors exactly, a chain),
+  // or from the guess when its residual is smaller.
   iluApply(factor, b, x);
   let bestNorm = Infinity;
+  if (guess) {
+    multiply(matrix, guess, r);
+    for (let i = 0; i < n; i++) r[i] = b[i] - r[i];
+    const guessNorm = infinityNorm(r);
+    multiply(matrix, x, r);
+    for (let i = 0; i < n; i++) r[i] = b[i] - r[i];
+    if (guessNorm < infinityNorm(r)) x.set(guess);
+  }
   const maxIterations = Math.max(200, Math.min(5000, 20 * Math.ceil(Math.sqrt(n))));
   let iterations = 0;
   for (let round = 0; round < 8 && iterations < maxIterations; round++) {
