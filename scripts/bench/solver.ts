@@ -146,7 +146,7 @@ function runLimited(command: string, args: readonly string[], limitSeconds: numb
 }
 
 /** The analysis part of the JSON output, with the solver counters the analysis may add. */
-type CheckedAnalysis = JsonAnalysis & { solver?: { sweeps?: unknown; solves?: unknown } };
+type CheckedAnalysis = JsonAnalysis & { solver?: { sweeps?: unknown; solves?: unknown; krylovIterations?: unknown } };
 
 const finite = (x: unknown): x is number => typeof x === 'number' && Number.isFinite(x);
 /** An interval's width; an exactly known infinite value ("-inf" to "-inf") is 0 wide. */
@@ -199,7 +199,7 @@ const COLUMNS: ReadonlyArray<[keyof Row, string, number]> = [
   ['target', 'target', 8],
   ['widest', 'widest bound', 13],
   ['sweeps', 'sweeps', 7],
-  ['solves', 'solves', 7],
+  ['solves', 'solves (its)', 14],
   ['value', 'V*(start)', 26],
   ['reach', 'random: goal / failure', 24],
   ['length', 'random length', 14],
@@ -237,7 +237,8 @@ function checkRow(spec: BenchSpec, run: RunResult, limit: number): { row: Row; s
   // Counters the analysis may report; "-" until it does.
   const solver = analysis.solver;
   row.sweeps = finite(solver?.sweeps) ? String(solver.sweeps) : '-';
-  row.solves = finite(solver?.solves) ? String(solver.solves) : '-';
+  // Krylov iterations count the solver's work whatever the machine's load.
+  row.solves = finite(solver?.solves) ? `${solver.solves}${finite(solver?.krylovIterations) ? ` (${solver.krylovIterations})` : ''}` : '-';
   row.value = interval(start.optimal);
   row.reach = `${figure(start.reach?.random?.goal)} / ${figure(start.reach?.random?.failure)}`;
   row.length = figure(start.expectedLength?.random);

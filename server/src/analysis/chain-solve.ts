@@ -373,6 +373,11 @@ function errorBound(system: LinearSystem, residual: Float64Array, residualError:
   // floor (still far below the values' precision) then makes every row's A E clearly positive.
   // It starts at 1e-8 of the largest residual, which widens the widest bound by at most that
   // fraction and spares the retry that a lower floor often needs on long chains.
+  // First a loose solve: with the floor at 1e-4 of the largest residual and the solve stopped at
+  // 1e-5 of it, every row's A E stays above 0.9 of its target, so the check scales E by at most
+  // about 1.1; a bound is as sound as the check that accepts it, however loosely it was solved.
+  const loose = scaledErrorBound(system, residual, residualError, wanted, Math.max(1e-280, 1e-4 * largest), 1e-5);
+  if (loose !== 'rounding' && loose !== undefined) return loose;
   for (let floor = 1e-8; floor <= 1; floor *= 1e4) {
     const bound = scaledErrorBound(system, residual, residualError, wanted, Math.max(1e-280, floor * largest));
     if (bound !== 'rounding') return bound;
@@ -380,7 +385,14 @@ function errorBound(system: LinearSystem, residual: Float64Array, residualError:
   return undefined;
 }
 
-function scaledErrorBound(system: LinearSystem, residual: Float64Array, residualError: Float64Array, wanted: Uint8Array, floor: number): Float64Array | undefined | 'rounding' {
+function scaledErrorBound(
+  system: LinearSystem,
+  residual: Float64Array,
+  residualError: Float64Array,
+  wanted: Uint8Array,
+  floor: number,
+  tolerance?: number,
+): Float64Array | undefined | 'rounding' {
   const { model, solver, discount, layout } = system;
   const { rowOf } = layout;
   const { outcomeStart, outcomeTarget, outcomeProb } = model;
@@ -393,7 +405,7 @@ function scaledErrorBound(system: LinearSystem, residual: Float64Array, residual
     scaledTarget[i] = target[i] / weightCount(layout, i);
   }
   const bound = new Float64Array(n);
-  if (!solver.solve(scaledTarget, bound, wanted)) return undefined;
+  if (!solver.solve(scaledTarget, bound, wanted, undefined, tolerance)) return undefined;
   let scale = 1;
   for (let i = 0; i < n; i++) {
     if (!wanted[solver.blockOf[i]]) continue;

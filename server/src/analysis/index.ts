@@ -119,6 +119,7 @@ export function analyzeModel(model: CompiledModel, options: AnalyzeModelOptions)
     start,
     precision: Math.max(widestBound(base.optimal.values), widestBound(base.worst.values), widestBound(base.random.values), ctx.widestFigure ?? 0),
     solves: ctx.counters?.solves ?? 0,
+    krylovIterations: ctx.counters?.krylovIterations ?? 0,
     exact: base.exact,
     iterations: base.iterations,
   };

@@ -101,9 +101,10 @@ export class BlockSolver {
    * Solves A x = b on the rows of the blocks with wanted[block] set (all when absent). Those
    * blocks must not depend on unwanted ones except through zero values. Returns false when a
    * block could not be factored or its solve gave a value that is not finite. `guess`, when
-   * given, is a starting point for the iterative blocks (a nearby system's solution).
+   * given, is a starting point for the iterative blocks (a nearby system's solution);
+   * `tolerance`, a residual relative to |b| at which they may stop early (for a loose solve).
    */
-  solve(b: Float64Array, x: Float64Array, wantedBlocks?: Uint8Array, guess?: Float64Array): boolean {
+  solve(b: Float64Array, x: Float64Array, wantedBlocks?: Uint8Array, guess?: Float64Array, tolerance?: number): boolean {
     this.counters.solves++;
     const { rowStart, column, value } = this.matrix;
     x.fill(0);
@@ -139,7 +140,7 @@ export class BlockSolver {
           for (let j = 0; j < size; j++) start[j] = guess[this.order[first + j]];
         }
         // A solve that stopped short is still passed on: the caller's certificate judges it.
-        const iterations = bicgstab(factor, rhs, local, start);
+        const iterations = bicgstab(factor, rhs, local, start, tolerance);
         this.counters.krylovIterations += Math.abs(iterations);
         for (let j = 0; j < size; j++) if (!Number.isFinite(local[j])) return false;
         for (let j = 0; j < size; j++) x[this.order[first + j]] = local[j];
@@ -420,7 +421,7 @@ function dot(a: Float64Array, b: Float64Array): number {
  * |b| + |A||x| in the last place) or when the residual stops shrinking. Returns the iterations
  * spent, negated when the residual stayed far above that floor (the best iterate is left in x).
  */
-function bicgstab(factor: KrylovFactor, b: Float64Array, x: Float64Array, guess?: Float64Array): number {
+function bicgstab(factor: KrylovFactor, b: Float64Array, x: Float64Array, guess?: Float64Array, tolerance = 0): number {
   const matrix = factor.local;
   const n = matrix.n;
   const bNorm = infinityNorm(b);
@@ -428,6 +429,7 @@ function bicgstab(factor: KrylovFactor, b: Float64Array, x: Float64Array, guess?
     x.fill(0);
     return 0;
   }
+  const enough = tolerance * bNorm;
   const r = new Float64Array(n);
   const rHat = new Float64Array(n);
   const p = new Float64Array(n);
@@ -438,7 +440,7 @@ function bicgstab(factor: KrylovFactor, b: Float64Array, x: Float64Array, guess?
   const t = new Float64Array(n);
   const best = new Float64Array(n);
   // The rounding floor of a residual: |A| x is at most twice the largest |x| for these matrices.
-  const floorOf = (xs: Float64Array): number => 64 * Number.EPSILON * (bNorm + 2 * infinityNorm(xs));
+  const floorOf = (xs: Float64Array): number => Math.max(enough, 64 * Number.EPSILON * (bNorm + 2 * infinityNorm(xs)));
   // Start from the preconditioner's own solution (exact for a block it factors exactly, a chain),
   // or from the guess when its residual is smaller.
   iluApply(factor, b, x);

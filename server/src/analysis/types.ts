@@ -116,4 +116,6 @@ export interface Analysis {
   iterations: number;
   /** Sparse linear solves spent (each right-hand side counts once). */
   solves: number;
+  /** BiCGSTAB iterations over all solves (a measure of the solver's work that load does not skew). */
+  krylovIterations: number;
 }

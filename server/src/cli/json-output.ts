@@ -100,7 +100,7 @@ export interface JsonAnalysis {
   /** Additive: the largest width of any reported finite bound or point figure. */
   precision: JsonNumber;
   /** Additive: the work behind the figures: value-iteration sweeps and sparse linear solves (absent in baselines written before it). */
-  solver?: { sweeps: number; solves: number };
+  solver?: { sweeps: number; solves: number; krylovIterations?: number };
   /** Additive: each reward term's expected discounted total under the optimal policy, and its share. */
   terms: Array<{ term: string; value: JsonNumber; share: number }>;
   /** Present with --values: per state id. */
@@ -270,7 +270,7 @@ export function analysisToJson(analysis: Analysis, model: CompiledModel, withVal
     objective: model.maximize ? 'maximize' : 'minimize',
     discount: model.discount,
     precision: jsonPoint(analysis.precision),
-    solver: { sweeps: analysis.iterations, solves: analysis.solves },
+    solver: { sweeps: analysis.iterations, solves: analysis.solves, krylovIterations: analysis.krylovIterations },
     terms: analysis.termShares.map((t) => ({ term: t.term, value: jsonPoint(t.value), share: Number.isNaN(t.share) ? 0 : roundNearest(t.share) })),
   };
   if (model.horizon !== undefined) out.horizon = model.horizon;
