@@ -56,6 +56,34 @@ describe('episcope --version and --help', () => {
       expect(result.stderr.trimEnd().split('\n'), argv.join(' ')).toHaveLength(1);
     }
   });
+
+  it('exits 2 with one line naming the allowed range when a number option is out of range or not a whole number', async () => {
+    // The ranges are those of the config file's schema (seed: a 32-bit unsigned number; rollouts: at least 0).
+    const cases: Array<[string[], string]> = [
+      [['check', 'examples', '--rollouts', '-5'], "option '--rollouts' needs a whole number from 0 to 10000000; got -5"],
+      [['check', 'examples', '--rollouts', '1.5'], "option '--rollouts' needs a whole number from 0 to 10000000; got '1.5'"],
+      [['check', 'examples', '--rollouts=99999999999'], "option '--rollouts' needs a whole number from 0 to 10000000; got 99999999999"],
+      [['check', 'examples', '--seed', 'abc'], "option '--seed' needs a whole number from 0 to 4294967295; got 'abc'"],
+      [['check', 'examples', '--seed=-1'], "option '--seed' needs a whole number from 0 to 4294967295; got -1"],
+      [['check', 'examples', '--seed', '4294967296'], "option '--seed' needs a whole number from 0 to 4294967295; got 4294967296"],
+      [['check', 'examples', '--seed', '1e3'], "option '--seed' needs a whole number from 0 to 4294967295; got '1e3'"],
+      [['server', '--socket=70000'], "option '--socket' needs a whole number from 1 to 65535; got 70000"],
+      [['server', '--stdio', '--clientProcessId', '-3'], "option '--clientProcessId' needs a whole number from 1 to 2147483647; got -3"],
+    ];
+    for (const [argv, message] of cases) {
+      const result = await cli(argv);
+      expect(result.code, argv.join(' ')).toBe(2);
+      expect(result.stdout, argv.join(' ')).toBe('');
+      expect(result.stderr.trimEnd().split('\n'), argv.join(' ')).toEqual([`episcope: ${message} (see 'episcope --help')`]);
+      expect(result.stderr).not.toMatch(/\bat .+:\d+:\d+/);
+    }
+  });
+
+  it('accepts the ends of the number ranges', async () => {
+    const result = await cli(['check', 'examples/warehouse-picking.mdp.json', '--seed', '4294967295', '--rollouts', '0', '--format', 'json']);
+    expect(result.stderr).toBe('');
+    expect([0, 1]).toContain(result.code);
+  });
 });
 
 describe('episcope check --format json', () => {

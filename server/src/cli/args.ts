@@ -18,6 +18,8 @@ export interface OptionSpec {
   choices?: readonly string[];
   /** Shown in the usage text, e.g. FILE or N. */
   valueName?: string;
+  /** Smallest and largest value an "integer" option accepts; anything outside is a usage error. */
+  range?: readonly [number, number];
   /** The value when the option is not given (flags default to false). */
   defaultValue?: OptionValue;
   description: string;
@@ -80,13 +82,16 @@ export const OPTIONS: readonly OptionSpec[] = [
   },
   { name: 'stdio', kind: 'flag', description: 'talk the Language Server Protocol over standard input and output' },
   { name: 'node-ipc', kind: 'flag', description: 'talk the Language Server Protocol over Node IPC (for clients that start it as a Node module)' },
-  { name: 'socket', kind: 'string', valueName: 'PORT', description: 'talk the Language Server Protocol over a TCP socket on this port' },
-  { name: 'clientProcessId', kind: 'string', valueName: 'PID', description: 'exit when this process (the editor) ends' },
+  { name: 'socket', kind: 'integer', range: [1, 65535], valueName: 'PORT', description: 'talk the Language Server Protocol over a TCP socket on this port' },
+  { name: 'clientProcessId', kind: 'integer', range: [1, 2 ** 31 - 1], valueName: 'PID', description: 'exit when this process (the editor) ends' },
   { name: 'no-exec', kind: 'flag', description: 'never run TypeScript model code: static checks only (for untrusted files)' },
-  { name: 'seed', kind: 'integer', valueName: 'N', description: 'seed of the Monte Carlo rollouts (default: the config\'s seed, else 1)' },
+  // The same range as the config file's seed: the rollouts use it as a 32-bit unsigned number.
+  { name: 'seed', kind: 'integer', range: [0, 2 ** 32 - 1], valueName: 'N', description: 'seed of the Monte Carlo rollouts (default: the config\'s seed, else 1)' },
   {
     name: 'rollouts',
     kind: 'integer',
+    // Every rollout's return, length and ending are kept in memory (13 bytes); ten million stay near 130 MB.
+    range: [0, 10_000_000],
     valueName: 'N',
     description: 'rollouts per spec: estimates for sampled TypeScript models (default 1000), and for exact models the return distribution under the optimal and the random policy',
   },
@@ -205,18 +210,27 @@ function convertValue(option: OptionSpec, raw: string): OptionValue {
       return raw;
     case 'integer': {
       if (!/^-?\d+$/.test(raw) || !Number.isSafeInteger(Number(raw))) {
-        throw new UsageError(`option '--${option.name}' needs a whole number; got '${raw}'`);
+        throw new UsageError(`option '--${option.name}' needs a whole number${rangeText(option)}; got '${raw}'`);
       }
-      return Number(raw);
+      const value = Number(raw);
+      if (option.range && (value < option.range[0] || value > option.range[1])) {
+        throw new UsageError(`option '--${option.name}' needs a whole number${rangeText(option)}; got ${raw}`);
+      }
+      return value;
     }
     default:
       return raw;
   }
 }
 
+/** " from 0 to 4294967295" for an option with a range, else ''. */
+function rangeText(option: OptionSpec): string {
+  return option.range ? ` from ${option.range[0]} to ${option.range[1]}` : '';
+}
+
 function describeValue(option: OptionSpec): string {
   if (option.kind === 'choice') return `one of ${option.choices?.join(', ')}`;
-  if (option.kind === 'integer') return 'a whole number';
+  if (option.kind === 'integer') return `a whole number${rangeText(option)}`;
   return option.valueName ?? 'a value';
 }
 

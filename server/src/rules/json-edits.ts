@@ -4,6 +4,7 @@
  * keep the document's indentation and line ends.
  */
 import { parseTree, type Node } from 'jsonc-parser';
+import { maskLongBlanks } from '../spec/blanks';
 import type { TextEdit } from './types';
 
 type Path = ReadonlyArray<string | number>;
@@ -81,7 +82,7 @@ export class JsonEditor {
   }
 
   private nodeAt(path: Path): Node | undefined {
-    if (this.tree === null) this.tree = parseTree(this.text, [], { allowTrailingComma: true });
+    if (this.tree === null) this.tree = parseTree(maskLongBlanks(this.text), [], { allowTrailingComma: true });
     let node = this.tree;
     for (const segment of path) {
       if (!node) return undefined;

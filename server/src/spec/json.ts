@@ -12,6 +12,7 @@ import { createScanner, getNodeValue, parseTree, type Node, type ParseError } fr
 import schemaDocument from '../../../schemas/mdp.schema.json';
 import { schemaFinding } from '../rules/schema';
 import type { Finding } from '../findings';
+import { maskLongBlanks } from './blanks';
 import { closestName, formatNumber, jsonPath } from './names';
 import {
   emptySpec,
@@ -79,6 +80,8 @@ const PARSE_ERROR_TEXT: Record<number, string> = {
 };
 
 let validator: ValidateFunction | undefined;
+/** The inlined copies of `$defs/probability`; their range errors belong to negative-probability. */
+const probabilitySchemas = new Set<object>();
 
 /** The schema validator, compiled once on first use (the editor calls the loader on every change). */
 function schemaValidator(): ValidateFunction {
@@ -86,9 +89,32 @@ function schemaValidator(): ValidateFunction {
     // strictNumbers is off so that an overflowing literal (1e400 -> Infinity) reaches the rules
     // that explain it (non-finite-reward) instead of a bare type error.
     const ajv = new Ajv2020({ allErrors: true, verbose: true, strictNumbers: false, allowUnionTypes: true });
-    validator = ajv.compile(schemaDocument);
+    validator = ajv.compile(inlineDefinitions(schemaDocument));
   }
   return validator;
+}
+
+/**
+ * The schema with every `$ref` replaced by a copy of its definition (the format is not recursive).
+ * ajv compiles a `$ref` that holds further references into a function of its own and appends its
+ * errors with `concat`, which makes collecting n errors cost n^2 (20,000 wrong transitions took 34
+ * s); inlined, every error is one `push`. Inlined item types also let `uniqueItems` hash strings.
+ */
+function inlineDefinitions(document: typeof schemaDocument): object {
+  const definitions = document.$defs as Record<string, unknown>;
+  const copy = (value: unknown): unknown => {
+    if (Array.isArray(value)) return value.map(copy);
+    if (!value || typeof value !== 'object') return value;
+    const { $ref, $defs: _definitions, ...rest } = value as Record<string, unknown>;
+    const own = Object.fromEntries(Object.entries(rest).map(([key, inner]) => [key, copy(inner)]));
+    if (typeof $ref !== 'string') return own;
+    const name = $ref.replace(/^#\/\$defs\//, '');
+    // The definition's own keywords first, so that a description written at the reference wins.
+    const merged = { ...(copy(definitions[name]) as object), ...own };
+    if (name === 'probability') probabilitySchemas.add(merged);
+    return merged;
+  };
+  return copy(document) as object;
 }
 
 /** Parses and validates a JSON spec. Never throws, whatever the text. */
@@ -110,7 +136,9 @@ function parseUnchecked(text: string): JsonSpecResult {
     findings.push(schemaFinding(`the document is ${megabytes} MB, more than the ${MAX_DOCUMENT_LENGTH / 1024 / 1024} MB Episcope reads from a JSON spec; it was not analysed (generate MDPs this large with a TypeScript model, *.mdp.ts)`, firstCharacter(text)));
     return { spec: emptySpec('json', wholeText), findings };
   }
-  const tooDeep = findExcessiveNesting(text);
+  // Same offsets, same tree and errors; only long runs of blanks are scanned faster.
+  const scanned = maskLongBlanks(text);
+  const tooDeep = findExcessiveNesting(scanned);
   if (tooDeep !== undefined) {
     findings.push(
       schemaFinding(
@@ -122,7 +150,7 @@ function parseUnchecked(text: string): JsonSpecResult {
   }
 
   const parseErrors: ParseError[] = [];
-  const root = parseTree(text, parseErrors, { allowTrailingComma: true, disallowComments: false, allowEmptyContent: false });
+  const root = parseTree(scanned, parseErrors, { allowTrailingComma: true, disallowComments: false, allowEmptyContent: false });
   for (const error of parseErrors) {
     const reason = PARSE_ERROR_TEXT[error.error] ?? 'invalid JSON';
     findings.push(schemaFinding(`invalid JSON: ${reason}`, widen({ start: error.offset, end: error.offset + error.length }, text)));
@@ -135,18 +163,22 @@ function parseUnchecked(text: string): JsonSpecResult {
     return { spec: emptySpec('json', wholeText), findings };
   }
 
+  // The reader runs first: the values it explains as a whole tell validation what not to repeat.
   const schemaProblems: Finding[] = [];
-  validateAgainstSchema(root, parseErrors.length === 0 ? text : undefined, schemaProblems);
-  reportDuplicateKeys(root, schemaProblems);
   const reader = new SpecReader(root, schemaProblems);
   const spec = reader.read();
-  dropExplainedProblems(schemaProblems, reader.explained);
+  const explained = new ExplainedValues(reader.explained);
+  reportDuplicateKeys(root, schemaProblems);
+  const kept = schemaProblems.filter((finding) => !explained.covers(finding));
+  // Validation describes only the first problems by position, enough to fill the cap.
+  const undescribed = validateAgainstSchema(root, parseErrors.length === 0 ? text : undefined, explained, MAX_SCHEMA_FINDINGS + 1, kept);
 
-  schemaProblems.sort((a, b) => a.span.start - b.span.start);
-  findings.push(...schemaProblems.slice(0, MAX_SCHEMA_FINDINGS));
-  if (schemaProblems.length > MAX_SCHEMA_FINDINGS) {
-    const rest = schemaProblems.length - MAX_SCHEMA_FINDINGS;
-    findings.push(schemaFinding(`${rest} more schema problems are not shown; fix the ones above first`, schemaProblems[MAX_SCHEMA_FINDINGS].span));
+  kept.sort((a, b) => a.span.start - b.span.start);
+  findings.push(...kept.slice(0, MAX_SCHEMA_FINDINGS));
+  if (kept.length > MAX_SCHEMA_FINDINGS || undescribed.count > 0) {
+    const rest = Math.max(0, kept.length - MAX_SCHEMA_FINDINGS) + undescribed.count;
+    const count = undescribed.exact ? String(rest) : `at least ${rest}`;
+    findings.push(schemaFinding(`${count} more schema problems are not shown; fix the ones above first`, kept[Math.min(MAX_SCHEMA_FINDINGS, kept.length - 1)].span));
   }
   return { spec, findings };
 }
@@ -178,26 +210,56 @@ function findExcessiveNesting(text: string): number | undefined {
 // ---------------------------------------------------------------------------------------------
 // Schema validation
 
-/** Validates the document; `strictText` is the text when it parsed without errors (maybe strict JSON). */
-function validateAgainstSchema(root: Node, strictText: string | undefined, out: Finding[]): void {
+/**
+ * Validates the document and adds a finding for each of its first `budget` problems by position
+ * (`strictText` is the text when it parsed without errors, maybe strict JSON). Returns how many
+ * findings were left out, exact when each place left has one problem, else a lower bound.
+ */
+function validateAgainstSchema(root: Node, strictText: string | undefined, explained: ExplainedValues, budget: number, out: Finding[]): { count: number; exact: boolean } {
   const validate = schemaValidator();
-  if (validate(documentValue(root, strictText))) return;
-  const seen = new Set<string>();
-  const misnamed = misnamedProperties(validate.errors ?? []);
-  for (const error of validate.errors ?? []) {
+  if (validate(documentValue(root, strictText))) return { count: 0, exact: true };
+  const errors = validate.errors ?? [];
+  const misnamed = misnamedProperties(errors);
+  const kept: ErrorObject[] = [];
+  const nodes: Node[] = [];
+  for (const error of errors) {
     // Probabilities outside [0, 1] are the negative-probability rule's (with what they cost); a
     // probability that is not a number at all is reported here.
-    if (error.schemaPath.startsWith('#/$defs/probability/') && error.keyword !== 'type') continue;
+    if (probabilitySchemas.has(error.parentSchema as object) && error.keyword !== 'type') continue;
     // The inner error of propertyNames carries the details; the outer one would repeat it.
     if (error.keyword === 'propertyNames') continue;
     const mixUp = misnamed.get(error.instancePath);
     if (mixUp && (error.keyword === 'required' || (error.keyword === 'additionalProperties' && error.params.additionalProperty !== mixUp.unknown[0]))) continue;
-    const finding = describeSchemaError(root, error, mixUp);
+    kept.push(error);
+    nodes.push(locate(root, pointerSegments(error.instancePath)).node);
+  }
+  // By position, and at one place in the schema's order: keys of offset and index in one number
+  // (offsets are below 2^24, so both fit exactly) sort natively, without a comparator call.
+  const order = new Float64Array(kept.length);
+  for (let i = 0; i < kept.length; i++) order[i] = nodes[i].offset * 2 ** 28 + i;
+  order.sort();
+  const at = (k: number) => order[k] % 2 ** 28;
+  const seen = new Set<string>();
+  let index = 0;
+  for (; index < order.length && seen.size < budget; index++) {
+    const error = kept[at(index)];
+    const { node, segments } = locate(root, pointerSegments(error.instancePath));
+    const finding = describeSchemaError(node, segments, error, misnamed.get(error.instancePath));
     const key = `${finding.span.start}:${finding.span.end}:${finding.message}`;
-    if (seen.has(key)) continue;
+    if (seen.has(key) || explained.covers(finding)) continue;
     seen.add(key);
     out.push(finding);
   }
+  // What is left is counted by place: problems at different places never share a finding, and
+  // one problem at a place is one finding; several at one place may share one.
+  const places = new Set<string>();
+  let problems = 0;
+  for (; index < order.length; index++) {
+    if (explained.coversNode(nodes[at(index)])) continue;
+    places.add(kept[at(index)].instancePath);
+    problems++;
+  }
+  return { count: places.size, exact: problems === places.size };
 }
 
 /**
@@ -239,14 +301,36 @@ function misnamedProperties(errors: readonly ErrorObject[]): Map<string, Misname
   return byObject;
 }
 
-/** Drops schema problems inside a value whose mistake the reader explained as a whole. */
-function dropExplainedProblems(problems: Finding[], explained: ReadonlyArray<{ span: Span; finding: Finding }>): void {
-  if (explained.length === 0) return;
-  const inside = (finding: Finding) =>
-    explained.some((e) => e.finding !== finding && finding.span.start >= e.span.start && finding.span.end <= e.span.end);
-  const kept = problems.filter((finding) => !inside(finding));
-  problems.length = 0;
-  problems.push(...kept);
+/**
+ * The values whose mistake the reader explained as a whole; schema problems inside them are
+ * dropped. The reader records them in document order and they do not overlap, so a lookup is a
+ * binary search (a hostile spec can have one per transition).
+ */
+class ExplainedValues {
+  constructor(private readonly values: ReadonlyArray<{ span: Span; finding: Finding }>) {}
+
+  /** True when the finding lies inside an explained value and is not that value's explanation. */
+  covers(finding: Finding): boolean {
+    const value = this.around(finding.span.start);
+    return value !== undefined && value.finding !== finding && finding.span.end <= value.span.end;
+  }
+
+  coversNode(node: Node): boolean {
+    const value = this.around(node.offset);
+    return value !== undefined && node.offset + node.length <= value.span.end;
+  }
+
+  /** The last value that starts at or before the offset. */
+  private around(offset: number): { span: Span; finding: Finding } | undefined {
+    let low = 0;
+    let high = this.values.length;
+    while (low < high) {
+      const middle = (low + high) >>> 1;
+      if (this.values[middle].span.start <= offset) low = middle + 1;
+      else high = middle;
+    }
+    return low > 0 ? this.values[low - 1] : undefined;
+  }
 }
 
 const TYPE_PHRASE: Record<string, string> = {
@@ -259,8 +343,7 @@ const TYPE_PHRASE: Record<string, string> = {
   null: 'null',
 };
 
-function describeSchemaError(root: Node, error: ErrorObject, misnamed?: Misnamed): Finding {
-  const { node, segments } = locate(root, pointerSegments(error.instancePath));
+function describeSchemaError(node: Node, segments: Array<string | number>, error: ErrorObject, misnamed?: Misnamed): Finding {
   const path = jsonPath(segments);
   const subject = segments.length === 0 ? 'the spec' : path;
   const parentSchema = (error.parentSchema ?? {}) as { description?: string; properties?: Record<string, { description?: string }>; type?: string | string[] };
@@ -348,10 +431,9 @@ function requiredSpan(node: Node): Span {
 
 function pointerSegments(pointer: string): string[] {
   if (pointer === '') return [];
-  return pointer
-    .slice(1)
-    .split('/')
-    .map((raw) => raw.replace(/~1/g, '/').replace(/~0/g, '~'));
+  const raw = pointer.slice(1).split('/');
+  // Escapes are rare; skipping their replacement matters when there are many errors.
+  return pointer.includes('~') ? raw.map((segment) => segment.replace(/~1/g, '/').replace(/~0/g, '~')) : raw;
 }
 
 /**
@@ -376,8 +458,20 @@ function locate(root: Node, pointer: readonly string[]): { node: Node; segments:
   return { node, segments };
 }
 
+/** Property lookup tables of large objects, built on first use (a scan per lookup would be n^2). */
+const propertyTables = new WeakMap<Node, Map<unknown, Node>>();
+
 function lastProperty(object: Node, key: string): Node | undefined {
   const children = object.children ?? [];
+  if (children.length > 16) {
+    let table = propertyTables.get(object);
+    if (!table) {
+      table = new Map();
+      for (const property of children) table.set(property.children?.[0]?.value, property);
+      propertyTables.set(object, table);
+    }
+    return table.get(key);
+  }
   for (let i = children.length - 1; i >= 0; i--) {
     const property = children[i];
     if (property.children?.[0]?.value === key) return property;
@@ -391,9 +485,21 @@ function propertyKey(object: Node, key: string): Node | undefined {
 
 /** Duplicate keys: JSON.parse (and every JSON tool) keeps only the last, which hides the first. */
 function reportDuplicateKeys(root: Node, out: Finding[]): void {
-  const stack: Node[] = [root];
+  // Each entry knows its parent and its key or index, so a path is built only for a finding.
+  interface Visit {
+    node: Node;
+    parent?: Visit;
+    segment?: string | number;
+  }
+  const pathTo = (visit: Visit): Array<string | number> => {
+    const path: Array<string | number> = [];
+    for (let at: Visit | undefined = visit; at?.parent; at = at.parent) path.push(at.segment!);
+    return path.reverse();
+  };
+  const stack: Visit[] = [{ node: root }];
   while (stack.length > 0) {
-    const node = stack.pop()!;
+    const visit = stack.pop()!;
+    const node = visit.node;
     const children = node.children ?? [];
     if (node.type === 'object') {
       const repeated = repeatedKeyIndices(children);
@@ -401,12 +507,12 @@ function reportDuplicateKeys(root: Node, out: Finding[]): void {
         const keyNode = children[i].children?.[0];
         const valueNode = children[i].children?.[1];
         if (keyNode && repeated?.has(i)) {
-          out.push(schemaFinding(`${jsonPath(pathOf(node))} has the key "${keyNode.value}" more than once; only the last one counts, so this one is ignored`, nodeSpan(keyNode)));
+          out.push(schemaFinding(`${jsonPath(pathTo(visit))} has the key "${keyNode.value}" more than once; only the last one counts, so this one is ignored`, nodeSpan(keyNode)));
         }
-        if (valueNode?.children) stack.push(valueNode);
+        if (valueNode?.children) stack.push({ node: valueNode, parent: visit, segment: String(keyNode?.value) });
       }
     } else if (node.type === 'array') {
-      for (const item of children) if (item.children) stack.push(item);
+      for (let i = 0; i < children.length; i++) if (children[i].children) stack.push({ node: children[i], parent: visit, segment: i });
     }
   }
 }
@@ -436,24 +542,6 @@ function repeatedKeyIndices(properties: Node[]): Set<number> | undefined {
     else later.add(key);
   }
   return repeated;
-}
-
-/** The path of keys and indices from the root to a node (computed only for findings). */
-function pathOf(node: Node): Array<string | number> {
-  const path: Array<string | number> = [];
-  let current = node;
-  while (current.parent) {
-    const parent = current.parent;
-    if (parent.type === 'property') {
-      path.push(String(parent.children?.[0]?.value));
-      current = parent.parent ?? parent;
-      if (current === parent) break;
-    } else {
-      path.push(parent.children?.indexOf(current) ?? 0);
-      current = parent;
-    }
-  }
-  return path.reverse();
 }
 
 // ---------------------------------------------------------------------------------------------
