@@ -7,12 +7,14 @@ import { run as analysis } from './bench/analysis';
 import { run as typescript } from './bench/typescript';
 import { run as lsp } from './bench/lsp';
 import { run as solver } from './bench/solver';
+import { run as hostile } from './bench/hostile';
 
 const SECTIONS: ReadonlyArray<{ name: string; run: () => Promise<void> }> = [
   { name: 'analysis', run: analysis },
   { name: 'typescript', run: typescript },
   { name: 'lsp', run: lsp },
   { name: 'solver', run: solver },
+  { name: 'hostile', run: hostile },
 ];
 
 async function main(): Promise<void> {

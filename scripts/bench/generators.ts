@@ -232,3 +232,17 @@ export default defineMdp({
 });
 `;
 }
+
+/**
+ * Hostile inputs for the loader's bounds: a spec whose `count` transitions each have a wrong-typed
+ * `from` (a number), and a valid two-state spec padded with `blanks` spaces. Invented content.
+ */
+export function wrongTypedTransitionsText(count: number): string {
+  const transitions = Array.from({ length: count }, (_, i) => ({ from: i, action: 'go', to: 'g', reward: 1 }));
+  return JSON.stringify({ discount: 0.9, start: 'a', actions: ['go'], states: { a: {}, g: { terminal: 'goal' } }, transitions });
+}
+
+export function blankPaddedSpecText(blanks: number): string {
+  const spec = { discount: 0.9, start: 'a', actions: ['go'], states: { a: {}, g: { terminal: 'goal' } }, transitions: [{ from: 'a', action: 'go', to: 'g', reward: 1 }] };
+  return JSON.stringify(spec).replace('"transitions"', `${' '.repeat(blanks)}"transitions"`);
+}
