@@ -7,7 +7,7 @@
  *
  * The command line and the language server both load configs through this module.
  */
-import Ajv2020, { type ErrorObject } from 'ajv/dist/2020';
+import Ajv2020, { type ErrorObject, type ValidateFunction } from 'ajv/dist/2020';
 import { findNodeAtLocation, getNodeValue, parseTree, printParseErrorCode, type Node, type ParseError } from 'jsonc-parser';
 import { existsSync, readFileSync, statSync } from 'node:fs';
 import * as nodePath from 'node:path';
@@ -54,8 +54,13 @@ export interface ConfigFile {
   ignoreSpans: Span[];
 }
 
-const ajv = new Ajv2020({ allErrors: true, strict: true });
-const validateConfig = ajv.compile<EpiscopeConfig>(configSchema);
+let configValidator: ValidateFunction<EpiscopeConfig> | undefined;
+
+/** The config schema's validator, compiled on first use: a run without a config file never pays for it. */
+function configValidatorOf(): ValidateFunction<EpiscopeConfig> {
+  configValidator ??= new Ajv2020({ allErrors: true, strict: true }).compile<EpiscopeConfig>(configSchema);
+  return configValidator;
+}
 
 /**
  * Parses and validates a config file's text. Pure (no file system access). `baseDir` becomes the
@@ -95,6 +100,7 @@ export function parseConfigText(
   const value: unknown = getNodeValue(root);
   // Pointers (as key lists) to the parts that must be dropped because they are invalid.
   const invalid: string[][] = [];
+  const validateConfig = configValidatorOf();
   if (!validateConfig(value)) {
     for (const error of validateConfig.errors ?? []) {
       const located = describeSchemaError(error, rules);
