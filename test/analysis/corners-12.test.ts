@@ -58,3 +58,37 @@ describe('terminals with a horizon read as without one', () => {
     expect(checkSpec(spec(1)).analysis!.start.maxGoalReach).toBe(0);
   });
 });
+
+describe('shares of reward terms that cancel', () => {
+  /**
+   * a moves on to b with probability 0.3 (bonus +0.1) and stays with 0.7 (fee +0.3); b ends at the goal
+   * with bonus -0.1 and fee `fee`. The stays before leaving are geometric: 0.7 / 0.3 = 7/3 on average
+   * (closed form of the geometric distribution), so bonus totals 0.1 - 0.1 = 0 and fee totals
+   * 0.3 * 7/3 + fee = 0.7 + fee.
+   */
+  const spec = (fee: number) => ({
+    discount: 1, start: 'a', actions: ['go'], rewardTerms: { bonus: { direction: 'either' }, fee: { direction: 'either' } },
+    states: { a: {}, b: {}, g: { terminal: 'goal' } },
+    transitions: [
+      { from: 'a', action: 'go', to: [{ state: 'b', probability: 0.3, reward: { bonus: 0.1 } }, { state: 'a', probability: 0.7, reward: { fee: 0.3 } }] },
+      { from: 'b', action: 'go', to: [{ state: 'g', probability: 1, reward: { bonus: -0.1, fee } }] },
+    ],
+  });
+  const shares = (fee: number) => Object.fromEntries(checkSpec(spec(fee)).analysis!.termShares.map((t) => [t.term, t]));
+
+  it('terms that both total 0 have share 0, not +-1 from rounding noise', () => {
+    const { bonus, fee } = shares(-0.7);
+    expect(Math.abs(bonus.value)).toBeLessThanOrEqual(1e-6);
+    expect(Math.abs(fee.value)).toBeLessThanOrEqual(1e-6);
+    expect(bonus.share).toBe(0);
+    expect(fee.share).toBe(0);
+  });
+
+  it('a term that totals 0 beside one that does not: shares 0 and 1', () => {
+    // fee totals 0.7 - 0.4 = 0.3.
+    const { bonus, fee } = shares(-0.4);
+    expect(fee.value).toBeCloseTo(0.3, 6);
+    expect(bonus.share).toBe(0);
+    expect(fee.share).toBe(1);
+  });
+});
