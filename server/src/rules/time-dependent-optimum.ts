@@ -7,7 +7,7 @@ import type { Rule } from './types';
 export const timeDependentOptimum: Rule = {
   id: 'time-dependent-optimum',
   defaultSeverity: 'warning',
-  summary: 'With a horizon, the optimal action at a visited state changes with the steps left.',
+  summary: 'With a horizon, the optimal action at a state some policy reaches changes with the steps left.',
   needs: 'analysis',
   sources: ['json', 'enumerable'],
   thresholds: {
