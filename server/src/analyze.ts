@@ -16,7 +16,7 @@ import type { AnalyzeOptions, FileReport, LoadedSpec } from './report';
 import { episodeNeverEnds } from './rules/episode-never-ends';
 import { RULES } from './rules/registry';
 import type { IncompleteModel, Rule, RuleContext } from './rules/types';
-import { parseJsonSpec } from './spec/json';
+import { MAX_DOCUMENT_LENGTH, MAX_NESTING_DEPTH, parseJsonSpec } from './spec/json';
 import { LineIndex } from './spec/lines';
 import { emptySpec, type ParsedSpec } from './spec/types';
 import { suppressReport } from './suppress';
@@ -50,7 +50,34 @@ async function loadTypeScript(path: string, text: string, options: AnalyzeOption
 /** Loads a JSON spec (`*.mdp.json`). Never throws. */
 export function loadJsonSpec(text: string): LoadedSpec {
   const parsed = parseJsonSpec(text);
-  return { spec: parsed.spec, findings: parsed.findings, internalErrors: parsed.internalError ? [parsed.internalError] : [] };
+  const loaded: LoadedSpec = { spec: parsed.spec, findings: parsed.findings, internalErrors: parsed.internalError ? [parsed.internalError] : [] };
+  const unreadable = unreadableJson(text, parsed.findings);
+  if (unreadable) loaded.unreadable = unreadable;
+  return loaded;
+}
+
+/** The loader's wording of a JSON syntax error and of a document nested too deeply (spec/json.ts). */
+const SYNTAX_PREFIX = 'invalid JSON: ';
+const NESTING_PREFIX = 'values are nested more than';
+
+/**
+ * Why a JSON document was not read as a spec: more than the size limit, not valid JSON (with the
+ * first syntax error's place), or another loader error on a document of which nothing was read.
+ */
+function unreadableJson(text: string, findings: Finding[]): string | undefined {
+  if (text.length > MAX_DOCUMENT_LENGTH) {
+    return `the document is ${(text.length / 1024 / 1024).toFixed(1)} MB, more than the ${MAX_DOCUMENT_LENGTH / 1024 / 1024} MB Episcope reads from a JSON spec`;
+  }
+  const syntax = findings.filter((f) => f.rule === 'schema' && f.message.startsWith(SYNTAX_PREFIX));
+  if (syntax.length > 0) {
+    const first = syntax.reduce((a, b) => (b.span.start < a.span.start ? b : a));
+    const at = new LineIndex(text).position(first.span.start);
+    const where = `line ${at.line + 1}, column ${at.character + 1}: ${first.message.slice(SYNTAX_PREFIX.length)}`;
+    return `the document is not valid JSON (${syntax.length === 1 ? `a syntax error at ${where}` : `${syntax.length} syntax errors, the first at ${where}`})`;
+  }
+  if (text.trim() === '') return 'the document is empty';
+  const deep = findings.find((f) => f.rule === 'schema' && f.message.startsWith(NESTING_PREFIX));
+  return deep ? `values are nested more than ${MAX_NESTING_DEPTH} levels deep, so the document was not read` : undefined;
 }
 
 /** Analyses a JSON spec (`*.mdp.json`). Never throws for any input text. */
@@ -89,7 +116,7 @@ export function analyzeLoaded(path: string, text: string, loaded: LoadedSpec, op
 
   const compiled: CompileResult = loaded.enumerated ?? compileSpec(loaded.spec);
   report.model = compiled.model;
-  if (!compiled.model) report.notAnalysed ??= compiled.reason;
+  if (!compiled.model) report.notAnalysed ??= notCompiledReason(loaded, compiled.reason);
   if (compiled.internalError) report.internalErrors.push(compiled.internalError);
 
   const enabled = RULES.filter((rule) => config.rules[rule.id] !== 'off');
@@ -175,6 +202,14 @@ function runRule(
 /** A LoadedSpec for a load that failed through a bug of ours: an empty spec and the reason. */
 function failedLoad(path: string, text: string, reason: string): LoadedSpec {
   return { spec: emptySpec(path.endsWith('.mdp.ts') ? 'ts' : 'json', { start: 0, end: text.length }), findings: [], enumerated: { reason }, internalErrors: [reason] };
+}
+
+/** Why there is no model: an unreadable document first, then what the part that was read lacks. */
+function notCompiledReason(loaded: LoadedSpec, reason: string | undefined): string | undefined {
+  if (!loaded.unreadable) return reason;
+  const spec = loaded.spec;
+  const partial = spec.states.length > 0 || spec.transitions.length > 0 || spec.discount !== undefined;
+  return partial && reason ? `${loaded.unreadable}; of the part that was read: ${reason}` : loaded.unreadable;
 }
 
 function errorText(error: unknown): string {

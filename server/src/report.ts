@@ -36,6 +36,11 @@ export interface LoadedSpec {
   enumerated?: { model?: CompiledModel; reason?: string };
   /** Rollout figures of a sampled (or capped) TypeScript model. */
   rollouts?: RolloutReport;
+  /**
+   * Why the document could not be read as a spec (too large, not JSON), when that is so. It is the
+   * reason given when there is no model, rather than what the empty or partial spec lacks.
+   */
+  unreadable?: string;
   /** Failures of ours while loading (a bug, not a problem of the spec); they end in FileReport.internalErrors. */
   internalErrors: string[];
   cancelled?: boolean;

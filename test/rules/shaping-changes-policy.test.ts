@@ -66,3 +66,30 @@ describe('shaping-changes-policy: must not fire', () => {
     expect(findingsOf(report, 'shaping-changes-policy')).toEqual([]);
   });
 });
+
+describe('shaping-changes-policy: undefined unshaped values (issue 12, found by test/incentives/robustness.test.ts)', () => {
+  // Minimising at discount 1. Without shaping, `a1` at s2 either stays (-1, one step) or goes round
+  // s0 -> s1 -> s2 (+5 - 1 - 3 = +1, three steps), each with probability 1/2: 0 per visit of s2 on
+  // average, a random walk without drift, so its total has no limit and the unshaped value of s2 is
+  // undefined (hand-derived). Which action is best there without shaping is then not known.
+  const spec = {
+    objective: 'minimize', discount: 1, start: 's0', actions: ['a0', 'a1', 'a2'],
+    rewardTerms: { task: { direction: 'either' }, progress: { direction: 'either', shaping: true } },
+    states: { t0: { terminal: 'neutral' }, t1: { terminal: 'failure' }, s0: { actions: ['a0'] }, s1: { actions: ['a0'] }, s2: { actions: ['a0', 'a1', 'a2'] } },
+    shaping: { potential: { s0: 1, s1: 0, s2: -3, t0: -2, t1: 3 } },
+    transitions: [
+      { from: 's0', action: 'a0', to: [{ state: 's1', probability: 1, reward: { task: -1, progress: 0 } }] },
+      { from: 's1', action: 'a0', to: [{ state: 's2', probability: 1, reward: { task: -3, progress: 0 } }] },
+      { from: 's2', action: 'a0', to: [{ state: 's1', probability: 2 / 3, reward: { task: 4, progress: 2 } }, { state: 't0', probability: 1 / 3, reward: { task: 3, progress: -2 } }] },
+      { from: 's2', action: 'a1', to: [{ state: 's0', probability: 0.5, reward: { task: 5, progress: 1 } }, { state: 's2', probability: 0.5, reward: { task: -1, progress: 2 } }] },
+      { from: 's2', action: 'a2', to: [{ state: 's0', probability: 0.25, reward: { task: -1, progress: 1 } }, { state: 't1', probability: 0.75, reward: { task: -4, progress: 0 } }] },
+    ],
+  };
+
+  it('claims no unshaped optimum where the unshaped value is undefined, and prints no NaN anywhere', () => {
+    const report = checkSpec(spec);
+    expect(report.internalErrors).toEqual([]);
+    expect(findingsOf(report, 'shaping-changes-policy')).toEqual([]);
+    for (const finding of report.findings) expect(finding.message).not.toMatch(/NaN/);
+  });
+});

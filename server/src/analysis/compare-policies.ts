@@ -8,7 +8,7 @@ import type { CompiledModel } from '../model/compiled';
 import { analyzeModel } from './index';
 import { policyChain, withReward } from './model-variants';
 import { liveStartStates, pushSuccessors } from './paths';
-import type { Analysis, FiniteHorizonSolution } from './types';
+import type { Analysis, FiniteHorizonSolution, Interval } from './types';
 import { qValue } from './time-dependence';
 
 export interface PolicyDifference {
@@ -18,8 +18,8 @@ export interface PolicyDifference {
   /** A best choice with shaping that is clearly not best without it, or the reverse. */
   shapedChoice: number;
   plainChoice: number;
-  /** Q of both choices under the reward without shaping. */
-  plainQ: { shaped: number; plain: number };
+  /** Bounds on Q of both choices under the reward without shaping (a point with a horizon). */
+  plainQ: { shaped: Interval; plain: Interval };
 }
 
 export interface ShapingComparison {
@@ -27,9 +27,9 @@ export interface ShapingComparison {
   differences: PolicyDifference[];
   /** How many reachable states differ in total. */
   differingStates: number;
-  /** The unshaped return from the start of the shaped optimum, and the best unshaped return. */
-  shapedPolicyPlainReturn?: number;
-  plainOptimalReturn?: number;
+  /** Bounds on the unshaped return from the start of the shaped optimum, and on the best unshaped return. */
+  shapedPolicyPlainReturn?: Interval;
+  plainOptimalReturn?: Interval;
 }
 
 const plainAnalyses = new WeakMap<Analysis, Analysis>();
@@ -56,8 +56,8 @@ export function compareShapedPolicies(
   const result: ShapingComparison = { plain, differences: [], differingStates: 0 };
   if (shaped.horizon && plain.horizon) {
     compareFiniteHorizon(model, plainModel, shaped.horizon, plain.horizon, shaped.reachable, precision, maxDifferences, result);
-    result.plainOptimalReturn = startValue(plainModel, plain.horizon, plain.horizon.horizon);
-    result.shapedPolicyPlainReturn = evaluateFiniteHorizon(plainModel, shaped.horizon);
+    result.plainOptimalReturn = point(startValue(plainModel, plain.horizon, plain.horizon.horizon));
+    result.shapedPolicyPlainReturn = point(evaluateFiniteHorizon(plainModel, shaped.horizon));
     return result;
   }
   for (let s = 0; s < model.stateCount; s++) {
@@ -70,22 +70,28 @@ export function compareShapedPolicies(
   if (result.differingStates > 0 && shaped.optimal.policy) {
     const chain = policyChain(plainModel, shaped.optimal.policy);
     const evaluation = analyzeModel(chain.model, { precision });
-    result.shapedPolicyPlainReturn = middle(evaluation.start.optimal);
-    result.plainOptimalReturn = middle(plain.start.optimal);
+    result.shapedPolicyPlainReturn = evaluation.start.optimal;
+    result.plainOptimalReturn = plain.start.optimal;
   }
   return result;
 }
 
-function middle(interval: { lower: number; upper: number }): number {
-  return interval.lower === interval.upper ? interval.lower : (interval.lower + interval.upper) / 2;
+function point(x: number): Interval {
+  return { lower: x, upper: x };
 }
 
 /**
  * A state differs when some action is best under one reward while, under the other, it is not best and
  * its Q bounds lie below the best action's by more than the precision (above, when minimizing): a
- * difference the bounds prove, never a near-tie.
+ * difference the bounds prove, never a near-tie. States whose value is undefined under either reward
+ * are not compared.
  */
 function stationaryDifference(model: CompiledModel, shaped: Analysis, plain: Analysis, s: number, precision: number): PolicyDifference | undefined {
+  // Where either value is undefined (bounds -inf to inf), neither reward says which action is best.
+  for (const analysis of [shaped, plain]) {
+    const { lower, upper } = analysis.optimal.values;
+    if (!(lower[s] > -Infinity || upper[s] < Infinity)) return undefined;
+  }
   const first = model.choiceStart[s];
   const last = model.choiceStart[s + 1];
   const clearlyWorse = (analysis: Analysis, c: number): boolean => {
@@ -114,7 +120,7 @@ function stationaryDifference(model: CompiledModel, shaped: Analysis, plain: Ana
       state: s,
       shapedChoice,
       plainChoice,
-      plainQ: { shaped: middle({ lower: plain.q.lower[shapedChoice], upper: plain.q.upper[shapedChoice] }), plain: middle({ lower: plain.q.lower[plainChoice], upper: plain.q.upper[plainChoice] }) },
+      plainQ: { shaped: { lower: plain.q.lower[shapedChoice], upper: plain.q.upper[shapedChoice] }, plain: { lower: plain.q.lower[plainChoice], upper: plain.q.upper[plainChoice] } },
     };
   }
   return undefined;
@@ -186,7 +192,7 @@ function compareFiniteHorizon(
         stepsLeft: k,
         shapedChoice,
         plainChoice,
-        plainQ: { shaped: qValue(plainModel, plain, shapedChoice, k), plain: qValue(plainModel, plain, plainChoice, k) },
+        plainQ: { shaped: point(qValue(plainModel, plain, shapedChoice, k)), plain: point(qValue(plainModel, plain, plainChoice, k)) },
       });
     }
     current = next;

@@ -10,6 +10,7 @@
  * would exceed the work budget, induction stops after K steps and the remaining H - K steps are
  * bounded by their largest and smallest possible rewards (sound, then no longer exact).
  */
+import { TERMINAL_CODE } from '../model/compiled';
 import type { ModelGraph } from './graph';
 import type { FiniteHorizonSolution } from './types';
 
@@ -200,6 +201,20 @@ export function solveFiniteHorizon(graph: ModelGraph, horizon: number, inputs: H
     const geometric = discount === 1 ? remaining : (Math.pow(discount, steps) * (1 - Math.pow(discount, remaining))) / (1 - discount);
     tailLower = rmin * geometric;
     tailUpper = rmax * geometric;
+  }
+
+  // A terminal has ended the episode in its own kind, as in the analysis without a horizon: the
+  // induction kept it at 0 so that entering it is counted once, on the step into it.
+  const kindCodes = [TERMINAL_CODE.goal, TERMINAL_CODE.failure, TERMINAL_CODE.neutral];
+  for (let s = 0; s < n; s++) {
+    const code = model.terminal[s];
+    if (code === 0) continue;
+    for (const list of reachTracks) {
+      list.forEach((t, i) => {
+        if (t && kindCodes[i] === code) t.prev[s] = 1;
+      });
+    }
+    if (maxGoal && code === TERMINAL_CODE.goal) maxGoal.prev[s] = 1;
   }
 
   const result = (value: Track, policy: 0 | 1 | 2, first?: Int32Array): HorizonPolicyResult => ({

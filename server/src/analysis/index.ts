@@ -92,7 +92,7 @@ export function analyzeModel(model: CompiledModel, options: AnalyzeModelOptions)
   const gains = base.gains ?? classifyMdpGains(graph, mecs, reward, sigma, GAIN_WORK_LIMIT);
   const endComponents: EndComponent[] = mecs.states.map((states, i) => endComponentOf(states, mecs.choices[i], gains, i, sigma));
 
-  const termShares = shareOf(terms.map((t, i) => ({ term: t.name, value: startPoint(model, base.termValues[i]) })));
+  const termShares = shareOf(terms.map((t, i) => ({ term: t.name, value: startPoint(model, base.termValues[i]) })), precision);
   const start: StartSummary = {
     optimal: startInterval(model, base.optimal.values),
     worst: startInterval(model, base.worst.values),
@@ -432,15 +432,20 @@ function startReach(model: CompiledModel, reach: ReachProbabilities): ReachAtSta
   };
 }
 
-/** Shares of the sum of absolute values; infinite totals share the whole among themselves. */
-function shareOf(values: Array<{ term: string; value: number }>): TermShare[] {
+/**
+ * Shares of the sum of absolute values; infinite totals share the whole among themselves. A total
+ * within the precision of 0 (values near 0 are bounded to the absolute precision) cannot be told
+ * from 0 and has share 0, so rounding noise of terms that cancel never reads as a share of +-1.
+ */
+function shareOf(values: Array<{ term: string; value: number }>, precision: number): TermShare[] {
   const infinite = values.filter((v) => v.value === Infinity || v.value === -Infinity).length;
+  const counts = (value: number) => Number.isFinite(value) && Math.abs(value) > precision;
   let total = 0;
-  for (const v of values) if (Number.isFinite(v.value)) total += Math.abs(v.value);
+  for (const v of values) if (counts(v.value)) total += Math.abs(v.value);
   return values.map(({ term, value }) => {
     let share = 0;
     if (infinite > 0) share = Number.isFinite(value) || Number.isNaN(value) ? 0 : Math.sign(value) / infinite;
-    else if (total > 0 && Number.isFinite(value)) share = value / total;
+    else if (total > 0 && counts(value)) share = value / total;
     return { term, value, share };
   });
 }

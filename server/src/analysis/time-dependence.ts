@@ -3,11 +3,12 @@
  * general non-stationary (Pardo, Tavakoli, Levdik and Kormushev, 2018, "Time limits in reinforcement
  * learning"): the best action at a state may depend on the steps left. A policy that does not see time
  * can act optimally only if, at every state the optimal behaviour visits, some action is best for every
- * number of steps left at which the state is visited.
+ * number of steps left at which the state is visited. A learner that explores also meets the states
+ * off the optimal path, where a best action that changes with time confuses its value estimates too.
  *
- * This walks forward in time from the start over the states that some optimal (time-dependent) policy
- * visits, keeps per state the set of actions that were best at every visit so far, and reports the first
- * state where that set becomes empty.
+ * This walks forward in time from the start over the states that some policy can be in after t steps,
+ * keeps per state the set of actions that were best at every visit so far, and reports the states
+ * where that set becomes empty. timeBlindLoss measures what ignoring time costs from the start.
  */
 import type { CompiledModel } from '../model/compiled';
 import { liveStartStates, pushSuccessors } from './paths';
@@ -29,7 +30,7 @@ export interface TimeFlip {
   /** Q of both choices with `stepsLeft` steps left, and with `earlierStepsLeft` steps left. */
   qNow: { earlier: number; best: number };
   qEarlier: { earlier: number; best: number };
-  /** A path (state, choice) of optimal behaviour from the start to the state at the flip. */
+  /** A path (state, choice) that some policy takes from the start to the state at the flip. */
   path: Array<{ state: number; choice: number; outcome: number }>;
 }
 
@@ -89,8 +90,8 @@ export function findTimeFlips(
       let agreeing = 0;
       for (let i = 0; i < count; i++) {
         const isBest = q[i] >= best - tolerance;
-        // Optimal behaviour may take any best action, so every one of them carries the visit on.
-        if (isBest) pushSuccessors(model, first + i, t + 1, queued, next);
+        // Some policy takes every action, so every one of them carries the visit on.
+        pushSuccessors(model, first + i, t + 1, queued, next);
         if (isBest && (!revisit || stillBest[first + i])) agreeing++;
       }
       if (revisit && agreeing === 0 && !flipped[s]) {
@@ -184,7 +185,7 @@ function describeFlip(
   };
 }
 
-/** Walks the stored layers back from (t, state) to the start along best choices. */
+/** Walks the stored layers back from (t, state) to the start, along best choices where they lead there. */
 function pathBack(
   model: CompiledModel,
   solution: FiniteHorizonSolution,
@@ -199,22 +200,145 @@ function pathBack(
   for (let time = t - 1; time >= 0; time--) {
     const k = horizon - time;
     let found = false;
-    for (const s of layers[time]) {
-      const best = (model.maximize ? 1 : -1) * qValue(model, solution, bestOf(model, solution, s, k), k);
-      for (let c = model.choiceStart[s]; c < model.choiceStart[s + 1] && !found; c++) {
-        if ((model.maximize ? 1 : -1) * qValue(model, solution, c, k) < best - tolerance) continue;
-        for (let o = model.outcomeStart[c]; o < model.outcomeStart[c + 1]; o++) {
-          if (model.outcomeTarget[o] === target && model.outcomeProb[o] > 0) {
-            path.push({ state: s, choice: c, outcome: o });
-            target = s;
-            found = true;
-            break;
+    // First along best choices (optimal behaviour), else along any: the state may lie off the optimal path.
+    for (const onlyBest of [true, false]) {
+      for (const s of layers[time]) {
+        const best = (model.maximize ? 1 : -1) * qValue(model, solution, bestOf(model, solution, s, k), k);
+        for (let c = model.choiceStart[s]; c < model.choiceStart[s + 1] && !found; c++) {
+          if (onlyBest && (model.maximize ? 1 : -1) * qValue(model, solution, c, k) < best - tolerance) continue;
+          for (let o = model.outcomeStart[c]; o < model.outcomeStart[c + 1]; o++) {
+            if (model.outcomeTarget[o] === target && model.outcomeProb[o] > 0) {
+              path.push({ state: s, choice: c, outcome: o });
+              target = s;
+              found = true;
+              break;
+            }
           }
         }
+        if (found) break;
       }
       if (found) break;
     }
     if (!found) break;
   }
   return path.reverse();
+}
+
+export interface TimeBlindLoss {
+  /** The optimal (time-dependent) return from the start. */
+  optimal: number;
+  /** The best return from the start of the deterministic time-blind (stationary) policies tried. */
+  timeBlind: number;
+  /** True when every deterministic stationary policy was tried: timeBlind is then their best. */
+  exact: boolean;
+  /** How many stationary policies were evaluated. */
+  tried: number;
+}
+
+/** Deterministic stationary policies are all enumerated up to this many. */
+const ENUMERATION_LIMIT = 4096;
+/** Outcome visits spent evaluating stationary policies at most. */
+const EVALUATION_BUDGET = 5e7;
+/** Without enumeration, at most this many "best action with k steps left" policies are tried. */
+const CANDIDATE_LIMIT = 32;
+
+/**
+ * What a policy that does not see time gives up from the start: the optimal return against the best
+ * deterministic stationary policy, evaluated over the horizon by backward induction. Small models
+ * try every such policy (exact over deterministic ones); larger ones try, for several k, the
+ * stationary policy that always takes the best action with k steps left, which bounds the loss from
+ * above. Randomised time-blind policies can do better than deterministic ones (S. Singh, T. Jaakkola
+ * and M. Jordan, "Learning without state-estimation in partially observable Markovian decision
+ * processes", ICML 1994), so this is the loss of deterministic time-blind policies.
+ */
+export function timeBlindLoss(model: CompiledModel, solution: FiniteHorizonSolution): TimeBlindLoss {
+  const n = model.stateCount;
+  const horizon = solution.horizon;
+  const sigma = model.maximize ? 1 : -1;
+  const optimal = startReturn(model, solution.value.subarray(horizon * n, (horizon + 1) * n));
+  // The states some policy can be in before the horizon ends decide the return.
+  const seen = new Uint8Array(n);
+  let current = liveStartStates(model);
+  const queued = new Int32Array(n).fill(-1);
+  for (let t = 0; t < horizon && current.length > 0; t++) {
+    const next: number[] = [];
+    for (const s of current) {
+      seen[s] = 1;
+      for (let c = model.choiceStart[s]; c < model.choiceStart[s + 1]; c++) pushSuccessors(model, c, t + 1, queued, next);
+    }
+    current = next;
+  }
+  const deciding: number[] = [];
+  let combinations = 1;
+  for (let s = 0; s < n; s++) {
+    const count = model.choiceStart[s + 1] - model.choiceStart[s];
+    if (!seen[s] || model.terminal[s] !== 0 || count < 2) continue;
+    deciding.push(s);
+    combinations = Math.min(combinations * count, ENUMERATION_LIMIT + 1);
+  }
+  const cost = Math.max(1, horizon * (model.outcomeCount + n));
+  const policy = new Int32Array(n);
+  for (let s = 0; s < n; s++) policy[s] = model.choiceStart[s + 1] > model.choiceStart[s] ? model.choiceStart[s] : -1;
+  let timeBlind = -Infinity;
+  let tried = 0;
+  const consider = () => {
+    timeBlind = Math.max(timeBlind, sigma * evaluateStationary(model, policy, horizon));
+    tried++;
+  };
+  if (combinations <= ENUMERATION_LIMIT && combinations * cost <= EVALUATION_BUDGET) {
+    // Odometer over the deciding states' choices.
+    for (;;) {
+      consider();
+      let i = 0;
+      for (; i < deciding.length; i++) {
+        const s = deciding[i];
+        if (++policy[s] < model.choiceStart[s + 1]) break;
+        policy[s] = model.choiceStart[s];
+      }
+      if (i === deciding.length) break;
+    }
+    return { optimal, timeBlind: sigma * timeBlind, exact: true, tried };
+  }
+  const count = Math.max(1, Math.min(horizon, CANDIDATE_LIMIT, Math.floor(EVALUATION_BUDGET / cost)));
+  for (let j = 0; j < count; j++) {
+    const k = count === 1 ? horizon : 1 + Math.round((j * (horizon - 1)) / (count - 1));
+    for (const s of deciding) policy[s] = solution.bestChoice[k * n + s] >= 0 ? solution.bestChoice[k * n + s] : model.choiceStart[s];
+    consider();
+  }
+  return { optimal, timeBlind: sigma * timeBlind, exact: false, tried };
+}
+
+/** The return from the start of a stationary policy over `horizon` steps (terminals worth 0). */
+function evaluateStationary(model: CompiledModel, policy: Int32Array, horizon: number): number {
+  const n = model.stateCount;
+  let later = new Float64Array(n);
+  let now = new Float64Array(n);
+  for (let k = 1; k <= horizon; k++) {
+    for (let s = 0; s < n; s++) {
+      const c = policy[s];
+      if (c < 0 || model.terminal[s] !== 0) {
+        now[s] = 0;
+        continue;
+      }
+      let total = 0;
+      for (let o = model.outcomeStart[c]; o < model.outcomeStart[c + 1]; o++) {
+        const t = model.outcomeTarget[o];
+        total += model.outcomeProb[o] * (model.outcomeReward[o] + model.discount * (model.terminal[t] !== 0 ? 0 : later[t]));
+      }
+      now[s] = total;
+    }
+    const swap = later;
+    later = now;
+    now = swap;
+  }
+  return startReturn(model, later);
+}
+
+function startReturn(model: CompiledModel, values: ArrayLike<number>): number {
+  let total = 0;
+  for (let i = 0; i < model.startState.length; i++) {
+    const s = model.startState[i];
+    if (model.startProb[i] > 0 && model.terminal[s] === 0) total += model.startProb[i] * values[s];
+  }
+  return total;
 }

@@ -74,7 +74,7 @@ export interface TermShare {
   term: string;
   /** Expected discounted total of the term from the start under the optimal policy. */
   value: number;
-  /** value divided by the sum of absolute values of every term (0 when all are 0). */
+  /** value divided by the sum of absolute values of every term; 0 for a value within the precision of 0. */
   share: number;
 }
 

@@ -15,7 +15,8 @@ import type { IncompleteModel, RelatedLocation, TraceStep } from './types';
 export function formatAmount(x: number): string {
   if (x === Infinity) return 'infinity';
   if (x === -Infinity) return '-infinity';
-  if (Number.isNaN(x)) return 'NaN';
+  // A figure that is not known is never printed as a number.
+  if (Number.isNaN(x)) return 'undetermined';
   if (x === 0) return '0';
   const magnitude = Math.abs(x);
   if (magnitude >= 1e6 || magnitude < 1e-3) return x.toExponential(2).replace('e+', 'e');
@@ -24,6 +25,21 @@ export function formatAmount(x: number): string {
   // Trailing zeros carry no information beyond the first decimal.
   while (text.includes('.') && text.endsWith('0') && !/\.\d$/.test(text)) text = text.slice(0, -1);
   return text === '-0.0' ? '0.0' : text;
+}
+
+/**
+ * Value bounds for a message: one number when both ends print alike, "at least" or "at most" with
+ * one finite end, "undetermined" when neither end is finite and they differ (an undefined total).
+ */
+export function formatBounds(interval: { lower: number; upper: number }): string {
+  const { lower, upper } = interval;
+  const low = formatAmount(lower);
+  const high = formatAmount(upper);
+  if (low === high) return low;
+  if (Number.isNaN(lower) || Number.isNaN(upper) || (lower === -Infinity && upper === Infinity)) return 'undetermined';
+  if (upper === Infinity) return `at least ${low}`;
+  if (lower === -Infinity) return `at most ${high}`;
+  return `between ${low} and ${high}`;
 }
 
 /** A number with its sign, for amounts paid on a step ("+0.5", "-1.0"). */

@@ -1,7 +1,7 @@
 import { stateName } from '../model/compiled';
 import { compareShapedPolicies } from '../analysis/compare-policies';
 import { hasShaping, shapingTermIndices, unshapedReward } from '../analysis/shaping';
-import { actionOf, choiceSpan, formatAmount } from './incentive-text';
+import { actionOf, choiceSpan, formatBounds } from './incentive-text';
 import type { RelatedLocation, Rule } from './types';
 
 export const shapingChangesPolicy: Rule = {
@@ -40,18 +40,24 @@ are cut, or accept that the shaped task is a different task.
       const when = d.stepsLeft !== undefined ? ` with ${d.stepsLeft} steps left` : '';
       return (
         `at '${stateName(model, d.state)}'${when} the shaped optimum takes '${actionOf(model, d.shapedChoice)}' ` +
-        `(unshaped Q ${formatAmount(d.plainQ.shaped)}) where the unshaped optimum takes '${actionOf(model, d.plainChoice)}' ` +
-        `(unshaped Q ${formatAmount(d.plainQ.plain)})`
+        `(unshaped Q ${formatBounds(d.plainQ.shaped)}) where the unshaped optimum takes '${actionOf(model, d.plainChoice)}' ` +
+        `(unshaped Q ${formatBounds(d.plainQ.plain)})`
       );
     };
     const others = comparison.differences.slice(1, 4).map((d) => `'${stateName(model, d.state)}'`);
     const more = comparison.differingStates - 1 - others.length;
     const elsewhere =
       others.length > 0 ? `; it also differs at ${others.join(', ')}${more > 0 ? ` and ${more} more states` : ''}` : '';
+    const verb = model.maximize ? 'earns' : 'costs';
+    // An undefined total (bounds -inf to inf) is said in words, never printed as a figure.
+    const amount = (interval: { lower: number; upper: number }) => {
+      const text = formatBounds(interval);
+      return text === 'undetermined' ? `an undetermined amount` : text;
+    };
     const cost =
       comparison.shapedPolicyPlainReturn !== undefined && comparison.plainOptimalReturn !== undefined
-        ? `; following the shaped optimum ${model.maximize ? 'earns' : 'costs'} ${formatAmount(comparison.shapedPolicyPlainReturn)} of the ` +
-          `unshaped reward from the start, where the unshaped optimum ${model.maximize ? 'earns' : 'costs'} ${formatAmount(comparison.plainOptimalReturn)}`
+        ? `; following the shaped optimum ${verb} ${amount(comparison.shapedPolicyPlainReturn)} of the ` +
+          `unshaped reward from the start, where the unshaped optimum ${verb} ${amount(comparison.plainOptimalReturn)}`
         : '';
     const sources = shapingSources(ctx);
     ctx.report({
