@@ -36,6 +36,11 @@ export interface LoadedSpec {
   enumerated?: { model?: CompiledModel; reason?: string };
   /** Rollout figures of a sampled (or capped) TypeScript model. */
   rollouts?: RolloutReport;
+  /**
+   * The model built from a sampled model's transitions (model/empirical.ts). The rules run on it and
+   * their findings carry the sample evidence; its figures are never shown as exact values.
+   */
+  empirical?: CompiledModel;
   /** Failures of ours while loading (a bug, not a problem of the spec); they end in FileReport.internalErrors. */
   internalErrors: string[];
   cancelled?: boolean;
@@ -62,4 +67,6 @@ export interface FileReport {
    * analysed models when config `rollouts` > 0 (optimal and random policy).
    */
   rollouts?: RolloutReport;
+  /** The empirical model of a sampled model and its analysis, when it was built (see LoadedSpec.empirical). */
+  empirical?: { model: CompiledModel; analysis?: Analysis };
 }
