@@ -13,6 +13,7 @@ export const SEEN_FACT_RULES: ReadonlySet<string> = new Set([
   'shaping-not-potential',
   'term-direction',
   'unbounded-return',
+  'unreachable-terminal',
 ]);
 
 export const empiricalModel: Rule = {
