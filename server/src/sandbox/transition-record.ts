@@ -7,7 +7,7 @@
  * depend only on the seed and the budget.
  */
 import { Xoshiro128 } from '../analysis/rollouts';
-import type { CountedPair, TransitionCounts } from '../model/empirical';
+import type { CountedOutcome, CountedPair, TransitionCounts } from '../model/empirical';
 import {
   actionName,
   createModelRng,
@@ -33,6 +33,22 @@ export interface RecordOptions {
   tries: number;
   /** Samples the exploration pass may draw in all. */
   exploreBudget: number;
+}
+
+/** Distinct rewards of one (pair, target) kept as separate outcomes before they are merged into a mean. */
+const DISTINCT_REWARDS = 8;
+
+/** One outcome holding the counts, sums and range of several outcomes of the same target. */
+function mergeOutcomes(outcomes: CountedOutcome[]): CountedOutcome {
+  const merged: CountedOutcome = { ...outcomes[0], termSums: [...outcomes[0].termSums] };
+  for (const o of outcomes.slice(1)) {
+    merged.count += o.count;
+    merged.rewardSum += o.rewardSum;
+    merged.rewardLow = Math.min(merged.rewardLow, o.rewardLow);
+    merged.rewardHigh = Math.max(merged.rewardHigh, o.rewardHigh);
+    for (let t = 0; t < merged.termSums.length; t++) merged.termSums[t] += o.termSums[t];
+  }
+  return merged;
 }
 
 /** The stream of the exploration pass's draws (0 and 1 are the rollouts' model and policy streams). */
@@ -164,10 +180,18 @@ export class TransitionRecorder implements StepRecorder {
     if (to < 0) return -1;
     const pair = this.pairs[this.pairOf(from, action)];
     pair.samples++;
-    let outcome = pair.outcomes.find((o) => o.node === to);
+    // Each reward value of a target is its own outcome (as a spec would list them) up to a few
+    // values; a reward that takes more values is one outcome with its mean and range.
+    let outcome = pair.outcomes.find((o) => o.node === to && (o.rewardLow === reward || o.rewardLow !== o.rewardHigh));
     if (!outcome) {
-      outcome = { node: to, count: 0, rewardSum: 0, rewardLow: reward, rewardHigh: reward, termSums: this.termNames.map(() => 0) };
-      pair.outcomes.push(outcome);
+      const same = pair.outcomes.filter((o) => o.node === to);
+      if (same.length >= DISTINCT_REWARDS) {
+        outcome = mergeOutcomes(same);
+        pair.outcomes = [...pair.outcomes.filter((o) => o.node !== to), outcome];
+      } else {
+        outcome = { node: to, count: 0, rewardSum: 0, rewardLow: reward, rewardHigh: reward, termSums: this.termNames.map(() => 0) };
+        pair.outcomes.push(outcome);
+      }
     }
     outcome.count++;
     outcome.rewardSum += reward;
