@@ -196,7 +196,8 @@ export function keyOfState(model: ModelFunctions, state: unknown): string {
   if (typeof own !== 'function') return canonicalKey(state);
   const key = own(state);
   if (typeof key === 'string' || (typeof key === 'number' && Number.isFinite(key))) return JSON.stringify(key);
-  throw new MalformedValue(`stateKey(state) returned ${describeValue(key)}; expected a string or a finite number`);
+  const shown = typeof key === 'number' ? String(key) : describeValue(key);
+  throw new MalformedValue(`stateKey(state) returned ${shown}; expected a string or a finite number`);
 }
 
 export const TERMINAL_CODES: Record<string, number> = { goal: END_GOAL, failure: END_FAILURE, neutral: END_NEUTRAL };
