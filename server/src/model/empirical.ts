@@ -55,6 +55,8 @@ export interface TransitionCounts {
   tries: number;
   /** True when the exploration pass tried every action of every key it found within its budget. */
   exploreComplete: boolean;
+  /** Why the exploration pass stopped before it was complete (its budget, or the key cap). */
+  exploreCut?: string;
   /** Set when recording stopped: more distinct keys than the cap, a reward that is not finite, ... */
   stopped?: string;
 }

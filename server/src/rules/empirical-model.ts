@@ -79,8 +79,9 @@ the like) do not run on it.
     const unexplored = empirical.unexplored > 0 ? `; ${empirical.unexplored} of its ${empirical.states} state keys were seen but never tried and count as ending the episode` : '';
     ctx.report({
       message:
-        `the exploration budget (${empirical.exploreBudget} samples) ran out before every state key was tried ${empirical.tries} times with every action${unexplored}. ` +
-        `Only the rules that read what was sampled (${[...SEEN_FACT_RULES].join(', ')}) ran on the empirical model; raise exploreBudget for the others`,
+        `${empirical.exploreCut ?? 'the exploration stopped'} before every state key was tried ${empirical.tries} times with every action ` +
+        `(${empirical.episodes} episodes, ${empirical.steps} steps, ${empirical.exploreSamples} exploration samples)${unexplored}. ` +
+        `Only the rules that read what was sampled (${[...SEEN_FACT_RULES].join(', ')}) ran on the empirical model; raise exploreBudget or keyCap, or bound the state, for the others`,
       span: empirical.span,
     });
   },

@@ -263,6 +263,7 @@ function empiricalOf(
     exploreSamples: counts?.exploreSamples ?? 0,
     unexplored: model?.samples?.unexploredCount ?? 0,
     complete: model?.samples?.complete ?? false,
+    exploreCut: counts?.exploreCut,
     exploreBudget: record.exploreBudget,
     tries: record.tries,
     span,

@@ -68,6 +68,9 @@ export class TransitionRecorder implements StepRecorder {
   private steps = 0;
   private exploreSamples = 0;
   private exploreComplete = false;
+  /** Why the exploration pass stopped before it was complete. */
+  private exploreCut?: string;
+  private exploring = false;
   private stopped?: string;
   /** A problem of model code met while recording (the key function, or a call of the exploration pass). */
   problem?: RuntimeProblem;
@@ -108,6 +111,7 @@ export class TransitionRecorder implements StepRecorder {
     let phase: ModelFunction = 'actions';
     let state: unknown;
     let action: unknown;
+    this.exploring = true;
     try {
       for (let n = 0; n < this.nodes.length && !this.stopped; n++) {
         if (this.nodes[n].terminal !== 0) continue;
@@ -126,7 +130,10 @@ export class TransitionRecorder implements StepRecorder {
           const name = actionName(action, `action ${a}`);
           const pair = this.pairOf(n, name);
           while (this.pairs[pair].samples < this.options.tries) {
-            if (this.exploreSamples >= this.options.exploreBudget) return;
+            if (this.exploreSamples >= this.options.exploreBudget) {
+              this.exploreCut = `the exploration budget (${this.options.exploreBudget} samples) ran out`;
+              return;
+            }
             rngSource.seedEpisode(seed, this.exploreSamples, EXPLORE_STREAM);
             phase = model.sample ? 'sample' : 'outcomes';
             this.progress[1] = model.sample ? 5 : 3;
@@ -141,13 +148,12 @@ export class TransitionRecorder implements StepRecorder {
               code = terminalCode(model.terminal(drawn.state), 'the returned terminal kind');
             }
             this.exploreSamples++;
-            this.record(n, name, drawn.state, reward, terms, code);
-            if (this.stopped) return;
+            if (this.record(n, name, drawn.state, reward, terms, code) < 0 || this.exploreCut) return;
           }
         }
         this.expanded[n] = 1;
       }
-      this.exploreComplete = !this.stopped;
+      this.exploreComplete = !this.stopped && !this.exploreCut;
     } catch (error) {
       this.problem = problemOf(error, phase, { state: describeValue(state), action: action === undefined ? undefined : String(action) });
       this.stopped = `the model code failed while it was explored (${this.problem.message})`;
@@ -166,6 +172,7 @@ export class TransitionRecorder implements StepRecorder {
       exploreSamples: this.exploreSamples,
       tries: this.options.tries,
       exploreComplete: this.exploreComplete,
+      exploreCut: this.exploreCut,
       stopped: this.stopped,
     };
   }
@@ -227,6 +234,11 @@ export class TransitionRecorder implements StepRecorder {
     const known = this.nodeIndex.get(id);
     if (known !== undefined) return known;
     if (this.nodes.length >= this.options.keyCap) {
+      // Exploration only stops at the cap; the keys the rollouts found are kept.
+      if (this.exploring) {
+        this.exploreCut = `exploration reached the cap of ${this.options.keyCap} distinct state keys`;
+        return -1;
+      }
       this.stopped = `more than ${this.options.keyCap} distinct state keys were sampled (the cap); give the spec a stateKey(state) that maps states to fewer keys, or raise the cap`;
       return -1;
     }

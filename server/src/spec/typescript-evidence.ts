@@ -95,6 +95,8 @@ export interface EmpiricalSummary {
   unexplored: number;
   /** Every key seen was tried with every action within the exploration budget. */
   complete: boolean;
+  /** Why the exploration stopped early (its budget, or the key cap). */
+  exploreCut?: string;
   /** The exploration budget (samples) and the samples each pair was meant to get. */
   exploreBudget: number;
   tries: number;
