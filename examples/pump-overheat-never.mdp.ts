@@ -6,7 +6,7 @@
  * "failure" the code names is never entered by any sampled episode (unreachable-terminal): the
  * hazard it stands for has no effect on the agent.
  */
-import { defineMdp, type Rng } from 'episcope';
+import { defineMdp } from 'episcope';
 
 interface Pump {
   level: number;
@@ -18,12 +18,12 @@ export default defineMdp({
   discount: 0.95,
   start: { level: 0, heat: 0 },
   actions: () => ['gentle', 'hard'],
-  sample(pump: Pump, action: string, rng: Rng) {
+  sample(pump: Pump, action: string) {
     const hard = action === 'hard';
     const level = pump.level + (hard ? 2 : 1);
     const heat = Math.min(90, hard ? pump.heat + 30 : Math.max(0, pump.heat - 10));
     if (heat > 100) return { state: { level, heat }, reward: -10, terminal: 'failure' as const };
     if (level >= 6) return { state: { level: 6, heat: 0 }, reward: 5, terminal: 'goal' as const };
-    return { state: { level, heat }, reward: rng() < 0.5 ? -1 : -1 };
+    return { state: { level, heat }, reward: -1 };
   },
 });
