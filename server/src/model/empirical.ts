@@ -204,7 +204,7 @@ export function buildEmpiricalModel(counts: TransitionCounts, options: Empirical
  * probability it uses with its Wilson interval, and whether it survives the sampling error. A
  * finding survives when each probability along its trace has a Wilson half-width at most
  * `tolerance` and each varying reward a Hoeffding half-width at most `tolerance` times its size
- * (at least 1). Without a trace the whole model's pairs are the evidence. Common practice, not a
+ * (at least 1). Without a trace only the rewards count, over the whole model. Common practice, not a
  * theorem: the finding's own margin is not propagated through the analysis.
  */
 export function withSampleEvidence(model: CompiledModel, input: FindingInput): FindingInput & { fromSamples: SampleSupport } {
@@ -243,16 +243,12 @@ export function withSampleEvidence(model: CompiledModel, input: FindingInput): F
     }
     pairs = seen.size;
   } else {
+    // Without a trace the finding is about rewards seen (a sign, a comparison of entries), not
+    // about probabilities: only varying rewards can move it.
     pairs = model.choiceCount;
     for (let c = 0; c < model.choiceCount; c++) {
-      const n = samples.choiceSamples[c];
-      fewest = Math.min(fewest, n);
-      for (let k = model.outcomeStart[c]; k < model.outcomeStart[c + 1]; k++) {
-        const interval = wilsonInterval(samples.outcomeSamples[k], n);
-        const half = (interval.upper - interval.lower) / 2;
-        if (!worst || half > worst.half) worst = { choice: c, outcome: k, half };
-        if (half > samples.tolerance || !rewardKnown(model, k)) survives = false;
-      }
+      fewest = Math.min(fewest, samples.choiceSamples[c]);
+      for (let k = model.outcomeStart[c]; k < model.outcomeStart[c + 1]; k++) if (!rewardKnown(model, k)) survives = false;
     }
   }
   if (!samples.complete) survives = false;
