@@ -35,6 +35,12 @@ export const empiricalModel: Rule = {
         'Samples the exploration pass gives each (state key, action) pair. With 30 samples an outcome never seen has a ' +
         'probability below 0.11 at 95% (Wilson), and a probability seen has a Wilson half-width of at most 0.17.',
     },
+    countedSteps: {
+      default: 200000,
+      description:
+        'Rollout steps counted into the empirical model at most (whole episodes; later ones are not counted). Counting costs ' +
+        'a few microseconds a step, so 200,000 keep it under a second; the exploration pass covers what they leave out.',
+    },
     exploreBudget: {
       default: 100000,
       description: 'Samples the exploration pass may draw in all: about a second of a typical model\'s code.',

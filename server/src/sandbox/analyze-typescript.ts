@@ -193,6 +193,7 @@ async function sampleByRollouts(
           keyCap: ruleThreshold(config, empiricalModel, 'keyCap'),
           tries: ruleThreshold(config, empiricalModel, 'tries'),
           exploreBudget: ruleThreshold(config, empiricalModel, 'exploreBudget'),
+          countedSteps: ruleThreshold(config, empiricalModel, 'countedSteps'),
         }
       : undefined;
   const ran = await sandbox.rollouts({ ...common, episodes, fingerprintEpisodes: REPLAYED_EPISODES, record });

@@ -33,6 +33,8 @@ export interface RecordOptions {
   tries: number;
   /** Samples the exploration pass may draw in all. */
   exploreBudget: number;
+  /** Rollout steps counted at most: episodes that begin past it are not counted (counting costs a few microseconds a step). */
+  countedSteps: number;
 }
 
 /** Distinct rewards of one (pair, target) kept as separate outcomes before they are merged into a mean. */
@@ -56,12 +58,14 @@ const EXPLORE_STREAM = 2;
 
 export class TransitionRecorder implements StepRecorder {
   private readonly nodes: Array<{ key: string; terminal: number }> = [];
-  private readonly nodeIndex = new Map<string, number>();
+  /** Per terminal code (0 to 3), key to node. */
+  private readonly nodeIndex = [new Map<string, number>(), new Map<string, number>(), new Map<string, number>(), new Map<string, number>()];
   /** A copy of the first state seen under each non-terminal key: where exploration starts from. */
   private readonly values: unknown[] = [];
   private readonly expanded: number[] = [];
   private readonly pairs: CountedPair[] = [];
-  private readonly pairIndex = new Map<string, number>();
+  /** Per node, action to pair. */
+  private readonly pairIndex: Array<Map<string, number>> = [];
   private readonly starts = new Map<number, number>();
   private current = -1;
   private episodes = 0;
@@ -83,7 +87,8 @@ export class TransitionRecorder implements StepRecorder {
   ) {}
 
   begin(state: unknown, code: number): void {
-    if (this.stopped) return;
+    this.current = -1;
+    if (this.stopped || this.steps >= this.options.countedSteps) return;
     this.current = this.node(state, code);
     if (this.current < 0) return;
     this.episodes++;
@@ -189,7 +194,13 @@ export class TransitionRecorder implements StepRecorder {
     pair.samples++;
     // Each reward value of a target is its own outcome (as a spec would list them) up to a few
     // values; a reward that takes more values is one outcome with its mean and range.
-    let outcome = pair.outcomes.find((o) => o.node === to && (o.rewardLow === reward || o.rewardLow !== o.rewardHigh));
+    let outcome: CountedOutcome | undefined;
+    for (const o of pair.outcomes) {
+      if (o.node === to && (o.rewardLow === reward || o.rewardLow !== o.rewardHigh)) {
+        outcome = o;
+        break;
+      }
+    }
     if (!outcome) {
       const same = pair.outcomes.filter((o) => o.node === to);
       if (same.length >= DISTINCT_REWARDS) {
@@ -209,12 +220,12 @@ export class TransitionRecorder implements StepRecorder {
   }
 
   private pairOf(node: number, action: string): number {
-    const id = `${node}\u0001${action}`;
-    let pair = this.pairIndex.get(id);
+    const index = this.pairIndex[node];
+    let pair = index.get(action);
     if (pair === undefined) {
       pair = this.pairs.length;
       this.pairs.push({ node, action, samples: 0, outcomes: [] });
-      this.pairIndex.set(id, pair);
+      index.set(action, pair);
     }
     return pair;
   }
@@ -230,8 +241,8 @@ export class TransitionRecorder implements StepRecorder {
       this.stopped = `the state key could not be formed (${this.problem.message})`;
       return -1;
     }
-    const id = `${code}|${key}`;
-    const known = this.nodeIndex.get(id);
+    const index = this.nodeIndex[code];
+    const known = index.get(key);
     if (known !== undefined) return known;
     if (this.nodes.length >= this.options.keyCap) {
       // Exploration only stops at the cap; the keys the rollouts found are kept.
@@ -244,9 +255,10 @@ export class TransitionRecorder implements StepRecorder {
     }
     const n = this.nodes.length;
     this.nodes.push({ key, terminal: code });
-    this.nodeIndex.set(id, n);
+    index.set(key, n);
     this.values.push(code === 0 ? structuredClone(state) : undefined);
     this.expanded.push(0);
+    this.pairIndex.push(new Map());
     return n;
   }
 }
