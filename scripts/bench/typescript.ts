@@ -9,7 +9,9 @@ import { join } from 'node:path';
 import { compileFunction } from 'node:vm';
 import { bundleModel } from '../../server/src/sandbox/bundle';
 import { ModelSandbox } from '../../server/src/sandbox/host';
+import { buildEmpiricalModel } from '../../server/src/model/empirical';
 import { rolloutModel, type ModelFunctions } from '../../server/src/sandbox/runtime';
+import { TransitionRecorder } from '../../server/src/sandbox/transition-record';
 
 export const GRID_SPEC = `import { defineMdp } from 'episcope';
 
@@ -115,6 +117,43 @@ async function loadDirectly(path: string): Promise<ModelFunctions> {
   return module.exports.default as ModelFunctions;
 }
 
+/**
+ * What counting transitions and the exploration pass cost: the default 1000 random rollouts of a
+ * 30 x 30 slippery grid of our own (900 keys, four moves), called directly, with and without the
+ * recorder and the exploration pass at the default budget, and the empirical model built from them.
+ */
+export function measureRecording(): { plain: { episodes: number; steps: number }; plainSeconds: number; recordedSeconds: number; buildSeconds: number; episodes: number; steps: number; exploreSamples: number; states: number } {
+  const size = 30;
+  const moves: Record<string, [number, number]> = { north: [0, -1], south: [0, 1], east: [1, 0], west: [-1, 0] };
+  const clamp = (v: number) => Math.min(size - 1, Math.max(0, v));
+  const grid: ModelFunctions = {
+    start: { x: 0, y: 0 },
+    actions: () => ['north', 'south', 'east', 'west'],
+    sample: (state, action, rng) => {
+      const p = state as { x: number; y: number };
+      const [dx, dy] = moves[action as string];
+      const slip = rng() < 0.2;
+      const next = { x: clamp(p.x + (slip ? dy : dx)), y: clamp(p.y + (slip ? dx : dy)) };
+      return { state: next, reward: -1, terminal: next.x === size - 1 && next.y === size - 1 ? 'goal' : undefined };
+    },
+  };
+  const options = { episodes: 1000, seed: 1, discount: 0.99, stepCap: 10_000, declaredTerms: [], fingerprintEpisodes: 0, progress: new Int32Array(5) };
+  let began = performance.now();
+  const plainRun = rolloutModel(grid, options);
+  const plain = { episodes: plainRun.completed, steps: plainRun.records.lengths.reduce((a, b) => a + b, 0) };
+  const plainSeconds = (performance.now() - began) / 1000;
+  began = performance.now();
+  const recorder = new TransitionRecorder(grid, { keyCap: 5000, tries: 30, exploreBudget: 100_000, countedSteps: 200_000 }, [], options.progress);
+  rolloutModel(grid, options, recorder);
+  recorder.explore(options.seed, []);
+  const counts = recorder.result();
+  const recordedSeconds = (performance.now() - began) / 1000;
+  began = performance.now();
+  const built = buildEmpiricalModel(counts, { discount: 0.99, maximize: true, terms: [], span: { start: 0, end: 0 }, tolerance: 0.1, declaredKinds: new Set() });
+  const buildSeconds = (performance.now() - began) / 1000;
+  return { plain, plainSeconds, recordedSeconds, buildSeconds, episodes: counts.episodes, steps: counts.steps, exploreSamples: counts.exploreSamples, states: built.model?.stateCount ?? 0 };
+}
+
 /** The `typescript` section of `npm run bench`. */
 export async function run(): Promise<void> {
   for (const line of await typescriptBenchLines()) console.log(line);
@@ -123,9 +162,11 @@ export async function run(): Promise<void> {
 /** Lines for `npm run bench`. */
 export async function typescriptBenchLines(): Promise<string[]> {
   const f = await measureTypeScript();
+  const r = measureRecording();
   const millions = (x: number) => `${(x / 1e6).toFixed(2)} M`;
   return [
     `TypeScript enumeration: ${f.states} states, ${f.choices} (state, action) pairs, ${f.outcomes} outcomes in ${f.enumerationSeconds.toFixed(2)} s: ${millions(f.transitionsPerSecond)} transitions/s (target >= 1 M); CPU time ${f.enumerationCpuSeconds.toFixed(2)} s`,
     `TypeScript rollouts: ${f.rolloutSteps} steps; sandbox ${millions(f.sandboxStepsPerSecond)} steps/s, direct ${millions(f.directStepsPerSecond)} steps/s: ${((100 * f.sandboxStepsPerSecond) / f.directStepsPerSecond).toFixed(0)}% of direct (target >= 50%)`,
+    `Empirical model: ${r.plain.episodes} rollouts (${r.plain.steps} steps) ${r.plainSeconds.toFixed(2)} s plain, ${r.recordedSeconds.toFixed(2)} s with ${r.episodes} episodes (${r.steps} steps) counted and explored (${r.exploreSamples} exploration samples); ${r.states} states built in ${r.buildSeconds.toFixed(3)} s (target: a few seconds in all)`,
   ];
 }

@@ -20,6 +20,9 @@ import { MAX_DOCUMENT_LENGTH, MAX_NESTING_DEPTH, parseJsonSpec } from './spec/js
 import { LineIndex } from './spec/lines';
 import { emptySpec, type ParsedSpec } from './spec/types';
 import { suppressReport } from './suppress';
+import type { Analysis } from './analysis/types';
+import { withSampleEvidence } from './model/empirical';
+import { SEEN_FACT_RULES } from './rules/empirical-model';
 
 export type { AnalyzeOptions, FileReport, LoadedSpec } from './report';
 export { isSpecPath } from './spec/paths';
@@ -156,6 +159,7 @@ export function analyzeLoaded(path: string, text: string, loaded: LoadedSpec, op
     if (rule.needs === 'analysis' && !report.analysis) continue;
     runRule(rule, report, config, findings);
   }
+  if (loaded.empirical && !report.cancelled) checkEmpirical(loaded.empirical, enabled, report, config, findings, options);
 
   findings.sort((a, b) => a.span.start - b.span.start || a.span.end - b.span.end || a.rule.localeCompare(b.rule));
   report.findings = findings;
@@ -171,25 +175,54 @@ export function analyzeLoaded(path: string, text: string, loaded: LoadedSpec, op
   return report;
 }
 
+/**
+ * The empirical model of a sampled model goes through the same analysis and rules as an exact
+ * model; each finding gets its sample evidence appended. Rules that conclude from what is missing
+ * run only when the exploration tried every state it saw. Its figures stay off the fronts'
+ * exact-value displays (report.model and report.analysis stay unset).
+ */
+function checkEmpirical(model: CompiledModel, enabled: Rule[], report: FileReport, config: ResolvedConfig, findings: Finding[], options: AnalyzeOptions): void {
+  let analysis: Analysis | undefined;
+  try {
+    analysis = analyzeModel(model, { precision: config.precision });
+  } catch (error) {
+    report.internalErrors.push(`the analysis of the empirical model failed: ${errorText(error)}`);
+  }
+  report.empirical = { model, analysis };
+  const complete = model.samples?.complete === true;
+  for (const rule of enabled) {
+    if (options.isCancelled?.()) {
+      report.cancelled = true;
+      return;
+    }
+    if (rule.needs === 'spec' || (rule.needs === 'analysis' && !analysis)) continue;
+    if (!complete && !SEEN_FACT_RULES.has(rule.id)) continue;
+    runRule(rule, report, config, findings, undefined, { model, analysis });
+  }
+}
+
 function runRule(
   rule: Rule,
   report: FileReport,
   config: ResolvedConfig,
   out: Finding[],
   declaredPart?: { model: CompiledModel; incomplete: IncompleteModel },
+  sampled?: { model: CompiledModel; analysis?: Analysis },
 ): void {
+  const model = sampled?.model ?? declaredPart?.model ?? report.model;
   const ctx: RuleContext = {
     text: report.text,
     spec: report.spec,
-    model: declaredPart?.model ?? report.model,
+    model,
     incomplete: declaredPart?.incomplete,
-    analysis: declaredPart ? undefined : report.analysis,
+    analysis: sampled ? sampled.analysis : declaredPart ? undefined : report.analysis,
     config,
     threshold: (name) => ruleThreshold(config, rule, name),
     report(input: FindingInput): void {
       const severity = config.rules[rule.id] ?? input.severity ?? rule.defaultSeverity;
       if (severity === 'off') return;
-      out.push({ ...input, rule: rule.id, severity });
+      const evidenced = sampled ? withSampleEvidence(sampled.model, input) : input;
+      out.push({ ...evidenced, rule: rule.id, severity });
     },
   };
   try {

@@ -93,6 +93,12 @@ export interface SampledMdp<State, Action extends ActionName = ActionName, Term 
   /** The start state, or a function drawing one. */
   start: State | ((rng: Rng) => State);
   sample(state: State, action: Action, rng: Rng): SampledTransition<State, Term>;
+  /**
+   * Optional: the key that groups states for the model Episcope builds from the samples (a string
+   * or a finite number), e.g. continuous positions rounded to a grid cell. States with equal keys
+   * count as one state. Without it, a state's key is its JSON with sorted object keys.
+   */
+  stateKey?(state: State): string | number;
 }
 
 export type MdpDefinition<State = unknown, Action extends ActionName = ActionName, Term extends string = string> =

@@ -42,6 +42,20 @@ export interface FindingInput {
   fixes?: Fix[];
   /** Tags for editors: code that is never used, or a deprecated construct. */
   tags?: Array<'unnecessary' | 'deprecated'>;
+  /** Set when the finding was made on the empirical model of a sampled model. */
+  fromSamples?: SampleSupport;
+}
+
+/** What a finding made on the empirical model of a sampled model rests on (model/empirical.ts). */
+export interface SampleSupport {
+  /** Sampled steps in the model in all (rollout steps plus exploration samples). */
+  samples: number;
+  /** State-action pairs the finding's trace uses (every pair of the model when it has no trace). */
+  pairs: number;
+  /** Fewest samples of those pairs. */
+  fewest: number;
+  /** Whether every probability and varying reward it uses is known within the sampling tolerance. */
+  survives: boolean;
 }
 
 export interface Finding extends FindingInput {

@@ -41,6 +41,11 @@ export interface LoadedSpec {
    * reason given when there is no model, rather than what the empty or partial spec lacks.
    */
   unreadable?: string;
+  /**
+   * The model built from a sampled model's transitions (model/empirical.ts). The rules run on it and
+   * their findings carry the sample evidence; its figures are never shown as exact values.
+   */
+  empirical?: CompiledModel;
   /** Failures of ours while loading (a bug, not a problem of the spec); they end in FileReport.internalErrors. */
   internalErrors: string[];
   cancelled?: boolean;
@@ -67,4 +72,6 @@ export interface FileReport {
    * analysed models when config `rollouts` > 0 (optimal and random policy).
    */
   rollouts?: RolloutReport;
+  /** The empirical model of a sampled model and its analysis, when it was built (see LoadedSpec.empirical). */
+  empirical?: { model: CompiledModel; analysis?: Analysis };
 }

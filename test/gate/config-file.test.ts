@@ -137,8 +137,9 @@ describe('config schema', () => {
   it('names exactly the catalog rules and the front rules, and every registered rule', async () => {
     const schema = JSON.parse(readFileSync(path.join(__dirname, '..', '..', 'schemas', 'config.schema.json'), 'utf8'));
     const ids = Object.keys(schema.properties.rules.properties).sort();
-    // 'syntax' came after version 1 (issue 14): TypeScript syntax errors, which were 'schema' findings.
-    expect(ids).toEqual([...CATALOG, 'config', 'suppression', 'syntax'].sort());
+    // 'syntax' came after version 1 (issue 14): TypeScript syntax errors, which were 'schema' findings;
+    // 'empirical-model' (issue 11): the model built from a sampled model's transitions.
+    expect(ids).toEqual([...CATALOG, 'config', 'suppression', 'syntax', 'empirical-model'].sort());
     expect(schema.properties.ignore.items.properties.rule.enum).toEqual(['*', ...ids]);
     const { RULES: registered } = await import('../../server/src/rules/registry');
     for (const rule of registered) expect(ids).toContain(rule.id);

@@ -232,14 +232,27 @@ const CASES: MatrixCase[] = [
   { name: 'sampled: a state without actions', source: 'sampled', fires: ['dead-end'], run: ts(walk("return { state: n + 1, reward: -1, terminal: n >= 3 ? 'goal' : undefined };", '', "(n: number) => (n === 2 ? [] : ['up'])")) },
   { name: 'sampled: a missing bracket', source: 'sampled', fires: ['syntax'], run: ts(walk("return { state: n + 1, reward: -1, terminal: n >= 3 ? 'goal' : undefined ;")) },
   { name: 'sampled: sample throws', source: 'sampled', fires: ['model-error'], run: ts(walk("if (n === 1) throw new Error('no'); return { state: n + 1, reward: -1, terminal: n >= 3 ? 'goal' : undefined };")) },
-  { name: 'sampled: an infinite reward', source: 'sampled', fires: ['non-finite-reward'], run: ts(walk("return { state: n + 1, reward: n === 1 ? Infinity : -1, terminal: n >= 3 ? 'goal' : undefined };")) },
-  { name: 'sampled: Math.random in sample', source: 'sampled', fires: ['nondeterministic-model', 'unseeded-randomness'], run: ts(walk("return { state: n + 1, reward: -1, terminal: Math.random() < 0.5 ? 'goal' : undefined };")) },
+  { name: 'sampled: an infinite reward', source: 'sampled', fires: ['empirical-model', 'non-finite-reward'], run: ts(walk("return { state: n + 1, reward: n === 1 ? Infinity : -1, terminal: n >= 3 ? 'goal' : undefined };")) },
+  { name: 'sampled: Math.random in sample', source: 'sampled', fires: ['empirical-model', 'nondeterministic-model', 'unseeded-randomness'], run: ts(walk("return { state: n + 1, reward: -1, terminal: Math.random() < 0.5 ? 'goal' : undefined };")) },
   {
     name: 'sampled: discount 1, never ends',
     source: 'sampled',
-    fires: ['episode-never-ends'],
+    // The walk grows without bound: exploring it stops at the key cap (empirical-model, info).
+    fires: ['empirical-model', 'episode-never-ends'],
     run: ts(walk('return { state: n + 1, reward: -1 };').replace('discount: 0.9', 'discount: 1'), { thresholds: { 'episode-never-ends.stepCap': 50 } }),
   },
+  // The sampled examples: their planted bugs, found on the model built from the samples.
+  ...(
+    [
+      ['stealth-guard-bonus.mdp.ts', ['reward-loop']],
+      ['crane-drop-shortcut.mdp.ts', ['failure-preferred']],
+      ['vacuum-alive-bonus.mdp.ts', ['living-reward', 'reward-loop']],
+      ['arcade-coin-loop.mdp.ts', ['unbounded-return']],
+      ['pump-overheat-never.mdp.ts', ['unreachable-terminal']],
+      ['orchard-frost-sign.mdp.ts', ['failure-preferred', 'objective-sign', 'term-direction']],
+      ['rover-progress-shaping.mdp.ts', ['shaping-not-potential']],
+    ] as const
+  ).map(([file, fires]): MatrixCase => ({ name: `sampled: ${file}`, source: 'sampled', fires: [...fires], run: ts(readFileSync(join(EXAMPLES, file), 'utf8')) })),
   { name: 'sampled: a discount of 2', source: 'sampled', fires: ['schema'], run: ts(walk("return { state: n + 1, reward: -1, terminal: n >= 3 ? 'goal' : undefined };").replace('discount: 0.9', 'discount: 2')) },
 ];
 

@@ -56,6 +56,8 @@ export interface JsonFinding extends JsonRange {
   trace: JsonTraceStep[];
   /** Additive: related locations (e.g. each transition of a loop), when there are any. */
   related?: Array<JsonRange & { message: string }>;
+  /** Additive: set when the finding was made on the empirical model of a sampled model. */
+  fromSamples?: { samples: number; pairs: number; fewest: number; survives: boolean };
 }
 
 export interface JsonStateValues {
@@ -236,6 +238,7 @@ export function findingToJson(finding: Finding, lines: LineIndex): JsonFinding {
   if (finding.related && finding.related.length > 0) {
     out.related = finding.related.map((r) => ({ message: r.message, ...rangeToJson(r.span, lines) }));
   }
+  if (finding.fromSamples) out.fromSamples = { ...finding.fromSamples };
   return out;
 }
 

@@ -1,4 +1,5 @@
 import type { Span, TerminalKind } from '../spec/types';
+import type { SampleEvidence } from './empirical';
 
 /** Terminal codes in `CompiledModel.terminal`. */
 export const NOT_TERMINAL = 0;
@@ -53,6 +54,8 @@ export interface CompiledModel {
 
   /** Where each state is written (declaration key, or the function that generated it). */
   stateSpan: Span[];
+  /** Set on a model built from samples (model/empirical.ts): the counts behind each probability. */
+  samples?: SampleEvidence;
 }
 
 /** A state's readable name: its label when generated, else its id. */

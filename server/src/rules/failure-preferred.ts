@@ -17,7 +17,7 @@ export const failurePreferred: Rule = {
   defaultSeverity: 'warning',
   summary: 'The optimal policy gives up achievable goal probability to end in a failure terminal.',
   needs: 'analysis',
-  sources: ['json', 'enumerable'],
+  sources: ['json', 'enumerable', 'sampled'],
   thresholds: {
     probabilityGap: {
       default: 0.2,

@@ -12,7 +12,7 @@ export const livingReward: Rule = {
   defaultSeverity: 'warning',
   summary: 'Every step of a reachable loop pays, and staying alive is worth more than the goal.',
   needs: 'analysis',
-  sources: ['json', 'enumerable'],
+  sources: ['json', 'enumerable', 'sampled'],
   documentation: `
 **What it finds.** A "living reward": every step pays something positive (an alive bonus, a small reward for
 moving, a per-step survival reward), so an agent that never finishes collects reward/(1 - discount), which

@@ -8,7 +8,7 @@ export const objectiveSign: Rule = {
   defaultSeverity: 'warning',
   summary: 'Entering a failure pays more than entering a goal (under minimize: costs less).',
   needs: 'model',
-  sources: ['json', 'enumerable'],
+  sources: ['json', 'enumerable', 'sampled'],
   documentation: `
 **What it finds.** A spec whose rewards point the wrong way at the end of the episode: the best way to enter a
 \`failure\` terminal pays more than the best way to enter a \`goal\`. Typical causes are a crash penalty

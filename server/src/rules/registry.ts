@@ -4,6 +4,7 @@
  */
 import { deadEnd } from './dead-end';
 import { duplicateTransition } from './duplicate-transition';
+import { empiricalModel } from './empirical-model';
 import { enumerationLimit } from './enumeration-limit';
 import { episodeNeverEnds } from './episode-never-ends';
 import { failurePreferred } from './failure-preferred';
@@ -40,6 +41,7 @@ import { unseededRandomness } from './unseeded-randomness';
 export const RULES: readonly Rule[] = [
   deadEnd,
   duplicateTransition,
+  empiricalModel,
   enumerationLimit,
   episodeNeverEnds,
   failurePreferred,

@@ -18,7 +18,7 @@ export const rewardLoop: Rule = {
   defaultSeverity: 'warning',
   summary: 'The optimal policy circles a loop instead of ending the episode at a reachable goal.',
   needs: 'analysis',
-  sources: ['json', 'enumerable'],
+  sources: ['json', 'enumerable', 'sampled'],
   thresholds: {
     probabilityGap: {
       default: 0.2,

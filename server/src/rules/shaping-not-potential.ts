@@ -10,7 +10,7 @@ export const shapingNotPotential: Rule = {
   defaultSeverity: 'warning',
   summary: 'The reward terms marked `shaping` cannot be written as discount*Phi(next) - Phi(state).',
   needs: 'model',
-  sources: ['json', 'enumerable'],
+  sources: ['json', 'enumerable', 'sampled'],
   thresholds: {
     tolerance: {
       default: 1e-9,

@@ -11,7 +11,7 @@ export const termDirection: Rule = {
   defaultSeverity: 'warning',
   summary: 'A reward term declared `bonus` takes a value against the objective, or a `penalty` one in its favour.',
   needs: 'graph',
-  sources: ['json', 'enumerable'],
+  sources: ['json', 'enumerable', 'sampled'],
   documentation: `
 **What it finds.** \`rewardTerms\` lets you declare each named reward component a \`bonus\` (it should only
 ever help the agent) or a \`penalty\` (it should only ever hurt). This rule flags every reward value of a

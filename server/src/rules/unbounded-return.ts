@@ -12,7 +12,7 @@ export const unboundedReturn: Rule = {
   defaultSeverity: 'error',
   summary: 'With discount 1 and no horizon, a reachable loop lets the optimal return grow without bound.',
   needs: 'analysis',
-  sources: ['json', 'enumerable'],
+  sources: ['json', 'enumerable', 'sampled'],
   documentation: `
 **Why it matters.** With discount 1 and no time limit the return is the plain sum of rewards. If
 the agent can circle a loop that pays something positive on average every round (under

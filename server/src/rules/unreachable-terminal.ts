@@ -3,7 +3,8 @@ import { reachableFromStart } from '../analysis/reachability';
 import { stateName, TERMINAL_OF_CODE } from '../model/compiled';
 import { quote } from '../spec/names';
 import { describeStep, formatSigned, incompleteNote, outcomeSpan, stateSpan } from './incentive-text';
-import type { RelatedLocation, Rule } from './types';
+import type { CompiledModel } from '../model/compiled';
+import type { RelatedLocation, Rule, RuleContext } from './types';
 
 /** A declared terminal that no policy reaches from the start. */
 export const unreachableTerminal: Rule = {
@@ -11,7 +12,7 @@ export const unreachableTerminal: Rule = {
   defaultSeverity: 'warning',
   summary: 'A declared terminal that no policy reaches from the start.',
   needs: 'graph',
-  sources: ['json'],
+  sources: ['json', 'sampled'],
   documentation: `
 **Why it matters.** Terminals are where episodes end and, usually, where the big rewards and
 penalties are paid: the goal's bonus, the crash's penalty. A terminal no policy can reach never
@@ -34,6 +35,10 @@ it is obsolete.
   check(ctx) {
     const model = ctx.model;
     if (!model || model.startState.length === 0) return;
+    if (model.samples) {
+      checkSampledKinds(ctx, model);
+      return;
+    }
     const reachable = ctx.analysis?.reachable ?? reachableFromStart(model);
     const graph = graphOf(model);
     const kindReachable = new Set<string>();
@@ -77,3 +82,26 @@ it is obsolete.
     }
   },
 };
+
+/**
+ * On the empirical model of a sampled model: a terminal kind the model code names that no sampled
+ * transition entered. A warning when the exploration tried every state it saw with every action
+ * (an entry of probability p from some tried pair is then missed with probability at most (1-p)^tries),
+ * info when it did not.
+ */
+function checkSampledKinds(ctx: RuleContext, model: CompiledModel): void {
+  const samples = model.samples!;
+  for (const code of [...samples.declaredKinds].sort()) {
+    if (samples.reachedKinds.has(code)) continue;
+    const kind = TERMINAL_OF_CODE[code]!;
+    const effort = `${samples.episodes} rollout episodes and ${samples.exploreSamples} exploration samples`;
+    const confidence = samples.complete
+      ? `although every one of the ${model.stateCount} state keys seen was tried at least ${samples.tries} times with each action`
+      : 'and the exploration budget ran out before every state key seen was tried, so it may lie beyond what was sampled';
+    ctx.report({
+      message: `the model code names the terminal kind "${kind}", but none of ${effort} ended in it, ${confidence}: its rewards never count toward any sampled return`,
+      span: model.stateSpan[0],
+      severity: samples.complete ? 'warning' : 'info',
+    });
+  }
+}

@@ -19,7 +19,12 @@ import type { ParsedSpec, Span } from '../spec/types';
 import type { SourceLocation } from './bundle';
 import { ModelSandbox, type ModelFailure, type RandomnessUse } from './host';
 import type { ModelDescription } from './protocol';
-import type { Enumeration, ModelFunction } from './runtime';
+import type { Enumeration, ModelFunction, RolloutRun } from './runtime';
+import type { RecordOptions } from './transition-record';
+import { buildEmpiricalModel } from '../model/empirical';
+import { TERMINAL_CODE } from '../model/compiled';
+import { empiricalModel } from '../rules/empirical-model';
+import type { TerminalKind } from '../spec/types';
 
 /** Rollouts of a sampled model when the config asks for none (config.rollouts = 0). */
 export const DEFAULT_SAMPLED_ROLLOUTS = 1000;
@@ -41,6 +46,7 @@ export async function loadTypeScriptSpec(path: string, text: string, options: An
   const internalErrors = reading.internalError ? [reading.internalError] : [];
   let enumerated: { model?: CompiledModel; reason?: string };
   let rollouts: RolloutReport | undefined;
+  let empirical: CompiledModel | undefined;
   if (reading.internalError) {
     evidence.notExecuted = 'the model code was not run because the spec could not be read';
     enumerated = { reason: reading.internalError };
@@ -55,6 +61,7 @@ export async function loadTypeScriptSpec(path: string, text: string, options: An
       const run = await runModel(path, text, reading, config, options, findings);
       enumerated = run.prebuilt;
       rollouts = run.rollouts;
+      empirical = run.empirical;
     } catch (error) {
       // Failures of model code arrive as ModelFailure values; a throw here is a bug of ours.
       const reason = `running the model failed: ${error instanceof Error ? error.message : String(error)}`;
@@ -62,12 +69,13 @@ export async function loadTypeScriptSpec(path: string, text: string, options: An
       internalErrors.push(reason);
     }
   }
-  return { spec: reading.spec, findings, enumerated, rollouts, internalErrors, cancelled: options.isCancelled?.() === true };
+  return { spec: reading.spec, findings, enumerated, rollouts, empirical, internalErrors, cancelled: options.isCancelled?.() === true };
 }
 
 interface RunResult {
   prebuilt: { model?: CompiledModel; reason?: string };
   rollouts?: RolloutReport;
+  empirical?: CompiledModel;
 }
 
 async function runModel(
@@ -155,10 +163,11 @@ async function runModel(
     } else {
       evidence.form = 'sampled';
     }
-    const stats = await sampleByRollouts(sandbox, spec, config, declaredTerms, evidence, place, findings);
+    const sampled = await sampleByRollouts(sandbox, spec, config, declaredTerms, evidence, place, findings);
     return {
       prebuilt: { reason: evidence.form === 'sampled' ? 'a sampled model has no exact values; see the rollout estimates' : 'enumeration stopped at the state cap; see the rollout estimates' },
-      rollouts: stats ? { random: stats } : undefined,
+      rollouts: sampled.stats ? { random: sampled.stats } : undefined,
+      empirical: sampled.empirical,
     };
   } finally {
     await sandbox.close();
@@ -177,17 +186,28 @@ async function sampleByRollouts(
   const episodes = config.rollouts > 0 ? config.rollouts : DEFAULT_SAMPLED_ROLLOUTS;
   const stepCap = ruleThreshold(config, episodeNeverEnds, 'stepCap');
   const common = { seed: config.seed, discount: spec.discount!.value, horizon: spec.horizon?.value, stepCap, declaredTerms };
-  const ran = await sandbox.rollouts({ ...common, episodes, fingerprintEpisodes: REPLAYED_EPISODES });
+  // Only a black box gets an empirical model: an enumerable one past the state cap has too many keys anyway.
+  const record: RecordOptions | undefined =
+    evidence.form === 'sampled'
+      ? {
+          keyCap: ruleThreshold(config, empiricalModel, 'keyCap'),
+          tries: ruleThreshold(config, empiricalModel, 'tries'),
+          exploreBudget: ruleThreshold(config, empiricalModel, 'exploreBudget'),
+          countedSteps: ruleThreshold(config, empiricalModel, 'countedSteps'),
+        }
+      : undefined;
+  const ran = await sandbox.rollouts({ ...common, episodes, fingerprintEpisodes: REPLAYED_EPISODES, record });
   addRandomness(evidence, ran.randomness, place);
   if (ran.failure) {
     place.failure(evidence, ran.failure);
-    return undefined;
+    return {};
   }
   const run = ran.value!;
   if (run.problem) {
     place.failure(evidence, sandbox.locate(run.problem), findings);
-    return undefined;
+    return {};
   }
+  const empirical = record ? empiricalOf(run, record, spec, config, evidence, place, sandbox, findings) : undefined;
   if (run.firstNonFinite) {
     const problem = place.problem({ ...run.firstNonFinite, location: undefined });
     findings.push(nonFiniteFinding(problem, run.nonFiniteEpisodes, episodes));
@@ -205,7 +225,63 @@ async function sampleByRollouts(
   const finite = onlyFinite(run.records);
   const stats = summarizeEpisodes(finite, { policy: 'random', seed: config.seed, stepCap: effectiveStepCap(common.discount, stepCap) });
   evidence.rollouts = stats;
-  return stats;
+  return { stats, empirical };
+}
+
+/** The empirical model of the recorded counts, or undefined with the reason in the evidence. */
+function empiricalOf(
+  run: RolloutRun,
+  record: RecordOptions,
+  spec: ParsedSpec,
+  config: ResolvedConfig,
+  evidence: TypeScriptEvidence,
+  place: Placer,
+  sandbox: ModelSandbox,
+  findings: Finding[],
+): CompiledModel | undefined {
+  const span = place.memberName('sample');
+  if (run.countsProblem) place.failure(evidence, sandbox.locate(run.countsProblem), findings);
+  const counts = run.counts;
+  const built = counts
+    ? buildEmpiricalModel(counts, {
+        discount: spec.discount!.value,
+        horizon: spec.horizon?.value,
+        maximize: spec.objective !== 'minimize',
+        terms: spec.rewardTerms.map((t) => t.name),
+        span,
+        tolerance: ruleThreshold(config, empiricalModel, 'tolerance'),
+        declaredKinds: declaredTerminalKinds(place),
+      })
+    : { reason: 'no transition was recorded' };
+  const model = built.model;
+  evidence.empirical = {
+    built: model !== undefined,
+    reason: built.reason,
+    states: model?.stateCount ?? counts?.nodes.length ?? 0,
+    pairs: model?.choiceCount ?? 0,
+    episodes: counts?.episodes ?? 0,
+    steps: counts?.steps ?? 0,
+    exploreSamples: counts?.exploreSamples ?? 0,
+    unexplored: model?.samples?.unexploredCount ?? 0,
+    complete: model?.samples?.complete ?? false,
+    exploreCut: counts?.exploreCut,
+    exploreBudget: record.exploreBudget,
+    tries: record.tries,
+    span,
+  };
+  return model;
+}
+
+/**
+ * The terminal kinds the model code names: string literals "goal", "failure" or "neutral" in its
+ * `sample` and `terminal` members (what unreachable-terminal checks the samples against).
+ */
+function declaredTerminalKinds(place: Placer): Set<number> {
+  const kinds = new Set<number>();
+  for (const name of ['sample', 'terminal']) {
+    for (const match of place.memberSource(name).matchAll(/['"`](goal|failure|neutral)['"`]/g)) kinds.add(TERMINAL_CODE[match[1] as TerminalKind]);
+  }
+  return kinds;
 }
 
 /** Drops episodes whose return is not finite (they are reported by non-finite-reward). */
@@ -281,6 +357,12 @@ class Placer {
   memberName(phase: ModelFunction | string): Span {
     const members = this.spec.typescript!.members;
     return (members[phase] ?? (phase === 'start' ? members.startDistribution : undefined))?.nameSpan ?? this.spec.rootSpan;
+  }
+
+  /** The source text of a member of the default export ('' when it has none). */
+  memberSource(name: string): string {
+    const member = this.spec.typescript!.members[name];
+    return member ? this.text.slice(member.span.start, member.span.end) : '';
   }
 
   /** A span for a source location: its line in the spec, or the member's name with "file:line:col". */

@@ -22,7 +22,7 @@ export interface ModelDescription {
   discount?: unknown;
   horizon?: unknown;
   rewardTerms?: unknown;
-  members: Record<'start' | 'startDistribution' | 'actions' | 'outcomes' | 'terminal' | 'sample', 'function' | 'value' | 'absent'>;
+  members: Record<'start' | 'startDistribution' | 'actions' | 'outcomes' | 'terminal' | 'sample' | 'stateKey', 'function' | 'value' | 'absent'>;
 }
 
 export type HostRequest =

@@ -4,6 +4,8 @@
  * benchmark calls the same functions directly to measure what the sandbox costs. It must not import
  * anything that needs the host (file system, esbuild, ts-morph).
  */
+import type { TransitionCounts } from '../model/empirical';
+import type { RecordOptions } from './transition-record';
 import { effectiveStepCap, END_FAILURE, END_GOAL, END_NEUTRAL, END_NONE, END_STEP_CAP, Xoshiro128, type EpisodeRecords } from '../analysis/rollouts';
 
 /** What a model function did wrong; `phase` names the function. */
@@ -20,8 +22,8 @@ export interface RuntimeProblem {
   step?: number;
 }
 
-export type ModelFunction = 'load' | 'start' | 'actions' | 'outcomes' | 'terminal' | 'sample';
-export const PHASE_CODES: readonly ModelFunction[] = ['load', 'start', 'actions', 'outcomes', 'terminal', 'sample'];
+export type ModelFunction = 'load' | 'start' | 'actions' | 'outcomes' | 'terminal' | 'sample' | 'stateKey';
+export const PHASE_CODES: readonly ModelFunction[] = ['load', 'start', 'actions', 'outcomes', 'terminal', 'sample', 'stateKey'];
 
 /**
  * Progress shared with the host (a SharedArrayBuffer in the worker): [0] calls made, [1] phase
@@ -38,7 +40,7 @@ export class ModelExitCall extends Error {
   }
 }
 
-class MalformedValue extends Error {}
+export class MalformedValue extends Error {}
 
 const OBJECT_PROTOTYPE = Object.prototype;
 
@@ -179,11 +181,28 @@ export interface ModelFunctions {
   outcomes?: (state: unknown, action: unknown) => unknown;
   terminal?: (state: unknown) => unknown;
   sample?: (state: unknown, action: unknown, rng: ModelRng) => unknown;
+  /** Maps a (continuous) state to the discrete key the empirical model and learning group it under. */
+  stateKey?: (state: unknown) => unknown;
+}
+
+/**
+ * The key under which the empirical model and learning group a state: the spec's own
+ * `stateKey(state)` (a string or a finite number) when it has one, else the canonical key. Every
+ * user of sampled states goes through this one helper, so they agree on what "the same state" is.
+ * Throws what `stateKey` throws, or MalformedValue for a key that is neither a string nor a number.
+ */
+export function keyOfState(model: ModelFunctions, state: unknown): string {
+  const own = model.stateKey;
+  if (typeof own !== 'function') return canonicalKey(state);
+  const key = own(state);
+  if (typeof key === 'string' || (typeof key === 'number' && Number.isFinite(key))) return JSON.stringify(key);
+  const shown = typeof key === 'number' ? String(key) : describeValue(key);
+  throw new MalformedValue(`stateKey(state) returned ${shown}; expected a string or a finite number`);
 }
 
 export const TERMINAL_CODES: Record<string, number> = { goal: END_GOAL, failure: END_FAILURE, neutral: END_NEUTRAL };
 
-function terminalCode(value: unknown, what: string): number {
+export function terminalCode(value: unknown, what: string): number {
   if (value === undefined || value === null || value === false) return 0;
   const code = typeof value === 'string' ? TERMINAL_CODES[value] : undefined;
   if (code === undefined) throw new MalformedValue(`${what} is ${describeValue(value)}; expected "goal", "failure", "neutral" or undefined`);
@@ -191,7 +210,7 @@ function terminalCode(value: unknown, what: string): number {
 }
 
 /** Adds a reward (number or term map) into `terms` and returns its scalar total. */
-function readReward(reward: unknown, termIndex: Map<string, number> | undefined, termValues: number[] | undefined, strictTerms: boolean, what: string): number {
+export function readReward(reward: unknown, termIndex: Map<string, number> | undefined, termValues: number[] | undefined, strictTerms: boolean, what: string): number {
   if (typeof reward === 'number') return reward;
   if (typeof reward !== 'object' || reward === null || Array.isArray(reward)) {
     throw new MalformedValue(`${what} is ${describeValue(reward)}; expected a number or an object of reward terms`);
@@ -214,13 +233,13 @@ function readReward(reward: unknown, termIndex: Map<string, number> | undefined,
   return total;
 }
 
-function actionName(action: unknown, what: string): string {
+export function actionName(action: unknown, what: string): string {
   if (typeof action === 'string') return action;
   if (typeof action === 'number' && Number.isFinite(action)) return String(action);
   throw new MalformedValue(`${what} is ${describeValue(action)}; actions must be strings or numbers`);
 }
 
-function listOf(value: unknown, what: string): unknown[] {
+export function listOf(value: unknown, what: string): unknown[] {
   if (Array.isArray(value)) return value;
   if (value && typeof (value as { then?: unknown }).then === 'function') {
     throw new MalformedValue(`${what} is a Promise; model functions must return their value synchronously`);
@@ -228,7 +247,7 @@ function listOf(value: unknown, what: string): unknown[] {
   throw new MalformedValue(`${what} is ${describeValue(value)}; expected an array`);
 }
 
-function problemOf(error: unknown, phase: ModelFunction, context: Partial<RuntimeProblem>): RuntimeProblem {
+export function problemOf(error: unknown, phase: ModelFunction, context: Partial<RuntimeProblem>): RuntimeProblem {
   if (error instanceof MalformedValue) return { kind: 'malformed', phase, message: error.message, ...context };
   if (error instanceof ModelExitCall) return { kind: 'exit', phase, message: error.message, stack: error.stack, ...context };
   if (error instanceof Error) {
@@ -541,7 +560,20 @@ export interface RolloutOptions {
   declaredTerms: string[];
   /** Episodes (from the first) whose trajectories are fingerprinted for the determinism check. */
   fingerprintEpisodes: number;
+  /** Count the transitions per (state key, action) and explore from the keys seen (the worker does it). */
+  record?: RecordOptions;
   progress: Progress;
+}
+
+/**
+ * Receives every step of the rollouts (the empirical model's counts, sandbox/transition-record.ts).
+ * It is handed in by the worker, so rollouts without it pay nothing.
+ */
+export interface StepRecorder {
+  /** An episode begins in `state`, whose terminal kind code is `code` (0: not terminal). */
+  begin(state: unknown, code: number): void;
+  /** The episode took `action` to `next` for `reward` (its declared terms' parts in `terms`). */
+  step(action: string, next: unknown, reward: number, terms: readonly number[], code: number): void;
 }
 
 export interface RolloutRun {
@@ -554,6 +586,10 @@ export interface RolloutRun {
   fingerprints: string[];
   /** How many episodes ran before a problem stopped the run. */
   completed: number;
+  /** The transition counts, when `record` was asked for. */
+  counts?: TransitionCounts;
+  /** A problem of model code met while recording or exploring (the rollouts themselves went on). */
+  countsProblem?: RuntimeProblem;
 }
 
 /**
@@ -561,7 +597,7 @@ export interface RolloutRun {
  * episode), the policy from its own stream 1. A model with `outcomes` but no `sample` is sampled by
  * drawing an outcome by its probability.
  */
-export function rolloutModel(model: ModelFunctions, options: RolloutOptions): RolloutRun {
+export function rolloutModel(model: ModelFunctions, options: RolloutOptions, recorder?: StepRecorder): RolloutRun {
   const { episodes, seed, discount, progress } = options;
   const firstEpisode = options.firstEpisode ?? 0;
   const limit = options.horizon ?? effectiveStepCap(discount, options.stepCap);
@@ -586,7 +622,6 @@ export function rolloutModel(model: ModelFunctions, options: RolloutOptions): Ro
   const actions = model.actions!;
   const terminalOf = model.terminal;
   const sample = model.sample;
-  const outcomes = model.outcomes;
   const startFunction = typeof model.start === 'function' ? (model.start as (rng: ModelRng) => unknown) : undefined;
   const startDistribution = model.startDistribution;
 
@@ -614,6 +649,7 @@ export function rolloutModel(model: ModelFunctions, options: RolloutOptions): Ro
         phase = 'terminal';
         code = terminalCode(terminalOf(state), 'the returned terminal kind');
       }
+      recorder?.begin(state, code);
       while (code === 0) {
         if (t >= limit) {
           end = options.horizon === undefined ? END_STEP_CAP : END_NONE;
@@ -630,32 +666,13 @@ export function rolloutModel(model: ModelFunctions, options: RolloutOptions): Ro
           return stopped({ kind: 'dead-end', phase, message: 'actions() returned no action for a state that is not terminal', state: describeValue(state), episode, step: t });
         }
         action = (list as unknown[])[chooser.nextInt(count)];
-        let reward: unknown;
-        let next: unknown;
-        let said: unknown;
-        if (sample) {
-          phase = 'sample';
-          progress[1] = 5;
-          progress[0]++;
-          const result = sample(state, action, rng) as { state?: unknown; reward?: unknown; terminal?: unknown };
-          if (typeof result !== 'object' || result === null || !('state' in result)) {
-            if (result && typeof (result as { then?: unknown }).then === 'function') {
-              throw new MalformedValue('the result is a Promise; model functions must return their value synchronously');
-            }
-            throw new MalformedValue(`the result is ${describeValue(result)}; expected { state, reward, terminal? }`);
-          }
-          next = result.state;
-          reward = result.reward;
-          said = result.terminal;
-        } else {
-          phase = 'outcomes';
-          progress[1] = 3;
-          progress[0]++;
-          const outs = listOf(outcomes!(state, action), 'the returned outcome list');
-          const drawn = drawOutcome(outs, generator.nextFloat());
-          next = drawn.state;
-          reward = drawn.reward;
-        }
+        phase = sample ? 'sample' : 'outcomes';
+        progress[1] = sample ? 5 : 3;
+        progress[0]++;
+        const drawn = drawTransition(model, state, action, rng);
+        const next = drawn.state;
+        const reward = drawn.reward;
+        if (recorder) scratch.length = 0;
         const r = typeof reward === 'number' ? reward : readReward(reward, termIndex, scratch, strictTerms, 'the reward');
         if (!Number.isFinite(r) && !nonFinite) {
           nonFinite = true;
@@ -667,12 +684,13 @@ export function rolloutModel(model: ModelFunctions, options: RolloutOptions): Ro
         if (hash !== 0) hash = fnv(fnv(hash, String(action)), `${r}|${describeValue(next)}`);
         state = next;
         t++;
-        code = terminalCode(said, 'the returned terminal kind');
+        code = terminalCode(drawn.terminal, 'the returned terminal kind');
         if (code === 0 && terminalOf) {
           phase = 'terminal';
           progress[1] = 4;
           code = terminalCode(terminalOf(state), 'the returned terminal kind');
         }
+        recorder?.step(typeof action === 'string' ? action : String(action), state, r, scratch, code);
       }
       if (code !== 0) end = code;
       returns[e] = nonFinite ? NaN : total;
@@ -695,6 +713,25 @@ export function rolloutModel(model: ModelFunctions, options: RolloutOptions): Ro
       completed: e,
     };
   }
+}
+
+/**
+ * One sampled step from `state` under `action`: `sample` when the model has it, else an outcome of
+ * `outcomes` drawn by its probability. `terminal` is the kind `sample` said (checked by the caller).
+ */
+export function drawTransition(model: ModelFunctions, state: unknown, action: unknown, rng: ModelRng): { state: unknown; reward: unknown; terminal?: unknown } {
+  if (model.sample) {
+    const result = model.sample(state, action, rng) as { state?: unknown; reward?: unknown; terminal?: unknown };
+    if (typeof result !== 'object' || result === null || !('state' in result)) {
+      if (result && typeof (result as { then?: unknown }).then === 'function') {
+        throw new MalformedValue('the result is a Promise; model functions must return their value synchronously');
+      }
+      throw new MalformedValue(`the result is ${describeValue(result)}; expected { state, reward, terminal? }`);
+    }
+    return result as { state: unknown; reward: unknown; terminal?: unknown };
+  }
+  const drawn = drawOutcome(listOf(model.outcomes!(state, action), 'the returned outcome list'), rng.generator.nextFloat());
+  return { state: drawn.state, reward: drawn.reward };
 }
 
 function drawStart(entries: unknown[], generator: Xoshiro128): unknown {

@@ -16,6 +16,7 @@ import {
   type RolloutOptions,
   type RuntimeProblem,
 } from './runtime';
+import { TransitionRecorder } from './transition-record';
 import { MODEL_SCRIPT_NAME, type HostRequest, type ModelDescription, type RandomnessCall, type WorkerReply } from './protocol';
 
 const progress = new Int32Array(workerData.progress as SharedArrayBuffer);
@@ -112,6 +113,7 @@ function load(code: string, specPath: string): WorkerReply {
       outcomes: kindOf(exported.outcomes),
       terminal: kindOf(exported.terminal),
       sample: kindOf(exported.sample),
+      stateKey: kindOf(exported.stateKey),
     },
   };
   return { type: 'loaded', description, randomness: takeRandomness() };
@@ -146,7 +148,13 @@ function handle(request: HostRequest): void {
     return;
   }
   const options: RolloutOptions = { ...request.options, progress };
-  const run = rolloutModel(model, options);
+  const recorder = options.record ? new TransitionRecorder(model, options.record, options.declaredTerms, progress) : undefined;
+  const run = rolloutModel(model, options, recorder);
+  if (recorder && !run.problem) {
+    recorder.explore(options.seed, options.declaredTerms);
+    run.counts = recorder.result();
+    run.countsProblem = recorder.problem;
+  }
   const { returns, lengths, ends } = run.records;
   parentPort!.postMessage({ type: 'rolled', run, randomness: takeRandomness() } satisfies WorkerReply, [
     returns.buffer,

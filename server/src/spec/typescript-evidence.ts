@@ -76,4 +76,29 @@ export interface TypeScriptEvidence {
   };
   /** Rollouts of the model code itself (sampled models, or enumerable ones past the state cap). */
   rollouts?: RolloutStats;
+  /** The model built from a sampled model's transitions (model/empirical.ts), or why there is none. */
+  empirical?: EmpiricalSummary;
+}
+
+/** What the empirical model of a sampled model holds, or why it was not built (the empirical-model rule reads it). */
+export interface EmpiricalSummary {
+  built: boolean;
+  /** Why it was not built. */
+  reason?: string;
+  states: number;
+  pairs: number;
+  /** Rollout episodes and steps recorded, and samples drawn by the exploration pass. */
+  episodes: number;
+  steps: number;
+  exploreSamples: number;
+  /** Keys seen only as targets, never tried. */
+  unexplored: number;
+  /** Every key seen was tried with every action within the exploration budget. */
+  complete: boolean;
+  /** Why the exploration stopped early (its budget, or the key cap). */
+  exploreCut?: string;
+  /** The exploration budget (samples) and the samples each pair was meant to get. */
+  exploreBudget: number;
+  tries: number;
+  span: Span;
 }

@@ -40,6 +40,7 @@ export const KNOWN_MEMBERS = new Set([
   'outcomes',
   'terminal',
   'sample',
+  'stateKey',
 ]);
 
 const RANDOM_MEMBERS: Record<string, Set<string>> = {
