@@ -39,6 +39,8 @@ export interface LoadedSpec {
   /** Failures of ours while loading (a bug, not a problem of the spec); they end in FileReport.internalErrors. */
   internalErrors: string[];
   cancelled?: boolean;
+  /** What TypeScript model code printed to stdout and stderr in the sandbox (cut to a readable length). */
+  modelOutput?: string;
 }
 
 export interface FileReport {
@@ -62,4 +64,6 @@ export interface FileReport {
    * analysed models when config `rollouts` > 0 (optimal and random policy).
    */
   rollouts?: RolloutReport;
+  /** What TypeScript model code printed (LoadedSpec.modelOutput); never part of the CLI's own output streams. */
+  modelOutput?: string;
 }
