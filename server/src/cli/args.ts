@@ -83,6 +83,7 @@ export const OPTIONS: readonly OptionSpec[] = [
   { name: 'socket', kind: 'string', valueName: 'PORT', description: 'talk the Language Server Protocol over a TCP socket on this port' },
   { name: 'clientProcessId', kind: 'string', valueName: 'PID', description: 'exit when this process (the editor) ends' },
   { name: 'no-exec', kind: 'flag', description: 'never run TypeScript model code: static checks only (for untrusted files)' },
+  { name: 'run-model-code', kind: 'flag', description: 'server: run TypeScript model code unless the client says the workspace is not trusted (default: only when it says trusted)' },
   { name: 'seed', kind: 'integer', valueName: 'N', description: 'seed of the Monte Carlo rollouts (default: the config\'s seed, else 1)' },
   {
     name: 'rollouts',

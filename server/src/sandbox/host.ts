@@ -177,7 +177,8 @@ class Child {
   /** The captured stdout and stderr of model code, cut to a readable length. */
   shownOutput(): string {
     const dropped = this.outputDropped + Math.max(0, this.output.length - OUTPUT_SHOWN);
-    const text = this.output.slice(0, OUTPUT_SHOWN);
+    // Control characters (terminal escapes) are shown as U+FFFD, so printing the output is safe.
+    const text = this.output.slice(0, OUTPUT_SHOWN).replace(/[\u0000-\u0008\u000b-\u001f\u007f-\u009f]/g, '\ufffd');
     return dropped > 0 ? `${text}\n… (${dropped} more characters not shown)` : text;
   }
 }

@@ -38,11 +38,14 @@ const now = performance.now.bind(performance);
 void process.stdout;
 void process.stderr;
 
-/** Replaces every function of a module or prototype with one that refuses, naming what was refused. */
-function refuseAll(target: object | undefined, what: string): void {
+/**
+ * Replaces the functions of a module or prototype (those whose names `only` matches, if given) with
+ * ones that refuse, naming what was refused.
+ */
+function refuseAll(target: object | undefined, what: string, only?: RegExp): void {
   if (!target) return;
   for (const key of Object.getOwnPropertyNames(target)) {
-    if (key === 'constructor' || key === 'prototype') continue;
+    if (key === 'constructor' || key === 'prototype' || (only && !only.test(key))) continue;
     const descriptor = Object.getOwnPropertyDescriptor(target, key);
     if (!descriptor || typeof descriptor.value !== 'function' || !descriptor.configurable) continue;
     const refusing = function refused(): never {
@@ -55,6 +58,8 @@ function refuseAll(target: object | undefined, what: string): void {
     }
   }
 }
+
+const OPENING = /^(connect|listen|bind|send|request|open|resolve|lookup|reverse|addMembership|addSourceSpecificMembership|setServers)/;
 
 /**
  * Node 20's permission model covers files, child processes and workers but not the network, so the
@@ -72,10 +77,12 @@ function lockDown(): void {
     } catch {
       continue;
     }
-    refuseAll(exported, id);
+    // The classes first: refusing the module's functions replaces the references to them. Only
+    // the methods that open something: the stdout and stderr streams are net.Socket objects too.
     for (const value of Object.values(exported)) {
-      if (typeof value === 'function' && value.prototype) refuseAll(value.prototype as object, `${id}.${value.name || 'class'}`);
+      if (typeof value === 'function' && value.prototype) refuseAll(value.prototype as object, `${id}.${value.name || 'class'}`, OPENING);
     }
+    refuseAll(exported, id);
   }
   // The stdout and stderr handles (pipes) must not open new connections either.
   for (const stream of [process.stdout, process.stderr]) {
