@@ -141,6 +141,7 @@ export function analyzeLoaded(path: string, text: string, loaded: LoadedSpec, op
     }
   }
   if (loaded.rollouts) report.rollouts = { ...report.rollouts, ...loaded.rollouts };
+  if (loaded.modelOutput) report.modelOutput = loaded.modelOutput;
 
   for (const rule of enabled) {
     if (options.isCancelled?.()) {

@@ -49,6 +49,8 @@ export interface LoadedSpec {
   /** Failures of ours while loading (a bug, not a problem of the spec); they end in FileReport.internalErrors. */
   internalErrors: string[];
   cancelled?: boolean;
+  /** What TypeScript model code printed to stdout and stderr in the sandbox (cut to a readable length). */
+  modelOutput?: string;
 }
 
 export interface FileReport {
@@ -74,4 +76,6 @@ export interface FileReport {
   rollouts?: RolloutReport;
   /** The empirical model of a sampled model and its analysis, when it was built (see LoadedSpec.empirical). */
   empirical?: { model: CompiledModel; analysis?: Analysis };
+  /** What TypeScript model code printed (LoadedSpec.modelOutput); never part of the CLI's own output streams. */
+  modelOutput?: string;
 }

@@ -55,7 +55,7 @@ describe('dist/cli.js on a TypeScript model whose dynamics never return', () => 
         const findings = JSON.parse(result.stdout).files[0].findings;
         expect(findings.map((f: { rule: string; line: number }) => [f.rule, f.line])).toEqual([['model-error', 2]]);
       } else {
-        expect(result.stdout).toContain('spinner.mdp.ts:2:3 error model-error outcomes(0) did not return within 2000 ms');
+        expect(result.stdout).toContain('spinner.mdp.ts:2:3 error model-error outcomes(0, "spin") did not return within 2000 ms');
       }
     });
   }

@@ -85,6 +85,7 @@ export const OPTIONS: readonly OptionSpec[] = [
   { name: 'socket', kind: 'integer', range: [1, 65535], valueName: 'PORT', description: 'talk the Language Server Protocol over a TCP socket on this port' },
   { name: 'clientProcessId', kind: 'integer', range: [1, 2 ** 31 - 1], valueName: 'PID', description: 'exit when this process (the editor) ends' },
   { name: 'no-exec', kind: 'flag', description: 'never run TypeScript model code: static checks only (for untrusted files)' },
+  { name: 'run-model-code', kind: 'flag', description: 'server: run TypeScript model code unless the client says the workspace is not trusted (default: only when it says trusted)' },
   // The same range as the config file's seed: the rollouts use it as a 32-bit unsigned number.
   { name: 'seed', kind: 'integer', range: [0, 2 ** 32 - 1], valueName: 'N', description: 'seed of the Monte Carlo rollouts (default: the config\'s seed, else 1)' },
   {

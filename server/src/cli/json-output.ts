@@ -123,6 +123,8 @@ export interface JsonFile {
    * always (random policy), for exactly analysed models with `--rollouts N` (both policies).
    */
   rollouts?: Partial<Record<'random' | 'optimal', JsonRollouts>>;
+  /** Additive: what TypeScript model code printed to stdout and stderr in the sandbox (cut to about 4000 characters). */
+  modelOutput?: string;
 }
 
 /**
@@ -157,6 +159,7 @@ export function fileReportToJson(report: FileReport, options: JsonOptions = {}):
   if (report.analysis && report.model) file.analysis = analysisToJson(report.analysis, report.model, options.values ?? false);
   if (!report.analysis && report.notAnalysed) file.notAnalysed = report.notAnalysed;
   if (report.internalErrors.length > 0) file.internalErrors = [...report.internalErrors];
+  if (report.modelOutput) file.modelOutput = report.modelOutput;
   if (report.rollouts) {
     file.rollouts = {};
     if (report.rollouts.random) file.rollouts.random = rolloutsToJson(report.rollouts.random);

@@ -66,7 +66,7 @@ const COMMANDS: readonly Command[] = [
     name: 'server',
     operands: '',
     summary: 'start the language server for any LSP client (--stdio, --node-ipc or --socket=PORT)',
-    options: ['stdio', 'node-ipc', 'socket', 'clientProcessId', 'no-exec'],
+    options: ['stdio', 'node-ipc', 'socket', 'clientProcessId', 'no-exec', 'run-model-code'],
     minOperands: 0,
     maxOperands: 0,
     run: runServer,
@@ -218,7 +218,7 @@ async function runServer(args: ParsedArgs, io: CliIo): Promise<number> {
   }
   // Loaded only for this command, so that `check` and `explain` never load the language server.
   const { startServer } = await import('../lsp/server');
-  startServer({ exec: args.options['no-exec'] !== true });
+  startServer({ exec: args.options['no-exec'] !== true, runModelCode: args.options['run-model-code'] === true });
   return new Promise<number>(() => undefined);
 }
 

@@ -51,6 +51,10 @@ export function formatFileText(file: JsonFile, style: Style): string {
   }
   lines.push(...summariseStart(file, style));
   lines.push(...summariseRollouts(file));
+  if (file.modelOutput) {
+    lines.push(style.dim('  model output (stdout and stderr of the model code):'));
+    for (const line of file.modelOutput.replace(/\n$/, '').split('\n')) lines.push(style.dim(`  | ${line}`));
+  }
   for (const error of file.internalErrors ?? []) lines.push(`${style.path(file.path)} internal error: ${error}`);
   // A blank line closes each file's block, so that files stand apart when many are checked.
   return lines.join('\n') + '\n\n';

@@ -117,6 +117,8 @@ export interface AnalysisSnapshot {
   status: string;
   /** Why there is no analysis, when there is none. */
   notAnalysed?: string;
+  /** What TypeScript model code printed in the sandbox; the server writes it to its log (the output channel). */
+  modelOutput?: string;
   hoverIndex?: HoverIndex;
   values?: ValueTables;
   /** Hovers on `discount` and `horizon`. */

@@ -53,7 +53,7 @@ export function startServer(options: ServerOptions = {}): Connection {
 
   connection.listen();
   server.log(
-    `Episcope language server started (${server.docsFolder ? 'rule pages found' : 'rule pages not found'}; model code ${options.exec === false ? 'never runs' : 'runs in trusted workspaces'}).`,
+    `Episcope language server started (${server.docsFolder ? 'rule pages found' : 'rule pages not found'}; model code ${options.exec === false ? 'never runs' : options.runModelCode ? 'runs unless the client says the workspace is not trusted' : 'runs only when the client says the workspace is trusted'}).`,
   );
   return connection;
 }

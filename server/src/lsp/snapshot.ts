@@ -59,6 +59,7 @@ export function buildSnapshot(input: SnapshotInput): AnalysisSnapshot {
     lens: analysis ? lensLines(analysis, model?.maximize ?? true) : [],
     status: statusLine(report, input.durationMs),
     notAnalysed: report.notAnalysed,
+    modelOutput: report.modelOutput,
     fixedHovers: model ? fixedHovers(report.text, report.spec, model, analysis) : [],
     internalErrors: report.internalErrors,
     stateCount: model?.stateCount,

@@ -18,6 +18,12 @@ export interface ServerOptions {
   connection?: Connection;
   /** False forbids running TypeScript model code whatever the client says (`episcope server --no-exec`). */
   exec?: boolean;
+  /**
+   * True runs model code unless the client says the workspace is not trusted (`--run-model-code`).
+   * Without it model code runs only when the client says `initializationOptions.trusted: true`, so an
+   * editor that knows nothing of trust never runs the code of a repository it opens.
+   */
+  runModelCode?: boolean;
   /** The bundled worker script; defaults to analysis-worker.js beside this bundle. */
   workerScript?: string;
   /** Folder of the rule pages; defaults to docs/rules beside this bundle. */
@@ -36,7 +42,8 @@ export class ServerState {
   capabilities: ClientCapabilities = {};
   pullDiagnostics = false;
   workspaceFolders: WorkspaceFolder[] = [];
-  trusted = true;
+  /** Set from the start flag here, then from the client's initializationOptions and trust notifications. */
+  trusted: boolean;
   initialSettings: unknown;
   globalSettings: EpiscopeSettings = DEFAULT_SETTINGS;
   readonly settingsCache = new Map<string, Promise<EpiscopeSettings>>();
@@ -56,6 +63,7 @@ export class ServerState {
     readonly connection: Connection,
     readonly options: ServerOptions,
   ) {
+    this.trusted = options.runModelCode === true;
     const here = typeof __dirname === 'string' ? __dirname : process.cwd();
     const docsCandidate = options.docsFolder ?? join(here, 'docs', 'rules');
     this.docsFolder = existsSync(docsCandidate) ? docsCandidate : undefined;

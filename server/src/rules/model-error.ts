@@ -4,6 +4,9 @@ import type { Rule } from './types';
 /** How a model call is named in messages: `outcomes({"stock":3}, "order")`, or the episode and step of a rollout. */
 export function describeCall(problem: Pick<LocatedProblem, 'phase' | 'state' | 'action' | 'episode' | 'step'>): string {
   if (problem.phase === 'load') return 'loading the spec';
+  // Failures only the sandbox host saw (a kill, an abort) name the job, not a call.
+  if (problem.phase === 'enumeration') return 'the model code, while enumerating its states,';
+  if (problem.phase === 'rollouts') return 'the model code, during the rollouts,';
   const args = [problem.state, problem.action === undefined ? undefined : JSON.stringify(problem.action)].filter((a) => a !== undefined);
   const call = problem.phase === 'start' ? 'start(rng)' : `${problem.phase}(${args.join(', ')})`;
   const when = problem.episode !== undefined ? ` in rollout episode ${problem.episode}, step ${problem.step ?? 0}` : '';
@@ -43,7 +46,7 @@ export const modelError: Rule = {
     memoryMb: {
       default: 512,
       description:
-        'Heap limit of the worker thread that runs the model, in MB. Enough for the states of the default state cap (200,000) ' +
+        'Heap limit of the process that runs the model, in MB (the whole process may use about twice that plus 256 MB). Enough for the states of the default state cap (200,000) ' +
         'with room to spare; raise it together with `stateCap` for larger models.',
     },
   },
@@ -58,8 +61,9 @@ endless loop the line it was stopped at; a line in another file is given as \`fi
 **Why it matters.** No value can be computed for a model whose code fails, and a failure in a rarely
 visited state would otherwise surface only hours into training.
 
-**How it runs.** Model code runs in a worker thread with a heap limit and a wall-clock limit per call; the
-editor and the command line are never at risk. It runs only in trusted workspaces, and never with
+**How it runs.** Model code runs in a child process of its own (Node's permission model, no network
+modules, an empty environment, a heap and an OS memory limit) with wall-clock limits the host enforces;
+the editor and the command line are never at risk. It runs only in trusted workspaces, and never with
 \`--no-exec\`. States handed to \`outcomes\` are frozen, so a function that changes its input instead of
 returning a new state fails here with the line of the assignment.
 

@@ -17,7 +17,7 @@ import { applyField, readTypeScriptSpec, type TypeScriptReading } from '../spec/
 import type { LocatedProblem, RandomnessSite, TypeScriptEvidence } from '../spec/typescript-evidence';
 import type { ParsedSpec, Span } from '../spec/types';
 import type { SourceLocation } from './bundle';
-import { ModelSandbox, type ModelFailure, type RandomnessUse } from './host';
+import { clip, ModelSandbox, type ModelFailure, type RandomnessUse } from './host';
 import type { ModelDescription } from './protocol';
 import type { Enumeration, ModelFunction, RolloutRun } from './runtime';
 import type { RecordOptions } from './transition-record';
@@ -69,13 +69,24 @@ export async function loadTypeScriptSpec(path: string, text: string, options: An
       internalErrors.push(reason);
     }
   }
-  return { spec: reading.spec, findings, enumerated, rollouts, empirical, internalErrors, cancelled: options.isCancelled?.() === true };
+  return { spec: reading.spec, findings, enumerated, rollouts, empirical, internalErrors, cancelled: options.isCancelled?.() === true, modelOutput: sandboxOutput.get(findings) };
 }
 
 interface RunResult {
   prebuilt: { model?: CompiledModel; reason?: string };
   rollouts?: RolloutReport;
   empirical?: CompiledModel;
+}
+
+/** The model output of a run, keyed by the run's findings list (one per loadTypeScriptSpec call). */
+const sandboxOutput = new WeakMap<Finding[], string>();
+
+/** Records what model code printed, and says where the boundary is weaker than documented on this machine. */
+function recordSandbox(findings: Finding[], spec: ParsedSpec, output: string | undefined, notices: readonly string[]): void {
+  if (output) sandboxOutput.set(findings, output);
+  for (const notice of notices) {
+    findings.push({ rule: 'model-error', severity: 'warning', message: `sandbox weaker than usual: ${notice}`, span: spec.rootSpan });
+  }
 }
 
 async function runModel(
@@ -99,10 +110,12 @@ async function runModel(
   evidence.executed = true;
   addRandomness(evidence, started.randomness, place);
   if (started.failure) {
+    recordSandbox(findings, spec, started.output, started.notices ?? []);
     place.failure(evidence, started.failure);
     return { prebuilt: { reason: 'the model code failed (see model-error)' } };
   }
   const { sandbox, description } = started.value!;
+  recordSandbox(findings, spec, undefined, sandbox.notices);
   try {
     const fieldProblems = applyDescription(spec, reading, description);
     for (const problem of fieldProblems) findings.push(problem);
@@ -170,6 +183,8 @@ async function runModel(
       empirical: sampled.empirical,
     };
   } finally {
+    const output = sandbox.output();
+    if (output) sandboxOutput.set(findings, output);
     await sandbox.close();
   }
 }
@@ -384,7 +399,8 @@ class Placer {
     return {
       kind: failure.kind,
       phase: failure.phase,
-      message: failure.message,
+      // Model code chooses these texts; a finding stays readable whatever it threw.
+      message: clip(failure.message),
       span,
       elsewhere,
       state: failure.state,

@@ -1,21 +1,27 @@
 /**
- * The host side of the sandbox: starts a worker thread with memory limits for one model, sends it
- * whole jobs, and turns everything that can go wrong in model code (a throw, a malformed value, an
- * endless loop, running out of memory, process.exit) into a ModelFailure with a source location.
- * The host process is never at risk: the worker is terminated, never waited on without a limit.
+ * The host side of the sandbox: starts a child process for one model (launch.ts: Node's permission
+ * model, an empty environment, an OS memory limit), sends it whole jobs over the IPC channel, and
+ * turns everything that can go wrong in model code (a throw, a malformed value, an endless loop,
+ * running out of memory, an abort, a kill) into a ModelFailure with a source location. The time
+ * limits are enforced here, by timers of this process that kill the child: nothing the model can
+ * write extends them. A child whose job went well is kept warm for the next load of the same bundle.
  */
+import { spawn, type ChildProcess } from 'node:child_process';
+import { createHash } from 'node:crypto';
 import { buildSync } from 'esbuild';
-import { existsSync } from 'node:fs';
-import { join } from 'node:path';
-import { isMainThread, Worker } from 'node:worker_threads';
-import { bundleModel, locateStack, originalPosition, type ModelBundle, type SourceLocation } from './bundle';
-import { MODEL_SCRIPT_NAME, STATE_TEXT_LENGTH, type HostRequest, type ModelDescription, type RandomnessCall, type WorkerReply } from './protocol';
-import { PHASE_CODES, type Enumeration, type ModelFunction, type RolloutRun, type RuntimeProblem } from './runtime';
+import { existsSync, mkdtempSync, rmSync, writeFileSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { dirname, join, resolve } from 'node:path';
+import type { Readable } from 'node:stream';
+import { bundleModel, locateStack, type ModelBundle, type SourceLocation } from './bundle';
+import { launchPlan } from './launch';
+import { BEAT_FD, MODEL_SCRIPT_NAME, type HostRequest, type ModelDescription, type RandomnessCall, type WorkerReply } from './protocol';
+import type { Enumeration, ModelFunction, RolloutRun, RuntimeProblem } from './runtime';
 
 export interface SandboxLimits {
   /** A single model call that runs longer than this (wall clock) is stopped as a hang. */
   callTimeoutMs: number;
-  /** Heap limit of the worker (old generation), in MB. */
+  /** Heap limit of the child (old generation), in MB; the whole process gets an OS limit of about twice that. */
   memoryMb: number;
   /** Wall-clock limit of one whole job (an enumeration, a batch of rollouts), however busy the model is. */
   jobTimeoutMs: number;
@@ -26,7 +32,8 @@ export const DEFAULT_LIMITS: SandboxLimits = { callTimeoutMs: 2000, memoryMb: 51
 /** Anything that went wrong in model code, located in the user's source where possible. */
 export interface ModelFailure {
   kind: RuntimeProblem['kind'] | 'timeout' | 'memory' | 'crashed' | 'bundle' | 'cancelled';
-  phase: ModelFunction;
+  /** The model function that ran, or the whole job when the host alone saw the failure. */
+  phase: ModelFunction | 'enumeration' | 'rollouts';
   message: string;
   location?: SourceLocation;
   state?: string;
@@ -46,76 +53,222 @@ interface Outcome<T> {
   value?: T;
   failure?: ModelFailure;
   randomness: RandomnessUse[];
+  /** Set when the start failed (the sandbox is closed then): what model code printed, and the launch notices. */
+  output?: string;
+  notices?: string[];
 }
 
-let cachedWorkerCode: string | undefined;
+/** Longest message text taken from the child (model code chooses it). */
+const MESSAGE_LIMIT = 400;
+/** Model output kept per sandbox, and shown. */
+const OUTPUT_KEPT = 64 * 1024;
+const OUTPUT_SHOWN = 4000;
+/** Idle children kept warm, and for how long. */
+const IDLE_CHILDREN = 2;
+const IDLE_MS = 60_000;
+
+export function clip(text: string, limit = MESSAGE_LIMIT): string {
+  return text.length > limit ? `${text.slice(0, limit - 1)}…` : text;
+}
+
+let childScriptPath: string | undefined;
 
 /**
- * The worker's script: the bundled `sandbox-worker.js` next to the running bundle (dist/), or,
- * when running from source (tests), `worker.ts` bundled on the fly.
+ * The child's script: the bundled `sandbox-worker.js` next to the running bundle (dist/), or, when
+ * running from source (tests), `worker.ts` bundled on the fly into a temporary folder.
  */
-function workerScript(): { file: string } | { code: string } {
+function childScript(): string {
   const built = join(__dirname, 'sandbox-worker.js');
-  if (existsSync(built)) return { file: built };
-  if (cachedWorkerCode === undefined) {
-    const output = buildSync({
-      entryPoints: [join(__dirname, 'worker.ts')],
-      bundle: true,
-      platform: 'node',
-      format: 'cjs',
-      target: 'node20',
-      write: false,
-      logLevel: 'silent',
+  if (existsSync(built)) return built;
+  if (childScriptPath && existsSync(childScriptPath)) return childScriptPath;
+  const output = buildSync({
+    entryPoints: [join(__dirname, 'worker.ts')],
+    bundle: true,
+    platform: 'node',
+    format: 'cjs',
+    target: 'node20',
+    write: false,
+    logLevel: 'silent',
+  });
+  const folder = mkdtempSync(join(tmpdir(), 'episcope-sandbox-'));
+  childScriptPath = join(folder, 'sandbox-worker.js');
+  writeFileSync(childScriptPath, output.outputFiles[0].text);
+  process.once('exit', () => rmSync(folder, { recursive: true, force: true }));
+  return childScriptPath;
+}
+
+/** One child process and what the host reads from it. */
+class Child {
+  readonly process: ChildProcess;
+  readonly notices: string[];
+  output = '';
+  outputDropped = 0;
+  lastBeat = Date.now();
+  exited = false;
+  exitCode: number | null = null;
+  exitSignal: NodeJS.Signals | null = null;
+  onMessage?: (message: unknown) => void;
+  onExit?: () => void;
+
+  constructor(
+    readonly key: string,
+    folder: string,
+    memoryMb: number,
+  ) {
+    const script = childScript();
+    const plan = launchPlan(script, [folder, script], memoryMb);
+    this.notices = plan.notices;
+    this.process = spawn(plan.command, plan.args, {
+      env: plan.env,
+      cwd: folder,
+      stdio: ['ignore', 'pipe', 'pipe', 'ipc', 'pipe'],
+      serialization: 'advanced',
+      windowsHide: true,
     });
-    cachedWorkerCode = output.outputFiles[0].text;
+    const capture = (chunk: Buffer) => {
+      const room = OUTPUT_KEPT - this.output.length;
+      const text = chunk.toString('utf8');
+      if (room > 0) this.output += text.slice(0, room);
+      this.outputDropped += Math.max(0, text.length - Math.max(0, room));
+    };
+    this.process.stdout!.on('data', capture);
+    this.process.stderr!.on('data', capture);
+    (this.process.stdio[BEAT_FD] as Readable).on('data', () => {
+      this.lastBeat = Date.now();
+    });
+    this.process.on('message', (message) => this.onMessage?.(message));
+    // A failed spawn (no node binary) is reported as an exit.
+    this.process.on('error', () => this.markExited());
+    this.process.on('exit', (code, signal) => {
+      this.exitCode = code;
+      this.exitSignal = signal;
+      this.markExited();
+    });
+    live.add(this);
   }
-  return { code: cachedWorkerCode };
+
+  private markExited(): void {
+    if (this.exited) return;
+    this.exited = true;
+    live.delete(this);
+    this.onExit?.();
+  }
+
+  kill(): void {
+    if (this.exited) return;
+    try {
+      this.process.kill('SIGKILL');
+    } catch {
+      // Already gone.
+    }
+  }
+
+  /** Whether this process keeps the host's event loop alive (not while it waits idle). */
+  hold(held: boolean): void {
+    const handles = [this.process, this.process.stdout, this.process.stderr, this.process.stdio[BEAT_FD], this.process.channel] as Array<
+      { ref?: () => void; unref?: () => void } | null | undefined
+    >;
+    for (const handle of handles) {
+      if (held) handle?.ref?.();
+      else handle?.unref?.();
+    }
+  }
+
+  /** The captured stdout and stderr of model code, cut to a readable length. */
+  shownOutput(): string {
+    const dropped = this.outputDropped + Math.max(0, this.output.length - OUTPUT_SHOWN);
+    // Control characters (terminal escapes) are shown as U+FFFD, so printing the output is safe.
+    const text = this.output.slice(0, OUTPUT_SHOWN).replace(/[\u0000-\u0008\u000b-\u001f\u007f-\u009f]/g, '\ufffd');
+    return dropped > 0 ? `${text}\n… (${dropped} more characters not shown)` : text;
+  }
+}
+
+const live = new Set<Child>();
+const idle: Array<{ child: Child; timer: NodeJS.Timeout }> = [];
+let exitHookInstalled = false;
+
+function installExitHook(): void {
+  if (exitHookInstalled) return;
+  exitHookInstalled = true;
+  // No child outlives the host, also when the host exits in the middle of a job.
+  process.once('exit', () => {
+    for (const child of live) child.kill();
+  });
+}
+
+function takeIdle(key: string): Child | undefined {
+  const index = idle.findIndex((entry) => entry.child.key === key && !entry.child.exited);
+  if (index < 0) return undefined;
+  const [entry] = idle.splice(index, 1);
+  clearTimeout(entry.timer);
+  entry.child.hold(true);
+  entry.child.output = '';
+  entry.child.outputDropped = 0;
+  return entry.child;
+}
+
+function parkIdle(child: Child): void {
+  if (child.exited) return;
+  child.onMessage = undefined;
+  child.hold(false);
+  const timer = setTimeout(() => {
+    const index = idle.findIndex((entry) => entry.child === child);
+    if (index >= 0) idle.splice(index, 1);
+    child.kill();
+  }, IDLE_MS);
+  timer.unref();
+  idle.push({ child, timer });
+  child.onExit = () => {
+    const index = idle.findIndex((entry) => entry.child === child);
+    if (index >= 0) {
+      clearTimeout(idle[index].timer);
+      idle.splice(index, 1);
+    }
+  };
+  while (idle.length > IDLE_CHILDREN) {
+    const oldest = idle.shift()!;
+    clearTimeout(oldest.timer);
+    oldest.child.kill();
+  }
+}
+
+/** Ends every idle child (tests and benchmarks that compare cold and warm starts). */
+export function endIdleSandboxes(): void {
+  for (const entry of idle.splice(0)) {
+    clearTimeout(entry.timer);
+    entry.child.kill();
+  }
 }
 
 export class ModelSandbox {
-  private readonly progress: Int32Array;
-  private readonly stateText: Uint16Array;
-  private readonly worker: Worker;
+  private readonly child: Child;
   private closed = false;
+  private failed = false;
   private pending?: { resolve: (reply: WorkerReply | ModelFailure) => void };
-  /** The job of the last request, for describing a failure that the worker cannot report itself. */
+  /** The job of the last request, for describing a failure that the child cannot report itself. */
   private job: HostRequest['type'] = 'load';
+  private jobBegan = Date.now();
   private exitFailure?: ModelFailure;
 
   private constructor(
     private readonly bundle: ModelBundle,
     private readonly limits: SandboxLimits,
     private readonly isCancelled: () => boolean,
+    key: string,
+    folder: string,
   ) {
-    const progressBuffer = new SharedArrayBuffer(5 * 4);
-    const textBuffer = new SharedArrayBuffer(STATE_TEXT_LENGTH * 2);
-    this.progress = new Int32Array(progressBuffer);
-    this.stateText = new Uint16Array(textBuffer);
-    const script = workerScript();
-    const resourceLimits = { maxOldGenerationSizeMb: limits.memoryMb, maxYoungGenerationSizeMb: Math.min(64, Math.max(8, limits.memoryMb / 8)), stackSizeMb: 4 };
-    const workerData = { progress: progressBuffer, stateText: textBuffer };
-    this.worker =
-      'file' in script
-        ? new Worker(script.file, { workerData, resourceLimits, stdout: true, stderr: true })
-        : new Worker(script.code, { eval: true, workerData, resourceLimits, stdout: true, stderr: true });
-    // Model code may print; its output must not mix with the CLI's or the language server's stdout.
-    this.worker.stdout.resume();
-    this.worker.stderr.resume();
-    this.worker.on('error', (error: Error & { code?: string }) => {
-      const failure: ModelFailure =
-        error.code === 'ERR_WORKER_OUT_OF_MEMORY'
-          ? this.failureAtProgress('memory', `ran out of memory (the limit is ${this.limits.memoryMb} MB of heap)`)
-          : this.failureAtProgress('crashed', `failed outside a model call: ${error.name}: ${error.message}`, error.stack);
-      this.settle(failure);
-    });
-    this.worker.on('exit', (code) => {
+    installExitHook();
+    this.child = takeIdle(key) ?? new Child(key, folder, limits.memoryMb);
+    this.child.onMessage = (message) => this.received(message);
+    this.child.onExit = () => {
       this.closed = true;
-      this.exitFailure ??= this.failureAtProgress('crashed', `the model's thread stopped (exit code ${code})`);
+      this.exitFailure ??= this.exitDescription();
       this.settle(this.exitFailure);
-    });
+    };
+    if (this.child.exited) this.child.onExit();
   }
 
-  /** Bundles the spec, starts a worker and loads the model; the description tells its members. */
+  /** Bundles the spec, starts (or reuses) a child and loads the model; the description tells its members. */
   static async start(
     path: string,
     text: string,
@@ -126,59 +279,120 @@ export class ModelSandbox {
     if (!('code' in bundle)) {
       return { failure: { kind: 'bundle', phase: 'load', message: bundle.message, location: bundle.location }, randomness: [] };
     }
-    const sandbox = new ModelSandbox(bundle, limits, isCancelled);
-    const reply = await sandbox.request({ type: 'load', code: bundle.code, specPath: path });
+    const folder = existsSync(dirname(resolve(path))) ? dirname(resolve(path)) : bundle.root;
+    const key = `${folder}\n${limits.memoryMb}\n${createHash('sha256').update(bundle.code).digest('hex')}`;
+    const sandbox = new ModelSandbox(bundle, limits, isCancelled, key, folder);
+    const reply = await sandbox.request({ type: 'load', code: bundle.code, specPath: path, limits });
     const outcome = sandbox.outcomeOf(reply, (r) => (r.type === 'loaded' ? r.description : undefined));
     if (outcome.failure) {
+      const output = sandbox.output();
       await sandbox.close();
-      return { failure: outcome.failure, randomness: outcome.randomness };
+      return { failure: outcome.failure, randomness: outcome.randomness, output, notices: sandbox.notices };
     }
     return { value: { sandbox, description: outcome.value! }, randomness: outcome.randomness };
   }
 
+  /** What the boundary lacks on this machine (shown to the user as a warning). */
+  get notices(): string[] {
+    return this.child.notices;
+  }
+
+  /** Everything model code printed to stdout and stderr since this sandbox started, cut to a readable length. */
+  output(): string {
+    return this.child.shownOutput();
+  }
+
   async enumerate(options: Extract<HostRequest, { type: 'enumerate' }>['options']): Promise<Outcome<Enumeration>> {
     const reply = await this.request({ type: 'enumerate', options });
-    return this.outcomeOf(reply, (r) => (r.type === 'enumerated' ? r.result : undefined));
+    return this.outcomeOf(reply, (r) => (r.type === 'enumerated' && validEnumeration(r.result) ? r.result : undefined));
   }
 
   async rollouts(options: Extract<HostRequest, { type: 'rollouts' }>['options']): Promise<Outcome<RolloutRun>> {
     const reply = await this.request({ type: 'rollouts', options });
-    return this.outcomeOf(reply, (r) => (r.type === 'rolled' ? r.run : undefined));
+    return this.outcomeOf(reply, (r) => (r.type === 'rolled' && validRun(r.run, options.episodes) ? r.run : undefined));
   }
 
+  /** Ends the sandbox: a child that did its jobs well waits for the next load of the same bundle, any other is killed. */
   async close(): Promise<void> {
     if (this.closed) return;
     this.closed = true;
     this.exitFailure = { kind: 'cancelled', phase: 'load', message: 'the sandbox was closed' };
-    await this.worker.terminate();
+    if (this.failed || this.pending) this.child.kill();
+    else parkIdle(this.child);
+    await Promise.resolve();
   }
 
   /** Maps a runtime problem's stack (or else its phase) to a source location. */
   locate(problem: RuntimeProblem): ModelFailure {
-    return { ...problem, location: locateStack(this.bundle, problem.stack, MODEL_SCRIPT_NAME) };
+    return { ...problem, message: clip(problem.message), location: locateStack(this.bundle, problem.stack, MODEL_SCRIPT_NAME) };
   }
 
   mapRandomness(calls: RandomnessCall[]): RandomnessUse[] {
-    return calls.map((call) => ({ api: call.api, count: call.count, location: locateStack(this.bundle, call.stack, MODEL_SCRIPT_NAME) }));
+    return calls.map((call) => ({ api: clip(call.api, 80), count: call.count, location: locateStack(this.bundle, call.stack, MODEL_SCRIPT_NAME) }));
   }
 
   private outcomeOf<T>(reply: WorkerReply | ModelFailure, pick: (reply: WorkerReply) => T | undefined): Outcome<T> {
-    if (!('type' in reply)) return { failure: reply, randomness: [] };
-    const randomness = this.mapRandomness(reply.randomness);
-    if (reply.type === 'problem') return { failure: this.locate(reply.problem), randomness };
-    return { value: pick(reply), randomness };
+    if (!('type' in reply)) {
+      this.failed = true;
+      return { failure: reply, randomness: [] };
+    }
+    const calls = 'randomness' in reply ? reply.randomness : undefined;
+    const randomness = Array.isArray(calls) ? this.mapRandomness(calls.filter(validRandomness)) : [];
+    if (reply.type === 'problem') {
+      if (!validProblem(reply.problem)) return this.malformedReply();
+      if (reply.problem.kind === 'timeout' || reply.problem.kind === 'memory') this.failed = true;
+      return { failure: this.locate(reply.problem), randomness };
+    }
+    const value = pick(reply);
+    if (value === undefined) return this.malformedReply();
+    return { value, randomness };
+  }
+
+  private malformedReply(): Outcome<never> {
+    this.failed = true;
+    return { failure: { kind: 'crashed', phase: this.jobPhase(), message: "sent a reply that is not what the sandbox sends (model code wrote to the sandbox's channel?)" }, randomness: [] };
   }
 
   private request(message: HostRequest): Promise<WorkerReply | ModelFailure> {
-    if (this.closed) return Promise.resolve(this.exitFailure ?? { kind: 'crashed', phase: 'load', message: 'the sandbox is closed' });
+    if (this.closed || this.child.exited) return Promise.resolve(this.exitFailure ?? this.exitDescription());
     return new Promise((resolve) => {
       this.pending = { resolve };
       this.job = message.type;
-      const onMessage = (reply: WorkerReply) => this.settle(reply);
-      this.worker.once('message', onMessage);
-      this.worker.postMessage(message);
+      this.jobBegan = Date.now();
+      this.child.lastBeat = this.jobBegan;
+      try {
+        this.child.process.send(message, (error) => {
+          if (error) this.stop({ kind: 'crashed', phase: this.jobPhase(), message: `could not be reached: ${clip(error.message)}` });
+        });
+      } catch (error) {
+        this.stop({ kind: 'crashed', phase: this.jobPhase(), message: `could not be reached: ${error instanceof Error ? clip(error.message) : 'unknown error'}` });
+        return;
+      }
       this.watch();
     });
+  }
+
+  private received(message: unknown): void {
+    // A fault can come between jobs (a rejection after loading); the next request answers with it.
+    if (!this.pending && (message as { type?: unknown } | null)?.type !== 'fault') return;
+    if (typeof message !== 'object' || message === null || typeof (message as { type?: unknown }).type !== 'string') {
+      this.settle({ kind: 'crashed', phase: this.jobPhase(), message: "sent a reply that is not what the sandbox sends (model code wrote to the sandbox's channel?)" });
+      return;
+    }
+    const reply = message as WorkerReply;
+    if (reply.type === 'fault') {
+      const failure: ModelFailure = {
+        kind: 'crashed',
+        phase: this.jobPhase(),
+        message: `failed outside a model call: ${clip(String(reply.message))}`,
+        location: typeof reply.stack === 'string' ? locateStack(this.bundle, reply.stack, MODEL_SCRIPT_NAME) : undefined,
+      };
+      this.exitFailure = failure;
+      this.failed = true;
+      this.settle(failure);
+      return;
+    }
+    this.settle(reply);
   }
 
   private settle(reply: WorkerReply | ModelFailure): void {
@@ -187,131 +401,112 @@ export class ModelSandbox {
     pending?.resolve(reply);
   }
 
+  /** The phase a failure seen only by the host is blamed on: the whole job, since no single call is known. */
+  private jobPhase(): ModelFailure['phase'] {
+    return this.job === 'load' ? 'load' : this.job === 'enumerate' ? 'enumeration' : 'rollouts';
+  }
+
   /**
-   * Watches the call counter the worker bumps before every model call; when it stands still for
-   * longer than the call timeout, the running call hangs: find where, then stop the worker.
+   * The host's own limits, checked on a timer of this process: the job's wall clock, and the
+   * child's liveness beats (one per 100 ms of model calls). The child stops an honest model first,
+   * with its call and line; these limits leave it a margin and then kill the child whatever it does.
+   * Beats the model forges can keep it alive only until the job's limit.
    */
   private watch(): void {
-    let lastCalls = this.progress[0];
-    let lastChange = Date.now();
-    const began = lastChange;
-    const interval = Math.max(10, Math.min(250, this.limits.callTimeoutMs / 4));
+    const { callTimeoutMs, jobTimeoutMs } = this.limits;
+    const margin = Math.max(1000, callTimeoutMs / 2);
+    // Loading includes starting Node, which can take seconds on a loaded machine.
+    const callLimit = this.job === 'load' ? callTimeoutMs + margin + 5000 : callTimeoutMs + margin;
+    const interval = Math.max(10, Math.min(250, callTimeoutMs / 4));
     const timer = setInterval(() => {
       if (!this.pending) {
         clearInterval(timer);
         return;
       }
+      const at = Date.now();
       if (this.isCancelled()) {
         clearInterval(timer);
-        this.exitFailure = { kind: 'cancelled', phase: PHASE_CODES[this.progress[1]] ?? 'load', message: 'the analysis was cancelled' };
-        void this.close();
+        this.stop({ kind: 'cancelled', phase: this.jobPhase(), message: 'the analysis was cancelled' });
         return;
       }
-      if (Date.now() - began > this.limits.jobTimeoutMs) {
+      if (at - this.jobBegan > jobTimeoutMs + margin) {
         clearInterval(timer);
-        const seconds = Math.round(this.limits.jobTimeoutMs / 1000);
-        void this.stop(this.failureAtProgress('timeout', `was still running when the job's time limit of ${seconds} s ran out (the model is too slow or too large)`));
+        const seconds = Math.round(jobTimeoutMs / 1000);
+        this.stop({ kind: 'timeout', phase: this.jobPhase(), message: `was still running when the job's time limit of ${seconds} s ran out (the model is too slow or too large, or ignored the sandbox's stops)` });
         return;
       }
-      const calls = this.progress[0];
-      if (calls !== lastCalls) {
-        lastCalls = calls;
-        lastChange = Date.now();
-        return;
+      if (at - Math.max(this.child.lastBeat, this.jobBegan) > callLimit) {
+        clearInterval(timer);
+        this.stop({ kind: 'timeout', phase: this.jobPhase(), message: `made no progress for ${callLimit} ms: a model call did not return within ${callTimeoutMs} ms (an endless loop?)` });
       }
-      if (Date.now() - lastChange < this.limits.callTimeoutMs) return;
-      clearInterval(timer);
-      void this.stopHung();
     }, interval);
   }
 
-  private stopHung(): Promise<void> {
-    return this.stop(this.failureAtProgress('timeout', `did not return within ${this.limits.callTimeoutMs} ms (an endless loop?)`));
-  }
-
-  /** Locates what the worker is running (by pausing it), then terminates it and settles the request. */
-  private async stop(failure: ModelFailure): Promise<void> {
-    const paused = await pauseWorker(this.worker.threadId, 1000).catch(() => undefined);
-    if (paused) {
-      const mapped = originalPosition(this.bundle, paused.line, paused.column);
-      if (mapped) failure.location = mapped;
-    }
+  private stop(failure: ModelFailure): void {
     this.exitFailure = failure;
+    this.failed = true;
     this.closed = true;
     this.settle(failure);
-    await this.worker.terminate();
+    this.child.kill();
   }
 
-  /** A failure described by what the worker last wrote to the shared progress record. */
-  private failureAtProgress(kind: ModelFailure['kind'], message: string, stack?: string): ModelFailure {
-    const phase = PHASE_CODES[this.progress[1]] ?? 'load';
-    const failure: ModelFailure = { kind, phase, message, location: stack ? locateStack(this.bundle, stack, MODEL_SCRIPT_NAME) : undefined };
-    if (this.job === 'rollouts') {
-      failure.episode = this.progress[2];
-      failure.step = this.progress[3];
-    } else if (this.job === 'enumerate' && this.progress[4] > 0) {
-      failure.state = String.fromCharCode(...this.stateText.subarray(0, this.progress[4]));
+  /** How the child ended, in words: out of memory, aborted, killed or stopped. */
+  private exitDescription(): ModelFailure {
+    const phase = this.jobPhase();
+    const output = this.child.output;
+    if (/heap out of memory|Fatal process out of memory|Reached heap limit|allocation failed/i.test(output)) {
+      return { kind: 'memory', phase, message: `ran out of memory (the limit is ${this.limits.memoryMb} MB of heap)` };
     }
-    return failure;
+    const { exitCode, exitSignal } = this.child;
+    if (exitCode === 134 || exitSignal === 'SIGABRT') return { kind: 'crashed', phase, message: 'made the sandbox process abort (exit code 134)' };
+    const how = exitSignal ? `was killed by ${exitSignal}` : exitCode === null ? 'could not be started' : `stopped with exit code ${exitCode}`;
+    return { kind: 'crashed', phase, message: `ended the sandbox process: it ${how}` };
   }
 }
 
-/**
- * Pauses a worker thread through the inspector protocol (NodeWorker domain, then Debugger.pause in
- * the worker's session) and returns the 0-based generated position of the innermost frame in model
- * code. This is how an endless loop is located without the loop's cooperation. The worker is always
- * resumed and detached afterwards: a worker left paused in the debugger ignores terminate(), and Node
- * waits for it at process exit for ever.
- */
-async function pauseWorker(threadId: number, timeoutMs: number): Promise<{ line: number; column: number } | undefined> {
-  let inspector: typeof import('node:inspector');
-  try {
-    inspector = await import('node:inspector');
-  } catch {
-    return undefined;
-  }
-  const session = new inspector.Session();
-  // Inside a worker (the language server analyses off its main thread) only the main thread's
-  // inspector reports nested workers.
-  if (isMainThread) session.connect();
-  else session.connectToMainThread();
-  let sessionId: string | undefined;
-  let id = 0;
-  const send = (method: string) =>
-    session.post('NodeWorker.sendMessageToWorker', { sessionId: sessionId!, message: JSON.stringify({ id: ++id, method, params: {} }) });
-  try {
-    return await new Promise<{ line: number; column: number } | undefined>((resolve) => {
-      const timer = setTimeout(() => resolve(undefined), timeoutMs);
-      const scripts = new Map<string, string>();
-      session.on('NodeWorker.attachedToWorker', (message: { params: { sessionId: string; workerInfo: { title: string } } }) => {
-        // The inspector numbers workers on its own; the title carries the thread id.
-        if (message.params.workerInfo.title !== `[worker ${threadId}]` || sessionId) return;
-        sessionId = message.params.sessionId;
-        send('Debugger.enable');
-        send('Debugger.pause');
-      });
-      session.on('NodeWorker.receivedMessageFromWorker', (message: { params: { sessionId: string; message: string } }) => {
-        if (message.params.sessionId !== sessionId) return;
-        const event = JSON.parse(message.params.message) as { method?: string; params?: Record<string, unknown> };
-        if (event.method === 'Debugger.scriptParsed') {
-          scripts.set(String(event.params!.scriptId), String(event.params!.url));
-        } else if (event.method === 'Debugger.paused') {
-          const frames = event.params!.callFrames as Array<{ location: { scriptId: string; lineNumber: number; columnNumber: number } }>;
-          const frame = frames.find((f) => scripts.get(f.location.scriptId) === MODEL_SCRIPT_NAME);
-          clearTimeout(timer);
-          resolve(frame ? { line: frame.location.lineNumber, column: frame.location.columnNumber } : undefined);
-        }
-      });
-      session.post('NodeWorker.enable', { waitForDebuggerOnStart: false });
-    });
-  } finally {
-    // Disconnecting this session alone leaves the worker's session attached and the worker paused
-    // (also when the pause lands after the timeout), so resume it and detach explicitly.
-    if (sessionId) {
-      send('Debugger.resume');
-      session.post('NodeWorker.detach', { sessionId });
-    }
-    session.post('NodeWorker.disable');
-    session.disconnect();
-  }
+// ---- Replies are model-controlled input: check their shape before anything reads them ----
+
+function validRandomness(call: unknown): call is RandomnessCall {
+  const c = call as RandomnessCall;
+  return typeof c === 'object' && c !== null && typeof c.api === 'string' && typeof c.count === 'number' && typeof c.stack === 'string';
+}
+
+function validProblem(problem: unknown): problem is RuntimeProblem {
+  const p = problem as RuntimeProblem;
+  return typeof p === 'object' && p !== null && typeof p.kind === 'string' && typeof p.phase === 'string' && typeof p.message === 'string';
+}
+
+function indices(array: unknown, limit: number): boolean {
+  if (!(array instanceof Int32Array)) return false;
+  for (let i = 0; i < array.length; i++) if (array[i] < 0 || array[i] > limit) return false;
+  return true;
+}
+
+function validEnumeration(result: Enumeration): boolean {
+  if (typeof result !== 'object' || result === null) return false;
+  const states = Array.isArray(result.stateKeys) ? result.stateKeys.length : -1;
+  if (states < 0 || !result.stateKeys.every((key) => typeof key === 'string')) return false;
+  if (!Array.isArray(result.actionNames) || !result.actionNames.every((name) => typeof name === 'string')) return false;
+  if (!Array.isArray(result.termNames) || !Array.isArray(result.termRewards) || !Array.isArray(result.nondeterminism)) return false;
+  if (!(result.terminal instanceof Uint8Array) || !(result.outcomeProb instanceof Float64Array) || !(result.outcomeReward instanceof Float64Array)) return false;
+  if (!(result.startProbs instanceof Float64Array)) return false;
+  const choices = result.choiceAction instanceof Int32Array ? result.choiceAction.length : -1;
+  const outcomes = result.outcomeTarget instanceof Int32Array ? result.outcomeTarget.length : -1;
+  if (choices < 0 || outcomes < 0) return false;
+  if (result.outcomeProb.length !== outcomes || result.outcomeReward.length !== outcomes) return false;
+  if (!result.termRewards.every((column) => column instanceof Float64Array && column.length === outcomes)) return false;
+  if (!indices(result.choiceStart, choices) || !indices(result.outcomeStart, outcomes)) return false;
+  if (!indices(result.choiceAction, result.actionNames.length - 1) || !indices(result.outcomeTarget, states - 1) || !indices(result.startStates, states - 1)) return false;
+  if (result.problem !== undefined && !validProblem(result.problem)) return false;
+  // A capped or failed enumeration stops part-way; a complete one has a choice range per state.
+  return result.capped || result.problem !== undefined || (result.choiceStart.length === states + 1 && result.outcomeStart.length === choices + 1 && result.terminal.length === states);
+}
+
+function validRun(run: RolloutRun, episodes: number): boolean {
+  if (typeof run !== 'object' || run === null || typeof run.records !== 'object' || run.records === null) return false;
+  const { returns, lengths, ends } = run.records;
+  if (!(returns instanceof Float64Array) || !(lengths instanceof Int32Array) || !(ends instanceof Uint8Array)) return false;
+  if (returns.length > episodes || lengths.length !== returns.length || ends.length !== returns.length) return false;
+  if (!Array.isArray(run.fingerprints) || !run.fingerprints.every((f) => typeof f === 'string')) return false;
+  return (run.problem === undefined || validProblem(run.problem)) && (run.firstNonFinite === undefined || validProblem(run.firstNonFinite));
 }

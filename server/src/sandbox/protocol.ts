@@ -1,11 +1,14 @@
-/** Messages between the sandbox host and its worker. */
+/** Messages between the sandbox host and the child process that runs model code (worker.ts). */
 import type { Enumeration, EnumerationOptions, RolloutOptions, RolloutRun } from './runtime';
 
-/** The file name model code carries in stack traces inside the worker. */
+/** The file name model code carries in stack traces inside the sandbox. */
 export const MODEL_SCRIPT_NAME = 'episcope-model.js';
 
-/** Length of the shared buffer holding the key of the state being expanded (UTF-16 code units). */
-export const STATE_TEXT_LENGTH = 512;
+/** The global function the sandbox defines and every instrumented loop body calls first (bundle.ts). */
+export const LOOP_CHECK = '__episcopeLoopCheck';
+
+/** The child's file descriptor for liveness beats (one byte each); requests and replies use the IPC channel. */
+export const BEAT_FD = 4;
 
 /** A call of an unseeded random source or clock made by model code. */
 export interface RandomnessCall {
@@ -25,8 +28,18 @@ export interface ModelDescription {
   members: Record<'start' | 'startDistribution' | 'actions' | 'outcomes' | 'terminal' | 'sample' | 'stateKey', 'function' | 'value' | 'absent'>;
 }
 
+/**
+ * The limits the child checks itself, so that an honest model is stopped with its call and line.
+ * The host enforces the same limits with a margin and a kill, whatever the child does.
+ */
+export interface ChildLimits {
+  callTimeoutMs: number;
+  jobTimeoutMs: number;
+  memoryMb: number;
+}
+
 export type HostRequest =
-  | { type: 'load'; code: string; specPath: string }
+  | { type: 'load'; code: string; specPath: string; limits: ChildLimits }
   | { type: 'enumerate'; options: Omit<EnumerationOptions, 'progress' | 'onExpand'> }
   | { type: 'rollouts'; options: Omit<RolloutOptions, 'progress'> };
 
@@ -34,4 +47,6 @@ export type WorkerReply =
   | { type: 'loaded'; description: ModelDescription; randomness: RandomnessCall[] }
   | { type: 'problem'; problem: import('./runtime').RuntimeProblem; randomness: RandomnessCall[] }
   | { type: 'enumerated'; result: Enumeration; randomness: RandomnessCall[] }
-  | { type: 'rolled'; run: RolloutRun; randomness: RandomnessCall[] };
+  | { type: 'rolled'; run: RolloutRun; randomness: RandomnessCall[] }
+  /** An error outside any model call (an unhandled rejection, an uncaught throw in a timer); the child ends after it. */
+  | { type: 'fault'; message: string; stack?: string };

@@ -10,7 +10,7 @@ import { effectiveStepCap, END_FAILURE, END_GOAL, END_NEUTRAL, END_NONE, END_STE
 
 /** What a model function did wrong; `phase` names the function. */
 export interface RuntimeProblem {
-  kind: 'threw' | 'malformed' | 'exit' | 'dead-end' | 'probability-sum' | 'non-finite-reward';
+  kind: 'threw' | 'malformed' | 'exit' | 'dead-end' | 'probability-sum' | 'non-finite-reward' | 'timeout' | 'memory';
   phase: ModelFunction;
   message: string;
   /** The stack of a thrown error (generated positions; the host maps them to the source). */
@@ -41,6 +41,55 @@ export class ModelExitCall extends Error {
 }
 
 export class MalformedValue extends Error {}
+
+/**
+ * Thrown inside the sandbox by the loop checks and call counters when a limit runs out; `kind`
+ * says which, and the message is the finding's text. Model code can catch it, which is why the
+ * host keeps its own, harder limits.
+ */
+export class SandboxLimitReached extends Error {
+  constructor(
+    readonly kind: 'timeout' | 'memory',
+    message: string,
+  ) {
+    super(message);
+  }
+}
+
+/**
+ * "Name: message" of a thrown value without trusting it: an error's `name` and `message` may be
+ * getters that throw or return anything, and reading them must never throw again.
+ */
+export function thrownText(error: unknown): string {
+  const read = (key: 'name' | 'message'): string | undefined => {
+    try {
+      const value = (error as Record<string, unknown>)[key];
+      return typeof value === 'string' ? value : value === undefined ? undefined : describeValue(value);
+    } catch {
+      return undefined;
+    }
+  };
+  if (error instanceof Error) {
+    const name = read('name') ?? 'Error';
+    const message = read('message');
+    return message === undefined ? `${name} (its message could not be read)` : `${name}: ${message}`;
+  }
+  try {
+    return describeValue(error);
+  } catch {
+    return 'a value that cannot be shown';
+  }
+}
+
+/** The stack of a thrown error, or undefined when reading it fails. */
+export function thrownStack(error: unknown): string | undefined {
+  try {
+    const stack = (error as { stack?: unknown } | null)?.stack;
+    return typeof stack === 'string' ? stack : undefined;
+  } catch {
+    return undefined;
+  }
+}
 
 const OBJECT_PROTOTYPE = Object.prototype;
 
@@ -142,7 +191,12 @@ export function describeValue(value: unknown): string {
     try {
       text = JSON.stringify(value) ?? String(value);
     } catch {
-      text = String(value);
+      try {
+        text = String(value);
+      } catch {
+        // A toString that throws, or an object without one.
+        text = `a ${typeof value} that cannot be shown`;
+      }
     }
   }
   return text.length > 200 ? `${text.slice(0, 199)}…` : text;
@@ -248,12 +302,16 @@ export function listOf(value: unknown, what: string): unknown[] {
 }
 
 export function problemOf(error: unknown, phase: ModelFunction, context: Partial<RuntimeProblem>): RuntimeProblem {
-  if (error instanceof MalformedValue) return { kind: 'malformed', phase, message: error.message, ...context };
-  if (error instanceof ModelExitCall) return { kind: 'exit', phase, message: error.message, stack: error.stack, ...context };
-  if (error instanceof Error) {
-    return { kind: 'threw', phase, message: `${error.name}: ${error.message}`, stack: error.stack, ...context };
-  }
-  return { kind: 'threw', phase, message: `threw ${describeValue(error)}`, ...context };
+  return { ...thrownProblem(error, phase), ...context };
+}
+
+/** The problem a thrown value stands for; reading the value never throws (see thrownText). */
+export function thrownProblem(error: unknown, phase: ModelFunction): RuntimeProblem {
+  if (error instanceof MalformedValue) return { kind: 'malformed', phase, message: error.message };
+  if (error instanceof ModelExitCall) return { kind: 'exit', phase, message: error.message, stack: error.stack };
+  if (error instanceof SandboxLimitReached) return { kind: error.kind, phase, message: error.message, stack: error.stack };
+  // The rule puts "threw" before the message, so a thrown number reads "threw 42".
+  return { kind: 'threw', phase, message: thrownText(error), stack: thrownStack(error) };
 }
 
 /** Result of a breadth-first enumeration, in the worker's compact form (CSR arrays). */

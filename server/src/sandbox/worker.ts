@@ -1,26 +1,126 @@
 /**
- * The sandbox worker: loads one bundled model and answers the host's requests. Each request does a
- * whole job (enumeration or a batch of rollouts) and answers with typed arrays, so the cost of
- * crossing threads is paid once per job, never per model call.
+ * The sandbox child: a Node process of its own (started by host.ts under Node's permission model,
+ * with an empty environment and an OS memory limit) that loads one bundled model and answers the
+ * host's requests over the IPC channel. Each request does a whole job (enumeration or a batch of
+ * rollouts) and answers with typed arrays, so crossing processes costs once per job, not per call.
+ *
+ * Before the model loads, everything that reaches the network or other processes is replaced, and
+ * the checks that let an honest model stop itself with its call and line are installed: a counter
+ * around every model call (liveness beats for the host, the job's time limit) and a check in every
+ * loop body (an endless loop, the heap limit). Model code can defeat these checks; the host's own
+ * limits do not depend on them.
  */
+import { writeSync } from 'node:fs';
 import { createRequire } from 'node:module';
+import { getHeapStatistics } from 'node:v8';
 import { compileFunction } from 'node:vm';
-import { parentPort, workerData } from 'node:worker_threads';
+import { BEAT_FD, LOOP_CHECK, MODEL_SCRIPT_NAME, type ChildLimits, type HostRequest, type ModelDescription, type RandomnessCall, type WorkerReply } from './protocol';
 import {
   describeValue,
   enumerateModel,
   ModelExitCall,
   rolloutModel,
+  SandboxLimitReached,
+  thrownProblem,
+  thrownStack,
+  thrownText,
   type EnumerationOptions,
   type ModelFunctions,
   type RolloutOptions,
-  type RuntimeProblem,
 } from './runtime';
 import { TransitionRecorder } from './transition-record';
-import { MODEL_SCRIPT_NAME, type HostRequest, type ModelDescription, type RandomnessCall, type WorkerReply } from './protocol';
 
-const progress = new Int32Array(workerData.progress as SharedArrayBuffer);
-const stateText = new Uint16Array(workerData.stateText as SharedArrayBuffer);
+// What the sandbox itself needs, taken before model code can replace any of it.
+const send = process.send!.bind(process) as (message: WorkerReply, callback?: () => void) => boolean;
+const reallyExit = (process as unknown as { reallyExit: (code: number) => never }).reallyExit.bind(process);
+const realExit = (code: number): void => reallyExit(code);
+const now = performance.now.bind(performance);
+// Created now: the streams are built lazily on first use, from classes that are locked below.
+void process.stdout;
+void process.stderr;
+
+/**
+ * Replaces the functions of a module or prototype (those whose names `only` matches, if given) with
+ * ones that refuse, naming what was refused.
+ */
+function refuseAll(target: object | undefined, what: string, only?: RegExp): void {
+  if (!target) return;
+  for (const key of Object.getOwnPropertyNames(target)) {
+    if (key === 'constructor' || key === 'prototype' || (only && !only.test(key))) continue;
+    const descriptor = Object.getOwnPropertyDescriptor(target, key);
+    if (!descriptor || typeof descriptor.value !== 'function' || !descriptor.configurable) continue;
+    const refusing = function refused(): never {
+      throw new Error(`${what}.${key} is not available to model code (the sandbox has no network and starts no processes)`);
+    };
+    try {
+      Object.defineProperty(target, key, { value: refusing, writable: false, configurable: false, enumerable: descriptor.enumerable });
+    } catch {
+      // A property that cannot be redefined stays; the permission model still applies.
+    }
+  }
+}
+
+const OPENING = /^(connect|listen|bind|send|request|open|resolve|lookup|reverse|addMembership|addSourceSpecificMembership|setServers)/;
+
+/**
+ * Node 20's permission model covers files, child processes and workers but not the network, so the
+ * network modules are replaced here, also in the classes that existing objects (the stdout stream)
+ * lead to. Child processes and workers are refused again for a clear message where the permission
+ * model is missing.
+ */
+function lockDown(): void {
+  const load = createRequire(__filename);
+  const blocked = ['net', 'tls', 'http', 'https', 'http2', 'dgram', 'dns', 'dns/promises', 'child_process', 'cluster', 'worker_threads', 'inspector', 'inspector/promises'];
+  for (const id of blocked) {
+    let exported: Record<string, unknown> | undefined;
+    try {
+      exported = load(id) as Record<string, unknown>;
+    } catch {
+      continue;
+    }
+    // The classes first: refusing the module's functions replaces the references to them. Only
+    // the methods that open something: the stdout and stderr streams are net.Socket objects too.
+    for (const value of Object.values(exported)) {
+      if (typeof value === 'function' && value.prototype) refuseAll(value.prototype as object, `${id}.${value.name || 'class'}`, OPENING);
+    }
+    refuseAll(exported, id);
+  }
+  // The stdout and stderr handles (pipes) must not open new connections either.
+  for (const stream of [process.stdout, process.stderr]) {
+    const handle = (stream as unknown as { _handle?: object })._handle;
+    const proto = handle ? Object.getPrototypeOf(handle) : undefined;
+    for (const key of ['connect', 'bind', 'listen', 'open']) {
+      if (proto && typeof proto[key] === 'function') {
+        try {
+          Object.defineProperty(proto, key, { value: () => -1, writable: false, configurable: false });
+        } catch {
+          // Left as is.
+        }
+      }
+    }
+  }
+  for (const name of ['fetch', 'WebSocket', 'EventSource']) {
+    try {
+      delete (globalThis as Record<string, unknown>)[name];
+    } catch {
+      // A non-configurable global stays.
+    }
+  }
+  const refuse = (what: string) => () => {
+    throw new ModelExitCall(what);
+  };
+  process.exit = ((code?: number) => {
+    throw new ModelExitCall(`process.exit(${code ?? ''})`);
+  }) as typeof process.exit;
+  process.kill = refuse('process.kill') as typeof process.kill;
+  process.abort = refuse('process.abort') as typeof process.abort;
+  const internals = process as unknown as Record<string, unknown>;
+  for (const name of ['_kill', '_debugProcess', 'reallyExit', 'binding', '_linkedBinding', 'dlopen', 'setuid', 'setgid', 'seteuid', 'setegid', 'setgroups', 'initgroups', 'chdir']) {
+    if (typeof internals[name] === 'function') internals[name] = refuse(`process.${name}`);
+  }
+  const os = load('os') as Record<string, unknown>;
+  os.setPriority = refuse('os.setPriority');
+}
 
 // Unseeded randomness and clocks are counted while model code runs; the first call's stack tells where.
 const randomness = new Map<string, RandomnessCall>();
@@ -38,33 +138,125 @@ function watch(target: object | undefined, property: string, api: string): void 
   // Some of these are getter-only properties; redefine them as plain values.
   Object.defineProperty(target, property, { value: watched, writable: true, configurable: true, enumerable: descriptor?.enumerable ?? true });
 }
-watch(Math, 'random', 'Math.random');
-watch(Date, 'now', 'Date.now');
-watch(globalThis.performance, 'now', 'performance.now');
-watch(globalThis.crypto, 'getRandomValues', 'crypto.getRandomValues');
-watch(globalThis.crypto, 'randomUUID', 'crypto.randomUUID');
-// The module object itself (a namespace import would be a frozen copy that patching cannot reach).
-const nodeCrypto = require('node:crypto') as Record<string, unknown>;
-for (const name of ['randomInt', 'randomBytes', 'randomUUID', 'randomFillSync', 'getRandomValues']) watch(nodeCrypto, name, `crypto.${name}`);
 
-// Ending the process from model code ends only this thread; make it an error with a stack instead.
-const refuse = (what: string) => () => {
-  throw new ModelExitCall(what);
-};
-process.exit = ((code?: number) => {
-  throw new ModelExitCall(`process.exit(${code ?? ''})`);
-}) as typeof process.exit;
-process.kill = refuse('process.kill') as typeof process.kill;
-process.abort = refuse('process.abort') as typeof process.abort;
-(globalThis as Record<string, unknown>).defineMdp = (definition: unknown) => definition;
+function watchRandomness(): void {
+  watch(Math, 'random', 'Math.random');
+  watch(Date, 'now', 'Date.now');
+  watch(globalThis.performance, 'now', 'performance.now');
+  watch(globalThis.crypto, 'getRandomValues', 'crypto.getRandomValues');
+  watch(globalThis.crypto, 'randomUUID', 'crypto.randomUUID');
+  // The module object itself (a namespace import would be a frozen copy that patching cannot reach).
+  const nodeCrypto = require('node:crypto') as Record<string, unknown>;
+  for (const name of ['randomInt', 'randomBytes', 'randomUUID', 'randomFillSync', 'getRandomValues']) watch(nodeCrypto, name, `crypto.${name}`);
+}
+
+// ---- Limits the child checks itself (an honest model is stopped with its call and line) ----
+
+let limits: ChildLimits = { callTimeoutMs: 2000, jobTimeoutMs: 120_000, memoryMb: 512 };
+let jobBegan = now();
+/** Model calls started, counted by the wrappers around the model functions. */
+let calls = 0;
+let callCountdown = 1;
+let callStride = 1;
+let lastCallCheck = 0;
+let loopCountdown = 1024;
+let loopStride = 1024;
+let lastLoopCheck = 0;
+let lastBeat = 0;
+/** The call count the loop check last saw change, and when. */
+let seenCalls = -1;
+let seenAt = 0;
+const beatByte = new Uint8Array([1]);
+
+/**
+ * Clock reads are spaced by counting: the stride doubles while reads come less than `low` ms apart
+ * and shrinks when they come more than `high` ms apart, so a fast model reads the clock every few ms
+ * and a slow one once per call, never once per fast call.
+ */
+function nextStride(stride: number, elapsed: number, low: number, high: number): number {
+  if (elapsed < low) return Math.min(stride * 2, 1 << 20);
+  if (elapsed > high) return Math.max(1, stride >> 2);
+  return stride;
+}
+
+function checkJobTime(at: number): void {
+  if (at - jobBegan > limits.jobTimeoutMs) {
+    const seconds = Math.round(limits.jobTimeoutMs / 1000);
+    throw new SandboxLimitReached('timeout', `was still running when the job's time limit of ${seconds} s ran out (the model is too slow or too large)`);
+  }
+}
+
+/** Tells the host the model is still making calls (at most every 100 ms unless forced). */
+function beat(at: number, force = false): void {
+  if (at - lastBeat < 100 && !force) return;
+  lastBeat = at;
+  try {
+    writeSync(BEAT_FD, beatByte);
+  } catch {
+    // A full pipe means the host has beats enough.
+  }
+}
+
+function callCheck(): void {
+  const at = now();
+  callStride = nextStride(callStride, at - lastCallCheck, 2, 20);
+  callCountdown = callStride;
+  lastCallCheck = at;
+  beat(at);
+  // While loop checks run they stop the job inside the call that is using the time, which names it better.
+  if (at - lastLoopCheck > 50) checkJobTime(at);
+}
+
+/** Called first in every loop body of model code (bundle.ts inserts the calls). */
+function loopCheck(): void {
+  if (--loopCountdown > 0) return;
+  const at = now();
+  loopStride = nextStride(loopStride, at - lastLoopCheck, 0.5, 5);
+  loopCountdown = loopStride;
+  lastLoopCheck = at;
+  if (calls !== seenCalls) {
+    seenCalls = calls;
+    seenAt = at;
+  } else if (at - seenAt > limits.callTimeoutMs) {
+    throw new SandboxLimitReached('timeout', `did not return within ${limits.callTimeoutMs} ms (an endless loop?)`);
+  }
+  checkJobTime(at);
+  if (getHeapStatistics().used_heap_size > limits.memoryMb * 0.9 * 1024 * 1024) {
+    throw new SandboxLimitReached('memory', `ran out of memory (the limit is ${limits.memoryMb} MB of heap)`);
+  }
+}
+
+/** The model's functions, each behind the call counter. */
+function counted(exported: Record<string, unknown>): ModelFunctions {
+  const model: ModelFunctions = { start: exported.start, startDistribution: exported.startDistribution };
+  const wrap = <F extends (...args: never[]) => unknown>(f: unknown): F | undefined => {
+    if (typeof f !== 'function') return f as undefined;
+    const fn = f as (...args: unknown[]) => unknown;
+    return ((a: unknown, b: unknown, c: unknown) => {
+      calls++;
+      if (--callCountdown <= 0) callCheck();
+      return fn.call(exported, a, b, c);
+    }) as unknown as F;
+  };
+  model.actions = wrap(exported.actions);
+  model.outcomes = wrap(exported.outcomes);
+  model.terminal = wrap(exported.terminal);
+  model.sample = wrap(exported.sample);
+  if (typeof exported.start === 'function') model.start = wrap(exported.start);
+  return model;
+}
+
+function beginJob(): void {
+  jobBegan = now();
+  lastCallCheck = jobBegan;
+  lastLoopCheck = jobBegan;
+  beat(jobBegan, true);
+  seenCalls = -1;
+}
+
+// ---- The jobs ----
 
 let model: ModelFunctions | undefined;
-
-function writeStateText(key: string): void {
-  const length = Math.min(key.length, stateText.length);
-  for (let i = 0; i < length; i++) stateText[i] = key.charCodeAt(i);
-  progress[4] = length;
-}
 
 function takeRandomness(): RandomnessCall[] {
   const list = [...randomness.values()];
@@ -75,12 +267,10 @@ function takeRandomness(): RandomnessCall[] {
 function load(code: string, specPath: string): WorkerReply {
   const module = { exports: {} as Record<string, unknown> };
   try {
-    progress[1] = 0;
-    progress[0]++;
     const run = compileFunction(code, ['exports', 'require', 'module', '__filename', '__dirname'], { filename: MODEL_SCRIPT_NAME });
     run(module.exports, createRequire(specPath), module, specPath, specPath.replace(/[\\/][^\\/]*$/, ''));
   } catch (error) {
-    return { type: 'problem', problem: thrown(error), randomness: takeRandomness() };
+    return { type: 'problem', problem: thrownProblem(error, 'load'), randomness: takeRandomness() };
   }
   const exported = (module.exports.default ?? module.exports) as Record<string, unknown>;
   if (typeof exported !== 'object' || exported === null) {
@@ -90,7 +280,6 @@ function load(code: string, specPath: string): WorkerReply {
       randomness: takeRandomness(),
     };
   }
-  model = exported as ModelFunctions;
   const plain = (value: unknown) => {
     try {
       return value === undefined ? undefined : JSON.parse(JSON.stringify(value));
@@ -100,52 +289,45 @@ function load(code: string, specPath: string): WorkerReply {
   };
   const kindOf = (value: unknown): 'function' | 'value' | 'absent' =>
     typeof value === 'function' ? 'function' : value === undefined ? 'absent' : 'value';
-  const description: ModelDescription = {
-    name: plain(exported.name),
-    objective: plain(exported.objective),
-    discount: typeof exported.discount === 'number' ? exported.discount : plain(exported.discount),
-    horizon: typeof exported.horizon === 'number' ? exported.horizon : plain(exported.horizon),
-    rewardTerms: plain(exported.rewardTerms),
-    members: {
-      start: kindOf(exported.start),
-      startDistribution: kindOf(exported.startDistribution),
-      actions: kindOf(exported.actions),
-      outcomes: kindOf(exported.outcomes),
-      terminal: kindOf(exported.terminal),
-      sample: kindOf(exported.sample),
-      stateKey: kindOf(exported.stateKey),
-    },
-  };
-  return { type: 'loaded', description, randomness: takeRandomness() };
-}
-
-function thrown(error: unknown): RuntimeProblem {
-  if (error instanceof ModelExitCall) return { kind: 'exit', phase: 'load', message: error.message, stack: error.stack };
-  if (error instanceof Error) return { kind: 'threw', phase: 'load', message: `${error.name}: ${error.message}`, stack: error.stack };
-  return { kind: 'threw', phase: 'load', message: `threw ${describeValue(error)}` };
-}
-
-function handle(request: HostRequest): void {
-  if (request.type === 'load') {
-    parentPort!.postMessage(load(request.code, request.specPath));
-    return;
+  try {
+    model = counted(exported);
+    const description: ModelDescription = {
+      name: plain(exported.name),
+      objective: plain(exported.objective),
+      discount: typeof exported.discount === 'number' ? exported.discount : plain(exported.discount),
+      horizon: typeof exported.horizon === 'number' ? exported.horizon : plain(exported.horizon),
+      rewardTerms: plain(exported.rewardTerms),
+      members: {
+        start: kindOf(exported.start),
+        startDistribution: kindOf(exported.startDistribution),
+        actions: kindOf(exported.actions),
+        outcomes: kindOf(exported.outcomes),
+        terminal: kindOf(exported.terminal),
+        sample: kindOf(exported.sample),
+        stateKey: kindOf(exported.stateKey),
+      },
+    };
+    return { type: 'loaded', description, randomness: takeRandomness() };
+  } catch (error) {
+    // The default export's getters are model code too.
+    return { type: 'problem', problem: thrownProblem(error, 'load'), randomness: takeRandomness() };
   }
-  if (!model) throw new Error('no model loaded');
+}
+
+/** Progress of the runtime: only read inside this process, so there is nothing for the host to trust. */
+const progress = new Int32Array(5);
+
+function handle(request: HostRequest): WorkerReply {
+  beginJob();
+  if (request.type === 'load') {
+    limits = request.limits;
+    return load(request.code, request.specPath);
+  }
+  if (!model) return { type: 'fault', message: 'no model is loaded' };
   if (request.type === 'enumerate') {
-    const options: EnumerationOptions = { ...request.options, progress, onExpand: writeStateText };
+    const options: EnumerationOptions = { ...request.options, progress };
     const result = enumerateModel(model, options);
-    const transfer = [
-      result.terminal.buffer,
-      result.choiceStart.buffer,
-      result.choiceAction.buffer,
-      result.outcomeStart.buffer,
-      result.outcomeTarget.buffer,
-      result.outcomeProb.buffer,
-      result.outcomeReward.buffer,
-      ...result.termRewards.map((column) => column.buffer),
-    ] as ArrayBuffer[];
-    parentPort!.postMessage({ type: 'enumerated', result, randomness: takeRandomness() } satisfies WorkerReply, transfer);
-    return;
+    return { type: 'enumerated', result, randomness: takeRandomness() };
   }
   const options: RolloutOptions = { ...request.options, progress };
   const recorder = options.record ? new TransitionRecorder(model, options.record, options.declaredTerms, progress) : undefined;
@@ -155,12 +337,33 @@ function handle(request: HostRequest): void {
     run.counts = recorder.result();
     run.countsProblem = recorder.problem;
   }
-  const { returns, lengths, ends } = run.records;
-  parentPort!.postMessage({ type: 'rolled', run, randomness: takeRandomness() } satisfies WorkerReply, [
-    returns.buffer,
-    lengths.buffer,
-    ends.buffer,
-  ] as ArrayBuffer[]);
+  return { type: 'rolled', run, randomness: takeRandomness() };
 }
 
-parentPort!.on('message', (request: HostRequest) => handle(request));
+/** An error outside any model call: report it, then end this process (its state is unknown). */
+function fault(error: unknown): void {
+  try {
+    send({ type: 'fault', message: thrownText(error), stack: thrownStack(error) }, () => realExit(1));
+  } catch {
+    realExit(1);
+  }
+}
+
+lockDown();
+watchRandomness();
+Object.defineProperty(globalThis, LOOP_CHECK, { value: loopCheck, writable: false, configurable: false, enumerable: false });
+(globalThis as Record<string, unknown>).defineMdp = (definition: unknown) => definition;
+process.on('uncaughtException', fault);
+process.on('unhandledRejection', fault);
+// The host is gone (or closed the sandbox): nothing is left to answer.
+process.on('disconnect', () => realExit(0));
+process.on('message', (request: HostRequest) => {
+  let reply: WorkerReply;
+  try {
+    reply = handle(request);
+  } catch (error) {
+    reply = { type: 'problem', problem: thrownProblem(error, 'load'), randomness: takeRandomness() };
+  }
+  beat(now(), true);
+  send(reply);
+});

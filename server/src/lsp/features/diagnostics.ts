@@ -59,6 +59,8 @@ export function analysisCompleted(server: ServerState, snapshot: AnalysisSnapsho
   server.nextResultId(snapshot);
   pushConfigFindings(server, snapshot);
   for (const error of snapshot.internalErrors) server.logError(`${fileName(snapshot.uri)}: ${error}`);
+  // Model code's prints go to the log only: the server's stdout is the JSON-RPC stream.
+  if (snapshot.modelOutput) server.log(`${fileName(snapshot.uri)}: model output:\n${snapshot.modelOutput}`);
   if (server.scheduler.latest(snapshot.uri) === snapshot) server.documents.forgetBefore(snapshot.uri, snapshot.version);
   if (!current) return;
   server.sendStatus({ uri: snapshot.uri, state: 'done', text: snapshot.status });
