@@ -242,6 +242,7 @@ function counted(exported: Record<string, unknown>): ModelFunctions {
   model.outcomes = wrap(exported.outcomes);
   model.terminal = wrap(exported.terminal);
   model.sample = wrap(exported.sample);
+  model.stateKey = wrap(exported.stateKey);
   if (typeof exported.start === 'function') model.start = wrap(exported.start);
   return model;
 }
