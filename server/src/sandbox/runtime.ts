@@ -38,7 +38,8 @@ export class ModelExitCall extends Error {
   }
 }
 
-class MalformedValue extends Error {}
+/** A value of model code that is not what the contract asks for (learn.ts reports it as such too). */
+export class MalformedValue extends Error {}
 
 const OBJECT_PROTOTYPE = Object.prototype;
 
@@ -183,7 +184,7 @@ export interface ModelFunctions {
 
 export const TERMINAL_CODES: Record<string, number> = { goal: END_GOAL, failure: END_FAILURE, neutral: END_NEUTRAL };
 
-function terminalCode(value: unknown, what: string): number {
+export function terminalCode(value: unknown, what: string): number {
   if (value === undefined || value === null || value === false) return 0;
   const code = typeof value === 'string' ? TERMINAL_CODES[value] : undefined;
   if (code === undefined) throw new MalformedValue(`${what} is ${describeValue(value)}; expected "goal", "failure", "neutral" or undefined`);
@@ -191,7 +192,7 @@ function terminalCode(value: unknown, what: string): number {
 }
 
 /** Adds a reward (number or term map) into `terms` and returns its scalar total. */
-function readReward(reward: unknown, termIndex: Map<string, number> | undefined, termValues: number[] | undefined, strictTerms: boolean, what: string): number {
+export function readReward(reward: unknown, termIndex: Map<string, number> | undefined, termValues: number[] | undefined, strictTerms: boolean, what: string): number {
   if (typeof reward === 'number') return reward;
   if (typeof reward !== 'object' || reward === null || Array.isArray(reward)) {
     throw new MalformedValue(`${what} is ${describeValue(reward)}; expected a number or an object of reward terms`);
@@ -214,13 +215,13 @@ function readReward(reward: unknown, termIndex: Map<string, number> | undefined,
   return total;
 }
 
-function actionName(action: unknown, what: string): string {
+export function actionName(action: unknown, what: string): string {
   if (typeof action === 'string') return action;
   if (typeof action === 'number' && Number.isFinite(action)) return String(action);
   throw new MalformedValue(`${what} is ${describeValue(action)}; actions must be strings or numbers`);
 }
 
-function listOf(value: unknown, what: string): unknown[] {
+export function listOf(value: unknown, what: string): unknown[] {
   if (Array.isArray(value)) return value;
   if (value && typeof (value as { then?: unknown }).then === 'function') {
     throw new MalformedValue(`${what} is a Promise; model functions must return their value synchronously`);
@@ -228,7 +229,7 @@ function listOf(value: unknown, what: string): unknown[] {
   throw new MalformedValue(`${what} is ${describeValue(value)}; expected an array`);
 }
 
-function problemOf(error: unknown, phase: ModelFunction, context: Partial<RuntimeProblem>): RuntimeProblem {
+export function problemOf(error: unknown, phase: ModelFunction, context: Partial<RuntimeProblem>): RuntimeProblem {
   if (error instanceof MalformedValue) return { kind: 'malformed', phase, message: error.message, ...context };
   if (error instanceof ModelExitCall) return { kind: 'exit', phase, message: error.message, stack: error.stack, ...context };
   if (error instanceof Error) {
@@ -697,7 +698,7 @@ export function rolloutModel(model: ModelFunctions, options: RolloutOptions): Ro
   }
 }
 
-function drawStart(entries: unknown[], generator: Xoshiro128): unknown {
+export function drawStart(entries: unknown[], generator: Xoshiro128): unknown {
   const u = generator.nextFloat();
   let cumulative = 0;
   for (const entry of entries) {
@@ -708,7 +709,7 @@ function drawStart(entries: unknown[], generator: Xoshiro128): unknown {
   return structuredClone((entries[entries.length - 1] as { state: unknown }).state);
 }
 
-function drawOutcome(outs: unknown[], u: number): { state: unknown; reward: unknown } {
+export function drawOutcome(outs: unknown[], u: number): { state: unknown; reward: unknown } {
   let cumulative = 0;
   for (let i = 0; i < outs.length; i++) {
     const out = outs[i] as { state: unknown; probability: unknown; reward: unknown };
