@@ -15,6 +15,8 @@ interface BlackBox {
   optimal: number;
   discount: number;
   horizon?: number;
+  /** Training steps per seed by method: Monte Carlo averages whole returns and needs more of them (common practice). */
+  steps: Record<LearningMethod, number>;
   /** Measured episodes (fewer for the model whose episodes run to the discount's step cap). */
   evaluationEpisodes?: number;
   model: { start: unknown; actions: (state: unknown) => unknown; sample: (state: unknown, action: unknown, rng: ModelRng) => unknown };
@@ -26,6 +28,7 @@ const MODELS: BlackBox[] = [
     name: 'safe or risky bet',
     optimal: 1.8,
     discount: 1,
+    steps: { 'q-learning': 2000, 'monte-carlo': 5000 },
     model: {
       start: 'choose',
       actions: () => ['safe', 'risky'],
@@ -39,6 +42,7 @@ const MODELS: BlackBox[] = [
     name: 'slippery corridor',
     optimal: -8,
     discount: 1,
+    steps: { 'q-learning': 10_000, 'monte-carlo': 40_000 },
     model: {
       start: 0,
       actions: () => ['walk', 'ride'],
@@ -54,6 +58,7 @@ const MODELS: BlackBox[] = [
     name: 'stay or cash out',
     optimal: 5,
     discount: 0.8,
+    steps: { 'q-learning': 10_000, 'monte-carlo': 40_000 },
     evaluationEpisodes: 300,
     model: {
       start: 'here',
@@ -69,6 +74,7 @@ const MODELS: BlackBox[] = [
     optimal: 5,
     discount: 1,
     horizon: 3,
+    steps: { 'q-learning': 5000, 'monte-carlo': 15_000 },
     model: {
       start: 'poor',
       actions: (s) => (s === 'poor' ? ['cash', 'invest'] : ['collect']),
@@ -81,14 +87,12 @@ const MODELS: BlackBox[] = [
 ];
 
 const SEEDS = 100;
-/** Training steps per seed: Monte Carlo averages whole returns and needs more of them (common practice). */
-const STEPS: Record<LearningMethod, number> = { 'q-learning': 10_000, 'monte-carlo': 40_000 };
 
 function coverage(box: BlackBox, method: LearningMethod): number {
   let covered = 0;
   for (let seed = 1; seed <= SEEDS; seed++) {
     const run = learnModel(box.model, {
-      settings: { ...DEFAULT_LEARNING, method, episodes: 20_000, steps: STEPS[method], evaluationEpisodes: box.evaluationEpisodes ?? 1000, decisionEpisodes: 0 },
+      settings: { ...DEFAULT_LEARNING, method, episodes: 20_000, steps: box.steps[method], evaluationEpisodes: box.evaluationEpisodes ?? 1000, decisionEpisodes: 0 },
       seed,
       discount: box.discount,
       horizon: box.horizon,
