@@ -8,6 +8,7 @@ import { buildSync } from 'esbuild';
 import { existsSync } from 'node:fs';
 import { join } from 'node:path';
 import { isMainThread, Worker } from 'node:worker_threads';
+import type { LearnRun } from './learn';
 import { bundleModel, locateStack, originalPosition, type ModelBundle, type SourceLocation } from './bundle';
 import { MODEL_SCRIPT_NAME, STATE_TEXT_LENGTH, type HostRequest, type ModelDescription, type RandomnessCall, type WorkerReply } from './protocol';
 import { PHASE_CODES, type Enumeration, type ModelFunction, type RolloutRun, type RuntimeProblem } from './runtime';
@@ -146,6 +147,11 @@ export class ModelSandbox {
     return this.outcomeOf(reply, (r) => (r.type === 'rolled' ? r.run : undefined));
   }
 
+  async learn(options: Extract<HostRequest, { type: 'learn' }>['options']): Promise<Outcome<LearnRun>> {
+    const reply = await this.request({ type: 'learn', options });
+    return this.outcomeOf(reply, (r) => (r.type === 'learned' ? r.run : undefined));
+  }
+
   async close(): Promise<void> {
     if (this.closed) return;
     this.closed = true;
@@ -246,7 +252,7 @@ export class ModelSandbox {
   private failureAtProgress(kind: ModelFailure['kind'], message: string, stack?: string): ModelFailure {
     const phase = PHASE_CODES[this.progress[1]] ?? 'load';
     const failure: ModelFailure = { kind, phase, message, location: stack ? locateStack(this.bundle, stack, MODEL_SCRIPT_NAME) : undefined };
-    if (this.job === 'rollouts') {
+    if (this.job === 'rollouts' || this.job === 'learn') {
       failure.episode = this.progress[2];
       failure.step = this.progress[3];
     } else if (this.job === 'enumerate' && this.progress[4] > 0) {

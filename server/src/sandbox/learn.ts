@@ -19,7 +19,9 @@
  *
  * Like runtime.ts this runs inside the sandbox worker and must not import anything of the host.
  */
-import { effectiveStepCap, END_NONE, END_STEP_CAP, Xoshiro128, type EpisodeRecords } from '../analysis/rollouts';
+import { effectiveStepCap, END_NONE, END_STEP_CAP, summarizeEpisodes, Xoshiro128, type EpisodeRecords } from '../analysis/rollouts';
+import type { LearningMethod, LearningSummary, LearnedAction, LearnedState, RolloutStats } from '../analysis/rollout-stats';
+import { DEFAULT_CONFIG } from '../config';
 import type { CompiledModel } from '../model/compiled';
 import {
   actionName,
@@ -39,8 +41,6 @@ import {
   type RuntimeProblem,
 } from './runtime';
 
-export type LearningMethod = 'q-learning' | 'monte-carlo';
-
 /** What learning may spend and how; every field is plain data, so it crosses threads as is. */
 export interface LearningSettings {
   method: LearningMethod;
@@ -57,14 +57,13 @@ export interface LearningSettings {
   decisionEpisodes: number;
 }
 
-/** Defaults that keep `episcope check` of a model of a few hundred states to about a second of learning. */
+/** The config's default budget (config.ts), a thousand measured episodes and 200 per start action for the decision. */
 export const DEFAULT_LEARNING: LearningSettings = {
   method: 'q-learning',
-  episodes: 20_000,
-  steps: 200_000,
-  epsilon: 0.1,
-  // The book's algorithm box of section 5.4 is first-visit.
-  firstVisit: true,
+  episodes: DEFAULT_CONFIG.learning.episodes,
+  steps: DEFAULT_CONFIG.learning.steps,
+  epsilon: DEFAULT_CONFIG.learning.epsilon,
+  firstVisit: DEFAULT_CONFIG.learning.firstVisit,
   evaluationEpisodes: 1000,
   decisionEpisodes: 200,
 };
@@ -75,58 +74,6 @@ const PATH_STEPS = 200;
 const ALPHA_EXPONENT = 0.8;
 /** States whose learned values are kept for the hover, the most visited first. */
 const KEPT_STATES = 50;
-
-export interface LearnedAction {
-  action: string;
-  /** The learned Q; NaN when the action was never tried (no estimate). */
-  q: number;
-  visits: number;
-}
-
-export interface LearnedState {
-  key: string;
-  /** Steps taken before this state, when the spec has a horizon (the learning state is key and time). */
-  step?: number;
-  visits: number;
-  actions: LearnedAction[];
-}
-
-/**
- * The decision between the two best start actions by their learned Q: each is taken first, the
- * greedy policy after, on `episodes` fresh episodes each. `moreEpisodes` per action is what a 95%
- * separation would need (see `episodesToSeparate`); 0 once decided, Infinity when the means are equal.
- */
-export interface StartDecision {
-  key: string;
-  best: { action: string; mean: number; standardDeviation: number };
-  runnerUp: { action: string; mean: number; standardDeviation: number };
-  episodes: number;
-  /** (mean best - mean runner-up) / its standard error, in the objective's direction. */
-  z: number;
-  decided: boolean;
-  moreEpisodes: number;
-}
-
-export interface LearningSummary {
-  method: LearningMethod;
-  visits?: 'first' | 'every';
-  epsilon: number;
-  budget: { episodes: number; steps: number };
-  spent: { episodes: number; steps: number };
-  /** Distinct canonical keys met in training. */
-  distinctKeys: number;
-  /** Learning states (keys, or key and time with a horizon). */
-  learningStates: number;
-  /** Evaluation steps taken in states where no action had been tried (a random action there). */
-  unlearnedSteps: number;
-  /** The first measured episode of the greedy policy: the keys it visited and the actions it took (at most 200 steps). */
-  path: { keys: string[]; actions: string[]; truncated: boolean };
-  /** The learned values at the start state(s) and the most visited states. */
-  states: LearnedState[];
-  decision?: StartDecision;
-  /** Why there is no decision (one start action, a start that varies, ...). */
-  noDecision?: string;
-}
 
 export interface LearnRun {
   summary: LearningSummary;
@@ -449,22 +396,6 @@ function keptStates(sampler: LearningSampler, table: Table, timed: boolean): Lea
   });
 }
 
-/**
- * Episodes a two-sample comparison needs per arm to separate two means at 95%: the normal
- * approximation n = (1.96 (s1 + s2) / d)^2 ... written out as n = 1.96^2 (s1^2 + s2^2) / d^2
- * (equal arms; common practice, e.g. the sample-size formula for a difference of two means).
- */
-export function episodesToSeparate(difference: number, sd1: number, sd2: number): number {
-  if (!(Math.abs(difference) > 0)) return Infinity;
-  return Math.ceil((1.96 * 1.96 * (sd1 * sd1 + sd2 * sd2)) / (difference * difference));
-}
-
-/** Episodes a 95% interval of half-width `halfWidth` needs: n = (1.96 sd / h)^2 (normal approximation; common practice). */
-export function episodesForHalfWidth(standardDeviation: number, halfWidth: number): number {
-  if (!(halfWidth > 0) || !Number.isFinite(standardDeviation)) return NaN;
-  return Math.ceil(((1.96 * standardDeviation) / halfWidth) ** 2);
-}
-
 function decideStart(
   sampler: LearningSampler,
   table: Table,
@@ -508,7 +439,8 @@ function decideStart(
   const standardError = Math.sqrt((best.standardDeviation ** 2 + runnerUp.standardDeviation ** 2) / episodes);
   const z = standardError > 0 ? difference / standardError : difference > 0 ? Infinity : difference < 0 ? -Infinity : 0;
   const decided = z >= 1.96;
-  const needed = episodesToSeparate(difference, best.standardDeviation, runnerUp.standardDeviation);
+  // n = 1.96^2 (sd1^2 + sd2^2) / d^2 per action (see StartDecision).
+  const needed = Math.abs(difference) > 0 ? Math.ceil((1.96 * 1.96 * (best.standardDeviation ** 2 + runnerUp.standardDeviation ** 2)) / difference ** 2) : Infinity;
   summary.decision = {
     key: sampler.keyOf(start),
     best,
@@ -782,4 +714,34 @@ function emptySummary(options: LearnOptions): LearningSummary {
     path: { keys: [], actions: [], truncated: false },
     states: [],
   };
+}
+
+/**
+ * Learning on an enumerable model with rollouts asked for (`--rollouts N`): the model is sampled
+ * as a black box through its compiled outcomes, and the learned policy's estimate is set beside
+ * the exact optimal value of the start (the gap is learned mean minus the middle of the exact bounds).
+ */
+export function exactModelLearning(
+  model: CompiledModel,
+  optimal: { lower: number; upper: number },
+  settings: LearningSettings,
+  options: { seed: number; stepCap: number },
+): { learned: RolloutStats; learning: LearningSummary } {
+  const run = learnWithSampler(new CompiledSampler(model), {
+    settings,
+    seed: options.seed,
+    discount: model.discount,
+    horizon: model.horizon,
+    stepCap: options.stepCap,
+    maximize: model.maximize,
+  });
+  const learned = summarizeEpisodes(run.evaluation, { policy: 'learned', seed: options.seed, stepCap: effectiveStepCap(model.discount, options.stepCap) });
+  const exact = (optimal.lower + optimal.upper) / 2;
+  const { lower, upper } = learned.return.ci95;
+  run.summary.exact = {
+    optimal: { lower: optimal.lower, upper: optimal.upper },
+    gap: Number.isFinite(exact) ? learned.return.mean - exact : NaN,
+    withinInterval: lower <= optimal.upper && optimal.lower <= upper,
+  };
+  return { learned, learning: run.summary };
 }

@@ -1,4 +1,5 @@
 /** Messages between the sandbox host and its worker. */
+import type { LearnJobOptions, LearnRun } from './learn';
 import type { Enumeration, EnumerationOptions, RolloutOptions, RolloutRun } from './runtime';
 
 /** The file name model code carries in stack traces inside the worker. */
@@ -28,10 +29,12 @@ export interface ModelDescription {
 export type HostRequest =
   | { type: 'load'; code: string; specPath: string }
   | { type: 'enumerate'; options: Omit<EnumerationOptions, 'progress' | 'onExpand'> }
-  | { type: 'rollouts'; options: Omit<RolloutOptions, 'progress'> };
+  | { type: 'rollouts'; options: Omit<RolloutOptions, 'progress'> }
+  | { type: 'learn'; options: LearnJobOptions };
 
 export type WorkerReply =
   | { type: 'loaded'; description: ModelDescription; randomness: RandomnessCall[] }
   | { type: 'problem'; problem: import('./runtime').RuntimeProblem; randomness: RandomnessCall[] }
   | { type: 'enumerated'; result: Enumeration; randomness: RandomnessCall[] }
-  | { type: 'rolled'; run: RolloutRun; randomness: RandomnessCall[] };
+  | { type: 'rolled'; run: RolloutRun; randomness: RandomnessCall[] }
+  | { type: 'learned'; run: LearnRun; randomness: RandomnessCall[] };

@@ -16,6 +16,7 @@ import {
   type RolloutOptions,
   type RuntimeProblem,
 } from './runtime';
+import { learnModel } from './learn';
 import { MODEL_SCRIPT_NAME, type HostRequest, type ModelDescription, type RandomnessCall, type WorkerReply } from './protocol';
 
 const progress = new Int32Array(workerData.progress as SharedArrayBuffer);
@@ -143,6 +144,12 @@ function handle(request: HostRequest): void {
       ...result.termRewards.map((column) => column.buffer),
     ] as ArrayBuffer[];
     parentPort!.postMessage({ type: 'enumerated', result, randomness: takeRandomness() } satisfies WorkerReply, transfer);
+    return;
+  }
+  if (request.type === 'learn') {
+    const run = learnModel(model, request.options, progress);
+    const { returns, lengths, ends } = run.evaluation;
+    parentPort!.postMessage({ type: 'learned', run, randomness: takeRandomness() } satisfies WorkerReply, [returns.buffer, lengths.buffer, ends.buffer] as ArrayBuffer[]);
     return;
   }
   const options: RolloutOptions = { ...request.options, progress };
