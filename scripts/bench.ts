@@ -7,12 +7,14 @@ import { run as analysis } from './bench/analysis';
 import { run as typescript } from './bench/typescript';
 import { run as lsp } from './bench/lsp';
 import { run as solver } from './bench/solver';
+import { run as learning } from './bench/learning';
 
 const SECTIONS: ReadonlyArray<{ name: string; run: () => Promise<void> }> = [
   { name: 'analysis', run: analysis },
   { name: 'typescript', run: typescript },
   { name: 'lsp', run: lsp },
   { name: 'solver', run: solver },
+  { name: 'learning', run: learning },
 ];
 
 async function main(): Promise<void> {

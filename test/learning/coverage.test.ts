@@ -7,7 +7,8 @@
 import { describe, expect, test } from 'vitest';
 import { meanWithInterval } from '../../server/src/analysis/rollouts';
 import type { ModelRng } from '../../server/src/sandbox/runtime';
-import { DEFAULT_LEARNING, learnModel, type LearningMethod } from '../../server/src/sandbox/learn';
+import type { LearningMethod } from '../../server/src/analysis/rollout-stats';
+import { DEFAULT_LEARNING, learnModel } from '../../server/src/sandbox/learn';
 
 interface BlackBox {
   name: string;
