@@ -1,6 +1,6 @@
 /**
  * The sandbox worker: loads one bundled model and answers the host's requests. Each request does a
- * whole job (enumeration or a batch of rollouts) and answers with typed arrays, so the cost of
+ * whole job (enumeration, a batch of rollouts, or learning) and answers with typed arrays, so the cost of
  * crossing threads is paid once per job, never per model call.
  */
 import { createRequire } from 'node:module';
