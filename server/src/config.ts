@@ -71,7 +71,7 @@ export function resolveConfig(config: EpiscopeConfig | undefined): ResolvedConfi
     seed: config?.seed ?? DEFAULT_CONFIG.seed,
     precision: config?.precision ?? DEFAULT_CONFIG.precision,
     learning: { ...DEFAULT_CONFIG.learning, ...(config?.learning ?? {}) },
-    halfWidth: config?.halfWidth,
+    ...(config?.halfWidth !== undefined ? { halfWidth: config.halfWidth } : {}),
   };
 }
 
