@@ -159,7 +159,8 @@ async function runModel(
     const stats = await sampleByRollouts(sandbox, spec, config, declaredTerms, evidence, place, findings);
     const rollouts: RolloutReport | undefined = stats ? { random: stats } : undefined;
     // Learning needs a model that rolled out cleanly: a failure there would only repeat itself.
-    if (rollouts && config.learning.method !== 'off' && evidence.nondeterminism.length === 0 && !isCancelled()) {
+    const clean = evidence.nondeterminism.length === 0 && !findings.some((f) => f.rule === 'non-finite-reward');
+    if (rollouts && config.learning.method !== 'off' && clean && !isCancelled()) {
       await learnFromSamples(sandbox, spec, config, declaredTerms, stats!.episodes, evidence, place, findings, rollouts);
     }
     return {
