@@ -8,6 +8,7 @@ import { run as typescript } from './bench/typescript';
 import { run as lsp } from './bench/lsp';
 import { run as solver } from './bench/solver';
 import { run as hostile } from './bench/hostile';
+import { run as learning } from './bench/learning';
 
 const SECTIONS: ReadonlyArray<{ name: string; run: () => Promise<void> }> = [
   { name: 'analysis', run: analysis },
@@ -15,6 +16,7 @@ const SECTIONS: ReadonlyArray<{ name: string; run: () => Promise<void> }> = [
   { name: 'lsp', run: lsp },
   { name: 'solver', run: solver },
   { name: 'hostile', run: hostile },
+  { name: 'learning', run: learning },
 ];
 
 async function main(): Promise<void> {

@@ -7,7 +7,8 @@
  * suppress. Nothing downstream imports this file back.
  */
 import { analyzeModel } from './analysis';
-import { exactModelRollouts } from './analysis/rollouts';
+import { exactModelRollouts, samplingCost } from './analysis/rollouts';
+import { DEFAULT_LEARNING, exactModelLearning } from './sandbox/learn';
 import { DEFAULT_CONFIG, ruleThreshold, type ResolvedConfig } from './config';
 import type { Finding, FindingInput } from './findings';
 import type { CompiledModel } from './model/compiled';
@@ -136,12 +137,22 @@ export function analyzeLoaded(path: string, text: string, loaded: LoadedSpec, op
     try {
       const stepCap = ruleThreshold(config, episodeNeverEnds, 'stepCap');
       report.rollouts = exactModelRollouts(report.model, report.analysis, { episodes: config.rollouts, seed: config.seed, stepCap });
+      const method = config.learning.method;
+      if (method !== 'off') {
+        const settings = { ...DEFAULT_LEARNING, ...config.learning, method, evaluationEpisodes: config.rollouts };
+        Object.assign(report.rollouts, exactModelLearning(report.model, report.analysis.start.optimal, settings, { seed: config.seed, stepCap }));
+      }
     } catch (error) {
       report.internalErrors.push(`the rollouts failed: ${errorText(error)}`);
     }
   }
   if (loaded.rollouts) report.rollouts = { ...report.rollouts, ...loaded.rollouts };
   if (loaded.modelOutput) report.modelOutput = loaded.modelOutput;
+  if (report.rollouts) {
+    for (const stats of [report.rollouts.random, report.rollouts.optimal, report.rollouts.learned]) {
+      if (stats) stats.cost = samplingCost(stats, config.halfWidth);
+    }
+  }
 
   for (const rule of enabled) {
     if (options.isCancelled?.()) {

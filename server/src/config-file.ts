@@ -231,7 +231,8 @@ interface LocatedError {
 }
 
 const FIELD_LIST: Record<string, string> = {
-  '': 'rules, thresholds, ignore, stateCap, rollouts, seed, precision',
+  '': 'rules, thresholds, ignore, stateCap, rollouts, seed, precision, learning, halfWidth',
+  learning: 'method, episodes, steps, epsilon, firstVisit',
   ignore: 'rule, path, reason',
 };
 
@@ -243,7 +244,7 @@ function describeSchemaError(error: ErrorObject, rules: readonly Rule[]): Locate
     case 'additionalProperties': {
       const key = String(params.additionalProperty);
       if (pointer.length === 1 && pointer[0] === 'rules') return { message: `rules: no rule named "${key}"${didYouMean(key, rules)}`, pointer, key };
-      const fields = FIELD_LIST[pointer[0] === 'ignore' ? 'ignore' : ''];
+      const fields = FIELD_LIST[pointer[0] === 'ignore' || pointer[0] === 'learning' ? pointer[0] : ''];
       return { message: `${where === '' ? '' : `${where}: `}unknown field "${key}" (the fields are ${fields})`, pointer, key };
     }
     case 'propertyNames':

@@ -15,6 +15,21 @@ export interface EpiscopeConfig {
   seed?: number;
   /** Half-width target of the value bounds (relative for values above 1 in magnitude). */
   precision?: number;
+  /** Learning from samples (sandbox/learn.ts): method and budget. */
+  learning?: Partial<LearningConfig>;
+  /** Half-width of the 95% interval wanted for rollout estimates; the output says how many more episodes it needs. */
+  halfWidth?: number;
+}
+
+/** Learning from sampled episodes: the method ("off": none) and the budget, whichever runs out first. */
+export interface LearningConfig {
+  method: 'q-learning' | 'monte-carlo' | 'off';
+  episodes: number;
+  steps: number;
+  /** Exploration rate of the epsilon-greedy / epsilon-soft behaviour. */
+  epsilon: number;
+  /** Monte Carlo: average returns after the first visit of a pair per episode (else every visit). */
+  firstVisit: boolean;
 }
 
 export interface ResolvedConfig {
@@ -25,6 +40,8 @@ export interface ResolvedConfig {
   rollouts: number;
   seed: number;
   precision: number;
+  learning: LearningConfig;
+  halfWidth?: number;
   /**
    * The folder of the config file, which `ignore` path globs are relative to (absolute, or in the
    * same form as the paths the front analyses). Undefined: globs are matched against the path as given.
@@ -40,6 +57,8 @@ export const DEFAULT_CONFIG: ResolvedConfig = {
   rollouts: 0,
   seed: 1,
   precision: 1e-6,
+  // 200k steps keep learning of a simple model to about a second (npm run bench -- learning).
+  learning: { method: 'q-learning', episodes: 20_000, steps: 200_000, epsilon: 0.1, firstVisit: true },
 };
 
 export function resolveConfig(config: EpiscopeConfig | undefined): ResolvedConfig {
@@ -51,6 +70,8 @@ export function resolveConfig(config: EpiscopeConfig | undefined): ResolvedConfi
     rollouts: config?.rollouts ?? DEFAULT_CONFIG.rollouts,
     seed: config?.seed ?? DEFAULT_CONFIG.seed,
     precision: config?.precision ?? DEFAULT_CONFIG.precision,
+    learning: { ...DEFAULT_CONFIG.learning, ...(config?.learning ?? {}) },
+    ...(config?.halfWidth !== undefined ? { halfWidth: config.halfWidth } : {}),
   };
 }
 

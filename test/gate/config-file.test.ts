@@ -2,6 +2,7 @@ import { mkdtempSync, mkdirSync, readFileSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import * as path from 'node:path';
 import { describe, expect, it } from 'vitest';
+import { DEFAULT_CONFIG } from '../../server/src/config';
 import { CONFIG_FILE_NAME, findConfigFile, loadConfigFile, parseConfigText } from '../../server/src/config-file';
 import type { Rule } from '../../server/src/rules/types';
 import { LineIndex } from '../../server/src/spec/lines';
@@ -46,6 +47,7 @@ describe('config file', () => {
       rollouts: 200,
       seed: 7,
       precision: 1e-8,
+      learning: DEFAULT_CONFIG.learning,
       baseDir: '/repo',
     });
     expect(where(text, file.ignoreSpans[0])).toMatch(/^5:15 \{ "rule": "reward-loop"/);
@@ -67,7 +69,7 @@ describe('config file', () => {
     const got = file.findings.map((f) => `${f.rule} ${f.severity} ${where(text, f.span)} | ${f.message}`).sort();
     expect(got).toEqual(
       [
-        'config error 10:3 "colour" | unknown field "colour" (the fields are rules, thresholds, ignore, stateCap, rollouts, seed, precision)',
+        'config error 10:3 "colour" | unknown field "colour" (the fields are rules, thresholds, ignore, stateCap, rollouts, seed, precision, learning, halfWidth)',
         'config error 2:14 "reward-lop" | rules: no rule named "reward-lop" (did you mean "reward-loop"?)',
         'config error 2:49 "loud" | rules.schema must be one of "error", "warning", "info", "off"',
         'config error 3:19 "loopgap" | thresholds: the key "loopgap" must be "rule-id.name", e.g. "reward-loop.probabilityGap"',

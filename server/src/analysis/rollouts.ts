@@ -115,8 +115,8 @@ export interface EpisodeRecords {
 }
 
 // The figures' types live in rollout-stats.ts (the TypeScript loader's evidence holds them too).
-export type { Histogram, Percentiles, RolloutReport, RolloutStats } from './rollout-stats';
-import type { Histogram, Percentiles, RolloutReport, RolloutStats } from './rollout-stats';
+export type { Histogram, Percentiles, RolloutReport, RolloutStats, SamplingCost } from './rollout-stats';
+import type { Histogram, Percentiles, RolloutReport, RolloutStats, SamplingCost } from './rollout-stats';
 
 /**
  * The p-quantile of sorted data by linear interpolation between order statistics: definition 7
@@ -177,7 +177,7 @@ export function meanWithInterval(values: ArrayLike<number>): { mean: number; sta
 /** Summarises raw episode records. */
 export function summarizeEpisodes(
   records: EpisodeRecords,
-  meta: { policy: 'random' | 'optimal'; seed: number; stepCap: number },
+  meta: { policy: RolloutStats['policy']; seed: number; stepCap: number },
 ): RolloutStats {
   const n = records.returns.length;
   const returns = Float64Array.from(records.returns).sort();
@@ -220,6 +220,19 @@ export function summarizeEpisodes(
     stepCapped: ends[END_STEP_CAP],
     totalSteps,
   };
+}
+
+/**
+ * What a 95% interval of half-width h would cost: n = (1.96 sd / h)^2 episodes from the observed
+ * standard deviation (normal approximation; common practice), and how many more than were run.
+ * Without a configured h, 1% of the larger of |mean| and 1. NaN figures when sd is unknown.
+ */
+export function samplingCost(stats: RolloutStats, halfWidth?: number): SamplingCost {
+  const n = stats.episodes;
+  const sd = stats.return.standardError * Math.sqrt(n);
+  const h = halfWidth ?? 0.01 * Math.max(1, Math.abs(stats.return.mean));
+  const needed = Number.isFinite(sd) && h > 0 ? Math.ceil(((1.96 * sd) / h) ** 2) : NaN;
+  return { halfWidth: h, defaultHalfWidth: halfWidth === undefined, episodesNeeded: needed, moreEpisodes: Number.isNaN(needed) ? NaN : Math.max(0, needed - n) };
 }
 
 /**

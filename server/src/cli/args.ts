@@ -96,6 +96,15 @@ export const OPTIONS: readonly OptionSpec[] = [
     valueName: 'N',
     description: 'rollouts per spec: estimates for sampled TypeScript models (default 1000), and for exact models the return distribution under the optimal and the random policy',
   },
+  {
+    name: 'learn',
+    kind: 'choice',
+    choices: ['q-learning', 'monte-carlo', 'off'],
+    valueName: 'METHOD',
+    description: "how to learn action values from samples, for sampled models and exact ones with --rollouts (default: the config's learning.method, else q-learning)",
+  },
+  { name: 'learn-steps', kind: 'integer', valueName: 'N', description: "most training steps of learning (default: the config's learning.steps, else 200000)" },
+  { name: 'learn-episodes', kind: 'integer', valueName: 'N', description: "most training episodes of learning (default: the config's learning.episodes, else 20000)" },
 ];
 
 /** Options every command accepts. */

@@ -6,7 +6,7 @@
  * readers must ignore fields they do not know.
  */
 import type { FileReport } from '../analyze';
-import type { Percentiles, RolloutStats } from '../analysis/rollout-stats';
+import type { LearningSummary, Percentiles, RolloutStats, StartDecision } from '../analysis/rollout-stats';
 import type { Analysis, Interval, ReachAtStart } from '../analysis/types';
 import type { CompiledModel } from '../model/compiled';
 import { TERMINAL_OF_CODE } from '../model/compiled';
@@ -119,12 +119,39 @@ export interface JsonFile {
   /** Additive: failures of Episcope itself while checking this file (a bug of ours; exit code 2). */
   internalErrors?: string[];
   /**
-   * Additive: Monte Carlo figures per policy ("random", "optimal"): for sampled TypeScript models
-   * always (random policy), for exactly analysed models with `--rollouts N` (both policies).
+   * Additive: Monte Carlo figures per policy ("random", "optimal", "learned"): for sampled
+   * TypeScript models always (random policy; "learned" and `learning` unless learning is off), for
+   * exactly analysed models with `--rollouts N` (all three).
    */
-  rollouts?: Partial<Record<'random' | 'optimal', JsonRollouts>>;
+  rollouts?: Partial<Record<'random' | 'optimal' | 'learned', JsonRollouts>> & { learning?: JsonLearning };
   /** Additive: what TypeScript model code printed to stdout and stderr in the sandbox (cut to about 4000 characters). */
   modelOutput?: string;
+}
+
+/** Additive: what learning spent and learned (sandbox/learn.ts); a Q of an action never tried, and any figure not known, is null. */
+export interface JsonLearning {
+  method: LearningSummary['method'];
+  visits?: 'first' | 'every';
+  epsilon: number;
+  budget: { episodes: number; steps: number };
+  spent: { episodes: number; steps: number };
+  distinctKeys: number;
+  learningStates: number;
+  unlearnedSteps: number;
+  path: { keys: string[]; actions: string[]; truncated: boolean };
+  states: Array<{ key: string; step?: number; visits: number; actions: Array<{ action: string; q: number | null; visits: number }> }>;
+  decision?: {
+    key: string;
+    best: { action: string; mean: number | null; standardDeviation: number | null };
+    runnerUp: { action: string; mean: number | null; standardDeviation: number | null };
+    episodes: number;
+    z: JsonNumber | null;
+    decided: boolean;
+    /** "inf" when the two actions' means are equal: no number of episodes separates them. */
+    moreEpisodes: JsonNumber | null;
+  };
+  noDecision?: string;
+  exact?: { optimal: { lower: JsonNumber; upper: JsonNumber }; gap: number | null; withinInterval: boolean };
 }
 
 /**
@@ -132,7 +159,10 @@ export interface JsonFile {
  * policy (the key says it) and the step total; returns are discounted sums of rewards. Figures
  * are finite numbers rounded to nearest.
  */
-export type JsonRollouts = Omit<RolloutStats, 'policy' | 'totalSteps'>;
+export type JsonRollouts = Omit<RolloutStats, 'policy' | 'totalSteps' | 'cost'> & {
+  /** Additive: training-free cost of a narrower interval: n = (1.96 sd / halfWidth)^2 episodes; null when not known. */
+  cost?: { halfWidth: number; defaultHalfWidth: boolean; episodesNeeded: number | null; moreEpisodes: number | null };
+};
 
 export type JsonPercentiles = Percentiles;
 
@@ -164,6 +194,8 @@ export function fileReportToJson(report: FileReport, options: JsonOptions = {}):
     file.rollouts = {};
     if (report.rollouts.random) file.rollouts.random = rolloutsToJson(report.rollouts.random);
     if (report.rollouts.optimal) file.rollouts.optimal = rolloutsToJson(report.rollouts.optimal);
+    if (report.rollouts.learned) file.rollouts.learned = rolloutsToJson(report.rollouts.learned);
+    if (report.rollouts.learning) file.rollouts.learning = learningToJson(report.rollouts.learning);
   }
   return file;
 }
@@ -205,7 +237,55 @@ export function rolloutsToJson(stats: RolloutStats): JsonRollouts {
       none: jsonShare(stats.reach.none),
     },
     stepCapped: stats.stepCapped,
+    ...(stats.cost ? { cost: { halfWidth: roundNearest(stats.cost.halfWidth), defaultHalfWidth: stats.cost.defaultHalfWidth, episodesNeeded: known(stats.cost.episodesNeeded), moreEpisodes: known(stats.cost.moreEpisodes) } } : {}),
   };
+}
+
+/** A finite figure rounded to nearest, else null (not known). */
+function known(x: number): number | null {
+  return Number.isFinite(x) ? roundNearest(x) : null;
+}
+
+/** A figure that may be infinite: "inf"/"-inf", NaN as null. */
+function knownOrInfinite(x: number): JsonNumber | null {
+  if (Number.isNaN(x)) return null;
+  if (x === Infinity) return 'inf';
+  if (x === -Infinity) return '-inf';
+  return roundNearest(x);
+}
+
+export function learningToJson(learning: LearningSummary): JsonLearning {
+  const out: JsonLearning = {
+    method: learning.method,
+    epsilon: learning.epsilon,
+    budget: { ...learning.budget },
+    spent: { ...learning.spent },
+    distinctKeys: learning.distinctKeys,
+    learningStates: learning.learningStates,
+    unlearnedSteps: learning.unlearnedSteps,
+    path: { keys: [...learning.path.keys], actions: [...learning.path.actions], truncated: learning.path.truncated },
+    states: learning.states.map((s) => ({
+      key: s.key,
+      ...(s.step !== undefined ? { step: s.step } : {}),
+      visits: s.visits,
+      actions: s.actions.map((a) => ({ action: a.action, q: known(a.q), visits: a.visits })),
+    })),
+  };
+  if (learning.visits) out.visits = learning.visits;
+  const d = learning.decision;
+  if (d) {
+    const side = (x: StartDecision['best']) => ({ action: x.action, mean: known(x.mean), standardDeviation: known(x.standardDeviation) });
+    out.decision = { key: d.key, best: side(d.best), runnerUp: side(d.runnerUp), episodes: d.episodes, z: knownOrInfinite(d.z), decided: d.decided, moreEpisodes: knownOrInfinite(d.moreEpisodes) };
+  }
+  if (learning.noDecision) out.noDecision = learning.noDecision;
+  if (learning.exact) {
+    out.exact = {
+      optimal: { lower: jsonLower(learning.exact.optimal.lower), upper: jsonUpper(learning.exact.optimal.upper) },
+      gap: known(learning.exact.gap),
+      withinInterval: learning.exact.withinInterval,
+    };
+  }
+  return out;
 }
 
 /** Wraps serialised files into the top-level object, with the additive summary. */

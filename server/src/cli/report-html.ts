@@ -10,6 +10,7 @@
 import { severityCount, type Severity } from '../rules/types';
 import type { JsonFile, JsonInterval, JsonReach, JsonRollouts } from './json-output';
 import { parseJsonNumber, textInterval, textProbability } from './numbers';
+import { learningLines } from './text-output';
 
 /** A file of the JSON output; the report reads its analysis (with values) and rollouts. */
 export type ReportFile = JsonFile;
@@ -35,6 +36,7 @@ export const SAFETY_CAUTION =
 const COLORS = {
   optimal: '#1b6ca8',
   random: '#d9822b',
+  learned: '#6c3483',
   worst: '#8a8a8a',
   goal: '#2e8540',
   failure: '#c0392b',
@@ -359,7 +361,7 @@ function statePlot(rows: Array<{ id: string; v: StateValues[string] }>): string 
 
 /** The rollouts' histograms; for a sampled model (no exact analysis) also how its episodes ended. */
 function rolloutSection(rollouts: NonNullable<JsonFile['rollouts']>, sampledOnly: boolean): string {
-  const entries = (['optimal', 'random'] as const).flatMap((policy) => (rollouts[policy] ? [[policy, rollouts[policy]!] as const] : []));
+  const entries = (['optimal', 'learned', 'random'] as const).flatMap((policy) => (rollouts[policy] ? [[policy, rollouts[policy]!] as const] : []));
   if (entries.length === 0) return '';
   const parts = ['<h3>Rollouts</h3>', '<div class="plots">'];
   if (sampledOnly) {
@@ -367,7 +369,7 @@ function rolloutSection(rollouts: NonNullable<JsonFile['rollouts']>, sampledOnly
     parts.push(figure('How episodes ended', reachPlot(entries.map(([policy, stats]) => ({ label: policy, reach: stats.reach }))) + `<p class="note">Estimated from ${esc(episodes)}; "never ends / cut" counts episodes stopped at the step cap or by the horizon.</p>`, 'plot-rollout-reach'));
   }
   for (const [policy, stats] of entries) {
-    const color = policy === 'optimal' ? COLORS.optimal : COLORS.random;
+    const color = COLORS[policy];
     const ci = stats.return.ci95;
     const summary =
       `${stats.episodes} episodes, seed ${stats.seed}; mean return ${short(parseJsonNumber(stats.return.mean))} ` +
@@ -378,6 +380,7 @@ function rolloutSection(rollouts: NonNullable<JsonFile['rollouts']>, sampledOnly
     parts.push(figure(`Episode length, ${policy} policy`, histogramPlot(stats.length.histogram, 'steps', color, true), 'plot-length-histogram'));
   }
   parts.push('</div>');
+  if (rollouts.learning) parts.push(`<p class="note">${learningLines(rollouts.learning).map(esc).join('<br>')}</p>`);
   return parts.join('\n');
 }
 

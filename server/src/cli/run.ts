@@ -48,7 +48,7 @@ const COMMANDS: readonly Command[] = [
     name: 'check',
     operands: '[paths...]',
     summary: 'check spec files (*.mdp.json, *.mdp.ts) and folders of them; default: the current folder',
-    options: ['format', 'values', 'fail-on', 'baseline', 'report', 'config', 'no-exec', 'seed', 'rollouts'],
+    options: ['format', 'values', 'fail-on', 'baseline', 'report', 'config', 'no-exec', 'seed', 'rollouts', 'learn', 'learn-steps', 'learn-episodes'],
     minOperands: 0,
     maxOperands: Infinity,
     run: runCheck,
@@ -188,14 +188,21 @@ async function runCheck(args: ParsedArgs, io: CliIo): Promise<number> {
   return gate.exitCode(results) ?? (failsAt(results, failOn) ? EXIT_FINDINGS : EXIT_OK);
 }
 
-/** `--seed` and `--rollouts` override the config file's values. */
+/** `--seed`, `--rollouts` and the `--learn` options override the config file's values. */
 function withRolloutOptions(config: ResolvedConfig, args: ParsedArgs): ResolvedConfig {
-  const seed = args.options.seed;
-  const rollouts = args.options.rollouts;
+  const { seed, rollouts, learn } = args.options;
+  const steps = args.options['learn-steps'];
+  const episodes = args.options['learn-episodes'];
   return {
     ...config,
     seed: typeof seed === 'number' ? seed : config.seed,
     rollouts: typeof rollouts === 'number' ? rollouts : config.rollouts,
+    learning: {
+      ...config.learning,
+      method: learn === 'q-learning' || learn === 'monte-carlo' || learn === 'off' ? learn : config.learning.method,
+      steps: typeof steps === 'number' ? steps : config.learning.steps,
+      episodes: typeof episodes === 'number' ? episodes : config.learning.episodes,
+    },
   };
 }
 

@@ -3,7 +3,7 @@
  * that editors and terminals turn into links, the trace state by state, then the start's return
  * ranges per file and a summary line.
  */
-import type { JsonFile, JsonInterval, JsonReach } from './json-output';
+import type { JsonFile, JsonInterval, JsonLearning, JsonReach, JsonRollouts } from './json-output';
 import { parseJsonNumber, textInterval, textProbability, type JsonNumber, type JsonProbability } from './numbers';
 import { severityCount, type Severity } from '../rules/types';
 
@@ -63,7 +63,7 @@ export function formatFileText(file: JsonFile, style: Style): string {
 /** Monte Carlo figures (sampled models; exact ones with --rollouts): estimate, 95% interval, percentiles, reach. */
 function summariseRollouts(file: JsonFile): string[] {
   const lines: string[] = [];
-  for (const policy of ['optimal', 'random'] as const) {
+  for (const policy of ['optimal', 'learned', 'random'] as const) {
     const r = file.rollouts?.[policy];
     if (!r) continue;
     const p = r.return.percentiles;
@@ -78,6 +78,45 @@ function summariseRollouts(file: JsonFile): string[] {
       `    percentiles 5/25/50/75/95: ${[p.p5, p.p25, p.p50, p.p75, p.p95].map(short).join(' / ')}; steps mean ${short(r.length.mean)}, ` +
         `median ${short(r.length.percentiles.p50)}, max ${r.length.max}; ${ends.join(', ')}`,
     );
+    if (r.cost) lines.push(`    ${costSentence(r.cost, short)}`);
+  }
+  const learning = file.rollouts?.learning;
+  if (learning) lines.push(...learningLines(learning).map((line) => `  ${line}`));
+  return lines;
+}
+
+/** What a narrower interval would cost, in one sentence. */
+export function costSentence(cost: NonNullable<JsonRollouts['cost']>, short: (x: number | null) => string): string {
+  const which = cost.defaultHalfWidth ? ' (1% of the mean; set halfWidth in the config)' : '';
+  if (cost.episodesNeeded === null) return `a 95% interval of half-width ${short(cost.halfWidth)} needs an unknown number of episodes (no spread observed)`;
+  const wanted = `a 95% interval of half-width +-${short(cost.halfWidth)}${which}`;
+  if (cost.moreEpisodes === 0) return `${wanted} is reached (it needs ${cost.episodesNeeded} episodes)`;
+  return `${wanted} needs ${cost.episodesNeeded} episodes: ${cost.moreEpisodes} more`;
+}
+
+/** The learning block in plain lines: method and budget spent, the start decision, the gap to the exact value. */
+export function learningLines(learning: JsonLearning): string[] {
+  const short = (x: number | null) => (x === null ? 'not known' : String(Number(x.toPrecision(4))));
+  const method = learning.method === 'monte-carlo' ? `Monte Carlo control (${learning.visits}-visit, epsilon ${learning.epsilon})` : `Q-learning (epsilon ${learning.epsilon})`;
+  const lines = [
+    `learning: ${method}, spent ${learning.spent.episodes} of ${learning.budget.episodes} episodes and ${learning.spent.steps} of ${learning.budget.steps} steps; ` +
+      `${learning.distinctKeys} distinct state keys` +
+      (learning.unlearnedSteps > 0 ? `; ${learning.unlearnedSteps} measured steps met states with no action tried (random action there)` : ''),
+  ];
+  const d = learning.decision;
+  if (d) {
+    const verdict = d.decided
+      ? `"${d.best.action}" is best at 95%`
+      : `not decided at 95%; ${d.moreEpisodes === 'inf' ? 'the two look equal (no number of episodes separates them)' : `about ${String(d.moreEpisodes)} more episodes per action would decide`}`;
+    lines.push(
+      `  start: "${d.best.action}" ${short(d.best.mean)} vs "${d.runnerUp.action}" ${short(d.runnerUp.mean)} over ${d.episodes} episodes each: ${verdict}`,
+    );
+  } else if (learning.noDecision) {
+    lines.push(`  start: no decision (${learning.noDecision})`);
+  }
+  if (learning.exact) {
+    const e = learning.exact;
+    lines.push(`  exact optimal value ${textInterval(parseJsonNumber(e.optimal.lower), parseJsonNumber(e.optimal.upper))}; the learned policy's estimate differs by ${short(e.gap)}${e.withinInterval ? ' (within its 95% interval)' : ' (outside its 95% interval)'}`);
   }
   return lines;
 }

@@ -18,6 +18,7 @@ import type { LocatedProblem, RandomnessSite, TypeScriptEvidence } from '../spec
 import type { ParsedSpec, Span } from '../spec/types';
 import type { SourceLocation } from './bundle';
 import { clip, ModelSandbox, type ModelFailure, type RandomnessUse } from './host';
+import { DEFAULT_LEARNING } from './learn';
 import type { ModelDescription } from './protocol';
 import type { Enumeration, ModelFunction, RolloutRun } from './runtime';
 import type { RecordOptions } from './transition-record';
@@ -177,9 +178,16 @@ async function runModel(
       evidence.form = 'sampled';
     }
     const sampled = await sampleByRollouts(sandbox, spec, config, declaredTerms, evidence, place, findings);
+    const stats = sampled.stats;
+    const rollouts: RolloutReport | undefined = stats ? { random: stats } : undefined;
+    // Learning needs a model that rolled out cleanly: a failure there would only repeat itself.
+    const clean = evidence.nondeterminism.length === 0 && !findings.some((f) => f.rule === 'non-finite-reward');
+    if (rollouts && config.learning.method !== 'off' && clean && !isCancelled()) {
+      await learnFromSamples(sandbox, spec, config, declaredTerms, stats!.episodes, evidence, place, findings, rollouts);
+    }
     return {
       prebuilt: { reason: evidence.form === 'sampled' ? 'a sampled model has no exact values; see the rollout estimates' : 'enumeration stopped at the state cap; see the rollout estimates' },
-      rollouts: sampled.stats ? { random: sampled.stats } : undefined,
+      rollouts,
       empirical: sampled.empirical,
     };
   } finally {
@@ -297,6 +305,48 @@ function declaredTerminalKinds(place: Placer): Set<number> {
     for (const match of place.memberSource(name).matchAll(/['"`](goal|failure|neutral)['"`]/g)) kinds.add(TERMINAL_CODE[match[1] as TerminalKind]);
   }
   return kinds;
+}
+
+/**
+ * Learns action values in the sandbox (sandbox/learn.ts) and adds the learned greedy policy's
+ * figures beside the random policy's. Its measured episodes are as many as the random policy's,
+ * on the same model draws.
+ */
+async function learnFromSamples(
+  sandbox: ModelSandbox,
+  spec: ParsedSpec,
+  config: ResolvedConfig,
+  declaredTerms: string[],
+  episodes: number,
+  evidence: TypeScriptEvidence,
+  place: Placer,
+  findings: Finding[],
+  rollouts: RolloutReport,
+): Promise<void> {
+  const method = config.learning.method;
+  if (method === 'off') return;
+  const stepCap = ruleThreshold(config, episodeNeverEnds, 'stepCap');
+  const learned = await sandbox.learn({
+    settings: { ...DEFAULT_LEARNING, ...config.learning, method, evaluationEpisodes: episodes },
+    seed: config.seed,
+    discount: spec.discount!.value,
+    horizon: spec.horizon?.value,
+    stepCap,
+    maximize: spec.objective !== 'minimize',
+    declaredTerms,
+  });
+  addRandomness(evidence, learned.randomness, place);
+  if (learned.failure) {
+    place.failure(evidence, learned.failure);
+    return;
+  }
+  const run = learned.value!;
+  if (run.problem) {
+    place.failure(evidence, sandbox.locate(run.problem), findings);
+    return;
+  }
+  rollouts.learned = summarizeEpisodes(run.evaluation, { policy: 'learned', seed: config.seed, stepCap: effectiveStepCap(spec.discount!.value, stepCap) });
+  rollouts.learning = run.summary;
 }
 
 /** Drops episodes whose return is not finite (they are reported by non-finite-reward). */

@@ -14,6 +14,7 @@ import { tmpdir } from 'node:os';
 import { dirname, join, resolve } from 'node:path';
 import type { Readable } from 'node:stream';
 import { bundleModel, locateStack, type ModelBundle, type SourceLocation } from './bundle';
+import type { LearnRun } from './learn';
 import { launchPlan } from './launch';
 import { BEAT_FD, MODEL_SCRIPT_NAME, type HostRequest, type ModelDescription, type RandomnessCall, type WorkerReply } from './protocol';
 import type { Enumeration, ModelFunction, RolloutRun, RuntimeProblem } from './runtime';
@@ -310,6 +311,11 @@ export class ModelSandbox {
   async rollouts(options: Extract<HostRequest, { type: 'rollouts' }>['options']): Promise<Outcome<RolloutRun>> {
     const reply = await this.request({ type: 'rollouts', options });
     return this.outcomeOf(reply, (r) => (r.type === 'rolled' && validRun(r.run, options.episodes) ? r.run : undefined));
+  }
+
+  async learn(options: Extract<HostRequest, { type: 'learn' }>['options']): Promise<Outcome<LearnRun>> {
+    const reply = await this.request({ type: 'learn', options });
+    return this.outcomeOf(reply, (r) => (r.type === 'learned' ? r.run : undefined));
   }
 
   /** Ends the sandbox: a child that did its jobs well waits for the next load of the same bundle, any other is killed. */

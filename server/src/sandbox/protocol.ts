@@ -1,4 +1,5 @@
 /** Messages between the sandbox host and the child process that runs model code (worker.ts). */
+import type { LearnJobOptions, LearnRun } from './learn';
 import type { Enumeration, EnumerationOptions, RolloutOptions, RolloutRun } from './runtime';
 
 /** The file name model code carries in stack traces inside the sandbox. */
@@ -41,12 +42,14 @@ export interface ChildLimits {
 export type HostRequest =
   | { type: 'load'; code: string; specPath: string; limits: ChildLimits }
   | { type: 'enumerate'; options: Omit<EnumerationOptions, 'progress' | 'onExpand'> }
-  | { type: 'rollouts'; options: Omit<RolloutOptions, 'progress'> };
+  | { type: 'rollouts'; options: Omit<RolloutOptions, 'progress'> }
+  | { type: 'learn'; options: LearnJobOptions };
 
 export type WorkerReply =
   | { type: 'loaded'; description: ModelDescription; randomness: RandomnessCall[] }
   | { type: 'problem'; problem: import('./runtime').RuntimeProblem; randomness: RandomnessCall[] }
   | { type: 'enumerated'; result: Enumeration; randomness: RandomnessCall[] }
   | { type: 'rolled'; run: RolloutRun; randomness: RandomnessCall[] }
+  | { type: 'learned'; run: LearnRun; randomness: RandomnessCall[] }
   /** An error outside any model call (an unhandled rejection, an uncaught throw in a timer); the child ends after it. */
   | { type: 'fault'; message: string; stack?: string };

@@ -40,6 +40,7 @@ export class ModelExitCall extends Error {
   }
 }
 
+/** A value of model code that is not what the contract asks for (learn.ts reports it as such too). */
 export class MalformedValue extends Error {}
 
 /**
@@ -792,7 +793,7 @@ export function drawTransition(model: ModelFunctions, state: unknown, action: un
   return { state: drawn.state, reward: drawn.reward };
 }
 
-function drawStart(entries: unknown[], generator: Xoshiro128): unknown {
+export function drawStart(entries: unknown[], generator: Xoshiro128): unknown {
   const u = generator.nextFloat();
   let cumulative = 0;
   for (const entry of entries) {
@@ -803,7 +804,7 @@ function drawStart(entries: unknown[], generator: Xoshiro128): unknown {
   return structuredClone((entries[entries.length - 1] as { state: unknown }).state);
 }
 
-function drawOutcome(outs: unknown[], u: number): { state: unknown; reward: unknown } {
+export function drawOutcome(outs: unknown[], u: number): { state: unknown; reward: unknown } {
   let cumulative = 0;
   for (let i = 0; i < outs.length; i++) {
     const out = outs[i] as { state: unknown; probability: unknown; reward: unknown };

@@ -1,8 +1,8 @@
 /**
  * The sandbox child: a Node process of its own (started by host.ts under Node's permission model,
  * with an empty environment and an OS memory limit) that loads one bundled model and answers the
- * host's requests over the IPC channel. Each request does a whole job (enumeration or a batch of
- * rollouts) and answers with typed arrays, so crossing processes costs once per job, not per call.
+ * host's requests over the IPC channel. Each request does a whole job (enumeration, a batch of
+ * rollouts, or learning) and answers with typed arrays, so crossing processes costs once per job, not per call.
  *
  * Before the model loads, everything that reaches the network or other processes is replaced, and
  * the checks that let an honest model stop itself with its call and line are installed: a counter
@@ -29,6 +29,7 @@ import {
   type RolloutOptions,
 } from './runtime';
 import { TransitionRecorder } from './transition-record';
+import { learnModel } from './learn';
 
 // What the sandbox itself needs, taken before model code can replace any of it.
 const send = process.send!.bind(process) as (message: WorkerReply, callback?: () => void) => boolean;
@@ -329,6 +330,9 @@ function handle(request: HostRequest): WorkerReply {
     const options: EnumerationOptions = { ...request.options, progress };
     const result = enumerateModel(model, options);
     return { type: 'enumerated', result, randomness: takeRandomness() };
+  }
+  if (request.type === 'learn') {
+    return { type: 'learned', run: learnModel(model, request.options, progress), randomness: takeRandomness() };
   }
   const options: RolloutOptions = { ...request.options, progress };
   const recorder = options.record ? new TransitionRecorder(model, options.record, options.declaredTerms, progress) : undefined;

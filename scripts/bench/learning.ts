@@ -1,0 +1,73 @@
+/**
+ * Learning from samples (sandbox/learn.ts): 200k Q-learning steps on a trivial sampled model of
+ * our own (a ring of 50 cells, two moves, a coin flip for slipping), in one process and through the
+ * sandbox worker. Goal: 200k steps within 2 s on 2 cores.
+ */
+import { mkdtempSync, rmSync, writeFileSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
+import { ModelSandbox } from '../../server/src/sandbox/host';
+import { DEFAULT_LEARNING, learnModel } from '../../server/src/sandbox/learn';
+import type { ModelRng } from '../../server/src/sandbox/runtime';
+
+const STEPS = 200_000;
+
+const ring = {
+  start: 0,
+  actions: () => ['left', 'right'],
+  sample: (cell: unknown, action: unknown, rng: ModelRng) => {
+    const move = rng.chance(0.2) ? 0 : action === 'right' ? 1 : -1;
+    const next = ((cell as number) + move + 50) % 50;
+    return { state: next, reward: next === 49 ? 1 : 0, terminal: next === 49 ? ('goal' as const) : undefined };
+  },
+};
+
+const RING_SPEC = `import { defineMdp } from 'episcope';
+export default defineMdp({
+  name: 'ring-bench',
+  discount: 0.99,
+  start: 0,
+  actions: () => ['left', 'right'],
+  sample(cell: number, action: string, rng: { chance(p: number): boolean }) {
+    const move = rng.chance(0.2) ? 0 : action === 'right' ? 1 : -1;
+    const next = (cell + move + 50) % 50;
+    return { state: next, reward: next === 49 ? 1 : 0, terminal: next === 49 ? ('goal' as const) : undefined };
+  },
+});
+`;
+
+const options = {
+  settings: { ...DEFAULT_LEARNING, steps: STEPS, episodes: 1_000_000, evaluationEpisodes: 100, decisionEpisodes: 0 },
+  seed: 1,
+  discount: 0.99,
+  stepCap: 10_000,
+  maximize: true,
+  declaredTerms: [],
+};
+
+export async function run(): Promise<void> {
+  let began = performance.now();
+  const direct = learnModel(ring, options);
+  let seconds = (performance.now() - began) / 1000;
+  console.log(`learning in process: ${direct.summary.spent.steps} steps in ${seconds.toFixed(2)} s (${Math.round(direct.summary.spent.steps / seconds)} steps/s; goal: 200k steps <= 2 s)`);
+
+  const folder = mkdtempSync(join(tmpdir(), 'episcope-bench-learn-'));
+  try {
+    const path = join(folder, 'ring.mdp.ts');
+    writeFileSync(path, RING_SPEC);
+    const started = await ModelSandbox.start(path, RING_SPEC);
+    if (!started.value) throw new Error(`the bench model did not load: ${started.failure?.message}`);
+    const { sandbox } = started.value;
+    try {
+      began = performance.now();
+      const learned = await sandbox.learn(options);
+      seconds = (performance.now() - began) / 1000;
+      const steps = learned.value?.summary.spent.steps ?? 0;
+      console.log(`learning in the sandbox: ${steps} steps in ${seconds.toFixed(2)} s (${Math.round(steps / seconds)} steps/s, thread start excluded)`);
+    } finally {
+      await sandbox.close();
+    }
+  } finally {
+    rmSync(folder, { recursive: true, force: true });
+  }
+}
