@@ -20,6 +20,8 @@ export interface RuleCase {
   name: string;
   spec: CaseSpec;
   config?: EpiscopeConfig;
+  /** The analysis must have run on the spec (no `notAnalysed`), so a quiet rule means something. */
+  analysed?: boolean;
 }
 
 /** What one expected finding must show; every field is optional. */
@@ -28,11 +30,15 @@ export interface ExpectedFinding {
   at?: string;
   /** A pattern, or the exact message. */
   message?: RegExp | string;
+  /** Pieces of text the message must contain. */
+  says?: string[];
   severity?: Severity;
   /** Fix titles in order: patterns, or exact titles. */
   fixes?: (RegExp | string)[];
   /** The exact texts the related locations' spans cover, in order. */
   related?: string[];
+  /** The states of the finding's trace, in order, or just how many steps it has. */
+  trace?: string[] | number;
 }
 
 export interface InvalidCase extends RuleCase {
@@ -72,12 +78,14 @@ export function testRule(ruleId: string, table: RuleTable): void {
     for (const c of table.valid) {
       it(`does not fire: ${c.name}`, { timeout: isTypeScript(c.spec) ? TYPESCRIPT_CASE_TIMEOUT_MS : undefined }, async () => {
         const report = await runCase(c.spec, c.config);
+        if (c.analysed) expect(report.notAnalysed).toBeUndefined();
         expect(findingsOf(report, ruleId).map((f) => f.message)).toEqual([]);
       });
     }
     for (const c of table.invalid) {
       it(`fires: ${c.name}`, { timeout: isTypeScript(c.spec) ? TYPESCRIPT_CASE_TIMEOUT_MS : undefined }, async () => {
         const report = await runCase(c.spec, c.config);
+        if (c.analysed) expect(report.notAnalysed).toBeUndefined();
         const findings = findingsOf(report, ruleId);
         const expected = typeof c.findings === 'number' ? c.findings : c.findings.length;
         expect(findings.map((f) => f.message), `${ruleId} findings`).toHaveLength(expected);
@@ -114,6 +122,9 @@ function checkExpected(report: FileReport, finding: Finding, expected: ExpectedF
   if (expected.at !== undefined) expect(spanText(report, finding)).toBe(expected.at);
   if (typeof expected.message === 'string') expect(finding.message).toBe(expected.message);
   else if (expected.message) expect(finding.message).toMatch(expected.message);
+  for (const piece of expected.says ?? []) expect(finding.message).toContain(piece);
+  if (typeof expected.trace === 'number') expect(finding.trace ?? []).toHaveLength(expected.trace);
+  else if (expected.trace) expect((finding.trace ?? []).map((step) => step.state)).toEqual(expected.trace);
   if (expected.related) expect((finding.related ?? []).map((r) => spanText(report, r.span))).toEqual(expected.related);
   if (expected.severity) expect(finding.severity).toBe(expected.severity);
   if (expected.fixes) {
