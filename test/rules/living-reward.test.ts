@@ -1,8 +1,8 @@
 /**
  * living-reward: cases that must fire and cases that must not (scenarios of our own, invented numbers).
  */
-import { describe, expect, it } from 'vitest';
-import { checkSpec, findingsOf, type SpecObject } from '../helpers/specs';
+import { testRule } from '../helpers/rule-tester';
+import type { SpecObject } from '../helpers/specs';
 
 /** A patrol drone circling yard <-> roof (paying `alive` per step) that should land on the pad (`land`). */
 function patrol(discount: number, alive: [number, number], land: number, horizon?: number): SpecObject {
@@ -21,35 +21,24 @@ function patrol(discount: number, alive: [number, number], land: number, horizon
   };
 }
 
-describe('living-reward: must fire', () => {
-  it('an alive bonus of 1 per step at discount 0.95 is worth 20, more than landing (10)', () => {
-    const found = findingsOf(checkSpec(patrol(0.95, [1, 1], 10)), 'living-reward');
-    expect(found).toHaveLength(1);
-    const message = found[0].message;
-    expect(message).toContain('yard -> roof -> yard');
-    expect(message).toContain('at least +1.0');
-    expect(message).toContain('worth at least 20.0');
-    expect(message).toContain('from there (10.0)');
-  });
-
-  it('with a horizon the alive bonus counts only up to the time limit', () => {
-    // 1 per step for 30 steps at discount 1 is 30, more than landing (10).
-    const found = findingsOf(checkSpec(patrol(1, [1, 1], 10, 30)), 'living-reward');
-    expect(found).toHaveLength(1);
-    expect(found[0].message).toContain('worth at least 30.0');
-  });
-});
-
-describe('living-reward: must not fire', () => {
-  const cases: Array<[string, SpecObject]> = [
-    ['a small alive bonus that the goal outweighs (0.1/(1-0.9) = 1 < 10)', patrol(0.9, [0.1, 0.1], 10)],
-    ['not every step of the loop pays', patrol(0.95, [1, 0], 10)],
-    ['steps cost', patrol(0.95, [-1, -1], 10)],
-    ['a short horizon caps the alive bonus (5 < 10)', patrol(1, [1, 1], 10, 5)],
-  ];
-  it.each(cases)('%s', (_name, spec) => {
-    const report = checkSpec(spec);
-    expect(report.notAnalysed).toBeUndefined();
-    expect(findingsOf(report, 'living-reward')).toEqual([]);
-  });
+testRule('living-reward', {
+  valid: [
+    { name: 'a small alive bonus that the goal outweighs (0.1/(1-0.9) = 1 < 10)', spec: patrol(0.9, [0.1, 0.1], 10), analysed: true },
+    { name: 'not every step of the loop pays', spec: patrol(0.95, [1, 0], 10), analysed: true },
+    { name: 'steps cost', spec: patrol(0.95, [-1, -1], 10), analysed: true },
+    { name: 'a short horizon caps the alive bonus (5 < 10)', spec: patrol(1, [1, 1], 10, 5), analysed: true },
+  ],
+  invalid: [
+    {
+      name: 'an alive bonus of 1 per step at discount 0.95 is worth 20, more than landing (10)',
+      spec: patrol(0.95, [1, 1], 10),
+      findings: [{ says: ['yard -> roof -> yard', 'at least +1.0', 'worth at least 20.0', 'from there (10.0)'] }],
+    },
+    {
+      // 1 per step for 30 steps at discount 1 is 30, more than landing (10).
+      name: 'with a horizon the alive bonus counts only up to the time limit',
+      spec: patrol(1, [1, 1], 10, 30),
+      findings: [{ says: ['worth at least 30.0'] }],
+    },
+  ],
 });

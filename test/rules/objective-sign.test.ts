@@ -1,8 +1,10 @@
 /**
  * objective-sign: cases that must fire and cases that must not (scenarios of our own, invented numbers).
  */
-import { describe, expect, it } from 'vitest';
-import { checkSpec, findingsOf, spanText, type SpecObject } from '../helpers/specs';
+import { expect } from 'vitest';
+import type { Finding } from '../../server/src/rules/types';
+import { testRule } from '../helpers/rule-tester';
+import type { SpecObject } from '../helpers/specs';
 
 /** A climbing robot: from the ledge it can reach the summit (goal) or fall (failure). */
 function ledge(summit: number, fall: number, overrides: SpecObject = {}, extra: SpecObject = {}): SpecObject {
@@ -22,38 +24,19 @@ function ledge(summit: number, fall: number, overrides: SpecObject = {}, extra: 
   };
 }
 
-describe('objective-sign: must fire', () => {
-  const cases: Array<[string, SpecObject, string]> = [
-    ['a crash penalty written with the wrong sign', ledge(3, 5), '"ground"'],
-    ['no goal bonus while the last step still costs, and failing is free', ledge(-1, 0), '"ground"'],
-    ['under minimize (costs), failing costs less than succeeding', ledge(3, 1, { objective: 'minimize' }), '"ground"'],
-  ];
-  it.each(cases)('%s', (_name, spec, target) => {
-    const report = checkSpec(spec);
-    const found = findingsOf(report, 'objective-sign');
-    expect(found).toHaveLength(1);
-    // The finding sits on the outcome that enters the failure and names both entries with their rewards.
-    expect(spanText(report, found[0])).toBe(target);
-    expect(found[0].message).toContain("'ground'");
-    expect(found[0].message).toContain("'summit'");
-    expect(found[0].related?.length).toBeGreaterThan(0);
-  });
+// The finding sits on the outcome that enters the failure and names both entries with their rewards.
+const entersFailure = { at: '"ground"', says: ["'ground'", "'summit'"] };
+const hasRelated = (_report: unknown, [finding]: Finding[]) => expect(finding.related?.length).toBeGreaterThan(0);
 
-  it('states both rewards and the difference in the message', () => {
-    const found = findingsOf(checkSpec(ledge(2, 7)), 'objective-sign');
-    expect(found[0].message).toMatch(/\+7\.0.*\+2\.0.*by 5\.0/);
-  });
-});
-
-describe('objective-sign: must not fire', () => {
-  const cases: Array<[string, SpecObject]> = [
-    ['goal pays more than failure', ledge(10, -10)],
-    ['a tie is allowed', ledge(-1, -1)],
-    ['under minimize, failing costs more', ledge(1, 50, { objective: 'minimize' })],
-    ['no failure terminal', ledge(10, 5, {}, { states: { base: { actions: ['climb'] }, ledge: {}, summit: { terminal: 'goal' }, ground: { terminal: 'neutral' } } })],
-    [
-      'shaping on the failure entry does not count, only the task reward',
-      ledge(10, -10, {}, {
+testRule('objective-sign', {
+  valid: [
+    { name: 'goal pays more than failure', spec: ledge(10, -10), analysed: true },
+    { name: 'a tie is allowed', spec: ledge(-1, -1), analysed: true },
+    { name: 'under minimize, failing costs more', spec: ledge(1, 50, { objective: 'minimize' }), analysed: true },
+    { name: 'no failure terminal', spec: ledge(10, 5, {}, { states: { base: { actions: ['climb'] }, ledge: {}, summit: { terminal: 'goal' }, ground: { terminal: 'neutral' } } }), analysed: true },
+    {
+      name: 'shaping on the failure entry does not count, only the task reward',
+      spec: ledge(10, -10, {}, {
         rewardTerms: { task: { direction: 'either' }, progress: { direction: 'either', shaping: true } },
         transitions: [
           { from: 'base', action: 'climb', to: 'ledge', reward: { task: -1 } },
@@ -61,11 +44,13 @@ describe('objective-sign: must not fire', () => {
           { from: 'ledge', action: 'let-go', to: 'ground', reward: { task: -10, progress: 30 } },
         ],
       }),
-    ],
-  ];
-  it.each(cases)('%s', (_name, spec) => {
-    const report = checkSpec(spec);
-    expect(report.notAnalysed).toBeUndefined();
-    expect(findingsOf(report, 'objective-sign')).toEqual([]);
-  });
+      analysed: true,
+    },
+  ],
+  invalid: [
+    { name: 'a crash penalty written with the wrong sign', spec: ledge(3, 5), findings: [entersFailure], check: hasRelated },
+    { name: 'no goal bonus while the last step still costs, and failing is free', spec: ledge(-1, 0), findings: [entersFailure], check: hasRelated },
+    { name: 'under minimize (costs), failing costs less than succeeding', spec: ledge(3, 1, { objective: 'minimize' }), findings: [entersFailure], check: hasRelated },
+    { name: 'both rewards and the difference in the message', spec: ledge(2, 7), findings: [{ message: /\+7\.0.*\+2\.0.*by 5\.0/ }] },
+  ],
 });

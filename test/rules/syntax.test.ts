@@ -1,8 +1,9 @@
-import { describe, expect, it } from 'vitest';
-import { analyzeTs } from '../typescript/ts-specs';
-import { checkSpec, findingsOf } from '../helpers/specs';
-
-const RULE = 'syntax';
+/**
+ * syntax: a TypeScript model that does not parse is reported as such, and its code is not run.
+ */
+import { expect } from 'vitest';
+import { testRule } from '../helpers/rule-tester';
+import { findingsOf } from '../helpers/specs';
 
 const valid = `import { defineMdp } from 'episcope';
 export default defineMdp({
@@ -14,26 +15,32 @@ export default defineMdp({
 });
 `;
 
-describe('syntax', () => {
-  it('fires at a TypeScript syntax error, instead of schema, and the model code is not run', async () => {
-    const broken = valid.replace('start: 0,', 'start: 0');
-    const report = await analyzeTs(broken);
-    const findings = findingsOf(report, RULE);
-    expect(findings).toHaveLength(1);
-    expect(findings[0].message).toBe("syntax error: ',' expected.");
-    expect(findings[0].severity).toBe('error');
-    // Right after `start: 0`, where the comma is missing.
-    expect(broken.slice(findings[0].span.start, findings[0].span.end)).toBe('terminal');
-    expect(findingsOf(report, 'schema')).toEqual([]);
-    expect(report.notAnalysed).toBe('the model code was not run because it has syntax errors');
-  });
-
-  it('does not fire on valid TypeScript, and JSON syntax errors stay schema findings', async () => {
-    const report = await analyzeTs(valid);
-    expect(report.findings).toEqual([]);
-    expect(report.analysis).toBeDefined();
-    const json = checkSpec('{ "discount": 0.9, ');
-    expect(findingsOf(json, RULE)).toEqual([]);
-    expect(findingsOf(json, 'schema').length).toBeGreaterThan(0);
-  });
+testRule('syntax', {
+  valid: [
+    {
+      name: 'valid TypeScript',
+      spec: { typescript: valid },
+      check: (report) => {
+        expect(report.findings).toEqual([]);
+        expect(report.analysis).toBeDefined();
+      },
+    },
+    {
+      name: 'a JSON syntax error stays a schema finding',
+      spec: '{ "discount": 0.9, ',
+      check: (report) => expect(findingsOf(report, 'schema').length).toBeGreaterThan(0),
+    },
+  ],
+  invalid: [
+    {
+      name: 'a TypeScript syntax error, instead of schema; the model code is not run',
+      spec: { typescript: valid.replace('start: 0,', 'start: 0') },
+      // Right after `start: 0`, where the comma is missing.
+      findings: [{ at: 'terminal', severity: 'error', message: "syntax error: ',' expected." }],
+      check: (report) => {
+        expect(findingsOf(report, 'schema')).toEqual([]);
+        expect(report.notAnalysed).toBe('the model code was not run because it has syntax errors');
+      },
+    },
+  ],
 });

@@ -3,9 +3,10 @@
  */
 import { readFileSync } from 'node:fs';
 import { join } from 'node:path';
-import { describe, expect, it } from 'vitest';
-import { checkSpec, findingsOf, spanText, type SpecObject } from '../helpers/specs';
-import { analyzeTs } from '../typescript/ts-specs';
+import { expect } from 'vitest';
+import type { Finding } from '../../server/src/rules/types';
+import { testRule } from '../helpers/rule-tester';
+import { spanText, type SpecObject } from '../helpers/specs';
 
 /** A courier robot: drive to the locker (battery drain), drop the parcel (delivery bonus). */
 function courier(overrides: SpecObject = {}, drive: object = { battery: -0.2 }, drop: object = { delivery: 5 }): SpecObject {
@@ -24,68 +25,57 @@ function courier(overrides: SpecObject = {}, drive: object = { battery: -0.2 }, 
   };
 }
 
-describe('term-direction: must fire', () => {
-  const cases: Array<[string, SpecObject, string, string]> = [
-    ['a penalty written as a positive reward (maximize)', courier({}, { battery: 0.2 }), '0.2', 'battery'],
-    ['a bonus written as a negative reward (maximize)', courier({}, { battery: -0.2 }, { delivery: -5 }), '-5', 'delivery'],
-    ['under minimize, a penalty written as a negative cost', courier({ objective: 'minimize' }, { battery: -0.2 }, { delivery: -5 }), '-0.2', 'battery'],
-    ['under minimize, a bonus written as a positive cost', courier({ objective: 'minimize' }, { battery: 0.2 }, { delivery: 5 }), '5', 'delivery'],
-  ];
-  it.each(cases)('%s', (_name, spec, valueText, term) => {
-    const report = checkSpec(spec);
-    const found = findingsOf(report, 'term-direction');
-    expect(found).toHaveLength(1);
-    expect(found[0].severity).toBe('warning');
-    // The finding points at the offending number and says which term and what it pays.
-    expect(spanText(report, found[0])).toBe(valueText);
-    expect(found[0].message).toContain(`'${term}'`);
-    expect(found[0].related?.[0].message).toContain(`'${term}' is declared`);
-  });
+const restocking = readFileSync(join(__dirname, '../../examples/shelf-restocking.mdp.ts'), 'utf8');
+const flipped = restocking.replace('holding: -HOLDING_COST * left', 'holding: HOLDING_COST * left');
 
-  it('reports a transition written once for several states once', () => {
-    const spec = courier({
-      states: { depot: { actions: ['drive'] }, yard: { actions: ['drive'] }, locker: { actions: ['drop'] }, done: { terminal: 'goal' } },
-      start: ['depot', 'yard'],
-      transitions: [
-        { from: ['depot', 'yard'], action: 'drive', to: 'locker', reward: { battery: 0.3 } },
-        { from: 'locker', action: 'drop', to: 'done', reward: { delivery: 5 } },
+/** The finding points at the offending number and says which term and what it pays. */
+function wrongSign(at: string, term: string) {
+  return {
+    findings: [{ at, severity: 'warning' as const, says: [`'${term}'`] }],
+    check: (_report: unknown, [finding]: Finding[]) => expect(finding.related?.[0].message).toContain(`'${term}' is declared`),
+  };
+}
+
+testRule('term-direction', {
+  valid: [
+    { name: 'signs as declared', spec: courier(), analysed: true },
+    { name: 'zero is allowed for both directions', spec: courier({}, { battery: 0 }, { delivery: 0 }), analysed: true },
+    { name: "'either' takes any sign", spec: courier({}, { battery: -0.2, misc: 3 }, { delivery: 5, misc: -3 }), analysed: true },
+    { name: 'under minimize, a penalty is a positive cost and a bonus a negative one', spec: courier({ objective: 'minimize' }, { battery: 0.2 }, { delivery: -5 }), analysed: true },
+    { name: 'plain numeric rewards have no direction', spec: courier({}, -3 as unknown as object, 7 as unknown as object), analysed: true },
+    { name: 'the restocking example as written', spec: { typescript: restocking } },
+  ],
+  invalid: [
+    { name: 'a penalty written as a positive reward (maximize)', spec: courier({}, { battery: 0.2 }), ...wrongSign('0.2', 'battery') },
+    { name: 'a bonus written as a negative reward (maximize)', spec: courier({}, { battery: -0.2 }, { delivery: -5 }), ...wrongSign('-5', 'delivery') },
+    { name: 'under minimize, a penalty written as a negative cost', spec: courier({ objective: 'minimize' }, { battery: -0.2 }, { delivery: -5 }), ...wrongSign('-0.2', 'battery') },
+    { name: 'under minimize, a bonus written as a positive cost', spec: courier({ objective: 'minimize' }, { battery: 0.2 }, { delivery: 5 }), ...wrongSign('5', 'delivery') },
+    {
+      name: 'a transition written once for several states, once',
+      spec: courier({
+        states: { depot: { actions: ['drive'] }, yard: { actions: ['drive'] }, locker: { actions: ['drop'] }, done: { terminal: 'goal' } },
+        start: ['depot', 'yard'],
+        transitions: [
+          { from: ['depot', 'yard'], action: 'drive', to: 'locker', reward: { battery: 0.3 } },
+          { from: 'locker', action: 'drop', to: 'done', reward: { delivery: 5 } },
+        ],
+      }),
+      findings: [{ says: ['+0.3'] }],
+    },
+    {
+      name: 'an enumerable TypeScript model: the restocking example paying its holding penalty as a gain, once at outcomes',
+      spec: { typescript: flipped },
+      findings: [
+        {
+          at: 'outcomes',
+          // HOLDING_COST * left with at least one unit left: 0.1 per unit, a gain of +0.1 or more.
+          message: /reward term 'holding' is declared a penalty \(reward <= 0\) but is \+0\.[1-8]\d* here.*and in \d+ more outcomes from the same code/s,
+        },
       ],
-    });
-    const found = findingsOf(checkSpec(spec), 'term-direction');
-    expect(found).toHaveLength(1);
-    expect(found[0].message).toContain('+0.3');
-  });
-});
-
-describe('term-direction: must not fire', () => {
-  const cases: Array<[string, SpecObject]> = [
-    ['signs as declared', courier()],
-    ['zero is allowed for both directions', courier({}, { battery: 0 }, { delivery: 0 })],
-    ["'either' takes any sign", courier({}, { battery: -0.2, misc: 3 }, { delivery: 5, misc: -3 })],
-    ['under minimize, a penalty is a positive cost and a bonus a negative one', courier({ objective: 'minimize' }, { battery: 0.2 }, { delivery: -5 })],
-    ['plain numeric rewards have no direction', courier({}, -3 as unknown as object, 7 as unknown as object)],
-  ];
-  it.each(cases)('%s', (_name, spec) => {
-    const report = checkSpec(spec);
-    expect(report.notAnalysed).toBeUndefined();
-    expect(findingsOf(report, 'term-direction')).toEqual([]);
-  });
-});
-
-describe('term-direction on an enumerable TypeScript model', () => {
-  it('fires once at outcomes when the restocking example pays its holding penalty as a gain', async () => {
-    const text = readFileSync(join(__dirname, '../../examples/shelf-restocking.mdp.ts'), 'utf8');
-    const flipped = text.replace('holding: -HOLDING_COST * left', 'holding: HOLDING_COST * left');
-    expect(flipped).not.toBe(text);
-    const clean = await analyzeTs(text);
-    expect(findingsOf(clean, 'term-direction')).toEqual([]);
-    const report = await analyzeTs(flipped);
-    const found = findingsOf(report, 'term-direction');
-    expect(found).toHaveLength(1);
-    expect(spanText(report, found[0])).toBe('outcomes');
-    // HOLDING_COST * left with at least one unit left: 0.1 per unit, a gain of +0.1 or more.
-    expect(found[0].message).toMatch(/reward term 'holding' is declared a penalty \(reward <= 0\) but is \+0\.[1-8]\d* here/);
-    expect(found[0].message).toMatch(/and in \d+ more outcomes from the same code/);
-    expect(spanText(report, found[0].related![0].span)).toContain('holding');
-  });
+      check: (report, [finding]) => {
+        expect(flipped).not.toBe(restocking);
+        expect(spanText(report, finding.related![0].span)).toContain('holding');
+      },
+    },
+  ],
 });

@@ -1,8 +1,12 @@
 /**
  * terminal-potential: cases that must fire and cases that must not (scenarios of our own, invented numbers).
+ * Potential-based shaping keeps the optimal policy only with a potential of 0 at terminals
+ * (Ng, Harada and Russell, "Policy invariance under reward transformations", ICML 1999).
  */
-import { describe, expect, it } from 'vitest';
-import { applyFix, checkSpec, findingsOf, spanText, type SpecObject } from '../helpers/specs';
+import { expect } from 'vitest';
+import type { Finding } from '../../server/src/rules/types';
+import { testRule } from '../helpers/rule-tester';
+import type { SpecObject } from '../helpers/specs';
 
 /** A parking robot: approach the bay and park (goal), or scrape the wall (failure); shaped by distance. */
 function parking(potential: Record<string, number>): SpecObject {
@@ -20,37 +24,23 @@ function parking(potential: Record<string, number>): SpecObject {
   };
 }
 
-describe('terminal-potential: must fire', () => {
-  const cases: Array<[string, Record<string, number>, string, string]> = [
-    ['a potential on the goal', { lane: 1, bay: 3 }, 'bay', '+2.7'],
-    ['a negative potential on the failure', { lane: 1, wall: -2 }, 'wall', '-1.8'],
-  ];
-  it.each(cases)('%s', (_name, potential, state, gain) => {
-    const report = checkSpec(parking(potential));
-    const found = findingsOf(report, 'terminal-potential');
-    expect(found).toHaveLength(1);
-    expect(spanText(report, found[0])).toBe(`"${state}"`);
-    // discount * Phi is what entering the terminal gains from the shaping.
-    expect(found[0].message).toContain(gain);
-    expect(found[0].related?.[0].message).toContain('declared terminal');
-  });
+const namesTerminal = (_report: unknown, [finding]: Finding[]) => expect(finding.related?.[0].message).toContain('declared terminal');
 
-  it('its quick fix sets the potential to 0, after which the rule is quiet', () => {
-    const report = checkSpec(parking({ lane: 1, bay: 3 }));
-    const [finding] = findingsOf(report, 'terminal-potential');
-    expect(finding.fixes).toHaveLength(1);
-    const fixed = applyFix(report, finding.fixes![0].edits);
-    expect(fixed).toContain('"bay": 0');
-    expect(findingsOf(checkSpec(fixed), 'terminal-potential')).toEqual([]);
-  });
-});
-
-describe('terminal-potential: must not fire', () => {
-  const cases: Array<[string, Record<string, number>]> = [
-    ['potentials only on non-terminal states', { lane: 4 }],
-    ['an explicit 0 on a terminal', { lane: 4, bay: 0, wall: 0 }],
-  ];
-  it.each(cases)('%s', (_name, potential) => {
-    expect(findingsOf(checkSpec(parking(potential)), 'terminal-potential')).toEqual([]);
-  });
+testRule('terminal-potential', {
+  valid: [
+    { name: 'potentials only on non-terminal states', spec: parking({ lane: 4 }) },
+    { name: 'an explicit 0 on a terminal', spec: parking({ lane: 4, bay: 0, wall: 0 }) },
+  ],
+  invalid: [
+    // discount * Phi is what entering the terminal gains from the shaping: 0.9 * 3 = 2.7.
+    {
+      name: 'a potential on the goal; the fix sets it to 0',
+      spec: parking({ lane: 1, bay: 3 }),
+      findings: [{ at: '"bay"', says: ['+2.7'], fixes: [/./] }],
+      check: namesTerminal,
+      afterFix: (fixed) => expect(fixed.text).toContain('"bay": 0'),
+    },
+    // 0.9 * -2 = -1.8.
+    { name: 'a negative potential on the failure', spec: parking({ lane: 1, wall: -2 }), findings: [{ at: '"wall"', says: ['-1.8'] }], check: namesTerminal },
+  ],
 });
