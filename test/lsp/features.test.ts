@@ -14,6 +14,7 @@ import { codeActions } from '../../server/src/lsp/code-actions';
 import { hoverAt } from '../../server/src/lsp/hover';
 import { buildSnapshot } from '../../server/src/lsp/snapshot';
 import type { AnalysisSnapshot } from '../../server/src/lsp/protocol';
+import { analyzeTs } from '../typescript/ts-specs';
 
 const PATH = '/work/specs/feature.mdp.json';
 const URI = 'file:///work/specs/feature.mdp.json';
@@ -294,5 +295,25 @@ describe('snapshot (in-process)', () => {
     // No lens figures for a spec that does not compile; the reason is kept for hovers and the status.
     expect(snapshot.lens).toEqual([]);
     expect(snapshot.notAnalysed).toBeTruthy();
+  });
+});
+
+describe('snapshot of a sampled model (in-process)', () => {
+  // Each step pays 1 and ends the episode with probability 1/4: the return is geometric with mean 4.
+  const geometric = `export default { name: 'coin', discount: 1, start: 0, actions: () => ['flip'],
+  sample: (s, a, rng) => ({ state: s + 1, reward: 1, terminal: rng() < 0.25 ? 'goal' : undefined }) };`;
+
+  it('shows the estimates in the lens, labelled as sampled, with intervals and episodes', { timeout: 60_000 }, async () => {
+    const report = await analyzeTs(geometric, { rollouts: 1000 });
+    const snapshot = buildSnapshot({ uri: 'file:///work/specs/coin.mdp.ts', version: 1, report, durationMs: 1 });
+    expect(snapshot.lens[0]).toMatch(/^Estimated return from the start \(sampled\): random [\d.]+ \(95% [\d.]+ \.\. [\d.]+, 1,000 episodes\)/);
+    const [, lower, upper] = /random [\d.]+ \(95% ([\d.]+) \.\. ([\d.]+)/.exec(snapshot.lens[0])!;
+    expect(Number(lower)).toBeLessThan(4);
+    expect(Number(upper)).toBeGreaterThan(4);
+    // Learning is on by default: its greedy policy and what it spent follow.
+    expect(report.rollouts?.learning).toBeDefined();
+    expect(snapshot.lens[0]).toContain('learned greedy');
+    expect(snapshot.lens[1]).toMatch(/^Learning \(q-learning\): [\d,]+ steps? in [\d,]+ episodes? spent$/);
+    for (const line of snapshot.lens) expect(line).not.toMatch(/NaN|undefined/);
   });
 });

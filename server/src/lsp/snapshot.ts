@@ -13,6 +13,7 @@ import {
   type DiagnosticRelatedInformation,
   type Range,
 } from 'vscode-languageserver-types';
+import type { RolloutReport, RolloutStats } from '../analysis/rollout-stats';
 import type { Analysis } from '../analysis/types';
 import type { FileReport } from '../analyze';
 import type { ConfigFile } from '../config-file';
@@ -56,7 +57,7 @@ export function buildSnapshot(input: SnapshotInput): AnalysisSnapshot {
     version,
     diagnostics,
     rootOffset: report.spec.rootSpan.start,
-    lens: analysis ? lensLines(analysis, model?.maximize ?? true) : [],
+    lens: analysis ? lensLines(analysis, model?.maximize ?? true) : report.rollouts ? rolloutLensLines(report.rollouts) : [],
     status: statusLine(report, input.durationMs),
     notAnalysed: report.notAnalysed,
     modelOutput: report.modelOutput,
@@ -180,6 +181,26 @@ export function lensLines(analysis: Analysis, maximize: boolean): string[] {
     (snapProbability(optimal.failure, p) > 0 ? ` · failure under optimal ${percent(optimal.failure)}` : '') +
     (snapProbability(optimal.none, p) > 0 ? ` · never ends${horizon !== undefined ? ' or cut' : ''} ${percent(optimal.none)}` : '');
   return [returns, reach];
+}
+
+/**
+ * The lens of a model known only by sampling: Monte Carlo estimates with their 95% intervals
+ * (labelled as estimates, never as bounds), the random policy's and, when learning ran, the greedy
+ * policy of the learned Q with what learning spent.
+ */
+export function rolloutLensLines(rollouts: RolloutReport): string[] {
+  const estimate = (stats: RolloutStats): string => {
+    const r = stats.return;
+    return `${formatNumber(r.mean)} (95% ${formatNumber(r.ci95.lower)} .. ${formatNumber(r.ci95.upper)}, ${plural(stats.episodes, 'episode')})`;
+  };
+  const lines: string[] = [];
+  const parts: string[] = [];
+  if (rollouts.random) parts.push(`random ${estimate(rollouts.random)}`);
+  if (rollouts.learned) parts.push(`learned greedy ${estimate(rollouts.learned)}`);
+  if (parts.length > 0) lines.push(`Estimated return from the start (sampled): ${parts.join(' · ')}`);
+  const learning = rollouts.learning;
+  if (learning) lines.push(`Learning (${learning.method}): ${plural(learning.spent.steps, 'step')} in ${plural(learning.spent.episodes, 'episode')} spent`);
+  return lines;
 }
 
 /**
