@@ -129,16 +129,8 @@ export interface JsonFile {
 }
 
 /** Additive: what learning spent and learned (sandbox/learn.ts); a Q of an action never tried, and any figure not known, is null. */
-export interface JsonLearning {
-  method: LearningSummary['method'];
-  visits?: 'first' | 'every';
-  epsilon: number;
-  budget: { episodes: number; steps: number };
-  spent: { episodes: number; steps: number };
-  distinctKeys: number;
-  learningStates: number;
-  unlearnedSteps: number;
-  path: { keys: string[]; actions: string[]; truncated: boolean };
+export interface JsonLearning
+  extends Pick<LearningSummary, 'method' | 'visits' | 'epsilon' | 'budget' | 'spent' | 'distinctKeys' | 'learningStates' | 'unlearnedSteps' | 'path'> {
   states: Array<{ key: string; step?: number; visits: number; actions: Array<{ action: string; q: number | null; visits: number }> }>;
   decision?: {
     key: string;
