@@ -13,6 +13,7 @@ import schemaDocument from '../../../schemas/mdp.schema.json';
 import { schemaFinding } from '../rules/schema';
 import type { Finding } from '../findings';
 import { maskLongBlanks } from './blanks';
+import { jsonTreeFromNodes, NodeKind, NONE, readJsonTree, type JsonTree } from './json-tree';
 import { closestName, formatNumber, jsonPath } from './names';
 import {
   emptySpec,
@@ -79,6 +80,8 @@ const PARSE_ERROR_TEXT: Record<number, string> = {
   16: 'invalid character in a string (control characters must be escaped)',
 };
 
+const JSONC_OPTIONS = { allowTrailingComma: true, disallowComments: false, allowEmptyContent: false };
+
 let validator: ValidateFunction | undefined;
 /** The inlined copies of `$defs/probability`; their range errors belong to negative-probability. */
 const probabilitySchemas = new Set<object>();
@@ -136,42 +139,50 @@ function parseUnchecked(text: string): JsonSpecResult {
     findings.push(schemaFinding(`the document is ${megabytes} MB, more than the ${MAX_DOCUMENT_LENGTH / 1024 / 1024} MB Episcope reads from a JSON spec; it was not analysed (generate MDPs this large with a TypeScript model, *.mdp.ts)`, firstCharacter(text)));
     return { spec: emptySpec('json', wholeText), findings };
   }
-  // Same offsets, same tree and errors; only long runs of blanks are scanned faster.
-  const scanned = maskLongBlanks(text);
-  const tooDeep = findExcessiveNesting(scanned);
-  if (tooDeep !== undefined) {
-    findings.push(
-      schemaFinding(
-        `values are nested more than ${MAX_NESTING_DEPTH} levels deep here (a spec needs at most 6); the document was not read further`,
-        { start: tooDeep, end: tooDeep + 1 },
-      ),
-    );
-    return { spec: emptySpec('json', wholeText), findings };
-  }
-
   const parseErrors: ParseError[] = [];
-  const root = parseTree(scanned, parseErrors, { allowTrailingComma: true, disallowComments: false, allowEmptyContent: false });
-  for (const error of parseErrors) {
-    const reason = PARSE_ERROR_TEXT[error.error] ?? 'invalid JSON';
-    findings.push(schemaFinding(`invalid JSON: ${reason}`, widen({ start: error.offset, end: error.offset + error.length }, text)));
-  }
-  if (!root) {
-    if (parseErrors.length === 0 || text.trim() === '') {
-      findings.length = 0;
-      findings.push(schemaFinding('the document is empty: a spec is a JSON object with discount, start, states and transitions', firstCharacter(text)));
+  // Well-formed documents take the fast reader; the rest goes to jsonc-parser, whose error
+  // recovery and messages apply. Its tree is also what schema errors are described on, so it is
+  // built when validation fails.
+  let nodes: Node | undefined;
+  let tree = readJsonTree(text, MAX_NESTING_DEPTH);
+  if (!tree) {
+    // Same offsets, same tree and errors; only long runs of blanks are scanned faster.
+    const scanned = maskLongBlanks(text);
+    const tooDeep = findExcessiveNesting(scanned);
+    if (tooDeep !== undefined) {
+      findings.push(
+        schemaFinding(
+          `values are nested more than ${MAX_NESTING_DEPTH} levels deep here (a spec needs at most 6); the document was not read further`,
+          { start: tooDeep, end: tooDeep + 1 },
+        ),
+      );
+      return { spec: emptySpec('json', wholeText), findings };
     }
-    return { spec: emptySpec('json', wholeText), findings };
+    nodes = parseTree(scanned, parseErrors, JSONC_OPTIONS);
+    for (const error of parseErrors) {
+      const reason = PARSE_ERROR_TEXT[error.error] ?? 'invalid JSON';
+      findings.push(schemaFinding(`invalid JSON: ${reason}`, widen({ start: error.offset, end: error.offset + error.length }, text)));
+    }
+    if (!nodes) {
+      if (parseErrors.length === 0 || text.trim() === '') {
+        findings.length = 0;
+        findings.push(schemaFinding('the document is empty: a spec is a JSON object with discount, start, states and transitions', firstCharacter(text)));
+      }
+      return { spec: emptySpec('json', wholeText), findings };
+    }
+    tree = jsonTreeFromNodes(nodes);
   }
+  const nodeTree = (): Node => (nodes ??= parseTree(maskLongBlanks(text), [], JSONC_OPTIONS)!);
 
   // The reader runs first: the values it explains as a whole tell validation what not to repeat.
   const schemaProblems: Finding[] = [];
-  const reader = new SpecReader(root, schemaProblems);
+  const reader = new SpecReader(tree, schemaProblems);
   const spec = reader.read();
   const explained = new ExplainedValues(reader.explained);
-  reportDuplicateKeys(root, schemaProblems);
+  reportDuplicateKeys(tree, schemaProblems);
   const kept = schemaProblems.filter((finding) => !explained.covers(finding));
   // Validation describes only the first problems by position, enough to fill the cap.
-  const undescribed = validateAgainstSchema(root, parseErrors.length === 0 ? text : undefined, explained, MAX_SCHEMA_FINDINGS + 1, kept);
+  const undescribed = validateAgainstSchema(tree, nodeTree, parseErrors.length === 0 ? text : undefined, explained, MAX_SCHEMA_FINDINGS + 1, kept);
 
   kept.sort((a, b) => a.span.start - b.span.start);
   findings.push(...kept.slice(0, MAX_SCHEMA_FINDINGS));
@@ -215,10 +226,18 @@ function findExcessiveNesting(text: string): number | undefined {
  * (`strictText` is the text when it parsed without errors, maybe strict JSON). Returns how many
  * findings were left out, exact when each place left has one problem, else a lower bound.
  */
-function validateAgainstSchema(root: Node, strictText: string | undefined, explained: ExplainedValues, budget: number, out: Finding[]): { count: number; exact: boolean } {
+function validateAgainstSchema(
+  tree: JsonTree,
+  nodeTree: () => Node,
+  strictText: string | undefined,
+  explained: ExplainedValues,
+  budget: number,
+  out: Finding[],
+): { count: number; exact: boolean } {
   const validate = schemaValidator();
-  if (validate(documentValue(root, strictText))) return { count: 0, exact: true };
+  if (validate(documentValue(tree, strictText))) return { count: 0, exact: true };
   const errors = validate.errors ?? [];
+  const root = nodeTree();
   const misnamed = misnamedProperties(errors);
   const kept: ErrorObject[] = [];
   const nodes: Node[] = [];
@@ -265,9 +284,10 @@ function validateAgainstSchema(root: Node, strictText: string | undefined, expla
 /**
  * The document as a plain value. The native JSON.parse is several times faster than rebuilding the
  * value from the tree; it applies when the text has no comments or trailing commas. Both keep the
- * last of repeated keys and read 1e400 as Infinity, so the value is the same either way.
+ * last of repeated keys, make "__proto__" an own property and read 1e400 as Infinity, so the value
+ * is the same either way.
  */
-function documentValue(root: Node, strictText: string | undefined): unknown {
+function documentValue(tree: JsonTree, strictText: string | undefined): unknown {
   if (strictText !== undefined) {
     try {
       return JSON.parse(strictText);
@@ -275,7 +295,7 @@ function documentValue(root: Node, strictText: string | undefined): unknown {
       // JSONC (comments, trailing commas): fall through to the tree.
     }
   }
-  return getNodeValue(root);
+  return tree.toValue();
 }
 
 /**
@@ -484,10 +504,10 @@ function propertyKey(object: Node, key: string): Node | undefined {
 }
 
 /** Duplicate keys: JSON.parse (and every JSON tool) keeps only the last, which hides the first. */
-function reportDuplicateKeys(root: Node, out: Finding[]): void {
+function reportDuplicateKeys(tree: JsonTree, out: Finding[]): void {
   // Each entry knows its parent and its key or index, so a path is built only for a finding.
   interface Visit {
-    node: Node;
+    node: number;
     parent?: Visit;
     segment?: string | number;
   }
@@ -496,23 +516,27 @@ function reportDuplicateKeys(root: Node, out: Finding[]): void {
     for (let at: Visit | undefined = visit; at?.parent; at = at.parent) path.push(at.segment!);
     return path.reverse();
   };
-  const stack: Visit[] = [{ node: root }];
+  const isContainer = (node: number) => node !== NONE && (tree.kinds[node] === NodeKind.Object || tree.kinds[node] === NodeKind.Array);
+  const stack: Visit[] = [{ node: 0 }];
   while (stack.length > 0) {
     const visit = stack.pop()!;
     const node = visit.node;
-    const children = node.children ?? [];
-    if (node.type === 'object') {
-      const repeated = repeatedKeyIndices(children);
-      for (let i = 0; i < children.length; i++) {
-        const keyNode = children[i].children?.[0];
-        const valueNode = children[i].children?.[1];
-        if (keyNode && repeated?.has(i)) {
-          out.push(schemaFinding(`${jsonPath(pathTo(visit))} has the key "${keyNode.value}" more than once; only the last one counts, so this one is ignored`, nodeSpan(keyNode)));
+    if (tree.kinds[node] === NodeKind.Object) {
+      const properties = tree.children(node);
+      const repeated = repeatedKeyIndices(tree, properties);
+      for (let i = 0; i < properties.length; i++) {
+        const key = tree.keyOf(properties[i]);
+        const value = tree.valueOf(properties[i]);
+        if (key !== NONE && repeated?.has(i)) {
+          out.push(schemaFinding(`${jsonPath(pathTo(visit))} has the key "${tree.str(key)}" more than once; only the last one counts, so this one is ignored`, tree.span(key)));
         }
-        if (valueNode?.children) stack.push({ node: valueNode, parent: visit, segment: String(keyNode?.value) });
+        if (isContainer(value)) stack.push({ node: value, parent: visit, segment: String(tree.str(key)) });
       }
-    } else if (node.type === 'array') {
-      for (let i = 0; i < children.length; i++) if (children[i].children) stack.push({ node: children[i], parent: visit, segment: i });
+    } else if (tree.kinds[node] === NodeKind.Array) {
+      let i = 0;
+      for (let item = tree.firstChildren[node]; item !== NONE; item = tree.nextSiblings[item], i++) {
+        if (isContainer(item)) stack.push({ node: item, parent: visit, segment: i });
+      }
     }
   }
 }
@@ -521,13 +545,14 @@ function reportDuplicateKeys(root: Node, out: Finding[]): void {
  * The indices of properties whose key appears again later in the object; undefined when there
  * are none. Small objects (most of a spec) are compared pairwise to avoid allocating a set.
  */
-function repeatedKeyIndices(properties: Node[]): Set<number> | undefined {
+function repeatedKeyIndices(tree: JsonTree, properties: number[]): Set<number> | undefined {
   let repeated: Set<number> | undefined;
+  const keyOf = (property: number) => tree.str(tree.keyOf(property));
   if (properties.length <= 16) {
     for (let i = 0; i < properties.length; i++) {
-      const key = properties[i].children?.[0]?.value;
+      const key = keyOf(properties[i]);
       for (let j = i + 1; j < properties.length; j++) {
-        if (properties[j].children?.[0]?.value === key) {
+        if (keyOf(properties[j]) === key) {
           (repeated ??= new Set()).add(i);
           break;
         }
@@ -537,7 +562,7 @@ function repeatedKeyIndices(properties: Node[]): Set<number> | undefined {
   }
   const later = new Set<unknown>();
   for (let i = properties.length - 1; i >= 0; i--) {
-    const key = properties[i].children?.[0]?.value;
+    const key = keyOf(properties[i]);
     if (later.has(key)) (repeated ??= new Set()).add(i);
     else later.add(key);
   }
@@ -548,19 +573,19 @@ function repeatedKeyIndices(properties: Node[]): Set<number> | undefined {
 // Extraction of the ParsedSpec
 
 interface Member {
-  key: Node;
-  value: Node;
-  property: Node;
+  key: number;
+  value: number;
+  property: number;
 }
 
 /** The properties of an object node by key; for a repeated key the last one, as JSON.parse does. */
-function membersOf(node: Node | undefined): Map<string, Member> {
+function membersOf(tree: JsonTree, node: number): Map<string, Member> {
   const members = new Map<string, Member>();
-  if (node?.type !== 'object') return members;
-  for (const property of node.children ?? []) {
-    const key = property.children?.[0];
-    const value = property.children?.[1];
-    if (key && value && typeof key.value === 'string') members.set(key.value, { key, value, property });
+  if (node === NONE || tree.kinds[node] !== NodeKind.Object) return members;
+  for (let property = tree.firstChildren[node]; property !== NONE; property = tree.nextSiblings[property]) {
+    const key = tree.keyOf(property);
+    const value = tree.valueOf(property);
+    if (key !== NONE && value !== NONE) members.set(tree.str(key), { key, value, property });
   }
   return members;
 }
@@ -576,135 +601,143 @@ class SpecReader {
   readonly explained: Array<{ span: Span; finding: Finding }> = [];
 
   constructor(
-    private readonly root: Node,
+    private readonly tree: JsonTree,
     private readonly findings: Finding[],
   ) {
-    this.spec = emptySpec('json', nodeSpan(root));
+    this.spec = emptySpec('json', tree.span(0));
   }
 
   read(): ParsedSpec {
-    const spec = this.spec;
-    if (this.root.type !== 'object') return spec;
-    const top = membersOf(this.root);
+    const { spec, tree } = this;
+    if (tree.kinds[0] !== NodeKind.Object) return spec;
+    const top = membersOf(tree, 0);
+    const topValue = (name: string) => top.get(name)?.value ?? NONE;
 
-    const name = top.get('name')?.value;
-    if (name?.type === 'string') spec.name = { value: name.value, span: nodeSpan(name) };
+    const name = topValue('name');
+    if (tree.kinds[name] === NodeKind.String) spec.name = { value: tree.str(name), span: tree.span(name) };
 
-    const objective = top.get('objective')?.value;
-    if (objective) {
-      spec.objectiveSpan = nodeSpan(objective);
-      if (objective.value === 'minimize') spec.objective = 'minimize';
+    const objective = topValue('objective');
+    if (objective !== NONE) {
+      spec.objectiveSpan = tree.span(objective);
+      if (tree.stringOf(objective) === 'minimize') spec.objective = 'minimize';
     }
 
-    const discount = top.get('discount')?.value;
-    if (discount?.type === 'number') spec.discount = { value: discount.value, span: nodeSpan(discount) };
-    const horizon = top.get('horizon')?.value;
-    if (horizon?.type === 'number') spec.horizon = { value: horizon.value, span: nodeSpan(horizon) };
+    const discount = topValue('discount');
+    if (tree.kinds[discount] === NodeKind.Number) spec.discount = { value: tree.numbers[discount], span: tree.span(discount) };
+    const horizon = topValue('horizon');
+    if (tree.kinds[horizon] === NodeKind.Number) spec.horizon = { value: tree.numbers[horizon], span: tree.span(horizon) };
 
-    const actions = top.get('actions')?.value;
-    if (actions?.type === 'array') {
-      spec.actionsSpan = nodeSpan(actions);
-      spec.actions = stringItems(actions);
+    const actions = topValue('actions');
+    if (tree.kinds[actions] === NodeKind.Array) {
+      spec.actionsSpan = tree.span(actions);
+      spec.actions = this.stringItems(actions);
     }
 
-    this.readRewardTerms(top.get('rewardTerms')?.value);
-    this.readStates(top.get('states')?.value);
-    this.readStart(top.get('start')?.value);
-    this.readShaping(top.get('shaping')?.value);
-    this.readTransitions(top.get('transitions')?.value);
+    this.readRewardTerms(topValue('rewardTerms'));
+    this.readStates(topValue('states'));
+    this.readStart(topValue('start'));
+    this.readShaping(topValue('shaping'));
+    this.readTransitions(topValue('transitions'));
     return spec;
   }
 
-  private readRewardTerms(node: Node | undefined): void {
-    if (node?.type !== 'object') return;
-    this.spec.rewardTermsSpan = nodeSpan(node);
+  private readRewardTerms(node: number): void {
+    const tree = this.tree;
+    if (tree.kinds[node] !== NodeKind.Object) return;
+    this.spec.rewardTermsSpan = tree.span(node);
     this.declaredTerms = new Set();
-    for (const [name, member] of membersOf(node)) {
-      const fields = membersOf(member.value);
-      const direction = fields.get('direction')?.value.value;
+    for (const [name, member] of membersOf(tree, node)) {
+      const direction = tree.stringOf(tree.member(member.value, 'direction'));
+      const shaping = tree.member(member.value, 'shaping');
       this.spec.rewardTerms.push({
         name,
         direction: direction === 'bonus' || direction === 'penalty' ? (direction as TermDirection) : 'either',
-        shaping: fields.get('shaping')?.value.value === true,
-        span: nodeSpan(member.key),
+        shaping: tree.kinds[shaping] === NodeKind.Boolean && tree.numbers[shaping] === 1,
+        span: tree.span(member.key),
       });
       this.declaredTerms.add(name);
     }
   }
 
-  private readStates(node: Node | undefined): void {
-    if (node?.type !== 'object') return;
-    this.spec.statesSpan = nodeSpan(node);
-    for (const [id, member] of membersOf(node)) {
-      const state: SpecState = { id, span: nodeSpan(member.key) };
-      const fields = membersOf(member.value);
-      const terminal = fields.get('terminal')?.value;
-      if (terminal && TERMINAL_KINDS.includes(terminal.value as TerminalKind)) {
-        state.terminal = terminal.value as TerminalKind;
-        state.terminalSpan = nodeSpan(terminal);
-      } else if (terminal) {
+  private readStates(node: number): void {
+    const tree = this.tree;
+    if (tree.kinds[node] !== NodeKind.Object) return;
+    this.spec.statesSpan = tree.span(node);
+    for (const [id, member] of membersOf(tree, node)) {
+      const state: SpecState = { id, span: tree.span(member.key) };
+      const terminal = tree.member(member.value, 'terminal');
+      const kind = tree.stringOf(terminal);
+      if (kind !== undefined && TERMINAL_KINDS.includes(kind as TerminalKind)) {
+        state.terminal = kind as TerminalKind;
+        state.terminalSpan = tree.span(terminal);
+      } else if (terminal !== NONE) {
         state.terminalUnread = true;
       }
-      const actions = fields.get('actions')?.value;
-      if (actions?.type === 'array') {
-        state.actions = stringItems(actions);
-        state.actionsSpan = nodeSpan(actions);
+      const actions = tree.member(member.value, 'actions');
+      if (tree.kinds[actions] === NodeKind.Array) {
+        state.actions = this.stringItems(actions);
+        state.actionsSpan = tree.span(actions);
       }
       this.spec.states.push(state);
     }
   }
 
-  private readStart(node: Node | undefined): void {
-    if (!node) return;
+  private readStart(node: number): void {
+    const tree = this.tree;
+    if (node === NONE) return;
     const start: StartEntry[] = [];
-    if (node.type === 'string') {
-      start.push({ state: node.value, probability: 1, span: nodeSpan(node) });
-    } else if (node.type === 'array') {
-      const ids = stringItems(node);
+    const kind = tree.kinds[node];
+    if (kind === NodeKind.String) {
+      start.push({ state: tree.str(node), probability: 1, span: tree.span(node) });
+    } else if (kind === NodeKind.Array) {
+      const ids = this.stringItems(node);
       for (const id of ids) start.push({ state: id.value, probability: 1 / ids.length, span: id.span });
-    } else if (node.type === 'object') {
-      for (const [id, member] of membersOf(node)) {
-        if (member.value.type !== 'number') continue;
-        start.push({ state: id, probability: member.value.value, span: nodeSpan(member.key), probabilitySpan: nodeSpan(member.value) });
+    } else if (kind === NodeKind.Object) {
+      for (const [id, member] of membersOf(tree, node)) {
+        if (tree.kinds[member.value] !== NodeKind.Number) continue;
+        start.push({ state: id, probability: tree.numbers[member.value], span: tree.span(member.key), probabilitySpan: tree.span(member.value) });
       }
     } else {
       return;
     }
     this.spec.start = start;
-    this.spec.startSpan = nodeSpan(node);
+    this.spec.startSpan = tree.span(node);
   }
 
-  private readShaping(node: Node | undefined): void {
-    if (node?.type !== 'object') return;
-    this.spec.shapingSpan = nodeSpan(node);
-    const potential = membersOf(node).get('potential')?.value;
-    for (const [id, member] of membersOf(potential)) {
-      if (member.value.type !== 'number') continue;
-      this.spec.potential.push({ state: id, value: member.value.value, span: nodeSpan(member.key), valueSpan: nodeSpan(member.value) });
+  private readShaping(node: number): void {
+    const tree = this.tree;
+    if (tree.kinds[node] !== NodeKind.Object) return;
+    this.spec.shapingSpan = tree.span(node);
+    for (const [id, member] of membersOf(tree, tree.member(node, 'potential'))) {
+      if (tree.kinds[member.value] !== NodeKind.Number) continue;
+      this.spec.potential.push({ state: id, value: tree.numbers[member.value], span: tree.span(member.key), valueSpan: tree.span(member.value) });
     }
   }
 
-  private readTransitions(node: Node | undefined): void {
-    if (node?.type !== 'array') return;
-    this.spec.transitionsSpan = nodeSpan(node);
-    const items = node.children ?? [];
-    for (let index = 0; index < items.length; index++) this.readTransition(items[index], index);
+  private readTransitions(node: number): void {
+    const tree = this.tree;
+    if (tree.kinds[node] !== NodeKind.Array) return;
+    this.spec.transitionsSpan = tree.span(node);
+    let index = 0;
+    for (let item = tree.firstChildren[node]; item !== NONE; item = tree.nextSiblings[item]) this.readTransition(item, index++);
   }
 
-  private readTransition(node: Node, index: number): void {
-    if (node.type !== 'object') return;
-    const fields = membersOf(node);
-    const froms = stringOrStrings(fields.get('from')?.value);
-    const actions = stringOrStrings(fields.get('action')?.value);
-    const rewardNode = fields.get('reward')?.value;
-    const reward = rewardNode ? this.readReward(rewardNode, [index, 'reward']) : [];
-    const toNode = fields.get('to')?.value;
-    const read = toNode ? this.readOutcomes(toNode, reward ?? [], index) : { outcomes: [], complete: false };
+  private readTransition(node: number, index: number): void {
+    const tree = this.tree;
+    if (tree.kinds[node] !== NodeKind.Object) return;
+    const froms = this.stringOrStrings(tree.member(node, 'from'));
+    const actions = this.stringOrStrings(tree.member(node, 'action'));
+    const rewardNode = tree.member(node, 'reward');
+    const reward = rewardNode !== NONE ? this.readReward(rewardNode, [index, 'reward']) : [];
+    const toNode = tree.member(node, 'to');
+    const read = toNode !== NONE ? this.readOutcomes(toNode, reward ?? [], index) : { outcomes: [], complete: false };
     if (froms.length === 0 || actions.length === 0) {
-      this.recordUnread(node, fields, froms, actions);
+      this.recordUnread(node, froms, actions);
       return;
     }
     const incomplete = reward === undefined || !read.complete;
+    const span = tree.span(node);
+    const toSpan = toNode !== NONE ? tree.span(toNode) : span;
     for (const from of froms) {
       for (const action of actions) {
         const transition: SpecTransition = {
@@ -714,8 +747,8 @@ class SpecReader {
           action: action.value,
           actionSpan: action.span,
           outcomes: read.outcomes,
-          toSpan: toNode ? nodeSpan(toNode) : nodeSpan(node),
-          span: nodeSpan(node),
+          toSpan,
+          span,
         };
         if (incomplete) transition.incomplete = true;
         this.spec.transitions.push(transition);
@@ -732,8 +765,9 @@ class SpecReader {
    * Keeps what a transition without a readable `from` or `action` seems to be about: the readable
    * field, else the declared states (or actions) that its unknown properties name.
    */
-  private recordUnread(node: Node, fields: Map<string, Member>, froms: Located<string>[], actions: Located<string>[]): void {
-    const strays = [...fields].filter(([key]) => !TRANSITION_FIELDS.has(key)).flatMap(([, member]) => stringOrStrings(member.value).map((s) => s.value));
+  private recordUnread(node: number, froms: Located<string>[], actions: Located<string>[]): void {
+    const fields = membersOf(this.tree, node);
+    const strays = [...fields].filter(([key]) => !TRANSITION_FIELDS.has(key)).flatMap(([, member]) => this.stringOrStrings(member.value).map((s) => s.value));
     const declaredActions = new Set([...this.spec.actions.map((a) => a.value), ...this.spec.states.flatMap((s) => (s.actions ?? []).map((a) => a.value))]);
     const pick = (read: Located<string>[], declared: Set<string>): string[] | undefined => {
       if (read.length > 0) return read.map((r) => r.value);
@@ -744,69 +778,71 @@ class SpecReader {
     const action = pick(actions, declaredActions);
     // With neither known, nothing tells which (state, action) pair the transition was meant for.
     if (!from && !action) return;
-    (this.spec.unreadTransitions ??= []).push({ from, action, span: nodeSpan(node) });
+    (this.spec.unreadTransitions ??= []).push({ from, action, span: this.tree.span(node) });
   }
 
   /**
    * `to` written as one outcome object, `{ "state": …, "probability": … }`, without the list's
    * brackets: the map form would read its keys as state ids. One finding says so.
    */
-  private explainOneOutcome(node: Node, members: Map<string, Member>, index: number): boolean {
+  private explainOneOutcome(node: number, members: Map<string, Member>, index: number): boolean {
     if (!members.has('state') || this.declaredStateIds().has('state')) return false;
-    const next = members.get('state')!.value;
-    const simple = next.type === 'string' ? `, or for a single next state simply "to": ${JSON.stringify(next.value)}` : '';
+    const next = this.tree.stringOf(members.get('state')!.value);
+    const simple = next !== undefined ? `, or for a single next state simply "to": ${JSON.stringify(next)}` : '';
+    const span = this.tree.span(node);
     const finding = schemaFinding(
       `${jsonPath(['transitions', index, 'to'])} is written as one outcome {state, probability, reward}; the outcomes are a list, so put it in brackets: "to": [ { "state": …, "probability": … } ]${simple}`,
-      nodeSpan(node),
+      span,
     );
     this.findings.push(finding);
-    this.explained.push({ span: nodeSpan(node), finding });
+    this.explained.push({ span, finding });
     return true;
   }
 
   /** The outcomes of `to`, in any of its three forms; `complete` is false when some could not be read. */
-  private readOutcomes(node: Node, reward: RewardPart[], index: number): { outcomes: SpecOutcome[]; complete: boolean } {
+  private readOutcomes(node: number, reward: RewardPart[], index: number): { outcomes: SpecOutcome[]; complete: boolean } {
+    const tree = this.tree;
     const outcomes: SpecOutcome[] = [];
     let complete = true;
-    if (node.type === 'string') {
-      const span = nodeSpan(node);
-      outcomes.push({ state: node.value, stateSpan: span, probability: 1, probabilitySpan: span, reward, span });
-    } else if (node.type === 'object') {
-      const members = membersOf(node);
+    const kind = tree.kinds[node];
+    if (kind === NodeKind.String) {
+      const span = tree.span(node);
+      outcomes.push({ state: tree.str(node), stateSpan: span, probability: 1, probabilitySpan: span, reward, span });
+    } else if (kind === NodeKind.Object) {
+      const members = membersOf(tree, node);
       if (this.explainOneOutcome(node, members, index)) return { outcomes, complete: false };
       for (const [state, member] of members) {
-        if (member.value.type !== 'number') {
+        if (tree.kinds[member.value] !== NodeKind.Number) {
           complete = false;
           continue;
         }
         outcomes.push({
           state,
-          stateSpan: nodeSpan(member.key),
-          probability: member.value.value,
-          probabilitySpan: nodeSpan(member.value),
+          stateSpan: tree.span(member.key),
+          probability: tree.numbers[member.value],
+          probabilitySpan: tree.span(member.value),
           reward,
-          span: nodeSpan(member.property),
+          span: tree.span(member.property),
         });
       }
-    } else if (node.type === 'array') {
-      const items = node.children ?? [];
-      for (let i = 0; i < items.length; i++) {
-        const fields = membersOf(items[i]);
-        const state = fields.get('state')?.value;
-        const probability = fields.get('probability')?.value;
-        const ownRewardNode = fields.get('reward')?.value;
-        const ownReward = ownRewardNode ? this.readReward(ownRewardNode, [index, 'to', i, 'reward']) : reward;
-        if (state?.type !== 'string' || probability?.type !== 'number' || ownReward === undefined) {
+    } else if (kind === NodeKind.Array) {
+      let i = 0;
+      for (let item = tree.firstChildren[node]; item !== NONE; item = tree.nextSiblings[item], i++) {
+        const state = tree.member(item, 'state');
+        const probability = tree.member(item, 'probability');
+        const ownRewardNode = tree.member(item, 'reward');
+        const ownReward = ownRewardNode !== NONE ? this.readReward(ownRewardNode, [index, 'to', i, 'reward']) : reward;
+        if (tree.kinds[state] !== NodeKind.String || tree.kinds[probability] !== NodeKind.Number || ownReward === undefined) {
           complete = false;
           continue;
         }
         outcomes.push({
-          state: state.value,
-          stateSpan: nodeSpan(state),
-          probability: probability.value,
-          probabilitySpan: nodeSpan(probability),
+          state: tree.str(state),
+          stateSpan: tree.span(state),
+          probability: tree.numbers[probability],
+          probabilitySpan: tree.span(probability),
           reward: ownReward,
-          span: nodeSpan(items[i]),
+          span: tree.span(item),
         });
       }
     } else {
@@ -817,53 +853,57 @@ class SpecReader {
   }
 
   /** A reward as parts: a number (term null) or one part per term. Undefined when it cannot be read. */
-  private readReward(node: Node, where: Array<string | number>): RewardPart[] | undefined {
-    if (node.type === 'number') return [{ term: null, value: node.value, span: nodeSpan(node) }];
-    if (node.type !== 'object') return undefined;
+  private readReward(node: number, where: Array<string | number>): RewardPart[] | undefined {
+    const tree = this.tree;
+    if (tree.kinds[node] === NodeKind.Number) return [{ term: null, value: tree.numbers[node], span: tree.span(node) }];
+    if (tree.kinds[node] !== NodeKind.Object) return undefined;
     const parts: RewardPart[] = [];
     let readable = true;
-    for (const [term, member] of membersOf(node)) {
-      if (member.value.type !== 'number') {
+    for (const [term, member] of membersOf(tree, node)) {
+      if (tree.kinds[member.value] !== NodeKind.Number) {
         readable = false;
         continue;
       }
-      parts.push({ term, value: member.value.value, span: nodeSpan(member.value) });
+      parts.push({ term, value: tree.numbers[member.value], span: tree.span(member.value) });
       this.checkTermDeclared(term, member.key, where);
     }
     return readable ? parts : undefined;
   }
 
-  private checkTermDeclared(term: string, keyNode: Node, where: Array<string | number>): void {
-    if (!this.declaredTerms || this.declaredTerms.has(term) || this.reportedTermKeys.has(keyNode.offset)) return;
-    this.reportedTermKeys.add(keyNode.offset);
+  private checkTermDeclared(term: string, keyNode: number, where: Array<string | number>): void {
+    const offset = this.tree.starts[keyNode];
+    if (!this.declaredTerms || this.declaredTerms.has(term) || this.reportedTermKeys.has(offset)) return;
+    this.reportedTermKeys.add(offset);
     const suggestion = closestName(term, this.declaredTerms);
     const advice = suggestion ? ` (did you mean "${suggestion}"?)` : '';
     this.findings.push(
       schemaFinding(
         `reward term "${term}" in ${jsonPath(['transitions', ...where])} is not declared in rewardTerms${advice}: its values count in the reward, but no term check (direction, shaping) applies to them`,
-        nodeSpan(keyNode),
+        this.tree.span(keyNode),
       ),
     );
+  }
+
+  private stringItems(node: number): Located<string>[] {
+    const tree = this.tree;
+    const items: Located<string>[] = [];
+    for (let item = tree.firstChildren[node]; item !== NONE; item = tree.nextSiblings[item]) {
+      if (tree.kinds[item] === NodeKind.String) items.push({ value: tree.str(item), span: tree.span(item) });
+    }
+    return items;
+  }
+
+  private stringOrStrings(node: number): Located<string>[] {
+    if (node === NONE) return [];
+    const kind = this.tree.kinds[node];
+    if (kind === NodeKind.String) return [{ value: this.tree.str(node), span: this.tree.span(node) }];
+    if (kind === NodeKind.Array) return this.stringItems(node);
+    return [];
   }
 }
 
 /** The properties of a transition object (the schema's). */
 const TRANSITION_FIELDS = new Set(Object.keys(schemaDocument.$defs.transition.properties));
-
-function stringItems(node: Node): Located<string>[] {
-  const items: Located<string>[] = [];
-  for (const item of node.children ?? []) {
-    if (item.type === 'string') items.push({ value: item.value, span: nodeSpan(item) });
-  }
-  return items;
-}
-
-function stringOrStrings(node: Node | undefined): Located<string>[] {
-  if (!node) return [];
-  if (node.type === 'string') return [{ value: node.value, span: nodeSpan(node) }];
-  if (node.type === 'array') return stringItems(node);
-  return [];
-}
 
 // ---------------------------------------------------------------------------------------------
 // Small helpers
