@@ -35,10 +35,14 @@ export interface ExpectedFinding {
   severity?: Severity;
   /** Fix titles in order: patterns, or exact titles. */
   fixes?: (RegExp | string)[];
-  /** The exact texts the related locations' spans cover, in order. */
-  related?: string[];
+  /** The exact texts the related locations' spans cover, in order, or just how many there are. */
+  related?: string[] | number;
   /** The states of the finding's trace, in order, or just how many steps it has. */
   trace?: string[] | number;
+  /** The (state, action) pairs of the finding's trace, in order; the last step often has no action. */
+  steps?: Array<[string, string | undefined]>;
+  /** The editor tags, exactly (e.g. `unnecessary`). */
+  tags?: string[];
 }
 
 export interface ValidCase extends RuleCase {
@@ -131,7 +135,10 @@ function checkExpected(report: FileReport, finding: Finding, expected: ExpectedF
   for (const piece of expected.says ?? []) expect(finding.message).toContain(piece);
   if (typeof expected.trace === 'number') expect(finding.trace ?? []).toHaveLength(expected.trace);
   else if (expected.trace) expect((finding.trace ?? []).map((step) => step.state)).toEqual(expected.trace);
-  if (expected.related) expect((finding.related ?? []).map((r) => spanText(report, r.span))).toEqual(expected.related);
+  if (expected.steps) expect((finding.trace ?? []).map((step) => [step.state, step.action])).toEqual(expected.steps);
+  if (typeof expected.related === 'number') expect(finding.related ?? []).toHaveLength(expected.related);
+  else if (expected.related) expect((finding.related ?? []).map((r) => spanText(report, r.span))).toEqual(expected.related);
+  if (expected.tags) expect(finding.tags ?? []).toEqual(expected.tags);
   if (expected.severity) expect(finding.severity).toBe(expected.severity);
   if (expected.fixes) {
     const titles = (finding.fixes ?? []).map((fix) => fix.title);
