@@ -113,7 +113,10 @@ export function analyzeLoaded(path: string, text: string, loaded: LoadedSpec, op
     // Each stage guards itself; this catches a bug in the code between them, so no front ever gets a rejection.
     const reason = `the analysis of the spec failed: ${errorText(error)}`;
     const internalErrors = [...loaded.internalErrors, reason];
-    return { path, text, lines: new LineIndex(text), spec: loaded.spec, findings: [...loaded.findings], internalErrors, notAnalysed: internalErrors[0] };
+    const report: FileReport = { path, text, lines: new LineIndex(text), spec: loaded.spec, findings: [...loaded.findings], internalErrors, notAnalysed: internalErrors[0] };
+    // What the model code printed is the user's to see even then.
+    if (loaded.modelOutput) report.modelOutput = loaded.modelOutput;
+    return report;
   }
 }
 
