@@ -107,6 +107,20 @@ export function analyzeParsed(
 
 /** Compile, analyse, check and suppress a loaded spec. Never throws. */
 export function analyzeLoaded(path: string, text: string, loaded: LoadedSpec, options: AnalyzeOptions = {}): FileReport {
+  try {
+    return runStages(path, text, loaded, options);
+  } catch (error) {
+    // Each stage guards itself; this catches a bug in the code between them, so no front ever gets a rejection.
+    const reason = `the analysis of the spec failed: ${errorText(error)}`;
+    const internalErrors = [...loaded.internalErrors, reason];
+    const report: FileReport = { path, text, lines: new LineIndex(text), spec: loaded.spec, findings: [...loaded.findings], internalErrors, notAnalysed: internalErrors[0] };
+    // What the model code printed is the user's to see even then.
+    if (loaded.modelOutput) report.modelOutput = loaded.modelOutput;
+    return report;
+  }
+}
+
+function runStages(path: string, text: string, loaded: LoadedSpec, options: AnalyzeOptions): FileReport {
   const config = options.config ?? DEFAULT_CONFIG;
   const lines = new LineIndex(text);
   const report: FileReport = { path, text, lines, spec: loaded.spec, findings: [], internalErrors: [...loaded.internalErrors] };

@@ -10,6 +10,7 @@ import type { FileReport } from '../../server/src/analyze';
 import type { EpiscopeConfig } from '../../server/src/config';
 import { findRule } from '../../server/src/rules/registry';
 import type { Finding, Severity } from '../../server/src/rules/types';
+import type { Span } from '../../server/src/spec/types';
 import { analyzeTs } from '../typescript/ts-specs';
 import { applyFix, checkSpec, findingsOf, spanText } from './specs';
 
@@ -35,10 +36,14 @@ export interface ExpectedFinding {
   severity?: Severity;
   /** Fix titles in order: patterns, or exact titles. */
   fixes?: (RegExp | string)[];
-  /** The exact texts the related locations' spans cover, in order. */
-  related?: string[];
+  /** The exact texts the related locations' spans cover, in order, or just how many there are. */
+  related?: string[] | number;
   /** The states of the finding's trace, in order, or just how many steps it has. */
   trace?: string[] | number;
+  /** The (state, action) pairs of the finding's trace, in order; the last step often has no action. */
+  steps?: Array<[string, string | undefined]>;
+  /** The editor tags, exactly (e.g. `unnecessary`). */
+  tags?: string[];
 }
 
 export interface ValidCase extends RuleCase {
@@ -112,14 +117,34 @@ export function testRule(ruleId: string, table: RuleTable): void {
  */
 const LEAKED_VALUE = /\bNaN\b|(?<!\bis )\bundefined\b/;
 
+/** A span inside the text: an editor can show it, and a fix can apply it. */
+function expectInside(report: FileReport, span: Span, what: string): void {
+  expect(span.start, what).toBeGreaterThanOrEqual(0);
+  expect(span.end, what).toBeGreaterThanOrEqual(span.start);
+  expect(span.end, what).toBeLessThanOrEqual(report.text.length);
+}
+
 function checkFindingBasics(report: FileReport, finding: Finding): void {
-  expect(finding.span.start).toBeGreaterThanOrEqual(0);
-  expect(finding.span.end).toBeGreaterThanOrEqual(finding.span.start);
-  expect(finding.span.end).toBeLessThanOrEqual(report.text.length);
+  expectInside(report, finding.span, 'the finding');
   expect(finding.message).not.toMatch(LEAKED_VALUE);
   expect(finding.message.trim()).not.toBe('');
-  for (const step of finding.trace ?? []) expect(JSON.stringify(step)).not.toMatch(/\bNaN\b/);
-  for (const related of finding.related ?? []) expect(related.message).not.toMatch(LEAKED_VALUE);
+  for (const step of finding.trace ?? []) {
+    expect(JSON.stringify(step)).not.toMatch(/\bNaN\b/);
+    if (step.span) expectInside(report, step.span, `the trace step at '${step.state}'`);
+  }
+  for (const related of finding.related ?? []) {
+    expect(related.message).not.toMatch(LEAKED_VALUE);
+    expectInside(report, related.span, `the related location "${related.message}"`);
+  }
+  for (const fix of finding.fixes ?? []) {
+    expect(fix.title).not.toMatch(LEAKED_VALUE);
+    // Edits apply back to front, so they must not overlap.
+    const edits = [...fix.edits].sort((a, b) => a.span.start - b.span.start);
+    edits.forEach((edit, i) => {
+      expectInside(report, edit.span, `an edit of "${fix.title}"`);
+      if (i > 0) expect(edit.span.start, `the edits of "${fix.title}" overlap`).toBeGreaterThanOrEqual(edits[i - 1].span.end);
+    });
+  }
   // A rule may raise or lower its own severity per finding (documented on the rule); it is always one of the three.
   expect(['error', 'warning', 'info']).toContain(finding.severity);
 }
@@ -131,7 +156,10 @@ function checkExpected(report: FileReport, finding: Finding, expected: ExpectedF
   for (const piece of expected.says ?? []) expect(finding.message).toContain(piece);
   if (typeof expected.trace === 'number') expect(finding.trace ?? []).toHaveLength(expected.trace);
   else if (expected.trace) expect((finding.trace ?? []).map((step) => step.state)).toEqual(expected.trace);
-  if (expected.related) expect((finding.related ?? []).map((r) => spanText(report, r.span))).toEqual(expected.related);
+  if (expected.steps) expect((finding.trace ?? []).map((step) => [step.state, step.action])).toEqual(expected.steps);
+  if (typeof expected.related === 'number') expect(finding.related ?? []).toHaveLength(expected.related);
+  else if (expected.related) expect((finding.related ?? []).map((r) => spanText(report, r.span))).toEqual(expected.related);
+  if (expected.tags) expect(finding.tags ?? []).toEqual(expected.tags);
   if (expected.severity) expect(finding.severity).toBe(expected.severity);
   if (expected.fixes) {
     const titles = (finding.fixes ?? []).map((fix) => fix.title);

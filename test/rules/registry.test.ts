@@ -1,3 +1,5 @@
+import { existsSync, readFileSync } from 'node:fs';
+import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
 import { findRule, RULES } from '../../server/src/rules/registry';
 import type { Severity } from '../../server/src/rules/types';
@@ -82,5 +84,13 @@ describe('rule registry', () => {
       expect(Number.isFinite(threshold.default), `${rule.id}.${name}`).toBe(true);
       expect(threshold.description.length, `${rule.id}.${name}`).toBeGreaterThan(40);
     }
+  });
+
+  it.each(RULES.map((rule) => [rule.id] as const))('%s has a table file under test/rules that runs it through the rule tester', (id) => {
+    const file = join(__dirname, `${id}.test.ts`);
+    expect(existsSync(file), `${id}.test.ts`).toBe(true);
+    const text = readFileSync(file, 'utf8');
+    expect(text).toMatch(/^testRule\(/m);
+    expect(text).toContain(`'${id}'`);
   });
 });
