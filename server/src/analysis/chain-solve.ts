@@ -16,6 +16,7 @@
 import type { CompiledModel } from '../model/compiled';
 import type { ModelGraph } from './graph';
 import { scaledWidth } from './interval-iteration';
+import { guessAt } from './warm-start';
 import { BlockSolver, newSolverCounters, type SolverCounters, type SparseMatrix } from './sparse-linear';
 
 /**
@@ -150,7 +151,9 @@ function wantedBlocksOf(system: ChainSystem, iterate: Uint8Array): Uint8Array | 
  * Sound bounds on the values of `iterate` states (each a finite-valued, non-absorbing state;
  * every other state's value is 0) for the reward `reward` per choice, written interleaved into
  * `bounds` (lower at 2s, upper at 2s+1). False, with nothing written, when the solve or its
- * certificate fails or the bounds are wider than `precision` (scaled as scaledWidth).
+ * certificate fails or the bounds are wider than `precision` (scaled as scaledWidth). `guess`
+ * (per state, NaN: none) is where the iterative blocks start; `estimate`, when given, receives
+ * the solve's x per state (what a later solve of a nearby system may start from).
  */
 export function certifiedChainSolve(
   system: ChainSystem,
@@ -158,10 +161,13 @@ export function certifiedChainSolve(
   iterate: Uint8Array,
   options: { precision: number; lowerBound?: number; upperBound?: number },
   bounds: Float64Array,
+  guess?: Float64Array,
+  estimate?: Float64Array,
 ): boolean {
   const wanted = wantedBlocksOf(system, iterate);
   if (!wanted) return false;
-  const solved = certifiedSolve(system, reward, wanted, 0, undefined, options.precision);
+  const rowGuess = guess ? Float64Array.from(system.stateOf, (s) => guessAt(guess, s, 0)) : undefined;
+  const solved = certifiedSolve(system, reward, wanted, 0, rowGuess, options.precision);
   if (!solved) return false;
   const { x, radius } = solved;
   const floor = options.lowerBound ?? -Infinity;
@@ -179,6 +185,7 @@ export function certifiedChainSolve(
     if (!wanted[blockOf[i]]) continue;
     bounds[2 * system.stateOf[i]] = lower[i];
     bounds[2 * system.stateOf[i] + 1] = upper[i];
+    if (estimate) estimate[system.stateOf[i]] = x[i];
   }
   return true;
 }
