@@ -95,6 +95,8 @@ export function transferList(snapshot: AnalysisSnapshot): ArrayBuffer[] {
   };
   visit(snapshot.hoverIndex);
   visit(snapshot.values);
+  visit(snapshot.solution?.values);
+  if (snapshot.solution) buffers.add(snapshot.solution.idStart.buffer as ArrayBuffer);
   return [...buffers];
 }
 
