@@ -37,6 +37,13 @@ export interface LinearSystem {
   matrix: SparseMatrix;
   solver: BlockSolver;
   discount: number;
+  /**
+   * A vector D > 0 with (m A) D >= 1 on the rows of `wanted` blocks, checked as errorBound checks
+   * E, found by the first certificate on this system that needed one. Every later residual r is
+   * then covered by max |r| times D without a solve (the residual times a verified bound on the
+   * expected remaining steps, when the discount is 1).
+   */
+  errorDirection?: { wanted: Uint8Array; vector: Float64Array };
 }
 
 /** A chain's system with the state of each row (one state per row). */
@@ -216,7 +223,7 @@ export function certifiedSolve(
   // When the first solve's bound is already well inside the precision, refinement would only
   // cost solves; the bound is as sound either way.
   if (precision !== undefined) {
-    const early = certifiedRadius(system, x, residual, residualError, want);
+    const early = certifiedRadius(system, x, residual, residualError, want, precision);
     if (early && withinPrecision(x, early, want, solver.blockOf, precision / 4)) return { x, radius: early };
   }
   // Iterative refinement with a residual computed in double-double (Higham 2002, ch. 12): a
@@ -238,17 +245,65 @@ export function certifiedSolve(
     worst = trialWorst;
   }
   if (!Number.isFinite(worst)) return undefined;
-  const radius = certifiedRadius(system, x, residual, residualError, want);
+  const radius = certifiedRadius(system, x, residual, residualError, want, precision);
   return radius ? { x, radius } : undefined;
 }
 
-/** The certified radius around x from its residual, including the rounding of forming x -+ radius. */
-function certifiedRadius(system: LinearSystem, x: Float64Array, residual: Float64Array, residualError: Float64Array, want: Uint8Array): Float64Array | undefined {
+/**
+ * The certified radius around x from its residual, including the rounding of forming x -+ radius.
+ * With a precision, the system's error direction is tried first (no solve once it is known), and
+ * kept when its radius is within a quarter of the precision.
+ */
+function certifiedRadius(system: LinearSystem, x: Float64Array, residual: Float64Array, residualError: Float64Array, want: Uint8Array, precision?: number): Float64Array | undefined {
+  if (precision !== undefined) {
+    const direction = errorDirectionOf(system, want);
+    const covering = direction && coveringBound(system, direction, residual, residualError, want);
+    if (covering) {
+      withRounding(x, covering);
+      if (withinPrecision(x, covering, want, system.solver.blockOf, precision / 4)) return covering;
+    }
+  }
   const radius = errorBound(system, residual, residualError, want);
   if (!radius) return undefined;
+  withRounding(x, radius);
+  return radius;
+}
+
+function withRounding(x: Float64Array, radius: Float64Array): void {
   // The subtraction and addition that form x -+ radius round too; two units in the last place cover them.
   for (let i = 0; i < x.length; i++) radius[i] += 2 * Number.EPSILON * (Math.abs(x[i]) + radius[i]);
-  return radius;
+}
+
+/** The system's error direction for the wanted blocks: the cached one when its blocks cover them, else a new one (undefined when none is found). */
+function errorDirectionOf(system: LinearSystem, want: Uint8Array): Float64Array | undefined {
+  const cached = system.errorDirection;
+  if (cached) {
+    let covers = true;
+    for (let b = 0; b < want.length && covers; b++) if (want[b] && !cached.wanted[b]) covers = false;
+    if (covers) return cached.vector;
+  }
+  const ones = new Float64Array(system.layout.rows).fill(1);
+  const vector = scaledErrorBound(system, ones, new Float64Array(ones.length), want, 0, 1e-5);
+  if (!vector || vector === 'rounding') return undefined;
+  system.errorDirection = { wanted: want.slice(), vector };
+  return vector;
+}
+
+/**
+ * E = c D covering the residual: (m A) E >= c >= |res| + its error on every wanted row, since
+ * (m A) D >= 1 was checked row by row with rounding. Berman and Plemmons' M-matrix argument of
+ * errorBound applies to E unchanged. Undefined when the residual is not finite.
+ */
+function coveringBound(system: LinearSystem, direction: Float64Array, residual: Float64Array, residualError: Float64Array, want: Uint8Array): Float64Array | undefined {
+  const { blockOf } = system.solver;
+  let largest = 0;
+  for (let i = 0; i < residual.length; i++) if (want[blockOf[i]]) largest = Math.max(largest, Math.abs(residual[i]) + residualError[i]);
+  if (!Number.isFinite(largest)) return undefined;
+  // The product rounds; a relative 1e-12 more covers it.
+  const scale = Math.max(largest, Number.MIN_VALUE) * (1 + 1e-12);
+  const bound = new Float64Array(residual.length);
+  for (let i = 0; i < bound.length; i++) if (want[blockOf[i]]) bound[i] = scale * direction[i];
+  return bound;
 }
 
 function withinPrecision(x: Float64Array, radius: Float64Array, want: Uint8Array, blockOf: Int32Array, precision: number): boolean {
