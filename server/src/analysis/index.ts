@@ -132,6 +132,7 @@ export function analyzeModel(model: CompiledModel, options: AnalyzeModelOptions)
     sweeps: ctx.sweepTotal ?? 0,
     warmStarts: ctx.warmStarts ?? 0,
     solution: ctx.solved && model.horizon === undefined ? warmStartOf(model, ctx.solved) : undefined,
+    derivedStart: options.startFrom?.derived,
   };
 }
 

@@ -125,4 +125,6 @@ export interface Analysis {
   warmStarts: number;
   /** This analysis' solution, for the next analysis of the same spec to start from (AnalyzeModelOptions.keepSolution). */
   solution?: WarmStart;
+  /** The previous solution's derived parts (WarmStart.derived), where analyses derived from this one start. */
+  derivedStart?: Record<string, WarmStart>;
 }

@@ -16,6 +16,8 @@ export interface WarmStart {
   discount: number;
   /** Per solved problem (see problem names in analysis/index.ts): a value per state, NaN where none was solved. */
   values: Record<string, Float64Array>;
+  /** The solutions of analyses derived from this one (e.g. the goal route's chain), by name. */
+  derived?: Record<string, WarmStart>;
 }
 
 /** Problems solved at discount 1 whatever the model's discount (reach probabilities, lengths): their guesses survive a discount change. */
