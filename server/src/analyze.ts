@@ -141,7 +141,7 @@ function runStages(path: string, text: string, loaded: LoadedSpec, options: Anal
   const analysisWanted = options.analysis === true || enabled.some((rule) => rule.needs === 'analysis');
   if (compiled.model && analysisWanted && !options.isCancelled?.()) {
     try {
-      report.analysis = analyzeModel(compiled.model, { precision: config.precision });
+      report.analysis = analyzeModel(compiled.model, { precision: config.precision, startFrom: options.startFrom, keepSolution: options.keepSolution });
     } catch (error) {
       report.notAnalysed = `the analysis failed: ${errorText(error)}`;
       report.internalErrors.push(report.notAnalysed);

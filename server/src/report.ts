@@ -5,6 +5,7 @@
  */
 import type { RolloutReport } from './analysis/rollout-stats';
 import type { Analysis } from './analysis/types';
+import type { WarmStart } from './analysis/warm-start';
 import type { ResolvedConfig } from './config';
 import type { Finding, SuppressedFinding } from './findings';
 import type { CompiledModel } from './model/compiled';
@@ -22,6 +23,13 @@ export interface AnalyzeOptions {
    * because the front shows it (the CLI's return ranges, hovers). Default: only when a rule needs it.
    */
   analysis?: boolean;
+  /**
+   * The solution of an earlier analysis of the same spec (Analysis.solution), which the solvers
+   * start from; every printed bound is verified as on a cold start (analysis/warm-start.ts).
+   */
+  startFrom?: WarmStart;
+  /** Keep the analysis' solution in Analysis.solution (the language server hands it to the next analysis). */
+  keepSolution?: boolean;
 }
 
 /** What loading a spec of either format gives: the spec, the loader's findings, and for TypeScript the run's results. */

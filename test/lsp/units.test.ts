@@ -1,7 +1,8 @@
 /**
  * The language server's pure parts, in-process: offset mapping through edits, the display of
  * sound intervals and probabilities, and the edits behind "ignore this rule here" (checked with the
- * config loader and the suppression code that the command line uses).
+ * config loader and the suppression code that the command line uses), and the scheduler handing
+ * each analysis the last solution of its document (warm start).
  */
 import fc from 'fast-check';
 import { describe, expect, it } from 'vitest';
@@ -12,6 +13,12 @@ import { formatInterval, formatProbability } from '../../server/src/lsp/format';
 import { ignoreCommentEdit, ignoreEntryEdit } from '../../server/src/lsp/ignore-edits';
 import { mergeSettings, readSettings } from '../../server/src/lsp/settings';
 import { resolveConfig } from '../../server/src/config';
+import type { JobHandle, WorkerPool } from '../../server/src/lsp/pool';
+import type { AnalysisSnapshot } from '../../server/src/lsp/protocol';
+import { AnalysisScheduler, type JobInput } from '../../server/src/lsp/scheduler';
+import { DEFAULT_SETTINGS } from '../../server/src/lsp/settings';
+import { buildSnapshot } from '../../server/src/lsp/snapshot';
+import { warehouseSpecText } from './warehouse-spec';
 
 describe('DocumentStore offset mapping', () => {
   const uri = 'file:///x.mdp.json';
@@ -165,5 +172,58 @@ describe('settings over the config file', () => {
     expect(merged.rules).toEqual({ 'reward-scale': 'off', 'reward-loop': 'off' });
     expect(merged.seed).toBe(7);
     expect(merged.rollouts).toBe(100);
+  });
+});
+
+describe('warm start through the scheduler', () => {
+  /** A pool that runs the worker's pipeline in-process and records the jobs it was given. */
+  function inProcessPool(jobs: JobInput[]): WorkerPool {
+    const pool = {
+      run(job: JobInput): JobHandle {
+        jobs.push(job);
+        const report = analyzeJsonText(job.path, job.text, { analysis: true, startFrom: job.startFrom, keepSolution: true });
+        const snapshot = buildSnapshot({ uri: job.uri, version: job.version, report, durationMs: 1 });
+        snapshot.solution = report.analysis?.solution;
+        return { promise: Promise.resolve(snapshot), cancel: () => undefined };
+      },
+    };
+    return pool as unknown as WorkerPool;
+  }
+
+  it('hands each analysis the last solution of the same document only, and the values match a cold start', async () => {
+    const jobs: JobInput[] = [];
+    const texts = new Map<string, string>();
+    const snapshots: AnalysisSnapshot[] = [];
+    const scheduler = new AnalysisScheduler(inProcessPool(jobs), {
+      prepare: async (uri) => ({ uri, version: jobs.length + 1, path: `${uri}.mdp.json`, text: texts.get(uri)!, settings: DEFAULT_SETTINGS, openConfigTexts: {}, exec: false }),
+      started: () => () => undefined,
+      completed: (snapshot) => snapshots.push(snapshot),
+      failed: () => undefined,
+    });
+    const text = warehouseSpecText(300);
+    texts.set('a', text);
+    texts.set('b', text.replace('"discount": 0.95', '"discount": 0.9'));
+    scheduler.schedule('a', true);
+    await scheduler.current('a');
+    scheduler.schedule('b', true);
+    await scheduler.current('b');
+    texts.set('a', text.replace('"reward":-1}', '"reward":-4}'));
+    scheduler.schedule('a', true);
+    const warm = await scheduler.current('a');
+    expect(jobs.map((j) => j.startFrom !== undefined)).toEqual([false, false, true]);
+    // The solution handed on is the one of document a's first analysis, not b's.
+    expect(jobs[2].startFrom!.discount).toBe(0.95);
+    // The scheduler keeps the solution; the snapshots that serve hovers no longer carry it.
+    expect(snapshots.every((s) => s.solution === undefined)).toBe(true);
+    const cold = buildSnapshot({ uri: 'a', version: 3, report: analyzeJsonText('a.mdp.json', texts.get('a')!, { analysis: true }), durationMs: 1 });
+    expect(warm!.diagnostics).toEqual(cold.diagnostics);
+    expect(warm!.lens).toEqual(cold.lens);
+    const [w, c] = [warm!.values!, cold.values!];
+    for (let s = 0; s < c.stateCount; s++) {
+      expect(Math.abs(w.optimalLower[s] - c.optimalLower[s])).toBeLessThanOrEqual(2e-6 * Math.max(1, Math.abs(c.optimalLower[s]) / 1000));
+      expect(Math.abs(w.randomUpper[s] - c.randomUpper[s])).toBeLessThanOrEqual(2e-6 * Math.max(1, Math.abs(c.randomUpper[s]) / 1000));
+    }
+    scheduler.forget('a');
+    scheduler.dispose();
   });
 });

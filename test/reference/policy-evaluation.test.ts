@@ -6,38 +6,13 @@
  * 6.2.7: a deterministic stationary optimal policy exists for finite discounted MDPs).
  * The random MDPs are seeded models of our own.
  */
-import { lusolve } from 'mathjs';
 import { describe, expect, it } from 'vitest';
 import { analyzeModel } from '../../server/src/analysis';
 import type { Analysis } from '../../server/src/analysis/types';
 import type { CompiledModel } from '../../server/src/model/compiled';
+import { allPolicies, evaluate, properModel, uniform } from '../helpers/policy-values';
 import { randomModel, seededRandom } from './gridworlds';
 import { ModelBuilder } from '../../server/src/model/compiled';
-
-/** Solves (I - discount P) v = r for the chain where state s takes choices with the given weights. */
-function evaluate(model: CompiledModel, weights: (s: number, c: number) => number): number[] {
-  const n = model.stateCount;
-  const a: number[][] = Array.from({ length: n }, (_, i) => Array.from({ length: n }, (_, j) => (i === j ? 1 : 0)));
-  const b: number[] = new Array(n).fill(0);
-  for (let s = 0; s < n; s++) {
-    if (model.terminal[s] !== 0) continue;
-    for (let c = model.choiceStart[s]; c < model.choiceStart[s + 1]; c++) {
-      const w = weights(s, c);
-      if (w === 0) continue;
-      for (let k = model.outcomeStart[c]; k < model.outcomeStart[c + 1]; k++) {
-        const p = model.outcomeProb[k];
-        b[s] += w * p * model.outcomeReward[k];
-        const t = model.outcomeTarget[k];
-        // Terminal states are worth 0: their column never contributes.
-        if (model.terminal[t] === 0) a[s][t] -= w * model.discount * p;
-      }
-    }
-  }
-  const solution = lusolve(a, b) as number[][];
-  return solution.map((row) => row[0]);
-}
-
-const uniform = (model: CompiledModel) => (s: number) => 1 / (model.choiceStart[s + 1] - model.choiceStart[s]);
 
 function expectInside(values: { lower: Float64Array; upper: Float64Array }, exact: number[], label: string): void {
   for (let s = 0; s < exact.length; s++) {
@@ -82,26 +57,6 @@ describe('discounts near 1, continuing and episodic (mathjs lusolve)', () => {
   }
 });
 
-/** Every deterministic policy of a small model, as choice arrays. */
-function* allPolicies(model: CompiledModel): Generator<Int32Array> {
-  const n = model.stateCount;
-  const policy = new Int32Array(n).fill(-1);
-  for (let s = 0; s < n; s++) if (model.choiceStart[s] < model.choiceStart[s + 1]) policy[s] = model.choiceStart[s];
-  for (;;) {
-    yield policy;
-    let s = 0;
-    for (; s < n; s++) {
-      if (policy[s] < 0) continue;
-      if (policy[s] + 1 < model.choiceStart[s + 1]) {
-        policy[s]++;
-        break;
-      }
-      policy[s] = model.choiceStart[s];
-    }
-    if (s === n) return;
-  }
-}
-
 describe('optimal values against brute force over every deterministic policy (mathjs lusolve)', () => {
   for (let seed = 101; seed <= 106; seed++) {
     const discount = [0.5, 0.9, 0.95][seed % 3];
@@ -117,31 +72,6 @@ describe('optimal values against brute force over every deterministic policy (ma
     });
   }
 });
-
-/**
- * Seeded random models of our own at discount 1 in which every choice ends the episode with
- * probability at least 0.2, so every policy is proper and every value finite.
- */
-function properModel(seed: number, states: number, actions: number): CompiledModel {
-  const random = seededRandom(seed);
-  const b = new ModelBuilder({ discount: 1, maximize: true });
-  const nowhere = { start: 0, end: 0 };
-  for (let s = 0; s < states; s++) b.addState(`s${s}`, undefined, nowhere);
-  const goal = b.addState('goal', 'goal', nowhere);
-  const pit = b.addState('pit', 'failure', nowhere);
-  for (let s = 0; s < states; s++) {
-    for (let a = 0; a < actions; a++) {
-      const stay = 0.2 + 0.6 * random();
-      const onward = Math.floor(random() * states);
-      const end = random() < 0.5 ? goal : pit;
-      b.addChoice(s, `a${a}`, -1, [
-        { target: onward, probability: stay, reward: Math.round((random() * 4 - 2) * 10) / 10 },
-        { target: end, probability: 1 - stay, reward: end === goal ? 5 : -5 },
-      ]);
-    }
-  }
-  return b.finish([{ state: 0, probability: 1 }]);
-}
 
 describe('total reward at discount 1 against mathjs lusolve (proper policies only)', () => {
   for (let seed = 201; seed <= 210; seed++) {

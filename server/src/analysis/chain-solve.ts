@@ -16,6 +16,7 @@
 import type { CompiledModel } from '../model/compiled';
 import type { ModelGraph } from './graph';
 import { scaledWidth } from './interval-iteration';
+import { guessAt } from './warm-start';
 import { BlockSolver, newSolverCounters, type SolverCounters, type SparseMatrix } from './sparse-linear';
 
 /**
@@ -36,6 +37,13 @@ export interface LinearSystem {
   matrix: SparseMatrix;
   solver: BlockSolver;
   discount: number;
+  /**
+   * A vector D > 0 with (m A) D >= 1 on the rows of `wanted` blocks, checked as errorBound checks
+   * E, found by the first certificate on this system that needed one. Every later residual r is
+   * then covered by max |r| times D without a solve (the residual times a verified bound on the
+   * expected remaining steps, when the discount is 1).
+   */
+  errorDirection?: { wanted: Uint8Array; vector: Float64Array };
 }
 
 /** A chain's system with the state of each row (one state per row). */
@@ -150,7 +158,9 @@ function wantedBlocksOf(system: ChainSystem, iterate: Uint8Array): Uint8Array | 
  * Sound bounds on the values of `iterate` states (each a finite-valued, non-absorbing state;
  * every other state's value is 0) for the reward `reward` per choice, written interleaved into
  * `bounds` (lower at 2s, upper at 2s+1). False, with nothing written, when the solve or its
- * certificate fails or the bounds are wider than `precision` (scaled as scaledWidth).
+ * certificate fails or the bounds are wider than `precision` (scaled as scaledWidth). `guess`
+ * (per state, NaN: none) is where the iterative blocks start; `estimate`, when given, receives
+ * the solve's x per state (what a later solve of a nearby system may start from).
  */
 export function certifiedChainSolve(
   system: ChainSystem,
@@ -158,10 +168,13 @@ export function certifiedChainSolve(
   iterate: Uint8Array,
   options: { precision: number; lowerBound?: number; upperBound?: number },
   bounds: Float64Array,
+  guess?: Float64Array,
+  estimate?: Float64Array,
 ): boolean {
   const wanted = wantedBlocksOf(system, iterate);
   if (!wanted) return false;
-  const solved = certifiedSolve(system, reward, wanted, 0, undefined, options.precision);
+  const rowGuess = guess ? Float64Array.from(system.stateOf, (s) => guessAt(guess, s, 0)) : undefined;
+  const solved = certifiedSolve(system, reward, wanted, 0, rowGuess, options.precision);
   if (!solved) return false;
   const { x, radius } = solved;
   const floor = options.lowerBound ?? -Infinity;
@@ -179,6 +192,7 @@ export function certifiedChainSolve(
     if (!wanted[blockOf[i]]) continue;
     bounds[2 * system.stateOf[i]] = lower[i];
     bounds[2 * system.stateOf[i] + 1] = upper[i];
+    if (estimate) estimate[system.stateOf[i]] = x[i];
   }
   return true;
 }
@@ -209,7 +223,7 @@ export function certifiedSolve(
   // When the first solve's bound is already well inside the precision, refinement would only
   // cost solves; the bound is as sound either way.
   if (precision !== undefined) {
-    const early = certifiedRadius(system, x, residual, residualError, want);
+    const early = certifiedRadius(system, x, residual, residualError, want, precision);
     if (early && withinPrecision(x, early, want, solver.blockOf, precision / 4)) return { x, radius: early };
   }
   // Iterative refinement with a residual computed in double-double (Higham 2002, ch. 12): a
@@ -231,17 +245,65 @@ export function certifiedSolve(
     worst = trialWorst;
   }
   if (!Number.isFinite(worst)) return undefined;
-  const radius = certifiedRadius(system, x, residual, residualError, want);
+  const radius = certifiedRadius(system, x, residual, residualError, want, precision);
   return radius ? { x, radius } : undefined;
 }
 
-/** The certified radius around x from its residual, including the rounding of forming x -+ radius. */
-function certifiedRadius(system: LinearSystem, x: Float64Array, residual: Float64Array, residualError: Float64Array, want: Uint8Array): Float64Array | undefined {
+/**
+ * The certified radius around x from its residual, including the rounding of forming x -+ radius.
+ * With a precision, the system's error direction is tried first (no solve once it is known), and
+ * kept when its radius is within a quarter of the precision.
+ */
+function certifiedRadius(system: LinearSystem, x: Float64Array, residual: Float64Array, residualError: Float64Array, want: Uint8Array, precision?: number): Float64Array | undefined {
+  if (precision !== undefined) {
+    const direction = errorDirectionOf(system, want);
+    const covering = direction && coveringBound(system, direction, residual, residualError, want);
+    if (covering) {
+      withRounding(x, covering);
+      if (withinPrecision(x, covering, want, system.solver.blockOf, precision / 4)) return covering;
+    }
+  }
   const radius = errorBound(system, residual, residualError, want);
   if (!radius) return undefined;
+  withRounding(x, radius);
+  return radius;
+}
+
+function withRounding(x: Float64Array, radius: Float64Array): void {
   // The subtraction and addition that form x -+ radius round too; two units in the last place cover them.
   for (let i = 0; i < x.length; i++) radius[i] += 2 * Number.EPSILON * (Math.abs(x[i]) + radius[i]);
-  return radius;
+}
+
+/** The system's error direction for the wanted blocks: the cached one when its blocks cover them, else a new one (undefined when none is found). */
+function errorDirectionOf(system: LinearSystem, want: Uint8Array): Float64Array | undefined {
+  const cached = system.errorDirection;
+  if (cached) {
+    let covers = true;
+    for (let b = 0; b < want.length && covers; b++) if (want[b] && !cached.wanted[b]) covers = false;
+    if (covers) return cached.vector;
+  }
+  const ones = new Float64Array(system.layout.rows).fill(1);
+  const vector = scaledErrorBound(system, ones, new Float64Array(ones.length), want, 0, 1e-5);
+  if (!vector || vector === 'rounding') return undefined;
+  system.errorDirection = { wanted: want.slice(), vector };
+  return vector;
+}
+
+/**
+ * E = c D covering the residual: (m A) E >= c >= |res| + its error on every wanted row, since
+ * (m A) D >= 1 was checked row by row with rounding. Berman and Plemmons' M-matrix argument of
+ * errorBound applies to E unchanged. Undefined when the residual is not finite.
+ */
+function coveringBound(system: LinearSystem, direction: Float64Array, residual: Float64Array, residualError: Float64Array, want: Uint8Array): Float64Array | undefined {
+  const { blockOf } = system.solver;
+  let largest = 0;
+  for (let i = 0; i < residual.length; i++) if (want[blockOf[i]]) largest = Math.max(largest, Math.abs(residual[i]) + residualError[i]);
+  if (!Number.isFinite(largest)) return undefined;
+  // The product rounds; a relative 1e-12 more covers it.
+  const scale = Math.max(largest, Number.MIN_VALUE) * (1 + 1e-12);
+  const bound = new Float64Array(residual.length);
+  for (let i = 0; i < bound.length; i++) if (want[blockOf[i]]) bound[i] = scale * direction[i];
+  return bound;
 }
 
 function withinPrecision(x: Float64Array, radius: Float64Array, want: Uint8Array, blockOf: Int32Array, precision: number): boolean {

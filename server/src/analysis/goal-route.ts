@@ -29,6 +29,9 @@ const REACH_TOLERANCE = 1e-6;
 
 const routes = new WeakMap<Analysis, GoalRoute | null>();
 
+/** The goal route's name among an analysis' derived solutions. */
+const ROUTE = 'goal-route';
+
 /** The goal route of an analysed model, computed once per analysis (several rules ask for it). */
 export function goalRouteOf(model: CompiledModel, analysis: Analysis, precision: number): GoalRoute | undefined {
   let route = routes.get(analysis);
@@ -73,5 +76,8 @@ export function goalRoute(model: CompiledModel, analysis: Analysis, precision: n
     else policy[s] = fallback && fallback[s] >= 0 ? fallback[s] : model.choiceStart[s];
   }
   const chain = policyChain(model, policy);
-  return { policy, evaluation: analyzeModel(chain.model, { precision }) };
+  // The route's chain is analysed like the model: from the last route's solution, kept for the next one.
+  const evaluation = analyzeModel(chain.model, { precision, startFrom: analysis.derivedStart?.[ROUTE], keepSolution: analysis.solution !== undefined });
+  if (analysis.solution && evaluation.solution) (analysis.solution.derived ??= {})[ROUTE] = evaluation.solution;
+  return { policy, evaluation };
 }

@@ -20,6 +20,7 @@ import { attainingPolicy, bestChoices, choiceBounds } from './policy';
 import { almostSureReach, canReach, reachableFromStart } from './reachability';
 import { stronglyConnectedComponents } from './scc';
 import { policyChoiceMask, solveValues, sortWithinComponents, type AnalysisContext, type ValueSolution } from './total-reward';
+import { guessesFor, UNDISCOUNTED_PREFIX, warmStartOf, type WarmStart } from './warm-start';
 import type {
   Analysis,
   Bounds,
@@ -43,6 +44,10 @@ export interface AnalyzeModelOptions {
   maxSweeps?: number;
   /** Set false to solve by sweeps only (no linear solves or policy iteration). */
   directSolves?: boolean;
+  /** A previous analysis' solution (of an earlier version of the same spec): the solvers start from it. */
+  startFrom?: WarmStart;
+  /** Keep this analysis' solution in Analysis.solution, for the next analysis to start from. */
+  keepSolution?: boolean;
 }
 
 /**
@@ -77,6 +82,8 @@ export function analyzeModel(model: CompiledModel, options: AnalyzeModelOptions)
     maxSweeps: Math.min(options.maxSweeps ?? MAX_SWEEPS, MAX_SWEEPS, Math.max(1000, Math.floor(SWEEP_WORK_LIMIT / Math.max(1, model.outcomeCount)))),
     directSolves: options.directSolves,
     gainBudget: GAIN_WORK_LIMIT,
+    guesses: guessesFor(model, options.startFrom),
+    solved: options.keepSolution ? new Map() : undefined,
   };
   const reachable = reachableFromStart(model);
   const reward = expectedRewards(model);
@@ -122,6 +129,10 @@ export function analyzeModel(model: CompiledModel, options: AnalyzeModelOptions)
     krylovIterations: ctx.counters?.krylovIterations ?? 0,
     exact: base.exact,
     iterations: base.iterations,
+    sweeps: ctx.sweepTotal ?? 0,
+    warmStarts: ctx.warmStarts ?? 0,
+    solution: ctx.solved && model.horizon === undefined ? warmStartOf(model, ctx.solved) : undefined,
+    derivedStart: options.startFrom?.derived,
   };
 }
 
@@ -219,9 +230,9 @@ function stationaryAnalysis(ctx: AnalysisContext, shapedReward: Float64Array, en
   const transform = shapingShift(model, graph, ctx.mecs);
   // Everything below is solved in unshaped terms when the transform applies, and shifted at the end.
   const reward = transform ? transform.unshaped : shapedReward;
-  const maxSolution = solveValues(ctx, { combine: COMBINE_MAX, reward, discount });
-  const minSolution = solveValues(ctx, { combine: COMBINE_MIN, reward, discount });
-  const randomSolution = solveValues(ctx, { combine: COMBINE_AVERAGE, reward, discount });
+  const maxSolution = solveValues(ctx, { combine: COMBINE_MAX, reward, discount, name: 'max' });
+  const minSolution = solveValues(ctx, { combine: COMBINE_MIN, reward, discount, name: 'min' });
+  const randomSolution = solveValues(ctx, { combine: COMBINE_AVERAGE, reward, discount, name: 'random' });
   const optimalSolution = model.maximize ? maxSolution : minSolution;
   const worstSolution = model.maximize ? minSolution : maxSolution;
   const sigma = model.maximize ? 1 : -1;
@@ -232,33 +243,41 @@ function stationaryAnalysis(ctx: AnalysisContext, shapedReward: Float64Array, en
   const worstQ = choiceBounds(model, reward, discount, worstSolution.lower, worstSolution.upper);
   const worstPolicy = attainingPolicy(graph, worstSolution, worstQ, bestChoices(graph, worstQ, worstSolution.lower, worstSolution.upper, -sigma), -sigma);
 
-  const underPolicy = (policy: Int32Array | undefined) => (perChoice: Float64Array, discountFactor: number, lowerBound?: number, upperBound?: number) =>
-    solveValues(ctx, { combine: policy ? COMBINE_POLICY : COMBINE_AVERAGE, policy, reward: perChoice, discount: discountFactor, lowerBound, upperBound });
-  const describe = (solution: ValueSolution, policy: Int32Array | undefined): PolicyAnalysis => {
+  // Each solve is named for warm starts; the reach and length problems are at discount 1 whatever the model's.
+  const underPolicy = (policy: Int32Array | undefined) => (name: string, perChoice: Float64Array, discountFactor: number, lowerBound?: number, upperBound?: number) =>
+    solveValues(ctx, { combine: policy ? COMBINE_POLICY : COMBINE_AVERAGE, policy, reward: perChoice, discount: discountFactor, lowerBound, upperBound, name });
+  const describe = (solution: ValueSolution, policy: Int32Array | undefined, label: string): PolicyAnalysis => {
     const solve = underPolicy(policy);
     const chain = policy ? policyChoiceMask(graph, policy) : undefined;
     const reach = reachOf(
       model.stateCount,
-      entry.map((e, i) => (e ? withCertainties(graph, pointValues(solve(e, 1, 0, 1), ctx), KIND_CODES[i], 'chain', chain) : undefined)),
+      entry.map((e, i) =>
+        e ? withCertainties(graph, pointValues(solve(`${UNDISCOUNTED_PREFIX}${label}:reach${i}`, e, 1, 0, 1), ctx), KIND_CODES[i], 'chain', chain) : undefined,
+      ),
     );
     const ones = new Float64Array(model.choiceCount).fill(1);
-    const expectedLength = pointValues(solve(ones, 1, 0), ctx);
+    const expectedLength = pointValues(solve(`${UNDISCOUNTED_PREFIX}${label}:length`, ones, 1, 0), ctx);
     return { values: { lower: solution.lower, upper: solution.upper }, reach, expectedLength, policy };
   };
-  const optimal = describe(optimalSolution, optimalPolicy);
-  const worst = describe(worstSolution, worstPolicy);
-  const random = describe(randomSolution, undefined);
+  const optimal = describe(optimalSolution, optimalPolicy, 'optimal');
+  const worst = describe(worstSolution, worstPolicy, 'worst');
+  const random = describe(randomSolution, undefined, 'random');
 
   const goal = entry[0];
   const maxGoalReach = goal
-    ? withCertainties(graph, pointValues(solveValues(ctx, { combine: COMBINE_MAX, reward: goal, discount: 1, lowerBound: 0, upperBound: 1 }), ctx), TERMINAL_CODE.goal, 'max')
+    ? withCertainties(
+        graph,
+        pointValues(solveValues(ctx, { combine: COMBINE_MAX, reward: goal, discount: 1, lowerBound: 0, upperBound: 1, name: `${UNDISCOUNTED_PREFIX}max-goal` }), ctx),
+        TERMINAL_CODE.goal,
+        'max',
+      )
     : new Float64Array(model.stateCount);
 
   // Each term's total under the optimal policy; a lone remainder is the optimal value itself.
   const termValues: Bounds[] = terms.map((t) => {
     if (terms.length === 1 && t.perChoice === shapedReward) return optimal.values;
     if (transform && t.name === 'shaping') return shapingTotal(transform.potentialShift, optimal.reach.none);
-    const solution = underPolicy(optimalPolicy)(t.perChoice, discount);
+    const solution = underPolicy(optimalPolicy)(`term:${t.name}`, t.perChoice, discount);
     return { lower: solution.lower, upper: solution.upper };
   });
 

@@ -29,6 +29,8 @@ export interface PolicyIterationResult {
   /** Per node: the sound bounds, in the problem's own sign. */
   lower: Float64Array;
   upper: Float64Array;
+  /** Per node: the final policy's solved values, in the problem's own sign (a later run's guess). */
+  estimate: Float64Array;
   /** Linear solves spent. */
   solves: number;
   improvements: number;
@@ -37,7 +39,10 @@ export interface PolicyIterationResult {
 /**
  * Sound bounds for the nodes of a best (COMBINE_MAX) or worst (COMBINE_MIN) value problem whose
  * states outside the nodes all hold 0, or undefined when policy iteration or its certificate does
- * not apply or fails (then the caller sweeps).
+ * not apply or fails (then the caller sweeps). `guess` (per state, in the problem's sign; NaN:
+ * none), e.g. the previous analysis' values, picks the first policy: the greedy one for the
+ * guess where every node has a guess and (at discount 1) that policy is proper, else the
+ * attractor policy. The certificate is the same either way.
  */
 export function policyIterationBounds(
   graph: ModelGraph,
@@ -45,6 +50,7 @@ export function policyIterationBounds(
   nodes: Nodes,
   precision: number,
   counters: SolverCounters,
+  guess?: Float64Array,
 ): PolicyIterationResult | undefined {
   const model = op.model;
   const sigma = op.combine === COMBINE_MAX ? 1 : -1;
@@ -55,11 +61,15 @@ export function policyIterationBounds(
 
   const policy = attractorPolicy(graph, nodes, nodeOf, allowed, op.discount);
   if (!policy) return undefined;
+  let previous = nodeGuess(nodes, guess, sigma);
+  if (previous) {
+    const greedy = greedyPolicy(model, nodes, nodeOf, allowed, reward, op.discount, previous, policy);
+    if (op.discount < 1 || properPolicy(graph, nodes, nodeOf, greedy)) policy.set(greedy);
+  }
   let solves = 0;
   let improvements = 0;
   let system: LinearSystem;
   let solved: { x: Float64Array; radius: Float64Array } | undefined;
-  let previous: Float64Array | undefined;
   // Intermediate policies are evaluated without a certificate, each solve starting from the last
   // policy's values (policy iteration with inexact evaluations; Puterman 1994, section 6.5); the
   // policy that no longer improves is then solved and certified, and if its certified values
@@ -95,7 +105,74 @@ export function policyIterationBounds(
     lower[i] = sigma === 1 ? low : -high;
     upper[i] = sigma === 1 ? high : -low;
   }
-  return { lower, upper, solves, improvements };
+  return { lower, upper, estimate: x.map((v) => sigma * v), solves, improvements };
+}
+
+/** The guess per node in the optimiser's sign, or undefined unless every node has one. */
+function nodeGuess(nodes: Nodes, guess: Float64Array | undefined, sigma: number): Float64Array | undefined {
+  if (!guess) return undefined;
+  const out = new Float64Array(nodes.count);
+  for (let i = 0; i < nodes.count; i++) {
+    const v = guess[nodes.members[nodes.start[i]]];
+    if (!Number.isFinite(v)) return undefined;
+    out[i] = sigma * v;
+  }
+  return out;
+}
+
+/** Per node, a choice (or staying) of the largest value under x; ties keep the choice of `fallback`. */
+function greedyPolicy(model: CompiledModel, nodes: Nodes, nodeOf: Int32Array, allowed: (c: number) => boolean, reward: Float64Array, discount: number, x: Float64Array, fallback: Int32Array): Int32Array {
+  const policy = Int32Array.from(fallback);
+  for (let i = 0; i < nodes.count; i++) {
+    let best = policy[i] < 0 ? 0 : choiceValue(model, nodeOf, reward, discount, x, policy[i]);
+    const tolerance = 1e-13 * Math.max(1, Math.abs(best));
+    if (nodes.stay[i] && 0 > best + tolerance) {
+      best = 0;
+      policy[i] = -1;
+    }
+    for (let m = nodes.start[i]; m < nodes.start[i + 1]; m++) {
+      const s = nodes.members[m];
+      for (let c = model.choiceStart[s]; c < model.choiceStart[s + 1]; c++) {
+        if (c === policy[i] || !allowed(c)) continue;
+        const q = choiceValue(model, nodeOf, reward, discount, x, c);
+        if (q > best + tolerance) {
+          best = q;
+          policy[i] = c;
+        }
+      }
+    }
+  }
+  return policy;
+}
+
+/**
+ * Whether the node policy ends the episode (or stays for 0) with probability 1 from every node:
+ * in a finite chain that holds exactly when every node can reach, under the policy, a state
+ * outside the nodes or a node that stays. A breadth-first search backwards decides it.
+ */
+function properPolicy(graph: ModelGraph, nodes: Nodes, nodeOf: Int32Array, policy: Int32Array): boolean {
+  const model = graph.model;
+  const covered = new Uint8Array(nodes.count);
+  const queue = new Int32Array(model.stateCount);
+  let head = 0;
+  let tail = 0;
+  for (let s = 0; s < model.stateCount; s++) if (nodeOf[s] < 0) queue[tail++] = s;
+  const cover = (i: number): void => {
+    covered[i] = 1;
+    for (let m = nodes.start[i]; m < nodes.start[i + 1]; m++) queue[tail++] = nodes.members[m];
+  };
+  for (let i = 0; i < nodes.count; i++) if (policy[i] === -1) cover(i);
+  while (head < tail) {
+    const t = queue[head++];
+    for (let p = graph.predStart[t]; p < graph.predStart[t + 1]; p++) {
+      const c = graph.predChoice[p];
+      const i = nodeOf[graph.choiceState[c]];
+      if (i < 0 || covered[i] || policy[i] !== c || nodeOf[t] === i) continue;
+      cover(i);
+    }
+  }
+  for (let i = 0; i < nodes.count; i++) if (!covered[i]) return false;
+  return true;
 }
 
 /** The rows of a node policy: node i's row uses its policy's choice, or none for "stay" (-1). */

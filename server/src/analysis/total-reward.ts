@@ -81,6 +81,14 @@ export interface AnalysisContext {
   counters?: SolverCounters;
   /** Solve fixed-policy and best or worst values directly (linear solves, policy iteration) before sweeping. On unless false. */
   directSolves?: boolean;
+  /** Starting guesses per problem name, in this model's state order (warm-start.ts); NaN where none. */
+  guesses?: Map<string, Float64Array>;
+  /** When set, each named problem's solved values are kept here for the next analysis to start from. */
+  solved?: Map<string, Float64Array>;
+  /** Solves that started from a guess. */
+  warmStarts?: number;
+  /** Sweeps of every solve (ValueSolution.sweeps counts one solve's). */
+  sweepTotal?: number;
 }
 
 /** Chain systems keyed by discount, then by policy (content-compared) or "random". */
@@ -225,6 +233,8 @@ export interface ValueProblem {
   /** Bounds known in advance for every value (e.g. 0 and 1 for probabilities). */
   lowerBound?: number;
   upperBound?: number;
+  /** The problem's name for warm starts: its guess is looked up, and its solution kept, under it. */
+  name?: string;
 }
 
 export interface ValueSolution {
@@ -297,8 +307,12 @@ export function solveValues(ctx: AnalysisContext, problem: ValueProblem): ValueS
   const op: Operator = { model, combine: problem.combine, policy: problem.policy, reward, discount: problem.discount, allowed };
   const solved = bias ? { ...problem, reward, lowerBound: undefined, upperBound: undefined } : problem;
   const apriori = aprioriBounds(model, solved, iterate, allowed);
-  const solveOptions = { precision: ctx.precision, lowerBound: apriori.lower, upperBound: apriori.upper, acyclic, maxSweeps: ctx.maxSweeps };
+  const guess = problem.name !== undefined ? ctx.guesses?.get(problem.name) : undefined;
+  if (guess && !acyclic) ctx.warmStarts = (ctx.warmStarts ?? 0) + 1;
+  const solveOptions = { precision: ctx.precision, lowerBound: apriori.lower, upperBound: apriori.upper, acyclic, maxSweeps: ctx.maxSweeps, guess };
   const result = (!acyclic && directSolve(ctx, op, solved, nodes, iterate, solveOptions, bounds)) || solveBounds(op, nodes, bounds, solveOptions);
+  ctx.sweepTotal = (ctx.sweepTotal ?? 0) + result.sweeps;
+  if (problem.name !== undefined && ctx.solved) ctx.solved.set(problem.name, solvedEstimate(iterate, bounds, result.estimate));
 
   const lower = new Float64Array(n);
   const upper = new Float64Array(n);
@@ -333,6 +347,21 @@ export function solveValues(ctx: AnalysisContext, problem: ValueProblem): ValueS
 }
 
 /**
+ * What the next analysis starts from: the solver's own estimate where it has one (a linear
+ * solve's x, which a verification accepts without iterating), else the middle of the bounds; NaN
+ * for states that were not solved.
+ */
+function solvedEstimate(iterate: Uint8Array, bounds: Float64Array, estimate: Float64Array | undefined): Float64Array {
+  const out = new Float64Array(iterate.length).fill(NaN);
+  for (let s = 0; s < iterate.length; s++) {
+    if (!iterate[s]) continue;
+    const v = estimate ? estimate[s] : (bounds[2 * s] + bounds[2 * s + 1]) / 2;
+    if (Number.isFinite(v)) out[s] = v;
+  }
+  return out;
+}
+
+/**
  * The direct route: a certified linear solve for a chain (chain-solve.ts), certified policy
  * iteration for the best or worst values (policy-iteration.ts). Undefined when it does not apply
  * or its certificate fails; the sweeps of solveBounds are the fallback.
@@ -343,7 +372,7 @@ function directSolve(
   problem: ValueProblem,
   nodes: Nodes,
   iterate: Uint8Array,
-  options: { precision: number; lowerBound?: number; upperBound?: number },
+  options: { precision: number; lowerBound?: number; upperBound?: number; guess?: Float64Array },
   bounds: Float64Array,
 ): SolveResult | undefined {
   // The assembled systems hold about 12 bytes per outcome (more with ILU(0)); past this size the
@@ -354,14 +383,16 @@ function directSolve(
   const oneChain = singleChoiceModel(ctx.graph) && nodes.count === nodes.members.length && !nodes.stay.includes(1);
   if (problem.combine === COMBINE_POLICY || problem.combine === COMBINE_AVERAGE || oneChain) {
     const system = chainSystemOf(ctx, problem.policy, problem.discount);
-    if (!certifiedChainSolve(system, problem.reward, iterate, options, bounds)) return undefined;
-    return { sweeps: 0, exact: false, relativeWidth: measureWidth(nodes, bounds) };
+    const estimate = new Float64Array(ctx.model.stateCount);
+    if (!certifiedChainSolve(system, problem.reward, iterate, options, bounds, options.guess, estimate)) return undefined;
+    return { sweeps: 0, exact: false, relativeWidth: measureWidth(nodes, bounds), estimate };
   }
   // Best or worst values: policy iteration where value iteration would need many sweeps (long
   // effective horizons); short ones converge in a few sweeps anyway.
   if (problem.discount < DIRECT_FROM_DISCOUNT) return undefined;
-  const solved = policyIterationBounds(ctx.graph, op, nodes, options.precision, (ctx.counters ??= newSolverCounters()));
+  const solved = policyIterationBounds(ctx.graph, op, nodes, options.precision, (ctx.counters ??= newSolverCounters()), options.guess);
   if (!solved) return undefined;
+  const estimate = new Float64Array(ctx.model.stateCount);
   const floor = options.lowerBound ?? -Infinity;
   const ceiling = options.upperBound ?? Infinity;
   for (let i = 0; i < nodes.count; i++) {
@@ -369,9 +400,10 @@ function directSolve(
       const s2 = nodes.members[m] << 1;
       bounds[s2] = Math.max(floor, solved.lower[i]);
       bounds[s2 + 1] = Math.min(ceiling, solved.upper[i]);
+      estimate[nodes.members[m]] = solved.estimate[i];
     }
   }
-  return { sweeps: 0, exact: false, relativeWidth: measureWidth(nodes, bounds) };
+  return { sweeps: 0, exact: false, relativeWidth: measureWidth(nodes, bounds), estimate };
 }
 
 /** The most outcomes a model may have for the direct solves (memory). */

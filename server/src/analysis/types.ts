@@ -1,3 +1,4 @@
+import type { WarmStart } from './warm-start';
 import type { CompiledModel } from '../model/compiled';
 
 /** A closed interval known to contain the true value; bounds may be +-Infinity. */
@@ -118,4 +119,12 @@ export interface Analysis {
   solves: number;
   /** BiCGSTAB iterations over all solves (a measure of the solver's work that load does not skew). */
   krylovIterations: number;
+  /** Sweeps of every solve (iterations counts those of the optimal, worst and random values only). */
+  sweeps: number;
+  /** Solves that started from a previous analysis' values (AnalyzeModelOptions.startFrom). */
+  warmStarts: number;
+  /** This analysis' solution, for the next analysis of the same spec to start from (AnalyzeModelOptions.keepSolution). */
+  solution?: WarmStart;
+  /** The previous solution's derived parts (WarmStart.derived), where analyses derived from this one start. */
+  derivedStart?: Record<string, WarmStart>;
 }

@@ -4,6 +4,7 @@
  * structured clone, so it holds plain data and typed arrays only.
  */
 import type { Diagnostic } from 'vscode-languageserver-protocol';
+import type { WarmStart } from '../analysis/warm-start';
 import type { EpiscopeSettings } from './settings';
 
 /** One analysis request for one version of one document. */
@@ -22,6 +23,8 @@ export interface AnalysisJob {
   exec: boolean;
   /** Folder holding `<rule-id>.md` files, or undefined when the documentation is not installed. */
   docsFolder?: string;
+  /** The last solution of an earlier version of the document: the solvers start from it (a guess; every bound is still verified). */
+  startFrom?: WarmStart;
 }
 
 export type WorkerRequest = AnalysisJob;
@@ -130,6 +133,8 @@ export interface AnalysisSnapshot {
   stateCount?: number;
   durationMs: number;
   cancelled: boolean;
+  /** The analysis' solution, which the scheduler keeps and hands to the document's next analysis (then drops from the snapshot). */
+  solution?: WarmStart;
 }
 
 /** Notification the server sends so an editor can show what the analysis is doing. */

@@ -4,6 +4,7 @@
  * is ever worked on. Waiting callers (pull diagnostics) get the newest ticket's result. The last
  * completed snapshot stays available for hovers while newer work runs.
  */
+import type { WarmStart } from '../analysis/warm-start';
 import type { AnalysisJob, AnalysisSnapshot } from './protocol';
 import { JobCancelledError, type JobHandle, type WorkerPool } from './pool';
 
@@ -34,6 +35,9 @@ interface DocumentState {
   lastDurationMs: number;
   /** When the last analysis was asked for (performance.now()). */
   lastRequestAt: number;
+  /** The solution of the newest completed analysis (of ticket solutionTicket), where the next analysis starts. */
+  solution?: WarmStart;
+  solutionTicket: number;
 }
 
 export interface SchedulerOptions {
@@ -118,7 +122,7 @@ export class AnalysisScheduler {
   private state(uri: string): DocumentState {
     let state = this.documents.get(uri);
     if (!state) {
-      state = { ticket: 0, latestTicket: -1, settledTicket: -1, waiters: [], lastDurationMs: 0, lastRequestAt: -Infinity };
+      state = { ticket: 0, latestTicket: -1, settledTicket: -1, waiters: [], lastDurationMs: 0, lastRequestAt: -Infinity, solutionTicket: -1 };
       this.documents.set(uri, state);
     }
     return state;
@@ -150,7 +154,8 @@ export class AnalysisScheduler {
       this.settle(state, ticket, undefined);
       return;
     }
-    const handle = this.pool.run(job);
+    // A small edit then costs a verification of the last solution rather than a solve.
+    const handle = this.pool.run(state.solution ? { ...job, startFrom: state.solution } : job);
     const end = this.hooks.started(uri, job);
     state.running = { ticket, handle, end };
     try {
@@ -161,6 +166,13 @@ export class AnalysisScheduler {
       }
       if (this.documents.get(uri) !== state) return;
       state.lastDurationMs = snapshot.durationMs;
+      // The snapshot serves hovers for a while; the solution is needed only here.
+      const solution = snapshot.solution;
+      snapshot.solution = undefined;
+      if (solution && ticket > state.solutionTicket) {
+        state.solution = solution;
+        state.solutionTicket = ticket;
+      }
       const current = state.ticket === ticket;
       // An older result still serves hovers if nothing newer has completed.
       if (current || ticket > state.latestTicket) {

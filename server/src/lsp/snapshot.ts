@@ -15,6 +15,7 @@ import {
 } from 'vscode-languageserver-types';
 import type { RolloutReport, RolloutStats } from '../analysis/rollout-stats';
 import type { Analysis } from '../analysis/types';
+import type { WarmStart } from '../analysis/warm-start';
 import type { FileReport } from '../analyze';
 import type { ConfigFile } from '../config-file';
 import { TERMINAL_CODE, stateName, type CompiledModel } from '../model/compiled';
@@ -95,6 +96,13 @@ export function transferList(snapshot: AnalysisSnapshot): ArrayBuffer[] {
   };
   visit(snapshot.hoverIndex);
   visit(snapshot.values);
+  const solutions = (start: WarmStart | undefined): void => {
+    if (!start) return;
+    visit(start.values);
+    buffers.add(start.idStart.buffer as ArrayBuffer);
+    for (const inner of Object.values(start.derived ?? {})) solutions(inner);
+  };
+  solutions(snapshot.solution);
   return [...buffers];
 }
 

@@ -31,6 +31,8 @@ async function runJob(job: AnalysisJob): Promise<void> {
       exec: job.exec,
       // Hovers and the summary lens show values even when no enabled rule needs them.
       analysis: true,
+      startFrom: job.startFrom,
+      keepSolution: true,
       isCancelled: () => Atomics.load(cancelCell, 0) === job.jobId,
     });
     const snapshot = buildSnapshot({
@@ -41,6 +43,7 @@ async function runJob(job: AnalysisJob): Promise<void> {
       configFile,
       durationMs: performance.now() - started,
     });
+    snapshot.solution = report.analysis?.solution;
     post({ kind: 'done', jobId: job.jobId, snapshot }, transferList(snapshot));
   } catch (error) {
     post({ kind: 'failed', jobId: job.jobId, error: error instanceof Error ? (error.stack ?? error.message) : String(error) });
