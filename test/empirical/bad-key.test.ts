@@ -71,5 +71,20 @@ describe('bad key functions', () => {
     expect(findingsOf(report, 'empirical-model')).toEqual([]);
     expect(report.empirical?.model.stateCount).toBe(6);
     expect(report.findings.filter((f) => f.severity !== 'info')).toEqual([]);
+    // Learning groups states by the same key: the cells 0 to 5, never the raw positions.
+    const learning = report.rollouts?.learning;
+    expect(learning?.distinctKeys).toBeGreaterThan(1);
+    expect(learning?.distinctKeys).toBeLessThanOrEqual(6);
+    expect(learning?.path.keys.every((key) => /^\d$/.test(key))).toBe(true);
+  }, 60_000);
+
+  it('a stateKey that throws is reported once, by the rollouts, and learning does not repeat it', async () => {
+    const report = await analyzeTs(walk(`  stateKey(state: number) {
+    if (state > 2) throw new Error('no key past 2');
+    return state;
+  },`), FAST_LIMITS);
+    expect(findingsOf(report, 'model-error')).toHaveLength(1);
+    expect(report.rollouts?.learning).toBeUndefined();
+    expect(report.internalErrors).toEqual([]);
   }, 60_000);
 });

@@ -10,6 +10,7 @@ import { describe, expect, test } from 'vitest';
 import outputSchema from '../../schemas/cli-output.schema.json';
 import { analyzeFile } from '../../server/src/analyze';
 import { fileReportToJson, jsonOutput } from '../../server/src/cli/json-output';
+import { markdownReport } from '../../server/src/cli/markdown';
 import { resolveConfig } from '../../server/src/config';
 
 const CLIFF = join(__dirname, '../fixtures/learning/cliff-walking.mdp.ts');
@@ -34,6 +35,12 @@ describe('learning in the pipeline', () => {
     const validate = new Ajv2020({ allErrors: true, strict: false }).compile(outputSchema);
     expect(validate(JSON.parse(JSON.stringify(json))), JSON.stringify(validate.errors)).toBe(true);
     expect(json.files[0].rollouts?.learning?.method).toBe('q-learning');
+    // The pull-request comment puts the learned policy's -13 beside the random policy's estimate.
+    const row = markdownReport(json).split('\n').find((line) => line.startsWith('| `') && line.includes('cliff-walking'));
+    const cells = row!.slice(1, -1).split('|').map((c) => c.trim());
+    expect(cells[1]).toMatch(/^-\d+(\.\d+)? \(-\d+(\.\d+)? \.\. -\d+(\.\d+)?\), 200 episodes$/);
+    expect(cells[2]).toBe('-13 (-13 .. -13), 200 episodes');
+    expect(cells[3]).toBe(`${learning.spent.episodes} episodes, ${learning.spent.steps} steps`);
   });
 
   test('the same seed gives the same learning in the sandbox; learning off leaves it out', async () => {

@@ -96,7 +96,7 @@ export interface LearningSummary {
   epsilon: number;
   budget: { episodes: number; steps: number };
   spent: { episodes: number; steps: number };
-  /** Distinct canonical keys met in training. */
+  /** Distinct state keys (the spec's `stateKey`, else canonical) met in training. */
   distinctKeys: number;
   /** Learning states: keys, or key and time step with a horizon. */
   learningStates: number;

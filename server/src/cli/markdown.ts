@@ -6,7 +6,7 @@
 import { SEVERITY_ORDER, severityCount, type Severity } from '../rules/types';
 import type { Comparison, FindingChange, SpecShift, ValueShift } from './baseline';
 import { midpoint } from './baseline';
-import type { JsonInterval, JsonOutput } from './json-output';
+import type { JsonInterval, JsonOutput, JsonRollouts } from './json-output';
 import { parseJsonNumber, textInterval, textProbability } from './numbers';
 
 export interface MarkdownOptions {
@@ -78,10 +78,34 @@ function plainMarkdown(current: JsonOutput, maxRows: number): string[] {
     if (analysed.length > maxRows) out.push(`| _and ${analysed.length - maxRows} more_ | | | | | |`);
     out.push('');
   }
+  out.push(...sampledTable(current, maxRows));
   const notAnalysed = current.files.filter((f) => !f.analysis && f.notAnalysed);
   if (notAnalysed.length > 0) out.push(`Not analysed: ${notAnalysed.map((f) => `${code(f.path)} (${cell(f.notAnalysed ?? '')})`).join(', ')}.`, '');
   out.push(SAFETY);
   return out;
+}
+
+/** Estimated returns from rollouts: the learned greedy policy beside the random one, as text, JSON and HTML show them. */
+function sampledTable(current: JsonOutput, maxRows: number): string[] {
+  const sampled = current.files.filter((f) => f.rollouts?.random || f.rollouts?.learned);
+  if (sampled.length === 0) return [];
+  const out = ['### Estimated returns from rollouts (95% intervals)', '', '| Spec | Random policy | Learned greedy policy | Learning spent |', '|---|---|---|---|'];
+  for (const file of sampled.slice(0, maxRows)) {
+    const r = file.rollouts!;
+    const spent = r.learning ? `${r.learning.spent.episodes} episodes, ${r.learning.spent.steps} steps` : '';
+    out.push(`| ${code(file.path)} | ${estimate(r.random)} | ${estimate(r.learned)} | ${spent} |`);
+  }
+  if (sampled.length > maxRows) out.push(`| _and ${sampled.length - maxRows} more_ | | | |`);
+  out.push('');
+  return out;
+}
+
+/** One policy's estimate with its interval and episode count; a missing estimate stays an empty cell. */
+function estimate(r: JsonRollouts | undefined): string {
+  if (!r) return '';
+  // Estimates carry sampling error: four significant digits say all they can.
+  const short = (x: number | null) => (x === null ? '-' : String(Number(x.toPrecision(4))));
+  return `${short(r.return.mean)} (${short(r.return.ci95.lower)} .. ${short(r.return.ci95.upper)}), ${r.episodes} episodes`;
 }
 
 function findingTable(changes: FindingChange[], maxRows: number): string[] {

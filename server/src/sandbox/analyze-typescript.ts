@@ -180,8 +180,12 @@ async function runModel(
     const sampled = await sampleByRollouts(sandbox, spec, config, declaredTerms, evidence, place, findings);
     const stats = sampled.stats;
     const rollouts: RolloutReport | undefined = stats ? { random: stats } : undefined;
-    // Learning needs a model that rolled out cleanly: a failure there would only repeat itself.
-    const clean = evidence.nondeterminism.length === 0 && !findings.some((f) => f.rule === 'non-finite-reward');
+    // Learning needs a model that rolled out cleanly: a failure there (a bad state key included,
+    // since learning keys states the same way) would only repeat itself as a second model-error.
+    const clean =
+      evidence.nondeterminism.length === 0 &&
+      !findings.some((f) => f.rule === 'non-finite-reward') &&
+      !evidence.modelErrors.some((p) => p.phase === 'stateKey');
     if (rollouts && config.learning.method !== 'off' && clean && !isCancelled()) {
       await learnFromSamples(sandbox, spec, config, declaredTerms, stats!.episodes, evidence, place, findings, rollouts);
     }

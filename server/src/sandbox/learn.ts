@@ -10,8 +10,8 @@
  * - On-policy Monte Carlo control with epsilon-soft policies (section 5.4), every-visit or
  *   first-visit: Q(s, a) is the running average of the returns that followed (s, a).
  *
- * States are told apart by their canonical key (`learningKey`, the one place a spec's own key
- * function can be plugged in). With a horizon the time step is part of the learning state, so the
+ * States are told apart by `keyOfState` (runtime.ts): the spec's `stateKey(state)` when it has one,
+ * else the canonical key, so learning, the empirical model and the rollouts agree on "the same state". With a horizon the time step is part of the learning state, so the
  * learned policy may depend on the steps left, as the optimal one does. Random numbers: the
  * training episodes use streams 2 (model) and 3 (policy) of the seed, so they are never the
  * episodes the greedy policy is measured on; those use streams 0 and 1, the same as the random
@@ -25,11 +25,11 @@ import { DEFAULT_CONFIG } from '../config';
 import type { CompiledModel } from '../model/compiled';
 import {
   actionName,
-  canonicalKey,
   createModelRng,
   describeValue,
   drawOutcome,
   drawStart,
+  keyOfState,
   listOf,
   MalformedValue,
   problemOf,
@@ -111,11 +111,6 @@ export interface LearnOptions {
   /** Cap on steps per episode without a horizon. */
   stepCap: number;
   maximize: boolean;
-}
-
-/** The one key function of learning; a spec's own state-to-key function would plug in here. */
-export function learningKey(state: unknown): string {
-  return canonicalKey(state);
 }
 
 /** Growable per-learning-state tables: action slots, Q and visit counts. */
@@ -532,6 +527,8 @@ export class FunctionSampler implements LearningSampler {
   current: unknown;
   currentAction: unknown;
   episode = 0;
+  /** The state the episode is in: with a spec's `stateKey` one key stands for many states, so stepping from the key's first state would freeze a continuous walk. */
+  private live: unknown;
   steps = 0;
   private readonly generator = new Xoshiro128();
   private readonly rng = createModelRng(this.generator);
@@ -572,6 +569,7 @@ export class FunctionSampler implements LearningSampler {
     else if (model.startDistribution !== undefined) value = drawStart(listOf(model.startDistribution, 'startDistribution'), this.generator);
     else value = structuredClone(model.start);
     this.current = value;
+    this.live = value;
     this.currentAction = undefined;
     this.state = this.idOf(value);
     this.end = this.terminalOf(value, undefined);
@@ -592,7 +590,7 @@ export class FunctionSampler implements LearningSampler {
   }
 
   step(state: number, action: number): void {
-    const value = this.values[state];
+    const value = state === this.state ? this.live : this.values[state];
     const chosen = this.actionLists[state]![action];
     this.current = value;
     this.currentAction = chosen;
@@ -623,6 +621,7 @@ export class FunctionSampler implements LearningSampler {
     this.steps++;
     this.reward = r;
     this.current = next;
+    this.live = next;
     this.currentAction = undefined;
     this.state = this.idOf(next);
     this.end = this.terminalOf(next, said);
@@ -654,7 +653,8 @@ export class FunctionSampler implements LearningSampler {
   }
 
   private idOf(value: unknown): number {
-    const key = learningKey(value);
+    this.enter('stateKey', 6);
+    const key = keyOfState(this.model, value);
     const known = this.index.get(key);
     if (known !== undefined) return known;
     const id = this.keys.length;
