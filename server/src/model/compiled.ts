@@ -66,13 +66,13 @@ export function stateName(model: CompiledModel, state: number): string {
 /** Outcome and choice indices are Int32: a model holds at most this many of either. */
 const MAX_ENTRIES = 0x7fffffff;
 
-type NumberColumn = Int32Array | Float64Array | Uint8Array;
+export type NumberColumn = Int32Array | Float64Array | Uint8Array;
 
 /**
  * The same column with room for at least `needed` entries: the buffer doubles (so that n appends
  * copy O(n) entries in all) and keeps the filled part.
  */
-function withRoom<T extends NumberColumn>(column: T, needed: number): T {
+export function withRoom<T extends NumberColumn>(column: T, needed: number): T {
   if (needed <= column.length) return column;
   if (needed > MAX_ENTRIES) throw new Error(`the model has more than ${MAX_ENTRIES} outcomes or choices, more than the analysis can index`);
   let size = Math.max(64, column.length * 2);

@@ -4,6 +4,7 @@
  * benchmark calls the same functions directly to measure what the sandbox costs. It must not import
  * anything that needs the host (file system, esbuild, ts-morph).
  */
+import { withRoom, type NumberColumn } from '../model/compiled';
 import type { TransitionCounts } from '../model/empirical';
 import type { RecordOptions } from './transition-record';
 import { effectiveStepCap, END_FAILURE, END_GOAL, END_NEUTRAL, END_NONE, END_STEP_CAP, Xoshiro128, type EpisodeRecords } from '../analysis/rollouts';
@@ -353,6 +354,42 @@ export interface EnumerationOptions {
 }
 
 /**
+ * A typed column that grows by doubling. `take` returns an exact-size copy: the result crosses the
+ * IPC channel by structured clone, which would carry a view's whole buffer, slack included.
+ */
+class GrowableColumn<T extends NumberColumn> {
+  private data: T;
+  length = 0;
+
+  constructor(kind: new (length: number) => T) {
+    this.data = new kind(64);
+  }
+
+  push(value: number): void {
+    if (this.length >= this.data.length) this.data = withRoom(this.data, this.length + 1);
+    this.data[this.length++] = value;
+  }
+
+  at(i: number): number {
+    return this.data[i];
+  }
+
+  /** Appends `count` zeros (a fresh buffer is zero-filled). */
+  fillZeros(count: number): void {
+    this.data = withRoom(this.data, this.length + count);
+    this.data.fill(0, this.length, this.length + count);
+    this.length += count;
+  }
+
+  take(): T {
+    const out = this.data.slice(0, this.length) as T;
+    this.data = out.subarray(0, 0) as T;
+    this.length = 0;
+    return out;
+  }
+}
+
+/**
  * Breadth-first enumeration of every state reachable from the start: each state's key is its
  * canonical JSON, `terminal` is asked first, then `actions`, then `outcomes` for each action.
  * Zero-probability outcomes are dropped. Stops at the first problem or when the cap is reached.
@@ -362,17 +399,18 @@ export function enumerateModel(model: ModelFunctions, options: EnumerationOption
   const keys: string[] = [];
   const values: unknown[] = [];
   const index = new Map<string, number>();
-  const terminal: number[] = [];
-  const choiceStart: number[] = [];
-  const choiceAction: number[] = [];
-  const outcomeStart: number[] = [];
-  const target: number[] = [];
-  const prob: number[] = [];
-  const reward: number[] = [];
+  // Typed columns that double when full: a JS array of numbers costs 8 bytes a slot plus slack and a second copy when converted.
+  const terminal = new GrowableColumn(Uint8Array);
+  const choiceStart = new GrowableColumn(Int32Array);
+  const choiceAction = new GrowableColumn(Int32Array);
+  const outcomeStart = new GrowableColumn(Int32Array);
+  const target = new GrowableColumn(Int32Array);
+  const prob = new GrowableColumn(Float64Array);
+  const reward = new GrowableColumn(Float64Array);
   const termIndex = new Map<string, number>();
   for (const term of options.declaredTerms) termIndex.set(term, termIndex.size);
   const strictTerms = options.declaredTerms.length > 0;
-  const termColumns: number[][] = options.declaredTerms.map(() => []);
+  const termColumns: (GrowableColumn<Float64Array> | undefined)[] = options.declaredTerms.map(() => new GrowableColumn(Float64Array));
   const termScratch: number[] = [];
   const actionIndex = new Map<string, number>();
   const actionNames: string[] = [];
@@ -474,7 +512,7 @@ export function enumerateModel(model: ModelFunctions, options: EnumerationOption
         }
         // A linear scan is cheapest for the few actions states usually have.
         for (let b = firstChoice; b < choiceAction.length; b++) {
-          if (choiceAction[b] === actionId) throw new MalformedValue(`actions() lists "${name}" twice`);
+          if (choiceAction.at(b) === actionId) throw new MalformedValue(`actions() lists "${name}" twice`);
         }
         choiceAction.push(actionId);
         outcomeStart.push(target.length);
@@ -504,7 +542,8 @@ export function enumerateModel(model: ModelFunctions, options: EnumerationOption
           for (let t = 0; t < termIndex.size; t++) {
             let column = termColumns[t];
             if (!column) {
-              column = new Array<number>(target.length - 1).fill(0);
+              column = new GrowableColumn(Float64Array);
+              column.fillZeros(target.length - 1);
               termColumns[t] = column;
             }
             column.push(termScratch[t] ?? 0);
@@ -522,25 +561,26 @@ export function enumerateModel(model: ModelFunctions, options: EnumerationOption
     problem = problemOf(error, phase, { state: current >= 0 ? keys[current] : undefined, action: currentAction });
   }
 
+  const outcomesListed = target.length;
   const result: Enumeration = {
     stateKeys: keys,
-    terminal: Uint8Array.from(terminal),
+    terminal: terminal.take(),
     actionNames,
-    choiceStart: Int32Array.from([...choiceStart, choiceAction.length]),
-    choiceAction: Int32Array.from(choiceAction),
-    outcomeStart: Int32Array.from([...outcomeStart, target.length]),
-    outcomeTarget: Int32Array.from(target),
-    outcomeProb: Float64Array.from(prob),
-    outcomeReward: Float64Array.from(reward),
+    choiceStart: (choiceStart.push(choiceAction.length), choiceStart.take()),
+    choiceAction: choiceAction.take(),
+    outcomeStart: (outcomeStart.push(target.length), outcomeStart.take()),
+    outcomeTarget: target.take(),
+    outcomeProb: prob.take(),
+    outcomeReward: reward.take(),
     termNames: [...termIndex.keys()],
-    termRewards: [...termIndex.keys()].map((_, t) => Float64Array.from(termColumns[t] ?? new Array<number>(target.length).fill(0))),
+    termRewards: [...termIndex.keys()].map((_, t) => termColumns[t]?.take() ?? new Float64Array(outcomesListed)),
     startStates: Int32Array.from(startStates),
     startProbs: Float64Array.from(startProbs),
     capped,
     firstBeyondCap,
     problem,
     nondeterminism: [],
-    outcomesListed: target.length,
+    outcomesListed,
   };
   if (!problem && !capped) recheckDeterminism(model, values, result, options);
   return result;
