@@ -8,6 +8,7 @@
  * message first, then in line order; what is left over is new (current run) or fixed (baseline).
  */
 import Ajv2020 from 'ajv/dist/2020';
+import type { ValidateFunction } from 'ajv';
 import outputSchema from '../../../schemas/cli-output.schema.json';
 import { SEVERITY_ORDER, type Severity } from '../rules/types';
 import type { JsonFile, JsonFinding, JsonInterval, JsonOutput } from './json-output';
@@ -16,8 +17,9 @@ import { parseJsonNumber, parseJsonProbability, type JsonProbability } from './n
 /** A baseline file that cannot be used; the message is one line for the user. */
 export class BaselineError extends Error {}
 
-const ajv = new Ajv2020({ allErrors: false, strict: false });
-const validateOutput = ajv.compile<JsonOutput>(outputSchema);
+// Compiled on first use: compiling takes about 0.1 s, which every run without --baseline would pay.
+let outputValidator: ValidateFunction<JsonOutput> | undefined;
+const validateOutput = (value: unknown): value is JsonOutput => (outputValidator ??= new Ajv2020({ allErrors: false, strict: false }).compile<JsonOutput>(outputSchema))(value);
 
 /** Reads a baseline from the text of a `--format json` output; throws BaselineError with a one-line reason. */
 export function parseBaseline(text: string, name: string): JsonOutput {
@@ -32,7 +34,7 @@ export function parseBaseline(text: string, name: string): JsonOutput {
     throw new BaselineError(`baseline '${name}' is version ${JSON.stringify((value as { version: unknown }).version)} output; this episcope reads version 1`);
   }
   if (!validateOutput(value)) {
-    const error = validateOutput.errors?.[0];
+    const error = outputValidator?.errors?.[0];
     const where = error?.instancePath ? readablePointer(error.instancePath) : 'the top level';
     throw new BaselineError(`baseline '${name}' is not an 'episcope check --format json' output: ${where} ${error?.message ?? 'is invalid'}`);
   }

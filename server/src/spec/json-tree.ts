@@ -203,6 +203,21 @@ export function readJsonTree(text: string, maxDepth: number): JsonTree | undefin
   }
 }
 
+/**
+ * At least the number of nodes of a plain JSON text, so the tree's arrays never grow (growing
+ * copies them all): a property is two nodes and has a colon, every other value but the first
+ * follows a comma or an opening bracket. Separators inside strings only make the bound looser.
+ */
+function nodeCountBound(text: string): number {
+  let count = 1;
+  for (let i = 0; i < text.length; i++) {
+    const ch = text.charCodeAt(i);
+    if (ch === COLON) count += 2;
+    else if (ch === COMMA || ch === OPEN_BRACE || ch === OPEN_BRACKET) count += 1;
+  }
+  return count;
+}
+
 class TextReader {
   private at = 0;
   private readonly tree: JsonTree;
@@ -215,8 +230,7 @@ class TextReader {
     private readonly text: string,
     private readonly maxDepth: number,
   ) {
-    // About one node per 4.5 characters in a generated spec; the arrays grow when needed.
-    this.tree = new JsonTree(Math.ceil(text.length / 4));
+    this.tree = new JsonTree(nodeCountBound(text));
   }
 
   document(): JsonTree {

@@ -8,7 +8,7 @@
  */
 import Ajv2020 from 'ajv/dist/2020';
 import type { ErrorObject, ValidateFunction } from 'ajv';
-import { createScanner, getNodeValue, parseTree, type Node, type ParseError } from 'jsonc-parser';
+import { createScanner, parseTree, type ParseError } from 'jsonc-parser';
 import schemaDocument from '../../../schemas/mdp.schema.json';
 import { schemaFinding } from '../rules/schema';
 import type { Finding } from '../findings';
@@ -141,9 +141,7 @@ function parseUnchecked(text: string): JsonSpecResult {
   }
   const parseErrors: ParseError[] = [];
   // Well-formed documents take the fast reader; the rest goes to jsonc-parser, whose error
-  // recovery and messages apply. Its tree is also what schema errors are described on, so it is
-  // built when validation fails.
-  let nodes: Node | undefined;
+  // recovery and messages apply, and whose tree is converted to the same compact form.
   let tree = readJsonTree(text, MAX_NESTING_DEPTH);
   if (!tree) {
     // Same offsets, same tree and errors; only long runs of blanks are scanned faster.
@@ -158,7 +156,7 @@ function parseUnchecked(text: string): JsonSpecResult {
       );
       return { spec: emptySpec('json', wholeText), findings };
     }
-    nodes = parseTree(scanned, parseErrors, JSONC_OPTIONS);
+    const nodes = parseTree(scanned, parseErrors, JSONC_OPTIONS);
     for (const error of parseErrors) {
       const reason = PARSE_ERROR_TEXT[error.error] ?? 'invalid JSON';
       findings.push(schemaFinding(`invalid JSON: ${reason}`, widen({ start: error.offset, end: error.offset + error.length }, text)));
@@ -172,7 +170,6 @@ function parseUnchecked(text: string): JsonSpecResult {
     }
     tree = jsonTreeFromNodes(nodes);
   }
-  const nodeTree = (): Node => (nodes ??= parseTree(maskLongBlanks(text), [], JSONC_OPTIONS)!);
 
   // The reader runs first: the values it explains as a whole tell validation what not to repeat.
   const schemaProblems: Finding[] = [];
@@ -182,7 +179,7 @@ function parseUnchecked(text: string): JsonSpecResult {
   reportDuplicateKeys(tree, schemaProblems);
   const kept = schemaProblems.filter((finding) => !explained.covers(finding));
   // Validation describes only the first problems by position, enough to fill the cap.
-  const undescribed = validateAgainstSchema(tree, nodeTree, parseErrors.length === 0 ? text : undefined, explained, MAX_SCHEMA_FINDINGS + 1, kept);
+  const undescribed = validateAgainstSchema(tree, parseErrors.length === 0 ? text : undefined, explained, MAX_SCHEMA_FINDINGS + 1, kept);
 
   kept.sort((a, b) => a.span.start - b.span.start);
   findings.push(...kept.slice(0, MAX_SCHEMA_FINDINGS));
@@ -228,7 +225,6 @@ function findExcessiveNesting(text: string): number | undefined {
  */
 function validateAgainstSchema(
   tree: JsonTree,
-  nodeTree: () => Node,
   strictText: string | undefined,
   explained: ExplainedValues,
   budget: number,
@@ -237,10 +233,10 @@ function validateAgainstSchema(
   const validate = schemaValidator();
   if (validate(documentValue(tree, strictText))) return { count: 0, exact: true };
   const errors = validate.errors ?? [];
-  const root = nodeTree();
   const misnamed = misnamedProperties(errors);
   const kept: ErrorObject[] = [];
-  const nodes: Node[] = [];
+  const nodes: number[] = [];
+  const properties = new PropertyTables(tree);
   for (const error of errors) {
     // Probabilities outside [0, 1] are the negative-probability rule's (with what they cost); a
     // probability that is not a number at all is reported here.
@@ -250,20 +246,20 @@ function validateAgainstSchema(
     const mixUp = misnamed.get(error.instancePath);
     if (mixUp && (error.keyword === 'required' || (error.keyword === 'additionalProperties' && error.params.additionalProperty !== mixUp.unknown[0]))) continue;
     kept.push(error);
-    nodes.push(locate(root, pointerSegments(error.instancePath)).node);
+    nodes.push(locate(tree, properties, pointerSegments(error.instancePath)).node);
   }
   // By position, and at one place in the schema's order: keys of offset and index in one number
   // (offsets are below 2^24, so both fit exactly) sort natively, without a comparator call.
   const order = new Float64Array(kept.length);
-  for (let i = 0; i < kept.length; i++) order[i] = nodes[i].offset * 2 ** 28 + i;
+  for (let i = 0; i < kept.length; i++) order[i] = tree.starts[nodes[i]] * 2 ** 28 + i;
   order.sort();
   const at = (k: number) => order[k] % 2 ** 28;
   const seen = new Set<string>();
   let index = 0;
   for (; index < order.length && seen.size < budget; index++) {
     const error = kept[at(index)];
-    const { node, segments } = locate(root, pointerSegments(error.instancePath));
-    const finding = describeSchemaError(node, segments, error, misnamed.get(error.instancePath));
+    const { node, segments } = locate(tree, properties, pointerSegments(error.instancePath));
+    const finding = describeSchemaError(tree, properties, node, segments, error, misnamed.get(error.instancePath));
     const key = `${finding.span.start}:${finding.span.end}:${finding.message}`;
     if (seen.has(key) || explained.covers(finding)) continue;
     seen.add(key);
@@ -274,7 +270,7 @@ function validateAgainstSchema(
   const places = new Set<string>();
   let problems = 0;
   for (; index < order.length; index++) {
-    if (explained.coversNode(nodes[at(index)])) continue;
+    if (explained.coversSpan(tree.span(nodes[at(index)]))) continue;
     places.add(kept[at(index)].instancePath);
     problems++;
   }
@@ -335,9 +331,9 @@ class ExplainedValues {
     return value !== undefined && value.finding !== finding && finding.span.end <= value.span.end;
   }
 
-  coversNode(node: Node): boolean {
-    const value = this.around(node.offset);
-    return value !== undefined && node.offset + node.length <= value.span.end;
+  coversSpan(span: Span): boolean {
+    const value = this.around(span.start);
+    return value !== undefined && span.end <= value.span.end;
   }
 
   /** The last value that starts at or before the offset. */
@@ -363,7 +359,7 @@ const TYPE_PHRASE: Record<string, string> = {
   null: 'null',
 };
 
-function describeSchemaError(node: Node, segments: Array<string | number>, error: ErrorObject, misnamed?: Misnamed): Finding {
+function describeSchemaError(tree: JsonTree, properties: PropertyTables, node: number, segments: Array<string | number>, error: ErrorObject, misnamed?: Misnamed): Finding {
   const path = jsonPath(segments);
   const subject = segments.length === 0 ? 'the spec' : path;
   const parentSchema = (error.parentSchema ?? {}) as { description?: string; properties?: Record<string, { description?: string }>; type?: string | string[] };
@@ -371,35 +367,35 @@ function describeSchemaError(node: Node, segments: Array<string | number>, error
   const propertyName = (error as ErrorObject & { propertyName?: string }).propertyName;
 
   if (propertyName !== undefined) {
-    const keyNode = propertyKey(node, propertyName);
-    return schemaFinding(`${subject} has an empty key; ids and names must not be empty`, keyNode ? nodeSpan(keyNode) : nodeSpan(node));
+    const keyNode = properties.key(node, propertyName);
+    return schemaFinding(`${subject} has an empty key; ids and names must not be empty`, tree.span(keyNode !== NONE ? keyNode : node));
   }
 
   switch (error.keyword) {
     case 'type': {
       const types = Array.isArray(parentSchema.type) ? parentSchema.type : [String(error.params.type)];
-      return schemaFinding(`${subject} must be ${joinAlternatives(types.map((t) => TYPE_PHRASE[t] ?? t))}, not ${describeValue(error.data)}${hint}`, nodeSpan(node));
+      return schemaFinding(`${subject} must be ${joinAlternatives(types.map((t) => TYPE_PHRASE[t] ?? t))}, not ${describeValue(error.data)}${hint}`, tree.span(node));
     }
     case 'required': {
       const missing = String(error.params.missingProperty);
       const about = parentSchema.properties?.[missing]?.description;
       const what = about ? `: ${lowerFirst(firstSentence(about))}` : '';
-      return schemaFinding(`${subject} is missing the required property "${missing}"${what}`, requiredSpan(node));
+      return schemaFinding(`${subject} is missing the required property "${missing}"${what}`, requiredSpan(tree, node));
     }
     case 'additionalProperties': {
       const extra = String(error.params.additionalProperty);
       const known = Object.keys(parentSchema.properties ?? {});
-      const keyNode = propertyKey(node, extra);
-      if (misnamed) return schemaFinding(misnamedMessage(subject, misnamed, parentSchema, known), keyNode ? nodeSpan(keyNode) : nodeSpan(node));
+      const keyNode = properties.key(node, extra);
+      if (misnamed) return schemaFinding(misnamedMessage(subject, misnamed, parentSchema, known), tree.span(keyNode !== NONE ? keyNode : node));
       const suggestion = closestName(extra, known);
       const advice = suggestion ? `; did you mean "${suggestion}"?` : known.length > 0 ? `; known properties: ${known.join(', ')}` : '';
-      return schemaFinding(`unknown property "${extra}" in ${subject}${advice}`, keyNode ? nodeSpan(keyNode) : nodeSpan(node));
+      return schemaFinding(`unknown property "${extra}" in ${subject}${advice}`, tree.span(keyNode !== NONE ? keyNode : node));
     }
     case 'enum': {
       const allowed = (error.params.allowedValues as unknown[]).map((v) => JSON.stringify(v));
       const suggestion = typeof error.data === 'string' ? closestName(error.data, (error.params.allowedValues as unknown[]).map(String)) : undefined;
       const advice = suggestion ? `; did you mean "${suggestion}"?` : '';
-      return schemaFinding(`${subject} must be ${joinAlternatives(allowed)}, not ${describeValue(error.data)}${advice}`, nodeSpan(node));
+      return schemaFinding(`${subject} must be ${joinAlternatives(allowed)}, not ${describeValue(error.data)}${advice}`, tree.span(node));
     }
     case 'minimum':
     case 'maximum':
@@ -409,23 +405,23 @@ function describeSchemaError(node: Node, segments: Array<string | number>, error
       const bound = error.keyword === 'minimum' ? 'at least' : error.keyword === 'maximum' ? 'at most' : error.keyword === 'exclusiveMinimum' ? 'above' : 'below';
       const value = typeof error.data === 'number' ? error.data : Number.NaN;
       const shown = Number.isFinite(value) ? formatNumber(value) : `${formatNumber(value)} (the number is too large to represent)`;
-      return schemaFinding(`${subject} is ${shown}; it must be ${bound} ${formatNumber(limit)}${hint}`, nodeSpan(node));
+      return schemaFinding(`${subject} is ${shown}; it must be ${bound} ${formatNumber(limit)}${hint}`, tree.span(node));
     }
     case 'minLength':
-      return schemaFinding(`${subject} must not be an empty string${hint}`, nodeSpan(node));
+      return schemaFinding(`${subject} must not be an empty string${hint}`, tree.span(node));
     case 'minItems':
-      return schemaFinding(`${subject} must not be an empty list${hint}`, nodeSpan(node));
+      return schemaFinding(`${subject} must not be an empty list${hint}`, tree.span(node));
     case 'minProperties':
-      return schemaFinding(`${subject} must have at least one entry${hint}`, nodeSpan(node));
+      return schemaFinding(`${subject} must have at least one entry${hint}`, tree.span(node));
     case 'uniqueItems': {
       const later = Number(error.params.i);
       const earlier = Number(error.params.j);
-      const item = node.type === 'array' && node.children?.[later] ? node.children[later] : node;
-      const value = item === node ? '' : `${describeValue(getNodeValue(item))} `;
-      return schemaFinding(`${subject} lists ${value}twice (entries ${Math.min(earlier, later)} and ${Math.max(earlier, later)}); list each once`, nodeSpan(item));
+      const item = tree.kinds[node] === NodeKind.Array ? (tree.children(node)[later] ?? node) : node;
+      const value = item === node ? '' : `${describeValue(tree.toValue(item))} `;
+      return schemaFinding(`${subject} lists ${value}twice (entries ${Math.min(earlier, later)} and ${Math.max(earlier, later)}); list each once`, tree.span(item));
     }
     default:
-      return schemaFinding(`${subject} ${error.message ?? 'does not match the spec format'}${hint}`, nodeSpan(node));
+      return schemaFinding(`${subject} ${error.message ?? 'does not match the spec format'}${hint}`, tree.span(node));
   }
 }
 
@@ -442,11 +438,12 @@ function misnamedMessage(subject: string, { missing, unknown }: Misnamed, parent
 }
 
 /** Where a missing property is reported: the key that holds the object, else its opening brace. */
-function requiredSpan(node: Node): Span {
-  const parent = node.parent;
-  if (parent?.type === 'property' && parent.children?.[0]) return nodeSpan(parent.children[0]);
-  if (parent?.type === 'array') return nodeSpan(node);
-  return { start: node.offset, end: node.offset + 1 };
+function requiredSpan(tree: JsonTree, node: number): Span {
+  const parent = tree.parents[node];
+  if (parent !== NONE && tree.kinds[parent] === NodeKind.Property) return tree.span(tree.keyOf(parent));
+  if (parent !== NONE && tree.kinds[parent] === NodeKind.Array) return tree.span(node);
+  const start = tree.starts[node];
+  return { start, end: start + 1 };
 }
 
 function pointerSegments(pointer: string): string[] {
@@ -460,47 +457,68 @@ function pointerSegments(pointer: string): string[] {
  * The node at a JSON Pointer's segments, and the segments with array indices as numbers. Object
  * keys match the last property of that name (the one JSON.parse keeps, so the one ajv validated).
  */
-function locate(root: Node, pointer: readonly string[]): { node: Node; segments: Array<string | number> } {
-  let node = root;
+function locate(tree: JsonTree, properties: PropertyTables, pointer: readonly string[]): { node: number; segments: Array<string | number> } {
+  let node = 0;
   const segments: Array<string | number> = [];
   for (const segment of pointer) {
-    let next: Node | undefined;
-    if (node.type === 'object') {
-      next = lastProperty(node, segment)?.children?.[1];
+    let next = NONE;
+    if (tree.kinds[node] === NodeKind.Object) {
+      const property = properties.last(node, segment);
+      next = property === NONE ? NONE : tree.valueOf(property);
       segments.push(segment);
-    } else if (node.type === 'array') {
-      next = node.children?.[Number(segment)];
+    } else if (tree.kinds[node] === NodeKind.Array) {
+      next = properties.item(node, Number(segment));
       segments.push(Number(segment));
     }
-    if (!next) break;
+    if (next === NONE) break;
     node = next;
   }
   return { node, segments };
 }
 
-/** Property lookup tables of large objects, built on first use (a scan per lookup would be n^2). */
-const propertyTables = new WeakMap<Node, Map<unknown, Node>>();
+/**
+ * Lookups by key and by index in the tree's objects and arrays. Tables of large ones are built on
+ * first use, since a scan per lookup would be quadratic in the number of schema errors.
+ */
+class PropertyTables {
+  private readonly byKey = new Map<number, Map<string, number>>();
+  private readonly byIndex = new Map<number, number[]>();
 
-function lastProperty(object: Node, key: string): Node | undefined {
-  const children = object.children ?? [];
-  if (children.length > 16) {
-    let table = propertyTables.get(object);
+  constructor(private readonly tree: JsonTree) {}
+
+  /** The last property of `object` named `key`, else NONE. */
+  last(object: number, key: string): number {
+    const tree = this.tree;
+    let table = this.byKey.get(object);
     if (!table) {
+      const children = tree.children(object);
+      if (children.length <= 16) {
+        for (let i = children.length - 1; i >= 0; i--) if (tree.str(tree.keyOf(children[i])) === key) return children[i];
+        return NONE;
+      }
       table = new Map();
-      for (const property of children) table.set(property.children?.[0]?.value, property);
-      propertyTables.set(object, table);
+      for (const property of children) table.set(tree.str(tree.keyOf(property)), property);
+      this.byKey.set(object, table);
     }
-    return table.get(key);
+    return table.get(key) ?? NONE;
   }
-  for (let i = children.length - 1; i >= 0; i--) {
-    const property = children[i];
-    if (property.children?.[0]?.value === key) return property;
-  }
-  return undefined;
-}
 
-function propertyKey(object: Node, key: string): Node | undefined {
-  return object.type === 'object' ? lastProperty(object, key)?.children?.[0] : undefined;
+  /** The key node of the last property named `key` when `object` is an object, else NONE. */
+  key(object: number, key: string): number {
+    if (this.tree.kinds[object] !== NodeKind.Object) return NONE;
+    const property = this.last(object, key);
+    return property === NONE ? NONE : this.tree.keyOf(property);
+  }
+
+  /** The item at `index` of an array, else NONE. */
+  item(array: number, index: number): number {
+    let items = this.byIndex.get(array);
+    if (!items) {
+      items = this.tree.children(array);
+      this.byIndex.set(array, items);
+    }
+    return Number.isInteger(index) && index >= 0 && index < items.length ? items[index] : NONE;
+  }
 }
 
 /** Duplicate keys: JSON.parse (and every JSON tool) keeps only the last, which hides the first. */
@@ -597,6 +615,7 @@ class SpecReader {
   private declaredTerms: Set<string> | undefined;
   private readonly reportedTermKeys = new Set<number>();
   private stateIds: Set<string> | undefined;
+  private actionNames: Set<string> | undefined;
   /** Values whose mistake one finding explains as a whole; schema problems inside them are dropped. */
   readonly explained: Array<{ span: Span; finding: Finding }> = [];
 
@@ -756,6 +775,11 @@ class SpecReader {
     }
   }
 
+  private declaredActionNames(): Set<string> {
+    this.actionNames ??= new Set([...this.spec.actions.map((a) => a.value), ...this.spec.states.flatMap((s) => (s.actions ?? []).map((a) => a.value))]);
+    return this.actionNames;
+  }
+
   private declaredStateIds(): Set<string> {
     this.stateIds ??= new Set(this.spec.states.map((s) => s.id));
     return this.stateIds;
@@ -766,9 +790,17 @@ class SpecReader {
    * field, else the declared states (or actions) that its unknown properties name.
    */
   private recordUnread(node: number, froms: Located<string>[], actions: Located<string>[]): void {
-    const fields = membersOf(this.tree, node);
-    const strays = [...fields].filter(([key]) => !TRANSITION_FIELDS.has(key)).flatMap(([, member]) => this.stringOrStrings(member.value).map((s) => s.value));
-    const declaredActions = new Set([...this.spec.actions.map((a) => a.value), ...this.spec.states.flatMap((s) => (s.actions ?? []).map((a) => a.value))]);
+    const tree = this.tree;
+    // The string values of properties the schema does not know: one of them may name the pair.
+    const strays: string[] = [];
+    const first = tree.kinds[node] === NodeKind.Object ? tree.firstChildren[node] : NONE;
+    for (let property = first; property !== NONE; property = tree.nextSiblings[property]) {
+      const key = tree.keyOf(property);
+      const value = tree.valueOf(property);
+      if (key === NONE || value === NONE || TRANSITION_FIELDS.has(tree.str(key))) continue;
+      for (const stray of this.stringOrStrings(value)) strays.push(stray.value);
+    }
+    const declaredActions = this.declaredActionNames();
     const pick = (read: Located<string>[], declared: Set<string>): string[] | undefined => {
       if (read.length > 0) return read.map((r) => r.value);
       const named = strays.filter((value) => declared.has(value));
@@ -907,10 +939,6 @@ const TRANSITION_FIELDS = new Set(Object.keys(schemaDocument.$defs.transition.pr
 
 // ---------------------------------------------------------------------------------------------
 // Small helpers
-
-function nodeSpan(node: Node): Span {
-  return { start: node.offset, end: node.offset + node.length };
-}
 
 function firstCharacter(text: string): Span {
   return { start: 0, end: Math.min(1, text.length) };
