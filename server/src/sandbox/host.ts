@@ -16,7 +16,7 @@ import type { Readable } from 'node:stream';
 import { bundleModel, locateStack, type ModelBundle, type SourceLocation } from './bundle';
 import type { LearnRun } from './learn';
 import { launchPlan } from './launch';
-import { BEAT_FD, MODEL_SCRIPT_NAME, type HostRequest, type ModelDescription, type RandomnessCall, type WorkerReply } from './protocol';
+import { BEAT_FD, MODEL_SCRIPT_NAME, OUTPUT_MARK, type HostRequest, type ModelDescription, type RandomnessCall, type WorkerReply } from './protocol';
 import type { Enumeration, ModelFunction, RolloutRun, RuntimeProblem } from './runtime';
 
 export interface SandboxLimits {
@@ -98,6 +98,41 @@ function childScript(): string {
   return childScriptPath;
 }
 
+/** How long a reply waits for the output printed before it (see OUTPUT_MARK). */
+const OUTPUT_WAIT_MS = 500;
+
+/**
+ * Removes end-of-job marks from one output stream and counts them. A mark split across two chunks
+ * is held back until the rest arrives.
+ */
+export class MarkCounter {
+  seen = 0;
+  ended = false;
+  private held = '';
+
+  strip(chunk: string): string {
+    const parts = (this.held + chunk).split(OUTPUT_MARK);
+    this.seen += parts.length - 1;
+    let text = parts.join('');
+    this.held = '';
+    for (let k = Math.min(OUTPUT_MARK.length - 1, text.length); k > 0; k--) {
+      if (text.endsWith(OUTPUT_MARK.slice(0, k))) {
+        this.held = text.slice(-k);
+        text = text.slice(0, -k);
+        break;
+      }
+    }
+    return text;
+  }
+
+  /** What was held back when the stream ends. */
+  rest(): string {
+    const text = this.held;
+    this.held = '';
+    return text;
+  }
+}
+
 /** One child process and what the host reads from it. */
 class Child {
   readonly process: ChildProcess;
@@ -110,6 +145,10 @@ class Child {
   exitSignal: NodeJS.Signals | null = null;
   onMessage?: (message: unknown) => void;
   onExit?: () => void;
+  /** Replies received from this process, and the end-of-job marks seen on stdout and stderr. */
+  replies = 0;
+  private readonly marks: MarkCounter[] = [];
+  private readonly waiters = new Set<() => void>();
 
   constructor(
     readonly key: string,
@@ -126,14 +165,21 @@ class Child {
       serialization: 'advanced',
       windowsHide: true,
     });
-    const capture = (chunk: Buffer) => {
-      const room = OUTPUT_KEPT - this.output.length;
-      const text = chunk.toString('utf8');
-      if (room > 0) this.output += text.slice(0, room);
-      this.outputDropped += Math.max(0, text.length - Math.max(0, room));
-    };
-    this.process.stdout!.on('data', capture);
-    this.process.stderr!.on('data', capture);
+    const streams = [this.process.stdout!, this.process.stderr!];
+    streams.forEach((stream) => {
+      const marks = new MarkCounter();
+      this.marks.push(marks);
+      stream.setEncoding('utf8');
+      stream.on('data', (chunk: string) => {
+        this.keep(marks.strip(chunk));
+        this.wakeWaiters();
+      });
+      stream.on('end', () => {
+        this.keep(marks.rest());
+        marks.ended = true;
+        this.wakeWaiters();
+      });
+    });
     (this.process.stdio[BEAT_FD] as Readable).on('data', () => {
       this.lastBeat = Date.now();
     });
@@ -146,6 +192,37 @@ class Child {
       this.markExited();
     });
     live.add(this);
+  }
+
+  private keep(text: string): void {
+    const room = OUTPUT_KEPT - this.output.length;
+    if (room > 0) this.output += text.slice(0, room);
+    this.outputDropped += Math.max(0, text.length - Math.max(0, room));
+  }
+
+  /**
+   * Resolves once stdout and stderr have passed the mark the child wrote before its `replies`-th
+   * reply, or ended, or after OUTPUT_WAIT_MS (model code may have closed a stream).
+   */
+  outputCaughtUp(replies: number): Promise<void> {
+    const done = () => this.marks.every((marks) => marks.ended || marks.seen >= replies);
+    if (done()) return Promise.resolve();
+    return new Promise((resolve) => {
+      const finish = () => {
+        clearTimeout(timer);
+        this.waiters.delete(waiter);
+        resolve();
+      };
+      const waiter = () => {
+        if (done()) finish();
+      };
+      const timer = setTimeout(finish, OUTPUT_WAIT_MS);
+      this.waiters.add(waiter);
+    });
+  }
+
+  private wakeWaiters(): void {
+    for (const waiter of [...this.waiters]) waiter();
   }
 
   private markExited(): void {
@@ -398,7 +475,11 @@ export class ModelSandbox {
       this.settle(failure);
       return;
     }
-    this.settle(reply);
+    // The output printed during the job travels on other pipes; wait for it (see OUTPUT_MARK).
+    const pending = this.pending;
+    void this.child.outputCaughtUp(++this.child.replies).then(() => {
+      if (this.pending === pending) this.settle(reply);
+    });
   }
 
   private settle(reply: WorkerReply | ModelFailure): void {

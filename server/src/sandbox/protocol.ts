@@ -11,6 +11,13 @@ export const LOOP_CHECK = '__episcopeLoopCheck';
 /** The child's file descriptor for liveness beats (one byte each); requests and replies use the IPC channel. */
 export const BEAT_FD = 4;
 
+/**
+ * Written by the child to its stdout and stderr just before each reply. The reply and the output
+ * travel on different pipes, so the host holds a reply until both streams have passed this mark:
+ * what the model printed during a job is then always shown with that job's result.
+ */
+export const OUTPUT_MARK = '\u0000episcope:end-of-job\u0000';
+
 /** A call of an unseeded random source or clock made by model code. */
 export interface RandomnessCall {
   api: string;

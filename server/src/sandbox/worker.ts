@@ -14,7 +14,7 @@ import { writeSync } from 'node:fs';
 import { createRequire } from 'node:module';
 import { getHeapStatistics } from 'node:v8';
 import { compileFunction } from 'node:vm';
-import { BEAT_FD, LOOP_CHECK, MODEL_SCRIPT_NAME, type ChildLimits, type HostRequest, type ModelDescription, type RandomnessCall, type WorkerReply } from './protocol';
+import { BEAT_FD, LOOP_CHECK, MODEL_SCRIPT_NAME, OUTPUT_MARK, type ChildLimits, type HostRequest, type ModelDescription, type RandomnessCall, type WorkerReply } from './protocol';
 import {
   describeValue,
   enumerateModel,
@@ -370,5 +370,17 @@ process.on('message', (request: HostRequest) => {
     reply = { type: 'problem', problem: thrownProblem(error, 'load'), randomness: takeRandomness() };
   }
   beat(now(), true);
+  markOutput();
   send(reply);
 });
+
+/** Ends the job's output on both streams (see OUTPUT_MARK); a stream model code closed is skipped. */
+function markOutput(): void {
+  for (const fd of [1, 2]) {
+    try {
+      writeSync(fd, OUTPUT_MARK);
+    } catch {
+      // The host stops waiting for this stream's mark after a short while.
+    }
+  }
+}
