@@ -34,10 +34,10 @@ function versionOf(path: string): number | undefined {
   }
 }
 
-/** A `node` executable on PATH, or undefined. */
-function nodeOnPath(): NodeBinary | undefined {
+/** A `node` executable on the search path `path`, or undefined. */
+function nodeOnPath(path: string): NodeBinary | undefined {
   const names = process.platform === 'win32' ? ['node.exe'] : ['node'];
-  for (const folder of (process.env.PATH ?? '').split(delimiter)) {
+  for (const folder of path.split(delimiter)) {
     if (!folder) continue;
     for (const name of names) {
       const candidate = join(folder, name);
@@ -53,18 +53,27 @@ function nodeOnPath(): NodeBinary | undefined {
   return undefined;
 }
 
+/** What decides which Node runs model code: the host's own runtime and its search path. */
+export interface HostRuntime {
+  execPath: string;
+  versions: { node: string; electron?: string };
+  path: string;
+}
+
 /**
- * The Node that runs model code: this process's own when it is plain Node; inside Electron (VS Code's
+ * The Node that runs model code: the host's own when it is plain Node; inside Electron (VS Code's
  * extension host) a plain `node` from PATH, whose permission model Electron's build lacks; failing
  * that, Electron's binary run as Node.
  */
+export function chooseSandboxNode(host: HostRuntime): NodeBinary {
+  const own = { path: host.execPath, major: Number(host.versions.node.split('.')[0]) };
+  if (!host.versions.electron) return { ...own, electron: false };
+  return nodeOnPath(host.path) ?? { ...own, electron: true };
+}
+
+/** chooseSandboxNode for this process, decided once. */
 export function sandboxNode(): NodeBinary {
-  if (cachedBinary) return cachedBinary;
-  if (!process.versions.electron) {
-    cachedBinary = { path: process.execPath, major: Number(process.versions.node.split('.')[0]), electron: false };
-  } else {
-    cachedBinary = nodeOnPath() ?? { path: process.execPath, major: Number(process.versions.node.split('.')[0]), electron: true };
-  }
+  cachedBinary ??= chooseSandboxNode({ execPath: process.execPath, versions: process.versions, path: process.env.PATH ?? '' });
   return cachedBinary;
 }
 
@@ -78,8 +87,7 @@ export function processMemoryMb(heapMb: number): number {
  * `readable`; no writes, child processes, workers or native addons), an empty environment, a heap
  * limit and, where `/bin/sh` has `ulimit`, a limit on the whole process's data segment.
  */
-export function launchPlan(script: string, readable: string[], heapMb: number): LaunchPlan {
-  const node = sandboxNode();
+export function launchPlan(script: string, readable: string[], heapMb: number, node: NodeBinary = sandboxNode()): LaunchPlan {
   const notices: string[] = [];
   const nodeArgs = [`--max-old-space-size=${heapMb}`, '--no-warnings'];
   if (node.electron) {
