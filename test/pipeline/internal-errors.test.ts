@@ -67,16 +67,13 @@ vi.mock('../../server/src/analysis/rollouts', async (importOriginal) => {
   };
 });
 
-vi.mock('jsonc-parser', async (importOriginal) => {
-  const original = await importOriginal<typeof import('jsonc-parser')>();
+vi.mock('../../server/src/spec/json-tree', async (importOriginal) => {
+  const original = await importOriginal<typeof import('../../server/src/spec/json-tree')>();
   return {
     ...original,
-    parseTree: (
-      text: string,
-      ...rest: Parameters<typeof original.parseTree> extends [string, ...infer R] ? R : never
-    ) => {
+    readJsonTree: (text: string, maxDepth: number) => {
       if (text.includes(LOADER_BOMB)) throw new Error('planted loader failure');
-      return original.parseTree(text, ...rest);
+      return original.readJsonTree(text, maxDepth);
     },
   };
 });
