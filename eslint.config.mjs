@@ -4,7 +4,7 @@ import tseslint from 'typescript-eslint';
 
 /** The analysis core: text and config in, a report out (DEVELOPERS.md, Invariants). */
 const CORE = [
-  'server/src/spec/**/*.ts',
+  'server/src/load/**/*.ts',
   'server/src/model/**/*.ts',
   'server/src/analysis/**/*.ts',
   'server/src/rules/**/*.ts',

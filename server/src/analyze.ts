@@ -2,7 +2,7 @@
  * The one analysis call behind every front (CLI, language server, library): text and config in, a
  * FileReport out. Pure: no LSP, no VS Code, no file system writes.
  *
- * The pipeline is a straight line: a loader (spec/json.ts, or the TypeScript loader with its
+ * The pipeline is a straight line: a loader (load/json.ts, or the TypeScript loader with its
  * sandbox) returns a LoadedSpec; this file alone continues through compile, analyse, check and
  * suppress. Nothing downstream imports this file back.
  */
@@ -17,16 +17,16 @@ import type { AnalyzeOptions, FileReport, LoadedSpec } from './report';
 import { episodeNeverEnds } from './rules/episode-never-ends';
 import { RULES } from './rules/registry';
 import type { IncompleteModel, Rule, RuleContext } from './rules/types';
-import { MAX_DOCUMENT_LENGTH, MAX_NESTING_DEPTH, parseJsonSpec } from './spec/json';
-import { LineIndex } from './spec/lines';
-import { emptySpec, type ParsedSpec } from './spec/types';
+import { MAX_DOCUMENT_LENGTH, MAX_NESTING_DEPTH, parseJsonSpec } from './load/json';
+import { LineIndex } from './load/lines';
+import { emptySpec, type ParsedSpec } from './load/types';
 import { suppressReport } from './suppress';
 import type { Analysis } from './analysis/types';
 import { withSampleEvidence } from './model/empirical';
 import { SEEN_FACT_RULES } from './rules/empirical-model';
 
 export type { AnalyzeOptions, FileReport, LoadedSpec } from './report';
-export { isSpecPath } from './spec/paths';
+export { isSpecPath } from './load/paths';
 
 /**
  * Analyses a spec of either format; the fronts (CLI, language server) call this. Never rejects
@@ -60,7 +60,7 @@ export function loadJsonSpec(text: string): LoadedSpec {
   return loaded;
 }
 
-/** The loader's wording of a JSON syntax error and of a document nested too deeply (spec/json.ts). */
+/** The loader's wording of a JSON syntax error and of a document nested too deeply (load/json.ts). */
 const SYNTAX_PREFIX = 'invalid JSON: ';
 const NESTING_PREFIX = 'values are nested more than';
 

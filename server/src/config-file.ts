@@ -16,8 +16,8 @@ import { suggestRules } from './rules/suggest';
 import { resolveConfig, type EpiscopeConfig, type ResolvedConfig } from './config';
 import { RULES } from './rules/registry';
 import type { Finding, Rule, Severity } from './rules/types';
-import { LineIndex } from './spec/lines';
-import type { Span } from './spec/types';
+import { LineIndex } from './load/lines';
+import type { Span } from './load/types';
 import type { FrontRule } from './suppress';
 
 export const CONFIG_FILE_NAME = 'episcope.config.json';

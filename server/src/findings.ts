@@ -2,7 +2,7 @@
  * What every layer reports: a finding with its span, severity, trace and fixes. Loaders, rules,
  * suppression and the fronts all speak this, so it depends on nothing but spans.
  */
-import type { Span } from './spec/span';
+import type { Span } from './load/span';
 
 export type Severity = 'error' | 'warning' | 'info';
 export const SEVERITY_ORDER: Record<Severity, number> = { error: 3, warning: 2, info: 1 };

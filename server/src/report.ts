@@ -9,8 +9,8 @@ import type { WarmStart } from './analysis/warm-start';
 import type { ResolvedConfig } from './config';
 import type { Finding, SuppressedFinding } from './findings';
 import type { CompiledModel } from './model/compiled';
-import type { LineIndex } from './spec/lines';
-import type { ParsedSpec } from './spec/types';
+import type { LineIndex } from './load/lines';
+import type { ParsedSpec } from './load/types';
 
 export interface AnalyzeOptions {
   config?: ResolvedConfig;

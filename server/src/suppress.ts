@@ -19,8 +19,8 @@ import type { ResolvedConfig } from './config';
 import { RULES } from './rules/registry';
 import type { Finding, FindingInput, Severity, SuppressedFinding } from './findings';
 import type { Rule } from './rules/types';
-import { LineIndex } from './spec/lines';
-import type { Span } from './spec/types';
+import { LineIndex } from './load/lines';
+import type { Span } from './load/types';
 
 /** The rule id of findings about suppressions themselves. */
 export const SUPPRESSION_RULE_ID = 'suppression';

@@ -5,7 +5,7 @@
  */
 import { compileSpec } from '../../server/src/model/compile';
 import { TERMINAL_OF_CODE, stateName } from '../../server/src/model/compiled';
-import { parseJsonSpec } from '../../server/src/spec/json';
+import { parseJsonSpec } from '../../server/src/load/json';
 
 /** The TypeScript text of the black box, or why the spec cannot be wrapped (e.g. a shaping potential). */
 export function blackBoxOf(jsonText: string): { text?: string; reason?: string } {

@@ -5,7 +5,7 @@ import { describe, expect, it } from 'vitest';
 import { DEFAULT_CONFIG } from '../../server/src/config';
 import { CONFIG_FILE_NAME, findConfigFile, loadConfigFile, parseConfigText } from '../../server/src/config-file';
 import type { Rule } from '../../server/src/rules/types';
-import { LineIndex } from '../../server/src/spec/lines';
+import { LineIndex } from '../../server/src/load/lines';
 
 // A stand-in registry with one threshold, so that threshold keys can be checked without the real rules.
 const RULES: Rule[] = [

@@ -1,7 +1,7 @@
 import { describe, expect, it } from 'vitest';
 import { resolveConfig, type ResolvedConfig } from '../../server/src/config';
 import type { Finding } from '../../server/src/rules/types';
-import { LineIndex } from '../../server/src/spec/lines';
+import { LineIndex } from '../../server/src/load/lines';
 import {
   applySuppressions,
   globMatches,

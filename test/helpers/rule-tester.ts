@@ -10,7 +10,7 @@ import type { FileReport } from '../../server/src/analyze';
 import type { EpiscopeConfig } from '../../server/src/config';
 import { findRule } from '../../server/src/rules/registry';
 import type { Finding, Severity } from '../../server/src/rules/types';
-import type { Span } from '../../server/src/spec/types';
+import type { Span } from '../../server/src/load/types';
 import { analyzeTs } from '../typescript/ts-specs';
 import { applyFix, checkSpec, findingsOf, spanText } from './specs';
 

@@ -5,7 +5,7 @@
 import { analyzeJsonText, type FileReport } from '../../server/src/analyze';
 import { resolveConfig, type EpiscopeConfig } from '../../server/src/config';
 import type { Finding } from '../../server/src/rules/types';
-import type { Span } from '../../server/src/spec/types';
+import type { Span } from '../../server/src/load/types';
 
 /** The JSON text of a spec object, formatted one property per line as people write them. */
 export function specText(spec: object | string): string {

@@ -10,8 +10,8 @@ import { describe, expect, it } from 'vitest';
 import { compileSpec } from '../../server/src/model/compile';
 import type { CompiledModel } from '../../server/src/model/compiled';
 import { recoverPotential, type ShapingStep } from '../../server/src/analysis/shaping';
-import { parseJsonSpec } from '../../server/src/spec/json';
-import type { ParsedSpec } from '../../server/src/spec/types';
+import { parseJsonSpec } from '../../server/src/load/json';
+import type { ParsedSpec } from '../../server/src/load/types';
 
 function compiled(spec: object): { spec: ParsedSpec; model: CompiledModel } {
   const parsed = parseJsonSpec(JSON.stringify(spec));

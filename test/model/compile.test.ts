@@ -9,7 +9,7 @@ import { chainSpec, type SpecObject } from '../helpers/specs';
 import { compileSpec } from '../../server/src/model/compile';
 import type { CompiledModel } from '../../server/src/model/compiled';
 import { TERMINAL_CODE } from '../../server/src/model/compiled';
-import { parseJsonSpec } from '../../server/src/spec/json';
+import { parseJsonSpec } from '../../server/src/load/json';
 
 function compile(spec: SpecObject | string): { model?: CompiledModel; reason?: string } {
   const parsed = parseJsonSpec(typeof spec === 'string' ? spec : JSON.stringify(spec, null, 2));

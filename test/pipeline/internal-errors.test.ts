@@ -67,8 +67,8 @@ vi.mock('../../server/src/analysis/rollouts', async (importOriginal) => {
   };
 });
 
-vi.mock('../../server/src/spec/json-tree', async (importOriginal) => {
-  const original = await importOriginal<typeof import('../../server/src/spec/json-tree')>();
+vi.mock('../../server/src/load/json-tree', async (importOriginal) => {
+  const original = await importOriginal<typeof import('../../server/src/load/json-tree')>();
   return {
     ...original,
     readJsonTree: (text: string, maxDepth: number) => {

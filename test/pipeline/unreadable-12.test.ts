@@ -6,7 +6,7 @@ import { rmSync, writeFileSync } from 'node:fs';
 import * as path from 'node:path';
 import { afterAll, describe, expect, it } from 'vitest';
 import { analyzeJsonText } from '../../server/src/analyze';
-import { MAX_DOCUMENT_LENGTH } from '../../server/src/spec/json';
+import { MAX_DOCUMENT_LENGTH } from '../../server/src/load/json';
 import { cli, tempFolder } from '../cli/cli-harness';
 
 const VALID = '{"discount": 0.9, "start": "a", "actions": ["go"], "states": {"a": {}, "g": {"terminal": "goal"}}, "transitions": [{"from": "a", "action": "go", "to": "g", "reward": 1}]}';

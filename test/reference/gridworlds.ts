@@ -3,7 +3,7 @@
  * Sources: R. Sutton and A. Barto, Reinforcement Learning: An Introduction, 2nd ed., MIT Press, 2018.
  */
 import { ModelBuilder, type CompiledModel } from '../../server/src/model/compiled';
-import type { TerminalKind } from '../../server/src/spec/types';
+import type { TerminalKind } from '../../server/src/load/types';
 
 const NOWHERE = { start: 0, end: 0 };
 

@@ -1,5 +1,5 @@
 import { describe, expect, test } from 'vitest';
-import { readTypeScriptSpec } from '../../server/src/spec/typescript';
+import { readTypeScriptSpec } from '../../server/src/load/typescript';
 
 /** The text a span covers. */
 function at(text: string, span: { start: number; end: number } | undefined): string | undefined {

@@ -16,7 +16,7 @@
  * With discount 0, F = -Phi(s), so all outcomes leaving one state must carry the same amount.
  */
 import type { CompiledModel } from '../model/compiled';
-import type { ParsedSpec } from '../spec/types';
+import type { ParsedSpec } from '../load/types';
 
 /** One outcome seen as an equation discount*Phi(to) - Phi(from) = amount. */
 export interface ShapingStep {

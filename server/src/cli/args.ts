@@ -4,7 +4,7 @@
  * commands that accept it; adding a subcommand is one entry in the command table of main.ts.
  */
 
-import { closestName } from '../spec/names';
+import { closestName } from '../load/names';
 
 export type OptionValue = string | number | boolean;
 

@@ -3,7 +3,7 @@
  */
 import { promises as fs } from 'node:fs';
 import * as path from 'node:path';
-import { isSpecPath } from '../spec/paths';
+import { isSpecPath } from '../load/paths';
 
 /** A path that cannot be read; the message is one line for the user. */
 export class PathError extends Error {}

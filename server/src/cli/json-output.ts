@@ -11,8 +11,8 @@ import type { Analysis, Interval, ReachAtStart } from '../analysis/types';
 import type { CompiledModel } from '../model/compiled';
 import { TERMINAL_OF_CODE } from '../model/compiled';
 import type { Finding, Severity } from '../rules/types';
-import type { Span } from '../spec/types';
-import type { LineIndex } from '../spec/lines';
+import type { Span } from '../load/types';
+import type { LineIndex } from '../load/lines';
 import { jsonLower, jsonPoint, jsonProbability, jsonShare, jsonUpper, roundNearest, type JsonNumber, type JsonProbability } from './numbers';
 
 export const JSON_OUTPUT_VERSION = 1;

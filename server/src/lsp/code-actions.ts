@@ -13,7 +13,7 @@ import {
   type WorkspaceEdit,
 } from 'vscode-languageserver-protocol';
 import type { TextDocument } from 'vscode-languageserver-textdocument';
-import { LineIndex } from '../spec/lines';
+import { LineIndex } from '../load/lines';
 import { ignoreCommentEdit, ignoreEntryEdit, type OffsetEdit } from './ignore-edits';
 import { COMMAND_REVEAL, COMMAND_SHOW_RULE_DOC, type DiagnosticData, type OffsetFix } from './protocol';
 

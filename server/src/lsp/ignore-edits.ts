@@ -6,7 +6,7 @@
  * the cursor where the reason goes.
  */
 import { applyEdits, findNodeAtLocation, modify, parseTree, type ParseError } from 'jsonc-parser';
-import { LineIndex, type TextPosition } from '../spec/lines';
+import { LineIndex, type TextPosition } from '../load/lines';
 
 /** The marker of a suppression comment (see suppress.ts, which reads these comments). */
 const IGNORE_MARKER = 'episcope-ignore';

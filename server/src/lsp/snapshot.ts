@@ -20,7 +20,7 @@ import type { FileReport } from '../analyze';
 import type { ConfigFile } from '../config-file';
 import { TERMINAL_CODE, stateName, type CompiledModel } from '../model/compiled';
 import type { Finding } from '../rules/types';
-import type { ParsedSpec, Span } from '../spec/types';
+import type { ParsedSpec, Span } from '../load/types';
 import { formatDuration, formatInterval, formatNumber, formatProbability, plural, snapProbability } from './format';
 import {
   TOKEN_STATE,

@@ -1,7 +1,7 @@
 /** URI and path helpers shared by the language server's features. */
 import { readFileSync } from 'node:fs';
 import { fileURLToPath } from 'node:url';
-import { isSpecPath } from '../spec/paths';
+import { isSpecPath } from '../load/paths';
 
 /** The file system path of a `file:` URI, else undefined. */
 export function filePath(uri: string): string | undefined {

@@ -4,8 +4,8 @@
  * and the structural rules explain every problem with its position.
  */
 import { ModelBuilder, type CompiledModel } from './compiled';
-import { arrow, formatNumber, quote } from '../spec/names';
-import type { ParsedSpec, RewardPart, SpecState } from '../spec/types';
+import { arrow, formatNumber, quote } from '../load/names';
+import type { ParsedSpec, RewardPart, SpecState } from '../load/types';
 
 export interface CompileResult {
   model?: CompiledModel;

@@ -1,4 +1,4 @@
-import type { Span, TerminalKind } from '../spec/types';
+import type { Span, TerminalKind } from '../load/types';
 import type { SampleEvidence } from './empirical';
 
 /** Terminal codes in `CompiledModel.terminal`. */

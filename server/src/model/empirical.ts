@@ -11,7 +11,7 @@
  * variables", JASA 58, 1963).
  */
 import type { FindingInput, SampleSupport } from '../findings';
-import type { Span } from '../spec/span';
+import type { Span } from '../load/span';
 import { ModelBuilder, TERMINAL_OF_CODE, type CompiledModel } from './compiled';
 
 /** One outcome seen for a (state key, action) pair. */

@@ -1,6 +1,6 @@
-import { listNames, quote } from '../spec/names';
-import type { ParsedSpec } from '../spec/types';
-import { TERMINAL_KINDS } from '../spec/types';
+import { listNames, quote } from '../load/names';
+import type { ParsedSpec } from '../load/types';
+import { TERMINAL_KINDS } from '../load/types';
 import { forEachNonTerminalState, jsonEditorFor } from './spec-walk';
 import { describeCall } from './model-error';
 import type { Fix, Rule, RuleContext } from './types';

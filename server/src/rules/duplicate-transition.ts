@@ -1,6 +1,6 @@
-import { arrow } from '../spec/names';
-import { LineIndex } from '../spec/lines';
-import type { SpecTransition } from '../spec/types';
+import { arrow } from '../load/names';
+import { LineIndex } from '../load/lines';
+import type { SpecTransition } from '../load/types';
 import { expansionsOf, jsonEditorFor, writtenTransitions } from './spec-walk';
 import type { Fix, RelatedLocation, Rule } from './types';
 

@@ -1,4 +1,4 @@
-import { formatNumber } from '../spec/names';
+import { formatNumber } from '../load/names';
 import { TERMINAL_CODE, stateName } from '../model/compiled';
 import { routeFrom, startEntries, stepsTo } from '../analysis/paths';
 import { unshapedReward } from '../analysis/shaping';

@@ -4,7 +4,7 @@
  * model choices and outcomes.
  */
 import { stateName, type CompiledModel } from '../model/compiled';
-import type { ParsedSpec, Span, SpecOutcome } from '../spec/types';
+import type { ParsedSpec, Span, SpecOutcome } from '../load/types';
 import type { PathStep } from '../analysis/paths';
 import type { IncompleteModel, RelatedLocation, TraceStep } from './types';
 

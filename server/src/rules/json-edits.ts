@@ -4,7 +4,7 @@
  * keep the document's indentation and line ends.
  */
 import { parseTree, type Node } from 'jsonc-parser';
-import { maskLongBlanks } from '../spec/blanks';
+import { maskLongBlanks } from '../load/blanks';
 import type { TextEdit } from './types';
 
 type Path = ReadonlyArray<string | number>;

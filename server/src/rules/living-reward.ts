@@ -1,4 +1,4 @@
-import { formatNumber } from '../spec/names';
+import { formatNumber } from '../load/names';
 import { stateName, type CompiledModel } from '../model/compiled';
 import { maximalEndComponents } from '../analysis/end-components';
 import { goalRouteOf } from '../analysis/goal-route';

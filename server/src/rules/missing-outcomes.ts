@@ -1,4 +1,4 @@
-import { listNames, quote } from '../spec/names';
+import { listNames, quote } from '../load/names';
 import { forEachNonTerminalState, jsonEditorFor } from './spec-walk';
 import type { Fix, Rule } from './types';
 

@@ -1,4 +1,4 @@
-import type { LocatedProblem } from '../spec/typescript-evidence';
+import type { LocatedProblem } from '../load/typescript-evidence';
 import type { Rule } from './types';
 
 /** How a model call is named in messages: `outcomes({"stock":3}, "order")`, or the episode and step of a rollout. */

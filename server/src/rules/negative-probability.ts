@@ -1,7 +1,7 @@
-import { formatNumber, quote } from '../spec/names';
+import { formatNumber, quote } from '../load/names';
 import { isProbability } from './probability-sum';
 import { forEachOutcome, malformedCost, transitionLabel } from './spec-walk';
-import type { ParsedSpec, SpecTransition } from '../spec/types';
+import type { ParsedSpec, SpecTransition } from '../load/types';
 import type { Rule } from './types';
 
 /** Every outcome (and start) probability must lie in [0, 1]. */

@@ -1,4 +1,4 @@
-import { formatNumber, quote } from '../spec/names';
+import { formatNumber, quote } from '../load/names';
 import { forEachRewardPart, malformedCost, transitionLabel } from './spec-walk';
 import type { Rule } from './types';
 

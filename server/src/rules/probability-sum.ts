@@ -1,6 +1,6 @@
 import { PROBABILITY_SUM_TOLERANCE } from '../model/compile';
-import { formatNumber } from '../spec/names';
-import type { Span, SpecTransition } from '../spec/types';
+import { formatNumber } from '../load/names';
+import type { Span, SpecTransition } from '../load/types';
 import { malformedCost, transitionLabel, writtenTransitions } from './spec-walk';
 import { describeCall } from './model-error';
 import type { Fix, Rule, RuleContext } from './types';

@@ -1,4 +1,4 @@
-import { formatNumber, quote } from '../spec/names';
+import { formatNumber, quote } from '../load/names';
 import { describeStep, forEachRewardAmount, type RewardAmount } from './incentive-text';
 import { transitionLabel } from './spec-walk';
 import type { FindingInput, Rule } from './types';

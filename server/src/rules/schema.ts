@@ -1,11 +1,11 @@
-import type { Span } from '../spec/types';
+import type { Span } from '../load/types';
 import type { Finding, Rule } from './types';
 
 /**
  * `schema`: the document does not match the spec format (schemas/mdp.schema.json).
  *
  * This rule is checked by the loaders, not by `check`: a document that does not match the schema
- * cannot be turned into a ParsedSpec in the first place, so the JSON loader (spec/json.ts) and the
+ * cannot be turned into a ParsedSpec in the first place, so the JSON loader (load/json.ts) and the
  * TypeScript loader validate while they read and build their findings with `schemaFinding` below.
  * analyze.ts merges those findings and applies the configured severity (or "off"). The registry
  * lists this rule so that `episcope explain schema`, the rule table and config validation know it;

@@ -1,9 +1,9 @@
-import { formatNumber } from '../spec/names';
+import { formatNumber } from '../load/names';
 import { stateName, type CompiledModel } from '../model/compiled';
 import { recoverPotential, type PotentialConflict, type ShapingStep } from '../analysis/shaping';
 import { actionOf, describeStep, formatAmount, formatSigned, outcomeSpan } from './incentive-text';
 import type { RelatedLocation, Rule, TraceStep } from './types';
-import type { ParsedSpec } from '../spec/types';
+import type { ParsedSpec } from '../load/types';
 
 export const shapingNotPotential: Rule = {
   id: 'shaping-not-potential',

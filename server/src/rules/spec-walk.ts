@@ -3,9 +3,9 @@
  * is expanded into several SpecTransitions that share the same text; these helpers visit each
  * written outcome and reward once, so that a finding is reported once per place in the text.
  */
-import { arrow, quote } from '../spec/names';
+import { arrow, quote } from '../load/names';
 import { actionSetOf } from '../model/compile';
-import type { ParsedSpec, RewardPart, Span, SpecOutcome, SpecState, SpecTransition } from '../spec/types';
+import type { ParsedSpec, RewardPart, Span, SpecOutcome, SpecState, SpecTransition } from '../load/types';
 import { JsonEditor } from './json-edits';
 import type { Fix, RuleContext } from './types';
 

@@ -1,4 +1,4 @@
-import { editDistance } from '../spec/names';
+import { editDistance } from '../load/names';
 
 /**
  * The rule ids closest to a mistyped one (edit distance at most 3, a swap of two neighbours

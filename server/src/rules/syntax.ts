@@ -1,9 +1,9 @@
-import type { Span } from '../spec/types';
+import type { Span } from '../load/types';
 import type { Finding, Rule } from './types';
 
 /**
  * `syntax`: a TypeScript spec is not valid TypeScript. Like `schema`, it is reported by the loader
- * (spec/typescript.ts) while it reads the file; the registry lists it so that `explain`, the rule
+ * (load/typescript.ts) while it reads the file; the registry lists it so that `explain`, the rule
  * table, the config and suppressions know it. JSON syntax errors stay `schema` findings.
  */
 export const syntaxRule: Rule = {

@@ -1,4 +1,4 @@
-import type { RewardTermSpec, Span } from '../spec/types';
+import type { RewardTermSpec, Span } from '../load/types';
 import { choiceSpan, describeStep, formatAmount, formatSigned, writtenOutcome } from './incentive-text';
 import type { Rule } from './types';
 

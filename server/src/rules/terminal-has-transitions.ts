@@ -1,5 +1,5 @@
-import { listNames, quote } from '../spec/names';
-import type { SpecState } from '../spec/types';
+import { listNames, quote } from '../load/names';
+import type { SpecState } from '../load/types';
 import { expansionsOf, jsonEditorFor, writtenTransitions } from './spec-walk';
 import type { Fix, Rule } from './types';
 

@@ -1,7 +1,7 @@
-import { formatNumber, quote } from '../spec/names';
+import { formatNumber, quote } from '../load/names';
 import { describeStep, writtenOutcome, choiceSpan } from './incentive-text';
 import { transitionLabel } from './spec-walk';
-import type { Span } from '../spec/types';
+import type { Span } from '../load/types';
 import type { Rule } from './types';
 
 /** An outcome so unlikely that it cannot matter to any value, and is often a mistyped exponent. */

@@ -3,7 +3,7 @@ import { routeFromStart } from '../analysis/loops';
 import { canReach, reachableFromStart } from '../analysis/reachability';
 import type { Analysis } from '../analysis/types';
 import { stateName, type CompiledModel } from '../model/compiled';
-import { listNames, quote } from '../spec/names';
+import { listNames, quote } from '../load/names';
 import { describePath, formatAmount, formatProbability, formatSigned, incompleteNote, stateSpan, traceOfPath } from './incentive-text';
 import type { RelatedLocation, Rule } from './types';
 

@@ -2,7 +2,7 @@ import type { FindingInput, Severity } from '../findings';
 import type { Analysis } from '../analysis/types';
 import type { ResolvedConfig } from '../config';
 import type { CompiledModel } from '../model/compiled';
-import type { ParsedSpec } from '../spec/types';
+import type { ParsedSpec } from '../load/types';
 
 
 // Finding and its kin live in findings.ts; re-exported here for the rules.

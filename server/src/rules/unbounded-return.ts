@@ -1,7 +1,7 @@
 import { expectedRewards, graphOf } from '../analysis/graph';
 import { loopOf, routeFromStart } from '../analysis/loops';
 import { stateName } from '../model/compiled';
-import { quote } from '../spec/names';
+import { quote } from '../load/names';
 import { describeStep, formatAmount, formatSigned, outcomeSpan, stateSpan, traceOfPath } from './incentive-text';
 import { formatInterval } from './trap-state';
 import type { RelatedLocation, Rule } from './types';

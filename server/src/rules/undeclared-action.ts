@@ -1,6 +1,6 @@
 import { actionSetOf } from '../model/compile';
-import { closestName, listNames, quote } from '../spec/names';
-import type { SpecState, SpecTransition } from '../spec/types';
+import { closestName, listNames, quote } from '../load/names';
+import type { SpecState, SpecTransition } from '../load/types';
 import { jsonEditorFor, renameFix } from './spec-walk';
 import type { Fix, Rule } from './types';
 

@@ -1,5 +1,5 @@
-import { closestName, quote } from '../spec/names';
-import type { Span } from '../spec/types';
+import { closestName, quote } from '../load/names';
+import type { Span } from '../load/types';
 import { forEachOutcome, jsonEditorFor, malformedCost, renameFix, transitionLabel } from './spec-walk';
 import type { JsonEditor } from './json-edits';
 import type { Fix, Rule } from './types';

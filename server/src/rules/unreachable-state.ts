@@ -1,6 +1,6 @@
 import { reachableFromStart } from '../analysis/reachability';
 import { stateName } from '../model/compiled';
-import { quote } from '../spec/names';
+import { quote } from '../load/names';
 import { choiceSpan, describeStep, incompleteNote, stateSpan } from './incentive-text';
 import type { RelatedLocation, Rule } from './types';
 

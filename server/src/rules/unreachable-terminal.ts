@@ -1,7 +1,7 @@
 import { graphOf } from '../analysis/graph';
 import { reachableFromStart } from '../analysis/reachability';
 import { stateName, TERMINAL_OF_CODE } from '../model/compiled';
-import { quote } from '../spec/names';
+import { quote } from '../load/names';
 import { describeStep, formatSigned, incompleteNote, outcomeSpan, stateSpan } from './incentive-text';
 import type { CompiledModel } from '../model/compiled';
 import type { RelatedLocation, Rule, RuleContext } from './types';

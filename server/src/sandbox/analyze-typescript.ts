@@ -12,10 +12,10 @@ import type { CompiledModel } from '../model/compiled';
 import { episodeNeverEnds } from '../rules/episode-never-ends';
 import { describeCall, modelError } from '../rules/model-error';
 import { findRule } from '../rules/registry';
-import { LineIndex } from '../spec/lines';
-import { applyField, readTypeScriptSpec, type TypeScriptReading } from '../spec/typescript';
-import type { LocatedProblem, RandomnessSite, TypeScriptEvidence } from '../spec/typescript-evidence';
-import type { ParsedSpec, Span } from '../spec/types';
+import { LineIndex } from '../load/lines';
+import { applyField, readTypeScriptSpec, type TypeScriptReading } from '../load/typescript';
+import type { LocatedProblem, RandomnessSite, TypeScriptEvidence } from '../load/typescript-evidence';
+import type { ParsedSpec, Span } from '../load/types';
 import type { SourceLocation } from './bundle';
 import { clip, ModelSandbox, type ModelFailure, type RandomnessUse } from './host';
 import { DEFAULT_LEARNING } from './learn';
@@ -25,7 +25,7 @@ import type { RecordOptions } from './transition-record';
 import { buildEmpiricalModel } from '../model/empirical';
 import { TERMINAL_CODE } from '../model/compiled';
 import { empiricalModel } from '../rules/empirical-model';
-import type { TerminalKind } from '../spec/types';
+import type { TerminalKind } from '../load/types';
 
 /** Rollouts of a sampled model when the config asks for none (config.rollouts = 0). */
 export const DEFAULT_SAMPLED_ROLLOUTS = 1000;

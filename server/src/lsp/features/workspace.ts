@@ -4,7 +4,7 @@ import { join } from 'node:path';
 import { pathToFileURL } from 'node:url';
 import type { WorkspaceFolder } from 'vscode-languageserver/node';
 import { DiagnosticSeverity } from 'vscode-languageserver-protocol';
-import { isSpecPath } from '../../spec/paths';
+import { isSpecPath } from '../../load/paths';
 import { JobCancelledError } from '../pool';
 import { COMMAND_ANALYZE_WORKSPACE, COMMAND_REVEAL, COMMAND_SHOW_RULE_DOC, type AnalysisSnapshot, type WorkspaceAnalysisSummary } from '../protocol';
 import type { ServerState } from '../state';

@@ -1,6 +1,6 @@
 import fc from 'fast-check';
 import { describe, expect, it } from 'vitest';
-import { closestName, editDistance, formatNumber, jsonPath } from '../../server/src/spec/names';
+import { closestName, editDistance, formatNumber, jsonPath } from '../../server/src/load/names';
 
 /** Textbook recurrence of the optimal string alignment distance, without cut-offs, as the reference. */
 function referenceDistance(a: string, b: string): number {

@@ -11,7 +11,7 @@
  * jsonc-parser reads without errors, with the same offsets; on anything else (a syntax error, an
  * unusual blank, nesting deeper than allowed) it returns undefined, and the caller reads the text
  * with jsonc-parser for its error recovery and messages and converts that tree with
- * `jsonTreeFromNodes`. test/spec/json-tree.test.ts checks that both give the same tree.
+ * `jsonTreeFromNodes`. test/load/json-tree.test.ts checks that both give the same tree.
  */
 import type { Node } from 'jsonc-parser';
 import type { Span } from './span';

@@ -10,8 +10,8 @@ import { join } from 'node:path';
 import fc from 'fast-check';
 import { parseTree, type ParseError } from 'jsonc-parser';
 import { describe, expect, it } from 'vitest';
-import { parseJsonSpec } from '../../server/src/spec/json';
-import { JsonTree, NONE, jsonTreeFromNodes, readJsonTree } from '../../server/src/spec/json-tree';
+import { parseJsonSpec } from '../../server/src/load/json';
+import { JsonTree, NONE, jsonTreeFromNodes, readJsonTree } from '../../server/src/load/json-tree';
 
 const JSONC_OPTIONS = { allowTrailingComma: true, disallowComments: false, allowEmptyContent: false };
 const DEPTH = 64;

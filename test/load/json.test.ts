@@ -7,8 +7,8 @@ import Ajv2020 from 'ajv/dist/2020';
 import fc from 'fast-check';
 import { describe, expect, it } from 'vitest';
 import schemaDocument from '../../schemas/mdp.schema.json';
-import { MAX_DOCUMENT_LENGTH, MAX_NESTING_DEPTH, MAX_SCHEMA_FINDINGS, parseJsonSpec } from '../../server/src/spec/json';
-import type { Span } from '../../server/src/spec/types';
+import { MAX_DOCUMENT_LENGTH, MAX_NESTING_DEPTH, MAX_SCHEMA_FINDINGS, parseJsonSpec } from '../../server/src/load/json';
+import type { Span } from '../../server/src/load/types';
 
 function load(text: string) {
   const result = parseJsonSpec(text);
