@@ -19,7 +19,7 @@ import { classifyMdpGains, GAIN_NEGATIVE, GAIN_POSITIVE, GAIN_ZERO, type MdpGain
 import { attainingPolicy, bestChoices, choiceBounds } from './policy';
 import { almostSureReach, canReach, reachableFromStart } from './reachability';
 import { stronglyConnectedComponents } from './scc';
-import { policyChoiceMask, solveValues, sortWithinComponents, type AnalysisContext, type ValueSolution } from './total-reward';
+import { policyChoiceMask, singleChoiceModel, solveValues, sortWithinComponents, type AnalysisContext, type ValueSolution } from './total-reward';
 import { guessesFor, UNDISCOUNTED_PREFIX, warmStartOf, type WarmStart } from './warm-start';
 import type {
   Analysis,
@@ -230,9 +230,12 @@ function stationaryAnalysis(ctx: AnalysisContext, shapedReward: Float64Array, en
   const transform = shapingShift(model, graph, ctx.mecs);
   // Everything below is solved in unshaped terms when the transform applies, and shifted at the end.
   const reward = transform ? transform.unshaped : shapedReward;
+  // A Markov chain (one choice per state) has one policy: the best, the worst and the random one
+  // are the same problem, solved once (goal-route.ts analyses such chains).
+  const chain = singleChoiceModel(graph);
   const maxSolution = solveValues(ctx, { combine: COMBINE_MAX, reward, discount, name: 'max' });
-  const minSolution = solveValues(ctx, { combine: COMBINE_MIN, reward, discount, name: 'min' });
-  const randomSolution = solveValues(ctx, { combine: COMBINE_AVERAGE, reward, discount, name: 'random' });
+  const minSolution = chain ? maxSolution : solveValues(ctx, { combine: COMBINE_MIN, reward, discount, name: 'min' });
+  const randomSolution = chain ? maxSolution : solveValues(ctx, { combine: COMBINE_AVERAGE, reward, discount, name: 'random' });
   const optimalSolution = model.maximize ? maxSolution : minSolution;
   const worstSolution = model.maximize ? minSolution : maxSolution;
   const sigma = model.maximize ? 1 : -1;
@@ -255,16 +258,20 @@ function stationaryAnalysis(ctx: AnalysisContext, shapedReward: Float64Array, en
         e ? withCertainties(graph, pointValues(solve(`${UNDISCOUNTED_PREFIX}${label}:reach${i}`, e, 1, 0, 1), ctx), KIND_CODES[i], 'chain', chain) : undefined,
       ),
     );
-    const ones = new Float64Array(model.choiceCount).fill(1);
     const expectedLength = pointValues(solve(`${UNDISCOUNTED_PREFIX}${label}:length`, ones, 1, 0), ctx);
     return { values: { lower: solution.lower, upper: solution.upper }, reach, expectedLength, policy };
   };
+  const ones = new Float64Array(model.choiceCount).fill(1);
   const optimal = describe(optimalSolution, optimalPolicy, 'optimal');
-  const worst = describe(worstSolution, worstPolicy, 'worst');
-  const random = describe(randomSolution, undefined, 'random');
+  const sameChain = (solution: ValueSolution, policy: Int32Array | undefined): PolicyAnalysis => ({ ...optimal, values: { lower: solution.lower, upper: solution.upper }, policy });
+  const worst = chain ? sameChain(worstSolution, worstPolicy) : describe(worstSolution, worstPolicy, 'worst');
+  const random = chain ? sameChain(randomSolution, undefined) : describe(randomSolution, undefined, 'random');
 
   const goal = entry[0];
-  const maxGoalReach = goal
+  // In a chain the most probable way to a goal is the only way.
+  const maxGoalReach = chain && goal
+    ? optimal.reach.goal
+    : goal
     ? withCertainties(
         graph,
         pointValues(solveValues(ctx, { combine: COMBINE_MAX, reward: goal, discount: 1, lowerBound: 0, upperBound: 1, name: `${UNDISCOUNTED_PREFIX}max-goal` }), ctx),

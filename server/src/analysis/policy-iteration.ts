@@ -19,11 +19,18 @@
 import type { CompiledModel } from '../model/compiled';
 import { approximateSolve, buildLinearSystem, certifiedSolve, type LinearSystem, type RowLayout } from './chain-solve';
 import type { ModelGraph } from './graph';
-import { COMBINE_MAX, scaledWidth, type Nodes, type Operator } from './interval-iteration';
+import { COMBINE_MAX, scaledWidth, sweepEstimate, type Nodes, type Operator } from './interval-iteration';
 import type { SolverCounters } from './sparse-linear';
 
 /** Howard iterations at most before giving up (in practice a few dozen at the most). */
 const MAX_IMPROVEMENTS = 200;
+
+/**
+ * Gauss-Seidel sweeps from 0 that pick the first policy when there is no guess: their greedy
+ * policy is close to the best one, which spares most improvements and their linear solves
+ * (sweeps before policy evaluation, as in modified policy iteration; Puterman 1994, section 6.5).
+ */
+const WARM_SWEEPS = 50;
 
 export interface PolicyIterationResult {
   /** Per node: the sound bounds, in the problem's own sign. */
@@ -61,7 +68,7 @@ export function policyIterationBounds(
 
   const policy = attractorPolicy(graph, nodes, nodeOf, allowed, op.discount);
   if (!policy) return undefined;
-  let previous = nodeGuess(nodes, guess, sigma);
+  let previous = nodeGuess(nodes, guess ?? sweptGuess(op, nodes), sigma);
   if (previous) {
     const greedy = greedyPolicy(model, nodes, nodeOf, allowed, reward, op.discount, previous, policy);
     if (op.discount < 1 || properPolicy(graph, nodes, nodeOf, greedy)) policy.set(greedy);
@@ -106,6 +113,13 @@ export function policyIterationBounds(
     upper[i] = sigma === 1 ? high : -low;
   }
   return { lower, upper, estimate: x.map((v) => sigma * v), solves, improvements };
+}
+
+/** Values per state after WARM_SWEEPS sweeps from 0, in the problem's sign. */
+function sweptGuess(op: Operator, nodes: Nodes): Float64Array {
+  const value = new Float64Array(op.model.stateCount);
+  for (let k = 0; k < WARM_SWEEPS; k++) sweepEstimate(op, nodes, value);
+  return value;
 }
 
 /** The guess per node in the optimiser's sign, or undefined unless every node has one. */
