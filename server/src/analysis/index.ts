@@ -255,7 +255,7 @@ function stationaryAnalysis(ctx: AnalysisContext, shapedReward: Float64Array, en
     const reach = reachOf(
       model.stateCount,
       entry.map((e, i) =>
-        e ? withCertainties(graph, pointValues(solve(`${UNDISCOUNTED_PREFIX}${label}:reach${i}`, e, 1, 0, 1), ctx), KIND_CODES[i], 'chain', chain) : undefined,
+        e ? withCertainties(graph, () => pointValues(solve(`${UNDISCOUNTED_PREFIX}${label}:reach${i}`, e, 1, 0, 1), ctx), KIND_CODES[i], 'chain', chain) : undefined,
       ),
     );
     const expectedLength = pointValues(solve(`${UNDISCOUNTED_PREFIX}${label}:length`, ones, 1, 0), ctx);
@@ -274,7 +274,7 @@ function stationaryAnalysis(ctx: AnalysisContext, shapedReward: Float64Array, en
     : goal
     ? withCertainties(
         graph,
-        pointValues(solveValues(ctx, { combine: COMBINE_MAX, reward: goal, discount: 1, lowerBound: 0, upperBound: 1, name: `${UNDISCOUNTED_PREFIX}max-goal` }), ctx),
+        () => pointValues(solveValues(ctx, { combine: COMBINE_MAX, reward: goal, discount: 1, lowerBound: 0, upperBound: 1, name: `${UNDISCOUNTED_PREFIX}max-goal` }), ctx),
         TERMINAL_CODE.goal,
         'max',
       )
@@ -367,9 +367,10 @@ function horizonAnalysis(graph: ModelGraph, horizon: number, reward: Float64Arra
  * "prob0 / prob1" precomputations of probabilistic model checking; Baier and Katoen, Principles of
  * Model Checking, 2008, section 10.1.1): 0 where no terminal of the kind can be reached, 1 where
  * (under a chain) no state that misses it can be reached, or (maximising over choices) where some
- * policy reaches it almost surely.
+ * policy reaches it almost surely. `solve` gives the estimate, and is not called when the graph
+ * decides every state.
  */
-function withCertainties(graph: ModelGraph, estimate: Float64Array, kindCode: number, how: 'max' | 'chain', chain?: Uint8Array): Float64Array {
+function withCertainties(graph: ModelGraph, solve: () => Float64Array, kindCode: number, how: 'max' | 'chain', chain?: Uint8Array): Float64Array {
   const { model } = graph;
   const kind = new Uint8Array(model.stateCount);
   for (let s = 0; s < kind.length; s++) kind[s] = model.terminal[s] === kindCode ? 1 : 0;
@@ -383,7 +384,9 @@ function withCertainties(graph: ModelGraph, estimate: Float64Array, kindCode: nu
     sure = new Uint8Array(model.stateCount);
     for (let s = 0; s < sure.length; s++) sure[s] = canMiss[s] ? 0 : 1;
   }
-  const out = estimate.slice();
+  let open = false;
+  for (let s = 0; s < model.stateCount && !open; s++) if (!graph.absorbing[s] && reaches[s] && !sure[s]) open = true;
+  const out = open ? solve() : new Float64Array(model.stateCount);
   for (let s = 0; s < out.length; s++) {
     if (!reaches[s]) out[s] = 0;
     else if (sure[s]) out[s] = 1;

@@ -73,6 +73,8 @@ interface KrylovFactor {
   local: SparseMatrix;
   ilu: Float64Array;
   diagonalAt: Int32Array;
+  /** BiCGSTAB's work vectors, kept for the block's next solve. */
+  buffers?: Float64Array[];
 }
 
 interface SparseLuFactor {
@@ -243,20 +245,34 @@ export class BlockSolver {
     }
     const localColumn = new Int32Array(localStart[size]);
     const localValue = new Float64Array(localStart[size]);
-    const pairs: Array<[number, number]> = [];
     for (let j = 0; j < size; j++) {
       const i = this.order[first + j];
-      pairs.length = 0;
+      let fill = localStart[j];
       for (let e = rowStart[i]; e < rowStart[i + 1]; e++) {
-        if (this.blockOf[column[e]] === blk) pairs.push([this.localIndex[column[e]], value[e]]);
+        if (this.blockOf[column[e]] !== blk) continue;
+        localColumn[fill] = this.localIndex[column[e]];
+        localValue[fill++] = value[e];
       }
-      pairs.sort((a, b) => a[0] - b[0]);
-      for (let q = 0; q < pairs.length; q++) {
-        localColumn[localStart[j] + q] = pairs[q][0];
-        localValue[localStart[j] + q] = pairs[q][1];
-      }
+      // Rows are short: an insertion sort in place allocates nothing.
+      sortRowByColumn(localColumn, localValue, localStart[j], fill);
     }
     return { n: size, rowStart: localStart, column: localColumn, value: localValue };
+  }
+}
+
+/** Insertion sort of one row's entries first .. end-1 by column. */
+export function sortRowByColumn(column: Int32Array, value: Float64Array, first: number, end: number): void {
+  for (let e = first + 1; e < end; e++) {
+    const c = column[e];
+    const v = value[e];
+    let f = e - 1;
+    while (f >= first && column[f] > c) {
+      column[f + 1] = column[f];
+      value[f + 1] = value[f];
+      f--;
+    }
+    column[f + 1] = c;
+    value[f + 1] = v;
   }
 }
 
@@ -471,15 +487,9 @@ function bicgstab(factor: KrylovFactor, b: Float64Array, x: Float64Array, guess?
     return 0;
   }
   const enough = tolerance * bNorm;
-  const r = new Float64Array(n);
-  const rHat = new Float64Array(n);
-  const p = new Float64Array(n);
-  const v = new Float64Array(n);
-  const y = new Float64Array(n);
-  const s = new Float64Array(n);
-  const z = new Float64Array(n);
-  const t = new Float64Array(n);
-  const best = new Float64Array(n);
+  // Every buffer is written before it is read, so the block's last ones serve again.
+  factor.buffers ??= Array.from({ length: 9 }, () => new Float64Array(n));
+  const [r, rHat, p, v, y, s, z, t, best] = factor.buffers;
   // The rounding floor of a residual: |A| x is at most twice the largest |x| for these matrices.
   const floorOf = (xs: Float64Array): number => Math.max(enough, 64 * Number.EPSILON * (bNorm + 2 * infinityNorm(xs)));
   // Start from the preconditioner's own solution (exact for a block it factors exactly, a chain),
