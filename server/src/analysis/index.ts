@@ -48,6 +48,11 @@ export interface AnalyzeModelOptions {
   startFrom?: WarmStart;
   /** Keep this analysis' solution in Analysis.solution, for the next analysis to start from. */
   keepSolution?: boolean;
+  /**
+   * Set false to skip the expected-length solves (their figures are then NaN, "undetermined"), for
+   * analyses whose lengths nobody reads, such as the goal route's chain.
+   */
+  expectedLengths?: boolean;
 }
 
 /**
@@ -94,7 +99,7 @@ export function analyzeModel(model: CompiledModel, options: AnalyzeModelOptions)
 
   const base = model.horizon !== undefined
     ? horizonAnalysis(graph, model.horizon, reward, entry, terms)
-    : stationaryAnalysis(ctx, reward, entry, terms);
+    : stationaryAnalysis(ctx, reward, entry, terms, options.expectedLengths !== false);
 
   const gains = base.gains ?? classifyMdpGains(graph, mecs, reward, sigma, GAIN_WORK_LIMIT);
   const endComponents: EndComponent[] = mecs.states.map((states, i) => endComponentOf(states, mecs.choices[i], gains, i, sigma));
@@ -224,7 +229,7 @@ function shifted(bounds: Bounds, shift: Float64Array, owner?: Int32Array): Bound
   return { lower, upper };
 }
 
-function stationaryAnalysis(ctx: AnalysisContext, shapedReward: Float64Array, entry: (Float64Array | undefined)[], terms: TermReward[]): CoreResult {
+function stationaryAnalysis(ctx: AnalysisContext, shapedReward: Float64Array, entry: (Float64Array | undefined)[], terms: TermReward[], lengths: boolean): CoreResult {
   const { model, graph } = ctx;
   const discount = model.discount;
   const transform = shapingShift(model, graph, ctx.mecs);
@@ -258,7 +263,7 @@ function stationaryAnalysis(ctx: AnalysisContext, shapedReward: Float64Array, en
         e ? withCertainties(graph, () => pointValues(solve(`${UNDISCOUNTED_PREFIX}${label}:reach${i}`, e, 1, 0, 1), ctx), KIND_CODES[i], 'chain', chain) : undefined,
       ),
     );
-    const expectedLength = pointValues(solve(`${UNDISCOUNTED_PREFIX}${label}:length`, ones, 1, 0), ctx);
+    const expectedLength = lengths ? pointValues(solve(`${UNDISCOUNTED_PREFIX}${label}:length`, ones, 1, 0), ctx) : new Float64Array(model.stateCount).fill(NaN);
     return { values: { lower: solution.lower, upper: solution.upper }, reach, expectedLength, policy };
   };
   const ones = new Float64Array(model.choiceCount).fill(1);
