@@ -17,17 +17,19 @@ import type { CompiledModel } from '../model/compiled';
 import type { ModelGraph } from './graph';
 import { scaledWidth } from './interval-iteration';
 import { guessAt } from './warm-start';
-import { BlockSolver, newSolverCounters, type SolverCounters, type SparseMatrix } from './sparse-linear';
+import { BlockSolver, newSolverCounters, sortRowByColumn, type SolverCounters, type SparseMatrix } from './sparse-linear';
 
 /**
  * How the rows of a system map to the model: rowOf[s] is the row of state s (several states may
  * share a row: a collapsed end component) or -1 for a state whose value is 0; each row averages
- * the choices first .. end-1 (none: the row's value is 0, as for "stay forever for nothing").
+ * the choices first[row] .. end[row]-1 (none: the row's value is 0, as for "stay forever for
+ * nothing"). Typed arrays rather than a function: every pass over the system reads them per row.
  */
 export interface RowLayout {
   rows: number;
   rowOf: Int32Array;
-  choicesOf: (row: number) => { first: number; end: number };
+  first: Int32Array;
+  end: Int32Array;
 }
 
 /** The linear system x = r + discount P x of a layout, with its block solver. */
@@ -53,8 +55,7 @@ export interface ChainSystem extends LinearSystem {
 
 /** The number of choices a row averages; a row without choices counts as one (x = 0). */
 function weightCount(layout: RowLayout, row: number): number {
-  const { first, end } = layout.choicesOf(row);
-  return Math.max(1, end - first);
+  return Math.max(1, layout.end[row] - layout.first[row]);
 }
 
 /** Assembles I - discount P of a layout in CSR form, repeated targets merged, columns sorted. */
@@ -65,7 +66,8 @@ export function buildLinearSystem(model: CompiledModel, layout: RowLayout, disco
   const seen = new Int32Array(rows).fill(-1);
   const rowStart = new Int32Array(rows + 1);
   for (let i = 0; i < rows; i++) {
-    const { first, end } = layout.choicesOf(i);
+    const first = layout.first[i];
+    const end = layout.end[i];
     let count = 1;
     seen[i] = i;
     for (let c = first; c < end; c++) {
@@ -82,7 +84,8 @@ export function buildLinearSystem(model: CompiledModel, layout: RowLayout, disco
   const column = new Int32Array(rowStart[rows]);
   const value = new Float64Array(rowStart[rows]);
   for (let i = 0; i < rows; i++) {
-    const { first, end } = layout.choicesOf(i);
+    const first = layout.first[i];
+    const end = layout.end[i];
     const weight = 1 / weightCount(layout, i);
     let fill = rowStart[i];
     column[fill] = i;
@@ -100,26 +103,10 @@ export function buildLinearSystem(model: CompiledModel, layout: RowLayout, disco
         value[seen[j]] -= discount * weight * outcomeProb[k];
       }
     }
-    sortRow(column, value, rowStart[i], rowStart[i + 1]);
+    sortRowByColumn(column, value, rowStart[i], rowStart[i + 1]);
   }
   const matrix: SparseMatrix = { n: rows, rowStart, column, value };
   return { model, layout, matrix, solver: new BlockSolver(matrix, counters), discount };
-}
-
-/** Insertion sort of one short row by column. */
-function sortRow(column: Int32Array, value: Float64Array, first: number, end: number): void {
-  for (let e = first + 1; e < end; e++) {
-    const c = column[e];
-    const v = value[e];
-    let f = e - 1;
-    while (f >= first && column[f] > c) {
-      column[f + 1] = column[f];
-      value[f + 1] = value[f];
-      f--;
-    }
-    column[f + 1] = c;
-    value[f + 1] = v;
-  }
 }
 
 /**
@@ -134,11 +121,14 @@ export function buildChainSystem(model: CompiledModel, graph: ModelGraph, policy
   for (let s = 0; s < n; s++) if (!graph.absorbing[s]) rowOf[s] = rows++;
   const stateOf = new Int32Array(rows);
   for (let s = 0; s < n; s++) if (rowOf[s] >= 0) stateOf[rowOf[s]] = s;
-  const choicesOf = (row: number): { first: number; end: number } => {
+  const first = new Int32Array(rows);
+  const end = new Int32Array(rows);
+  for (let row = 0; row < rows; row++) {
     const s = stateOf[row];
-    return policy ? { first: policy[s], end: policy[s] + 1 } : { first: choiceStart[s], end: choiceStart[s + 1] };
-  };
-  return { ...buildLinearSystem(model, { rows, rowOf, choicesOf }, discount, counters), stateOf };
+    first[row] = policy ? policy[s] : choiceStart[s];
+    end[row] = policy ? policy[s] + 1 : choiceStart[s + 1];
+  }
+  return { ...buildLinearSystem(model, { rows, rowOf, first, end }, discount, counters), stateOf };
 }
 
 /** The wanted blocks of a chain system for the `iterate` states, or undefined when a block is only partly covered. */
@@ -330,13 +320,25 @@ export function approximateSolve(
   const rhs = new Float64Array(rows);
   for (let i = 0; i < rows; i++) {
     if (!wanted[solver.blockOf[i]]) continue;
-    const { first, end } = layout.choicesOf(i);
+    const first = layout.first[i];
+    const end = layout.end[i];
     let sum = first === end ? emptyRowValue : 0;
     for (let c = first; c < end; c++) sum += reward[c];
     rhs[i] = sum / weightCount(layout, i);
   }
   const x = new Float64Array(rows);
   return solver.solve(rhs, x, wanted, guess) ? x : undefined;
+}
+
+/** The rounding error of the last twoSum, read right after it (a second result without an allocation). */
+let sumError = 0;
+
+/** a + b rounded, with its exact error left in sumError (D. Knuth, The Art of Computer Programming, vol. 2, 3rd ed., section 4.2.2, TwoSum). */
+function twoSum(a: number, b: number): number {
+  const sum = a + b;
+  const z = sum - a;
+  sumError = a - (sum - z) + (b - z);
+  return sum;
 }
 
 /** Veltkamp's splitting constant for Dekker's exact product (2^27 + 1). */
@@ -373,40 +375,46 @@ function modelResidual(system: LinearSystem, reward: Float64Array, emptyRowValue
       residual[i] = error[i] = 0;
       continue;
     }
-    const { first, end } = layout.choicesOf(i);
+    const first = layout.first[i];
+    const end = layout.end[i];
+    // Sum2 of Ogita, Rump and Oishi: each term's rounding error is gathered in low.
     let high = 0;
     let low = 0;
     let magnitude = 0;
     let terms = 0;
-    const add = (v: number): void => {
-      const sum = high + v;
-      const z = sum - high;
-      low += high - (sum - z) + (v - z);
-      high = sum;
-      magnitude += Math.abs(v);
-      terms++;
-    };
     const m = Math.max(1, end - first);
     const own = -m * x[i];
-    add(own);
-    low += -productError(m, x[i], -own);
-    if (first === end) add(emptyRowValue);
+    high = twoSum(high, own);
+    low += sumError - productError(m, x[i], -own);
+    magnitude += Math.abs(own);
+    terms++;
+    if (first === end) {
+      high = twoSum(high, emptyRowValue);
+      low += sumError;
+      magnitude += Math.abs(emptyRowValue);
+      terms++;
+    }
     for (let c = first; c < end; c++) {
-      add(reward[c]);
+      high = twoSum(high, reward[c]);
+      low += sumError;
+      magnitude += Math.abs(reward[c]);
+      terms++;
       for (let k = outcomeStart[c]; k < outcomeStart[c + 1]; k++) {
         const j = rowOf[outcomeTarget[k]];
         const p = outcomeProb[k];
         if (j < 0 || p === 0) continue;
         const product = p * x[j];
         const productLow = productError(p, x[j], product);
-        if (discount === 1) {
-          add(product);
-          low += productLow;
-        } else {
-          const scaled = discount * product;
-          add(scaled);
-          low += productError(discount, product, scaled) + discount * productLow;
+        let term = product;
+        if (discount === 1) low += productLow;
+        else {
+          term = discount * product;
+          low += productError(discount, product, term) + discount * productLow;
         }
+        high = twoSum(high, term);
+        low += sumError;
+        magnitude += Math.abs(term);
+        terms++;
       }
     }
     const value = high + low;
@@ -472,7 +480,8 @@ function scaledErrorBound(
   for (let i = 0; i < n; i++) {
     if (!wanted[solver.blockOf[i]]) continue;
     if (!(bound[i] > 0) || !Number.isFinite(bound[i])) return undefined;
-    const { first, end } = layout.choicesOf(i);
+    const first = layout.first[i];
+    const end = layout.end[i];
     let sum = Math.max(1, end - first) * bound[i];
     let magnitude = sum;
     let terms = 1;

@@ -20,7 +20,7 @@ import type { Analysis } from './types';
 export interface GoalRoute {
   /** State -> choice of the original model; -1 on terminals. */
   policy: Int32Array;
-  /** The analysis of the policy's Markov chain: its `optimal` part is the route's value and reach. */
+  /** The analysis of the policy's Markov chain: its `optimal` part is the route's value and reach (its lengths are NaN, not solved). */
   evaluation: Analysis;
 }
 
@@ -76,8 +76,9 @@ export function goalRoute(model: CompiledModel, analysis: Analysis, precision: n
     else policy[s] = fallback && fallback[s] >= 0 ? fallback[s] : model.choiceStart[s];
   }
   const chain = policyChain(model, policy);
-  // The route's chain is analysed like the model: from the last route's solution, kept for the next one.
-  const evaluation = analyzeModel(chain.model, { precision, startFrom: analysis.derivedStart?.[ROUTE], keepSolution: analysis.solution !== undefined });
+  // The route's chain is analysed like the model: from the last route's solution, kept for the next
+  // one. Its expected lengths are not solved: the rules read its values and reach probabilities only.
+  const evaluation = analyzeModel(chain.model, { precision, startFrom: analysis.derivedStart?.[ROUTE], keepSolution: analysis.solution !== undefined, expectedLengths: false });
   if (analysis.solution && evaluation.solution) (analysis.solution.derived ??= {})[ROUTE] = evaluation.solution;
   return { policy, evaluation };
 }

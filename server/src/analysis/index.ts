@@ -19,7 +19,7 @@ import { classifyMdpGains, GAIN_NEGATIVE, GAIN_POSITIVE, GAIN_ZERO, type MdpGain
 import { attainingPolicy, bestChoices, choiceBounds } from './policy';
 import { almostSureReach, canReach, reachableFromStart } from './reachability';
 import { stronglyConnectedComponents } from './scc';
-import { policyChoiceMask, solveValues, sortWithinComponents, type AnalysisContext, type ValueSolution } from './total-reward';
+import { policyChoiceMask, singleChoiceModel, solveValues, sortWithinComponents, type AnalysisContext, type ValueSolution } from './total-reward';
 import { guessesFor, UNDISCOUNTED_PREFIX, warmStartOf, type WarmStart } from './warm-start';
 import type {
   Analysis,
@@ -48,6 +48,11 @@ export interface AnalyzeModelOptions {
   startFrom?: WarmStart;
   /** Keep this analysis' solution in Analysis.solution, for the next analysis to start from. */
   keepSolution?: boolean;
+  /**
+   * Set false to skip the expected-length solves (their figures are then NaN, "undetermined"), for
+   * analyses whose lengths nobody reads, such as the goal route's chain.
+   */
+  expectedLengths?: boolean;
 }
 
 /**
@@ -94,7 +99,7 @@ export function analyzeModel(model: CompiledModel, options: AnalyzeModelOptions)
 
   const base = model.horizon !== undefined
     ? horizonAnalysis(graph, model.horizon, reward, entry, terms)
-    : stationaryAnalysis(ctx, reward, entry, terms);
+    : stationaryAnalysis(ctx, reward, entry, terms, options.expectedLengths !== false);
 
   const gains = base.gains ?? classifyMdpGains(graph, mecs, reward, sigma, GAIN_WORK_LIMIT);
   const endComponents: EndComponent[] = mecs.states.map((states, i) => endComponentOf(states, mecs.choices[i], gains, i, sigma));
@@ -224,15 +229,18 @@ function shifted(bounds: Bounds, shift: Float64Array, owner?: Int32Array): Bound
   return { lower, upper };
 }
 
-function stationaryAnalysis(ctx: AnalysisContext, shapedReward: Float64Array, entry: (Float64Array | undefined)[], terms: TermReward[]): CoreResult {
+function stationaryAnalysis(ctx: AnalysisContext, shapedReward: Float64Array, entry: (Float64Array | undefined)[], terms: TermReward[], lengths: boolean): CoreResult {
   const { model, graph } = ctx;
   const discount = model.discount;
   const transform = shapingShift(model, graph, ctx.mecs);
   // Everything below is solved in unshaped terms when the transform applies, and shifted at the end.
   const reward = transform ? transform.unshaped : shapedReward;
+  // A Markov chain (one choice per state) has one policy: the best, the worst and the random one
+  // are the same problem, solved once (goal-route.ts analyses such chains).
+  const chain = singleChoiceModel(graph);
   const maxSolution = solveValues(ctx, { combine: COMBINE_MAX, reward, discount, name: 'max' });
-  const minSolution = solveValues(ctx, { combine: COMBINE_MIN, reward, discount, name: 'min' });
-  const randomSolution = solveValues(ctx, { combine: COMBINE_AVERAGE, reward, discount, name: 'random' });
+  const minSolution = chain ? maxSolution : solveValues(ctx, { combine: COMBINE_MIN, reward, discount, name: 'min' });
+  const randomSolution = chain ? maxSolution : solveValues(ctx, { combine: COMBINE_AVERAGE, reward, discount, name: 'random' });
   const optimalSolution = model.maximize ? maxSolution : minSolution;
   const worstSolution = model.maximize ? minSolution : maxSolution;
   const sigma = model.maximize ? 1 : -1;
@@ -252,22 +260,26 @@ function stationaryAnalysis(ctx: AnalysisContext, shapedReward: Float64Array, en
     const reach = reachOf(
       model.stateCount,
       entry.map((e, i) =>
-        e ? withCertainties(graph, pointValues(solve(`${UNDISCOUNTED_PREFIX}${label}:reach${i}`, e, 1, 0, 1), ctx), KIND_CODES[i], 'chain', chain) : undefined,
+        e ? withCertainties(graph, () => pointValues(solve(`${UNDISCOUNTED_PREFIX}${label}:reach${i}`, e, 1, 0, 1), ctx), KIND_CODES[i], 'chain', chain) : undefined,
       ),
     );
-    const ones = new Float64Array(model.choiceCount).fill(1);
-    const expectedLength = pointValues(solve(`${UNDISCOUNTED_PREFIX}${label}:length`, ones, 1, 0), ctx);
+    const expectedLength = lengths ? pointValues(solve(`${UNDISCOUNTED_PREFIX}${label}:length`, ones, 1, 0), ctx) : new Float64Array(model.stateCount).fill(NaN);
     return { values: { lower: solution.lower, upper: solution.upper }, reach, expectedLength, policy };
   };
+  const ones = new Float64Array(model.choiceCount).fill(1);
   const optimal = describe(optimalSolution, optimalPolicy, 'optimal');
-  const worst = describe(worstSolution, worstPolicy, 'worst');
-  const random = describe(randomSolution, undefined, 'random');
+  const sameChain = (solution: ValueSolution, policy: Int32Array | undefined): PolicyAnalysis => ({ ...optimal, values: { lower: solution.lower, upper: solution.upper }, policy });
+  const worst = chain ? sameChain(worstSolution, worstPolicy) : describe(worstSolution, worstPolicy, 'worst');
+  const random = chain ? sameChain(randomSolution, undefined) : describe(randomSolution, undefined, 'random');
 
   const goal = entry[0];
-  const maxGoalReach = goal
+  // In a chain the most probable way to a goal is the only way.
+  const maxGoalReach = chain && goal
+    ? optimal.reach.goal
+    : goal
     ? withCertainties(
         graph,
-        pointValues(solveValues(ctx, { combine: COMBINE_MAX, reward: goal, discount: 1, lowerBound: 0, upperBound: 1, name: `${UNDISCOUNTED_PREFIX}max-goal` }), ctx),
+        () => pointValues(solveValues(ctx, { combine: COMBINE_MAX, reward: goal, discount: 1, lowerBound: 0, upperBound: 1, name: `${UNDISCOUNTED_PREFIX}max-goal` }), ctx),
         TERMINAL_CODE.goal,
         'max',
       )
@@ -360,9 +372,10 @@ function horizonAnalysis(graph: ModelGraph, horizon: number, reward: Float64Arra
  * "prob0 / prob1" precomputations of probabilistic model checking; Baier and Katoen, Principles of
  * Model Checking, 2008, section 10.1.1): 0 where no terminal of the kind can be reached, 1 where
  * (under a chain) no state that misses it can be reached, or (maximising over choices) where some
- * policy reaches it almost surely.
+ * policy reaches it almost surely. `solve` gives the estimate, and is not called when the graph
+ * decides every state.
  */
-function withCertainties(graph: ModelGraph, estimate: Float64Array, kindCode: number, how: 'max' | 'chain', chain?: Uint8Array): Float64Array {
+function withCertainties(graph: ModelGraph, solve: () => Float64Array, kindCode: number, how: 'max' | 'chain', chain?: Uint8Array): Float64Array {
   const { model } = graph;
   const kind = new Uint8Array(model.stateCount);
   for (let s = 0; s < kind.length; s++) kind[s] = model.terminal[s] === kindCode ? 1 : 0;
@@ -376,7 +389,9 @@ function withCertainties(graph: ModelGraph, estimate: Float64Array, kindCode: nu
     sure = new Uint8Array(model.stateCount);
     for (let s = 0; s < sure.length; s++) sure[s] = canMiss[s] ? 0 : 1;
   }
-  const out = estimate.slice();
+  let open = false;
+  for (let s = 0; s < model.stateCount && !open; s++) if (!graph.absorbing[s] && reaches[s] && !sure[s]) open = true;
+  const out = open ? solve() : new Float64Array(model.stateCount);
   for (let s = 0; s < out.length; s++) {
     if (!reaches[s]) out[s] = 0;
     else if (sure[s]) out[s] = 1;

@@ -10,12 +10,15 @@
  * Computations, 4th ed., section 3.4), a large block by BiCGSTAB (H. van der Vorst, "Bi-CGSTAB: a
  * fast and smoothly converging variant of Bi-CG", SIAM J. Sci. Stat. Comput. 13(2), 1992) with an
  * ILU(0) preconditioner (Y. Saad, Iterative Methods for Sparse Linear Systems, 2nd ed., 2003,
- * Algorithm 10.4 and section 7.3.2). Blocks are factored on first use and reused for every
+ * Algorithm 10.4 and section 7.3.2), unless sparse LU in a nested-dissection order fits
+ * (sparse-lu.ts; grids and corridors). Blocks are factored on first use and reused for every
  * right-hand side.
  *
  * Nothing here is trusted: callers turn a solution into bounds only through a residual
  * certificate (chain-solve.ts), so a poor solve costs precision or time, never soundness.
  */
+
+import { sparseFactors, sparseSolve, type SparseFactors } from './sparse-lu';
 
 /** A square sparse matrix in compressed sparse row form; each row's columns are distinct. */
 export interface SparseMatrix {
@@ -28,6 +31,17 @@ export interface SparseMatrix {
 /** Largest block solved by dense LU (its cost grows with the cube of the size). */
 const DENSE_LIMIT = 320;
 
+/** Largest block (in entries) for which sparse LU is tried; its searches need eight bytes per entry more. */
+const SPARSE_LU_ENTRY_LIMIT = 4_000_000;
+
+/**
+ * BiCGSTAB iterations a block may spend before it is factored by sparse LU instead. Factoring a
+ * 100x100 grid costs about as much as 300 iterations, so a block solved once or twice (policy
+ * iteration's evaluations) keeps the Krylov solve and a slow chain with many right-hand sides
+ * (reach probabilities, lengths, certificates) switches early.
+ */
+const SPARSE_LU_AFTER_ITERATIONS = 150;
+
 /** Counters for reporting: how the blocks were solved. */
 export interface SolverCounters {
   /** Right-hand sides solved (each over every needed block). */
@@ -35,13 +49,15 @@ export interface SolverCounters {
   /** Blocks factored, by method. */
   closedForm: number;
   dense: number;
+  /** Blocks factored by sparse LU (sparse-lu.ts). */
+  sparse: number;
   krylov: number;
   /** BiCGSTAB iterations over all solves. */
   krylovIterations: number;
 }
 
 export function newSolverCounters(): SolverCounters {
-  return { solves: 0, closedForm: 0, dense: 0, krylov: 0, krylovIterations: 0 };
+  return { solves: 0, closedForm: 0, dense: 0, sparse: 0, krylov: 0, krylovIterations: 0 };
 }
 
 interface DenseFactor {
@@ -57,6 +73,13 @@ interface KrylovFactor {
   local: SparseMatrix;
   ilu: Float64Array;
   diagonalAt: Int32Array;
+  /** BiCGSTAB's work vectors, kept for the block's next solve. */
+  buffers?: Float64Array[];
+}
+
+interface SparseLuFactor {
+  kind: 'sparse';
+  factors: SparseFactors;
 }
 
 interface ScalarFactor {
@@ -64,7 +87,7 @@ interface ScalarFactor {
   diagonal: number;
 }
 
-type BlockFactor = DenseFactor | KrylovFactor | ScalarFactor;
+type BlockFactor = DenseFactor | KrylovFactor | SparseLuFactor | ScalarFactor;
 
 /**
  * A matrix with its block decomposition and lazily computed block factors. `solve` writes the
@@ -80,6 +103,8 @@ export class BlockSolver {
   /** localIndex[i]: the position of row i inside its block. */
   private readonly localIndex: Int32Array;
   private readonly factors: (BlockFactor | null | undefined)[];
+  /** Per block, the BiCGSTAB iterations spent so far (-1 once sparse LU was tried). */
+  private readonly spent: Float64Array;
 
   constructor(
     readonly matrix: SparseMatrix,
@@ -95,6 +120,7 @@ export class BlockSolver {
       for (let j = blocks.start[b]; j < blocks.start[b + 1]; j++) this.localIndex[blocks.order[j]] = j - blocks.start[b];
     }
     this.factors = new Array(blocks.count);
+    this.spent = new Float64Array(blocks.count);
   }
 
   /**
@@ -125,13 +151,18 @@ export class BlockSolver {
         }
         rhs[j] = sum;
       }
-      const factor = this.factorOf(blk);
+      let factor = this.factorOf(blk);
       if (!factor) return false;
+      if (factor.kind === 'krylov' && this.spent[blk] >= SPARSE_LU_AFTER_ITERATIONS) factor = this.refactored(blk, factor);
       if (factor.kind === 'scalar') {
         x[this.order[first]] = rhs[0] / factor.diagonal;
       } else if (factor.kind === 'dense') {
         luSolve(factor, rhs);
         for (let j = 0; j < size; j++) x[this.order[first + j]] = rhs[j];
+      } else if (factor.kind === 'sparse') {
+        sparseSolve(factor.factors, rhs, rhs);
+        for (let j = 0; j < size; j++) x[this.order[first + j]] = rhs[j];
+        for (let j = 0; j < size; j++) if (!Number.isFinite(rhs[j])) return false;
       } else {
         const local = new Float64Array(size);
         let start: Float64Array | undefined;
@@ -142,6 +173,7 @@ export class BlockSolver {
         // A solve that stopped short is still passed on: the caller's certificate judges it.
         const iterations = bicgstab(factor, rhs, local, start, tolerance);
         this.counters.krylovIterations += Math.abs(iterations);
+        if (this.spent[blk] >= 0) this.spent[blk] += iterations < 0 ? SPARSE_LU_AFTER_ITERATIONS : iterations;
         for (let j = 0; j < size; j++) if (!Number.isFinite(local[j])) return false;
         for (let j = 0; j < size; j++) x[this.order[first + j]] = local[j];
       }
@@ -155,6 +187,17 @@ export class BlockSolver {
       factor = this.factor(blk);
       this.factors[blk] = factor;
     }
+    return factor;
+  }
+
+  /** The block's sparse LU factors in place of its Krylov solve, when they fit (tried once per block). */
+  private refactored(blk: number, krylov: KrylovFactor): BlockFactor {
+    this.spent[blk] = -1;
+    const factors = krylov.local.rowStart[krylov.local.n] <= SPARSE_LU_ENTRY_LIMIT ? sparseFactors(krylov.local) : undefined;
+    if (!factors) return krylov;
+    this.counters.sparse++;
+    const factor: SparseLuFactor = { kind: 'sparse', factors };
+    this.factors[blk] = factor;
     return factor;
   }
 
@@ -202,20 +245,34 @@ export class BlockSolver {
     }
     const localColumn = new Int32Array(localStart[size]);
     const localValue = new Float64Array(localStart[size]);
-    const pairs: Array<[number, number]> = [];
     for (let j = 0; j < size; j++) {
       const i = this.order[first + j];
-      pairs.length = 0;
+      let fill = localStart[j];
       for (let e = rowStart[i]; e < rowStart[i + 1]; e++) {
-        if (this.blockOf[column[e]] === blk) pairs.push([this.localIndex[column[e]], value[e]]);
+        if (this.blockOf[column[e]] !== blk) continue;
+        localColumn[fill] = this.localIndex[column[e]];
+        localValue[fill++] = value[e];
       }
-      pairs.sort((a, b) => a[0] - b[0]);
-      for (let q = 0; q < pairs.length; q++) {
-        localColumn[localStart[j] + q] = pairs[q][0];
-        localValue[localStart[j] + q] = pairs[q][1];
-      }
+      // Rows are short: an insertion sort in place allocates nothing.
+      sortRowByColumn(localColumn, localValue, localStart[j], fill);
     }
     return { n: size, rowStart: localStart, column: localColumn, value: localValue };
+  }
+}
+
+/** Insertion sort of one row's entries first .. end-1 by column. */
+export function sortRowByColumn(column: Int32Array, value: Float64Array, first: number, end: number): void {
+  for (let e = first + 1; e < end; e++) {
+    const c = column[e];
+    const v = value[e];
+    let f = e - 1;
+    while (f >= first && column[f] > c) {
+      column[f + 1] = column[f];
+      value[f + 1] = value[f];
+      f--;
+    }
+    column[f + 1] = c;
+    value[f + 1] = v;
   }
 }
 
@@ -430,15 +487,9 @@ function bicgstab(factor: KrylovFactor, b: Float64Array, x: Float64Array, guess?
     return 0;
   }
   const enough = tolerance * bNorm;
-  const r = new Float64Array(n);
-  const rHat = new Float64Array(n);
-  const p = new Float64Array(n);
-  const v = new Float64Array(n);
-  const y = new Float64Array(n);
-  const s = new Float64Array(n);
-  const z = new Float64Array(n);
-  const t = new Float64Array(n);
-  const best = new Float64Array(n);
+  // Every buffer is written before it is read, so the block's last ones serve again.
+  factor.buffers ??= Array.from({ length: 9 }, () => new Float64Array(n));
+  const [r, rHat, p, v, y, s, z, t, best] = factor.buffers;
   // The rounding floor of a residual: |A| x is at most twice the largest |x| for these matrices.
   const floorOf = (xs: Float64Array): number => Math.max(enough, 64 * Number.EPSILON * (bNorm + 2 * infinityNorm(xs)));
   // Start from the preconditioner's own solution (exact for a block it factors exactly, a chain),

@@ -112,7 +112,8 @@ function chainSystemOf(ctx: AnalysisContext, policy: Int32Array | undefined, dis
 }
 
 const singleChoice = new WeakMap<ModelGraph, boolean>();
-function singleChoiceModel(graph: ModelGraph): boolean {
+/** Whether every non-absorbing state has exactly one choice (a Markov chain: every policy is the same). */
+export function singleChoiceModel(graph: ModelGraph): boolean {
   let known = singleChoice.get(graph);
   if (known === undefined) {
     const { choiceStart, stateCount } = graph.model;

@@ -218,15 +218,24 @@ export function rolloutLensLines(rollouts: RolloutReport): string[] {
  * Built with typed arrays and a numeric sort: a 100k-state spec has half a million references.
  */
 export function buildHoverIndex(spec: ParsedSpec, model: CompiledModel): HoverIndex {
-  const starts: number[] = [];
-  const ends: number[] = [];
-  const states: number[] = [];
+  let capacity = spec.states.length + spec.start.length + spec.potential.length;
+  for (const t of spec.transitions) capacity += 1 + t.outcomes.length;
+  const starts = new Int32Array(capacity);
+  const ends = new Int32Array(capacity);
+  const states = new Int32Array(capacity);
+  let count = 0;
+  // Consecutive references often name the same state (a state's transitions, one after another).
+  let lastId: string | undefined;
+  let lastState: number | undefined;
   const add = (id: string, span: Span | undefined): void => {
-    const state = model.stateIndex.get(id);
-    if (state === undefined || !span || span.end <= span.start) return;
-    starts.push(span.start);
-    ends.push(span.end);
-    states.push(state);
+    if (id !== lastId) {
+      lastId = id;
+      lastState = model.stateIndex.get(id);
+    }
+    if (lastState === undefined || !span || span.end <= span.start) return;
+    starts[count] = span.start;
+    ends[count] = span.end;
+    states[count++] = lastState;
   };
   for (const s of spec.states) add(s.id, s.span);
   for (const s of spec.start) add(s.state, s.span);
@@ -235,8 +244,9 @@ export function buildHoverIndex(spec: ParsedSpec, model: CompiledModel): HoverIn
     add(t.from, t.fromSpan);
     for (const o of t.outcomes) add(o.state, o.stateSpan);
   }
-  const order = sortedByStart(starts);
-  const kept: number[] = [];
+  const order = sortedByStart(starts.subarray(0, count));
+  const kept = new Int32Array(count);
+  let keptCount = 0;
   for (let i = 0; i < order.length; i++) {
     const first = order[i];
     let ambiguous = false;
@@ -244,9 +254,16 @@ export function buildHoverIndex(spec: ParsedSpec, model: CompiledModel): HoverIn
       i++;
       if (states[order[i]] !== states[first]) ambiguous = true;
     }
-    const previous = kept[kept.length - 1];
-    if (ambiguous || (previous !== undefined && ends[previous] > starts[first])) continue;
-    kept.push(first);
+    if (ambiguous || (keptCount > 0 && ends[kept[keptCount - 1]] > starts[first])) continue;
+    kept[keptCount++] = first;
+  }
+  const tokenStart = new Int32Array(keptCount);
+  const tokenEnd = new Int32Array(keptCount);
+  const tokenTarget = new Int32Array(keptCount);
+  for (let i = 0; i < keptCount; i++) {
+    tokenStart[i] = starts[kept[i]];
+    tokenEnd[i] = ends[kept[i]];
+    tokenTarget[i] = states[kept[i]];
   }
 
   // Transitions that share a span (a `from` or `action` array) form one group with every choice they define.
@@ -289,19 +306,26 @@ export function buildHoverIndex(spec: ParsedSpec, model: CompiledModel): HoverIn
   }
 
   return {
-    tokenStart: Int32Array.from(kept, (k) => starts[k]),
-    tokenEnd: Int32Array.from(kept, (k) => ends[k]),
-    tokenKind: new Uint8Array(kept.length).fill(TOKEN_STATE),
-    tokenTarget: Int32Array.from(kept, (k) => states[k]),
-    transitionStart: Int32Array.from(groupOrder, (g) => groupStart[g]),
-    transitionEnd: Int32Array.from(groupOrder, (g) => groupEnd[g]),
+    tokenStart,
+    tokenEnd,
+    tokenKind: new Uint8Array(keptCount).fill(TOKEN_STATE),
+    tokenTarget,
+    transitionStart: pick(groupStart, groupOrder),
+    transitionEnd: pick(groupEnd, groupOrder),
     transitionChoiceStart,
     transitionChoices,
   };
 }
 
+/** values[at[i]] for each i, as typed arrays (Int32Array.from with a mapping function is far slower). */
+function pick(values: readonly number[], at: readonly number[]): Int32Array {
+  const out = new Int32Array(at.length);
+  for (let i = 0; i < at.length; i++) out[i] = values[at[i]];
+  return out;
+}
+
 /** Indices of `starts` in increasing order of their value (ties in index order), by one numeric sort. */
-function sortedByStart(starts: readonly number[]): Int32Array {
+function sortedByStart(starts: ArrayLike<number>): Int32Array {
   const count = starts.length;
   const order = new Int32Array(count);
   // Offsets are below 2^31 and indices below 2^21 here, so start * 2^21 + index is an exact double.

@@ -96,29 +96,54 @@ export function malformedCost(spec: ParsedSpec, transition: SpecTransition, when
   return `the transition is never used (${why}), so no value depends on it, but the spec is still malformed; fix or delete it`;
 }
 
+/** Each written outcome once with the first transition that has it, and each written reward part once: per spec, as many rules walk them. */
+const writtenCache = new WeakMap<ParsedSpec, { outcomes: SpecOutcome[]; transitions: SpecTransition[]; parts?: Array<{ part: RewardPart; at: number }> }>();
+
+function writtenOutcomes(spec: ParsedSpec): { outcomes: SpecOutcome[]; transitions: SpecTransition[]; parts?: Array<{ part: RewardPart; at: number }> } {
+  let written = writtenCache.get(spec);
+  if (!written) {
+    const seen = new Set<SpecOutcome>();
+    written = { outcomes: [], transitions: [] };
+    for (const transition of spec.transitions) {
+      for (const outcome of transition.outcomes) {
+        if (seen.has(outcome)) continue;
+        seen.add(outcome);
+        written.outcomes.push(outcome);
+        written.transitions.push(transition);
+      }
+    }
+    writtenCache.set(spec, written);
+  }
+  return written;
+}
+
 /** Visits each written outcome once, with the first transition that has it. */
 export function forEachOutcome(spec: ParsedSpec, visit: (outcome: SpecOutcome, transition: SpecTransition) => void): void {
-  const seen = new Set<SpecOutcome>();
-  for (const transition of spec.transitions) {
-    for (const outcome of transition.outcomes) {
-      if (seen.has(outcome)) continue;
-      seen.add(outcome);
-      visit(outcome, transition);
-    }
-  }
+  const { outcomes, transitions } = writtenOutcomes(spec);
+  for (let i = 0; i < outcomes.length; i++) visit(outcomes[i], transitions[i]);
 }
+
+/** Span offsets stay below 2^25 (the loader reads at most 16 MB), so start * 2^25 + end names a span exactly. */
+const SPAN_KEY = 2 ** 25;
 
 /** Visits each written reward value once (a transition's reward is shared by its outcomes). */
 export function forEachRewardPart(spec: ParsedSpec, visit: (part: RewardPart, outcome: SpecOutcome, transition: SpecTransition) => void): void {
-  const seen = new Set<string>();
-  forEachOutcome(spec, (outcome, transition) => {
-    for (const part of outcome.reward) {
-      const key = `${part.span.start}:${part.span.end}`;
-      if (seen.has(key)) continue;
-      seen.add(key);
-      visit(part, outcome, transition);
+  const written = writtenOutcomes(spec);
+  if (!written.parts) {
+    const seen = new Set<number | string>();
+    const parts: Array<{ part: RewardPart; at: number }> = [];
+    for (let i = 0; i < written.outcomes.length; i++) {
+      for (const part of written.outcomes[i].reward) {
+        const { start, end } = part.span;
+        const key = end < SPAN_KEY ? start * SPAN_KEY + end : `${start}:${end}`;
+        if (seen.has(key)) continue;
+        seen.add(key);
+        parts.push({ part, at: i });
+      }
     }
-  });
+    written.parts = parts;
+  }
+  for (const { part, at } of written.parts) visit(part, written.outcomes[at], written.transitions[at]);
 }
 
 /** An editor for quick fixes, for JSON specs only (TypeScript specs get no text fixes from these rules). */
