@@ -481,6 +481,13 @@ class Placer {
   }
 }
 
+/** Each key's position, built in one pass without a pair array per state. */
+function indexOfKeys(keys: readonly string[]): Map<string, number> {
+  const index = new Map<string, number>();
+  for (let i = 0; i < keys.length; i++) index.set(keys[i], i);
+  return index;
+}
+
 /**
  * The CompiledModel of an enumeration. State ids are the canonical keys; every state points at
  * the function that produced it (`start` for start states, `outcomes` for the others).
@@ -498,7 +505,7 @@ function compiledFromEnumeration(result: Enumeration, spec: ParsedSpec, evidence
     choiceCount,
     outcomeCount: result.outcomeTarget.length,
     stateIds: result.stateKeys,
-    stateIndex: new Map(result.stateKeys.map((key, i) => [key, i])),
+    stateIndex: indexOfKeys(result.stateKeys),
     stateLabels: stateLabels.some((label) => label !== undefined) ? stateLabels : undefined,
     terminal: result.terminal,
     actionNames: result.actionNames,

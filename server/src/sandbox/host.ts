@@ -14,6 +14,7 @@ import { tmpdir } from 'node:os';
 import { dirname, join, resolve } from 'node:path';
 import type { Readable } from 'node:stream';
 import { bundleModel, locateStack, type ModelBundle, type SourceLocation } from './bundle';
+import { EnumerationAssembly } from './enumeration-parts';
 import type { LearnRun } from './learn';
 import { launchPlan } from './launch';
 import { BEAT_FD, MODEL_SCRIPT_NAME, type HostRequest, type ModelDescription, type RandomnessCall, type WorkerReply } from './protocol';
@@ -245,7 +246,9 @@ export class ModelSandbox {
   private readonly child: Child;
   private closed = false;
   private failed = false;
-  private pending?: { resolve: (reply: WorkerReply | ModelFailure) => void };
+  private pending?: { resolve: (reply: Settled) => void };
+  /** The enumeration whose outcome parts are arriving. */
+  private assembly?: { assembly: EnumerationAssembly; randomness: unknown };
   /** The job of the last request, for describing a failure that the child cannot report itself. */
   private job: HostRequest['type'] = 'load';
   private jobBegan = Date.now();
@@ -305,7 +308,7 @@ export class ModelSandbox {
 
   async enumerate(options: Extract<HostRequest, { type: 'enumerate' }>['options']): Promise<Outcome<Enumeration>> {
     const reply = await this.request({ type: 'enumerate', options });
-    return this.outcomeOf(reply, (r) => (r.type === 'enumerated' && validEnumeration(r.result) ? r.result : undefined));
+    return this.outcomeOf(reply, (r) => (r.type === 'assembled' && validEnumeration(r.result) ? r.result : undefined));
   }
 
   async rollouts(options: Extract<HostRequest, { type: 'rollouts' }>['options']): Promise<Outcome<RolloutRun>> {
@@ -337,7 +340,7 @@ export class ModelSandbox {
     return calls.map((call) => ({ api: clip(call.api, 80), count: call.count, location: locateStack(this.bundle, call.stack, MODEL_SCRIPT_NAME) }));
   }
 
-  private outcomeOf<T>(reply: WorkerReply | ModelFailure, pick: (reply: WorkerReply) => T | undefined): Outcome<T> {
+  private outcomeOf<T>(reply: Settled, pick: (reply: WorkerReply | Assembled) => T | undefined): Outcome<T> {
     if (!('type' in reply)) {
       this.failed = true;
       return { failure: reply, randomness: [] };
@@ -359,7 +362,7 @@ export class ModelSandbox {
     return { failure: { kind: 'crashed', phase: this.jobPhase(), message: "sent a reply that is not what the sandbox sends (model code wrote to the sandbox's channel?)" }, randomness: [] };
   }
 
-  private request(message: HostRequest): Promise<WorkerReply | ModelFailure> {
+  private request(message: HostRequest): Promise<Settled> {
     if (this.closed || this.child.exited) return Promise.resolve(this.exitFailure ?? this.exitDescription());
     return new Promise((resolve) => {
       this.pending = { resolve };
@@ -386,6 +389,10 @@ export class ModelSandbox {
       return;
     }
     const reply = message as WorkerReply;
+    if (this.assembly || reply.type === 'enumerated' || reply.type === 'outcomes') {
+      this.assemble(reply);
+      return;
+    }
     if (reply.type === 'fault') {
       const failure: ModelFailure = {
         kind: 'crashed',
@@ -401,7 +408,31 @@ export class ModelSandbox {
     this.settle(reply);
   }
 
-  private settle(reply: WorkerReply | ModelFailure): void {
+  /**
+   * An enumeration reply: the head, then its outcome parts in order. Anything else in between (a
+   * fault included) or a part out of order ends the job as a malformed reply.
+   */
+  private assemble(reply: WorkerReply): void {
+    const malformed = () => {
+      this.assembly = undefined;
+      this.settle({ kind: 'crashed', phase: this.jobPhase(), message: "sent a reply that is not what the sandbox sends (model code wrote to the sandbox's channel?)" });
+    };
+    if (!this.assembly) {
+      if (reply.type !== 'enumerated' || this.job !== 'enumerate') return malformed();
+      try {
+        this.assembly = { assembly: new EnumerationAssembly(reply.head), randomness: reply.randomness };
+      } catch {
+        return malformed();
+      }
+    } else if (!this.assembly.assembly.add(reply)) return malformed();
+    const { assembly, randomness } = this.assembly;
+    if (!assembly.done) return;
+    this.assembly = undefined;
+    this.settle({ type: 'assembled', result: assembly.result(), randomness: randomness as RandomnessCall[] });
+  }
+
+  private settle(reply: Settled): void {
+    this.assembly = undefined;
     const pending = this.pending;
     this.pending = undefined;
     pending?.resolve(reply);
@@ -470,6 +501,15 @@ export class ModelSandbox {
   }
 }
 
+/** An enumeration put together from its head and parts (enumeration-parts.ts). */
+interface Assembled {
+  type: 'assembled';
+  result: Enumeration;
+  randomness: RandomnessCall[];
+}
+
+type Settled = WorkerReply | Assembled | ModelFailure;
+
 // ---- Replies are model-controlled input: check their shape before anything reads them ----
 
 function validRandomness(call: unknown): call is RandomnessCall {
@@ -488,7 +528,14 @@ function indices(array: unknown, limit: number): boolean {
   return true;
 }
 
-function validEnumeration(result: Enumeration): boolean {
+/** Row starts of a CSR array: from 0, never decreasing, ending at `end`. */
+function rowStarts(array: unknown, end: number): boolean {
+  if (!(array instanceof Int32Array) || array.length === 0 || array[0] !== 0 || array[array.length - 1] !== end) return false;
+  for (let i = 1; i < array.length; i++) if (array[i] < array[i - 1]) return false;
+  return true;
+}
+
+export function validEnumeration(result: Enumeration): boolean {
   if (typeof result !== 'object' || result === null) return false;
   const states = Array.isArray(result.stateKeys) ? result.stateKeys.length : -1;
   if (states < 0 || !result.stateKeys.every((key) => typeof key === 'string')) return false;
@@ -501,7 +548,8 @@ function validEnumeration(result: Enumeration): boolean {
   if (choices < 0 || outcomes < 0) return false;
   if (result.outcomeProb.length !== outcomes || result.outcomeReward.length !== outcomes) return false;
   if (!result.termRewards.every((column) => column instanceof Float64Array && column.length === outcomes)) return false;
-  if (!indices(result.choiceStart, choices) || !indices(result.outcomeStart, outcomes)) return false;
+  if (!rowStarts(result.choiceStart, choices) || !rowStarts(result.outcomeStart, outcomes)) return false;
+  if (!(result.startStates instanceof Int32Array) || result.startStates.length !== result.startProbs.length) return false;
   if (!indices(result.choiceAction, result.actionNames.length - 1) || !indices(result.outcomeTarget, states - 1) || !indices(result.startStates, states - 1)) return false;
   if (result.problem !== undefined && !validProblem(result.problem)) return false;
   // A capped or failed enumeration stops part-way; a complete one has a choice range per state.

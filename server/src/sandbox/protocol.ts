@@ -1,6 +1,7 @@
 /** Messages between the sandbox host and the child process that runs model code (worker.ts). */
 import type { LearnJobOptions, LearnRun } from './learn';
-import type { Enumeration, EnumerationOptions, RolloutOptions, RolloutRun } from './runtime';
+import type { OutcomePart } from './enumeration-parts';
+import type { EnumerationHead, EnumerationOptions, RolloutOptions, RolloutRun } from './runtime';
 
 /** The file name model code carries in stack traces inside the sandbox. */
 export const MODEL_SCRIPT_NAME = 'episcope-model.js';
@@ -48,7 +49,9 @@ export type HostRequest =
 export type WorkerReply =
   | { type: 'loaded'; description: ModelDescription; randomness: RandomnessCall[] }
   | { type: 'problem'; problem: import('./runtime').RuntimeProblem; randomness: RandomnessCall[] }
-  | { type: 'enumerated'; result: Enumeration; randomness: RandomnessCall[] }
+  /** The enumeration without its outcome columns; `partCount(head.outcomesListed)` OutcomePart messages follow, in order. */
+  | { type: 'enumerated'; head: EnumerationHead; randomness: RandomnessCall[] }
+  | OutcomePart
   | { type: 'rolled'; run: RolloutRun; randomness: RandomnessCall[] }
   | { type: 'learned'; run: LearnRun; randomness: RandomnessCall[] }
   /** An error outside any model call (an unhandled rejection, an uncaught throw in a timer); the child ends after it. */

@@ -17,7 +17,8 @@ import { compileFunction } from 'node:vm';
 import { BEAT_FD, LOOP_CHECK, MODEL_SCRIPT_NAME, type ChildLimits, type HostRequest, type ModelDescription, type RandomnessCall, type WorkerReply } from './protocol';
 import {
   describeValue,
-  enumerateModel,
+  enumerateInChunks,
+  type ChunkedEnumeration,
   ModelExitCall,
   rolloutModel,
   SandboxLimitReached,
@@ -319,6 +320,35 @@ function load(code: string, specPath: string): WorkerReply {
 /** Progress of the runtime: only read inside this process, so there is nothing for the host to trust. */
 const progress = new Int32Array(5);
 
+/** Outcome chunks still to be sent after an enumeration's head, in order. */
+let pendingParts: ChunkedEnumeration | undefined;
+
+/**
+ * Sends the outcome chunks one part at a time, each after the previous one was written, and
+ * drops each chunk once sent: the serialised bytes of at most one part exist at a time.
+ */
+function sendParts(chunks: ChunkedEnumeration, part = 0): void {
+  beat(now(), true);
+  if (part >= chunks.target.length) {
+    pendingParts = undefined;
+    return;
+  }
+  const message: WorkerReply = {
+    type: 'outcomes',
+    part,
+    target: chunks.target[part],
+    prob: chunks.prob[part],
+    reward: chunks.reward[part],
+    terms: chunks.terms.map((column) => column[part]),
+  };
+  const empty = new Float64Array(0);
+  chunks.target[part] = new Int32Array(0);
+  chunks.prob[part] = empty;
+  chunks.reward[part] = empty;
+  for (const column of chunks.terms) column[part] = empty;
+  send(message, () => sendParts(chunks, part + 1));
+}
+
 function handle(request: HostRequest): WorkerReply {
   beginJob();
   if (request.type === 'load') {
@@ -328,8 +358,17 @@ function handle(request: HostRequest): WorkerReply {
   if (!model) return { type: 'fault', message: 'no model is loaded' };
   if (request.type === 'enumerate') {
     const options: EnumerationOptions = { ...request.options, progress };
-    const result = enumerateModel(model, options);
-    return { type: 'enumerated', result, randomness: takeRandomness() };
+    const chunks = enumerateInChunks(model, options);
+    // Empty chunks are not sent: the host expects one part per started chunk of outcomes.
+    const kept = chunks.target.map((chunk) => chunk.length > 0);
+    pendingParts = {
+      head: chunks.head,
+      target: chunks.target.filter((_, i) => kept[i]),
+      prob: chunks.prob.filter((_, i) => kept[i]),
+      reward: chunks.reward.filter((_, i) => kept[i]),
+      terms: chunks.terms.map((column) => column.filter((_, i) => kept[i])),
+    };
+    return { type: 'enumerated', head: chunks.head, randomness: takeRandomness() };
   }
   if (request.type === 'learn') {
     return { type: 'learned', run: learnModel(model, request.options, progress), randomness: takeRandomness() };
@@ -370,5 +409,8 @@ process.on('message', (request: HostRequest) => {
     reply = { type: 'problem', problem: thrownProblem(error, 'load'), randomness: takeRandomness() };
   }
   beat(now(), true);
-  send(reply);
+  if (reply.type === 'enumerated' && pendingParts) {
+    const parts = pendingParts;
+    send(reply, () => sendParts(parts));
+  } else send(reply);
 });
