@@ -9,12 +9,12 @@
 import { spawn, type ChildProcess } from 'node:child_process';
 import { createHash } from 'node:crypto';
 import { buildSync } from 'esbuild';
-import { existsSync, mkdtempSync, rmSync, writeFileSync } from 'node:fs';
+import { closeSync, existsSync, mkdtempSync, openSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { dirname, join, resolve } from 'node:path';
 import type { Readable } from 'node:stream';
 import { bundleModel, locateStack, type ModelBundle, type SourceLocation } from './bundle';
-import { EnumerationAssembly } from './enumeration-parts';
+import { emptyColumnFile, readColumns } from './enumeration-columns';
 import type { LearnRun } from './learn';
 import { launchPlan } from './launch';
 import { BEAT_FD, MODEL_SCRIPT_NAME, type HostRequest, type ModelDescription, type RandomnessCall, type WorkerReply } from './protocol';
@@ -99,6 +99,25 @@ function childScript(): string {
   return childScriptPath;
 }
 
+/**
+ * A fresh temporary file, open for reading and writing and already unlinked: it leaves nothing on
+ * disk whatever happens, and only the two processes holding its descriptor can reach it.
+ */
+function openColumnFile(): number {
+  const folder = mkdtempSync(join(tmpdir(), 'episcope-columns-'));
+  const path = join(folder, 'columns');
+  try {
+    return openSync(path, 'w+', 0o600);
+  } finally {
+    try {
+      rmSync(folder, { recursive: true, force: true });
+    } catch {
+      // Where an open file cannot be removed (Windows), the folder is removed at exit.
+      process.once('exit', () => rmSync(folder, { recursive: true, force: true }));
+    }
+  }
+}
+
 /** One child process and what the host reads from it. */
 class Child {
   readonly process: ChildProcess;
@@ -111,6 +130,8 @@ class Child {
   exitSignal: NodeJS.Signals | null = null;
   onMessage?: (message: unknown) => void;
   onExit?: () => void;
+  /** This process's descriptor of the column file the child writes enumerations to (COLUMN_FD there). */
+  readonly columnFd: number;
 
   constructor(
     readonly key: string,
@@ -120,10 +141,11 @@ class Child {
     const script = childScript();
     const plan = launchPlan(script, [folder, script], memoryMb);
     this.notices = plan.notices;
+    this.columnFd = openColumnFile();
     this.process = spawn(plan.command, plan.args, {
       env: plan.env,
       cwd: folder,
-      stdio: ['ignore', 'pipe', 'pipe', 'ipc', 'pipe'],
+      stdio: ['ignore', 'pipe', 'pipe', 'ipc', 'pipe', this.columnFd],
       serialization: 'advanced',
       windowsHide: true,
     });
@@ -152,6 +174,11 @@ class Child {
   private markExited(): void {
     if (this.exited) return;
     this.exited = true;
+    try {
+      closeSync(this.columnFd);
+    } catch {
+      // Already closed.
+    }
     live.delete(this);
     this.onExit?.();
   }
@@ -247,8 +274,6 @@ export class ModelSandbox {
   private closed = false;
   private failed = false;
   private pending?: { resolve: (reply: Settled) => void };
-  /** The enumeration whose outcome parts are arriving. */
-  private assembly?: { assembly: EnumerationAssembly; randomness: unknown };
   /** The job of the last request, for describing a failure that the child cannot report itself. */
   private job: HostRequest['type'] = 'load';
   private jobBegan = Date.now();
@@ -369,6 +394,8 @@ export class ModelSandbox {
       this.job = message.type;
       this.jobBegan = Date.now();
       this.child.lastBeat = this.jobBegan;
+      // Whatever the file holds now (model code may have written to it) must not pass for this job's columns.
+      if (message.type === 'enumerate') emptyColumnFile(this.child.columnFd);
       try {
         this.child.process.send(message, (error) => {
           if (error) this.stop({ kind: 'crashed', phase: this.jobPhase(), message: `could not be reached: ${clip(error.message)}` });
@@ -389,8 +416,8 @@ export class ModelSandbox {
       return;
     }
     const reply = message as WorkerReply;
-    if (this.assembly || reply.type === 'enumerated' || reply.type === 'outcomes') {
-      this.assemble(reply);
+    if (reply.type === 'enumerated') {
+      this.settle(this.withColumns(reply));
       return;
     }
     if (reply.type === 'fault') {
@@ -408,34 +435,17 @@ export class ModelSandbox {
     this.settle(reply);
   }
 
-  /**
-   * An enumeration reply: the head, then its outcome parts in order. Anything else in between (a
-   * fault included) or a part out of order ends the job as a malformed reply.
-   */
-  private assemble(reply: WorkerReply): void {
-    const malformed = () => {
-      this.assembly = undefined;
-      this.settle({ kind: 'crashed', phase: this.jobPhase(), message: "sent a reply that is not what the sandbox sends (model code wrote to the sandbox's channel?)" });
-    };
-    if (!this.assembly) {
-      if (reply.type !== 'enumerated' || this.job !== 'enumerate') return malformed();
-      try {
-        this.assembly = { assembly: new EnumerationAssembly(reply.head), randomness: reply.randomness };
-      } catch {
-        return malformed();
-      }
-    } else if (!this.assembly.assembly.add(reply)) return malformed();
-    const { assembly, randomness } = this.assembly;
-    if (!assembly.done) return;
-    this.assembly = undefined;
-    this.settle({ type: 'assembled', result: assembly.result(), randomness: randomness as RandomnessCall[] });
-  }
-
   private settle(reply: Settled): void {
-    this.assembly = undefined;
     const pending = this.pending;
     this.pending = undefined;
     pending?.resolve(reply);
+  }
+
+  /** The enumeration of a head and the columns the child wrote to the column file, or a malformed reply. */
+  private withColumns(reply: Extract<WorkerReply, { type: 'enumerated' }>): Assembled | ModelFailure {
+    const result = this.job === 'enumerate' ? readColumns(reply.head, reply.keys, this.child.columnFd) : 'no enumeration was asked for';
+    if (typeof result === 'string') return { kind: 'crashed', phase: this.jobPhase(), message: `sent an enumeration that does not fit together: ${result}` };
+    return { type: 'assembled', result, randomness: reply.randomness };
   }
 
   /** The phase a failure seen only by the host is blamed on: the whole job, since no single call is known. */
@@ -501,7 +511,7 @@ export class ModelSandbox {
   }
 }
 
-/** An enumeration put together from its head and parts (enumeration-parts.ts). */
+/** An enumeration put together from its head and the column file (enumeration-columns.ts). */
 interface Assembled {
   type: 'assembled';
   result: Enumeration;

@@ -1,6 +1,6 @@
 /** Messages between the sandbox host and the child process that runs model code (worker.ts). */
 import type { LearnJobOptions, LearnRun } from './learn';
-import type { OutcomePart } from './enumeration-parts';
+import type { KeyListing } from './enumeration-columns';
 import type { EnumerationHead, EnumerationOptions, RolloutOptions, RolloutRun } from './runtime';
 
 /** The file name model code carries in stack traces inside the sandbox. */
@@ -11,6 +11,13 @@ export const LOOP_CHECK = '__episcopeLoopCheck';
 
 /** The child's file descriptor for liveness beats (one byte each); requests and replies use the IPC channel. */
 export const BEAT_FD = 4;
+
+/**
+ * The child's file descriptor of the host's column file: an unlinked temporary file the child
+ * writes an enumeration's outcome columns into (enumeration-columns.ts), because the IPC channel
+ * moves large data in socket-buffer-sized handoffs between the two processes, slow on a busy machine.
+ */
+export const COLUMN_FD = 5;
 
 /** A call of an unseeded random source or clock made by model code. */
 export interface RandomnessCall {
@@ -49,9 +56,8 @@ export type HostRequest =
 export type WorkerReply =
   | { type: 'loaded'; description: ModelDescription; randomness: RandomnessCall[] }
   | { type: 'problem'; problem: import('./runtime').RuntimeProblem; randomness: RandomnessCall[] }
-  /** The enumeration without its outcome columns; `partCount(head.outcomesListed)` OutcomePart messages follow, in order. */
-  | { type: 'enumerated'; head: EnumerationHead; randomness: RandomnessCall[] }
-  | OutcomePart
+  /** The enumeration without its outcome columns and state keys (`head.stateKeys` is empty), which the child wrote to COLUMN_FD first (enumeration-columns.ts). */
+  | { type: 'enumerated'; head: EnumerationHead; keys: KeyListing; randomness: RandomnessCall[] }
   | { type: 'rolled'; run: RolloutRun; randomness: RandomnessCall[] }
   | { type: 'learned'; run: LearnRun; randomness: RandomnessCall[] }
   /** An error outside any model call (an unhandled rejection, an uncaught throw in a timer); the child ends after it. */

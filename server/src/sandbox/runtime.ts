@@ -403,6 +403,9 @@ class GrowableColumn<T extends NumberColumn> {
   }
 }
 
+/** Integer states below this are looked up in a flat table (it grows only as far as 8 entries per state found). */
+const SMALL_STATE_LIMIT = 1 << 26;
+
 /** Entries in each full chunk of an outcome column: 2^18, so a chunk of all outcome columns is about 5 MB. */
 export const OUTCOME_CHUNK_BITS = 18;
 export const OUTCOME_CHUNK = 1 << OUTCOME_CHUNK_BITS;
@@ -528,7 +531,30 @@ export function enumerateInChunks(model: ModelFunctions, options: EnumerationOpt
   let currentAction: string | undefined;
 
   // Messages are built only on failure: a template string per outcome would cost an allocation each.
+  // Small non-negative integer states (the commonest numbered states) are found in a flat table of id + 1:
+  // a hash lookup per outcome into a map of a million entries misses the cache almost every time.
+  let smallIndex = new Int32Array(1024);
+  const growSmallIndex = (value: number): void => {
+    smallIndex = withRoom(smallIndex, value + 1);
+    // States met while the table was too short are moved in, so that the table alone answers for its range.
+    for (const [known, id] of numberIndex) {
+      if (known >= 0 && known < smallIndex.length && (known | 0) === known) {
+        smallIndex[known] = id + 1;
+        numberIndex.delete(known);
+      }
+    }
+  };
   const addState = (value: unknown, what: string | (() => string)): number => {
+    if (typeof value === 'number' && value >= 0 && value < SMALL_STATE_LIMIT && (value | 0) === value) {
+      if (value >= smallIndex.length && value < Math.max(1 << 16, 8 * keys.length)) growSmallIndex(value);
+      if (value < smallIndex.length) {
+        const known = smallIndex[value];
+        if (known !== 0) return known - 1;
+        const id = addKeyed(value, JSON.stringify(value));
+        if (id >= 0) smallIndex[value] = id + 1;
+        return id;
+      }
+    }
     if (typeof value === 'number' && Number.isFinite(value)) {
       const known = numberIndex.get(value);
       if (known !== undefined) return known;

@@ -14,11 +14,10 @@ import { writeSync } from 'node:fs';
 import { createRequire } from 'node:module';
 import { getHeapStatistics } from 'node:v8';
 import { compileFunction } from 'node:vm';
-import { BEAT_FD, LOOP_CHECK, MODEL_SCRIPT_NAME, type ChildLimits, type HostRequest, type ModelDescription, type RandomnessCall, type WorkerReply } from './protocol';
+import { BEAT_FD, COLUMN_FD, LOOP_CHECK, MODEL_SCRIPT_NAME, type ChildLimits, type HostRequest, type ModelDescription, type RandomnessCall, type WorkerReply } from './protocol';
 import {
   describeValue,
   enumerateInChunks,
-  type ChunkedEnumeration,
   ModelExitCall,
   rolloutModel,
   SandboxLimitReached,
@@ -31,6 +30,7 @@ import {
 } from './runtime';
 import { TransitionRecorder } from './transition-record';
 import { learnModel } from './learn';
+import { writeColumns } from './enumeration-columns';
 
 // What the sandbox itself needs, taken before model code can replace any of it.
 const send = process.send!.bind(process) as (message: WorkerReply, callback?: () => void) => boolean;
@@ -320,35 +320,6 @@ function load(code: string, specPath: string): WorkerReply {
 /** Progress of the runtime: only read inside this process, so there is nothing for the host to trust. */
 const progress = new Int32Array(5);
 
-/** Outcome chunks still to be sent after an enumeration's head, in order. */
-let pendingParts: ChunkedEnumeration | undefined;
-
-/**
- * Sends the outcome chunks one part at a time, each after the previous one was written, and
- * drops each chunk once sent: the serialised bytes of at most one part exist at a time.
- */
-function sendParts(chunks: ChunkedEnumeration, part = 0): void {
-  beat(now(), true);
-  if (part >= chunks.target.length) {
-    pendingParts = undefined;
-    return;
-  }
-  const message: WorkerReply = {
-    type: 'outcomes',
-    part,
-    target: chunks.target[part],
-    prob: chunks.prob[part],
-    reward: chunks.reward[part],
-    terms: chunks.terms.map((column) => column[part]),
-  };
-  const empty = new Float64Array(0);
-  chunks.target[part] = new Int32Array(0);
-  chunks.prob[part] = empty;
-  chunks.reward[part] = empty;
-  for (const column of chunks.terms) column[part] = empty;
-  send(message, () => sendParts(chunks, part + 1));
-}
-
 function handle(request: HostRequest): WorkerReply {
   beginJob();
   if (request.type === 'load') {
@@ -359,16 +330,8 @@ function handle(request: HostRequest): WorkerReply {
   if (request.type === 'enumerate') {
     const options: EnumerationOptions = { ...request.options, progress };
     const chunks = enumerateInChunks(model, options);
-    // Empty chunks are not sent: the host expects one part per started chunk of outcomes.
-    const kept = chunks.target.map((chunk) => chunk.length > 0);
-    pendingParts = {
-      head: chunks.head,
-      target: chunks.target.filter((_, i) => kept[i]),
-      prob: chunks.prob.filter((_, i) => kept[i]),
-      reward: chunks.reward.filter((_, i) => kept[i]),
-      terms: chunks.terms.map((column) => column.filter((_, i) => kept[i])),
-    };
-    return { type: 'enumerated', head: chunks.head, randomness: takeRandomness() };
+    const keys = writeColumns(COLUMN_FD, chunks, chunks.head.stateKeys);
+    return { type: 'enumerated', head: { ...chunks.head, stateKeys: [] }, keys, randomness: takeRandomness() };
   }
   if (request.type === 'learn') {
     return { type: 'learned', run: learnModel(model, request.options, progress), randomness: takeRandomness() };
@@ -409,8 +372,5 @@ process.on('message', (request: HostRequest) => {
     reply = { type: 'problem', problem: thrownProblem(error, 'load'), randomness: takeRandomness() };
   }
   beat(now(), true);
-  if (reply.type === 'enumerated' && pendingParts) {
-    const parts = pendingParts;
-    send(reply, () => sendParts(parts));
-  } else send(reply);
+  send(reply);
 });
