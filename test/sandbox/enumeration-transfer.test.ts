@@ -230,3 +230,33 @@ export default defineMdp({
     expect(validEnumeration({ ...expected, startProbs: new Float64Array(0) })).toBe(false);
   });
 });
+
+describe('state lookup by value', () => {
+  it('keys numbers (small, large, negative, -0, fractions) and strings as their JSON does', () => {
+    // Targets jump past the flat table's reach first, so states met early are moved in when it grows.
+    const next = (s: number): unknown[] => [s + 1, (s * 7_919_993) % 5_000_000, -s, s === 0 ? -0 : s / 4, String(s), 2 ** 26 + s];
+    const model = {
+      start: 0,
+      actions: () => ['go'],
+      terminal: (s: unknown) => (typeof s !== 'number' || s >= 400 || s < 0 || !Number.isInteger(s) || s >= 2 ** 26 ? 'goal' : undefined),
+      outcomes: (s: unknown) => next(s as number).map((state, _i, all) => ({ state, probability: 1 / all.length, reward: 0 })),
+    } as unknown as ModelFunctions;
+    const listed = enumerateModel(model, { stateCap: 1e5, declaredTerms: [], recheckChoices: 0, progress: new Int32Array(5) });
+    const order: unknown[] = [0];
+    const index = new Map<string, number>([['0', 0]]);
+    const targets: number[] = [];
+    for (let i = 0; i < order.length; i++) {
+      if (model.terminal!(order[i])) continue;
+      for (const state of next(order[i] as number)) {
+        const key = JSON.stringify(state);
+        if (!index.has(key)) {
+          index.set(key, order.length);
+          order.push(state);
+        }
+        targets.push(index.get(key)!);
+      }
+    }
+    expect(listed.stateKeys).toEqual(order.map((s) => JSON.stringify(s)));
+    expect(Array.from(listed.outcomeTarget)).toEqual(targets);
+  });
+});
