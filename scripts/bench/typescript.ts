@@ -2,13 +2,20 @@
  * Figures for TypeScript specs: the enumeration rate of a model with about 100k states, and
  * rollout steps per second in the sandbox (a child process) against the same model called directly
  * in one loop, and the sandbox's start, cold and warm.
- * The model is a windy grid of our own (316 x 316 cells, four moves, three outcomes each).
+ * The model is a windy grid of our own (316 x 316 cells, four moves, three outcomes each). First, the
+ * seeded random model of generators.ts (BENCH_TS_STATES states, default 1,000,000; 0 skips it) loaded
+ * through the whole pipeline, with its time and the peak memory of this process and of the child;
+ * BENCH_TS_LARGE_ONLY=1 prints only that line.
  */
-import { mkdtempSync, rmSync, writeFileSync } from 'node:fs';
+import { mkdtempSync, readdirSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
+import { resourceUsage } from 'node:process';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { compileFunction } from 'node:vm';
+import { resolveConfig } from '../../server/src/config';
+import { loadTypeScriptSpec } from '../../server/src/sandbox/analyze-typescript';
 import { bundleModel } from '../../server/src/sandbox/bundle';
+import { randomTypeScriptSpec } from './generators';
 import { endIdleSandboxes, ModelSandbox } from '../../server/src/sandbox/host';
 import { buildEmpiricalModel } from '../../server/src/model/empirical';
 import { LOOP_CHECK } from '../../server/src/sandbox/protocol';
@@ -186,13 +193,95 @@ export async function run(): Promise<void> {
 
 /** Lines for `npm run bench`. */
 export async function typescriptBenchLines(): Promise<string[]> {
+  // The large model first: this process's peak memory never decreases, so it is read before anything else runs.
+  const largeStates = Number(process.env.BENCH_TS_STATES ?? 1_000_000);
+  const large = largeStates > 0 ? [largeEnumerationLine(await measureLargeEnumeration(largeStates))] : [];
+  if (process.env.BENCH_TS_LARGE_ONLY === '1') return large;
   const f = await measureTypeScript();
   const r = measureRecording();
   const millions = (x: number) => `${(x / 1e6).toFixed(2)} M`;
   return [
+    ...large,
     `TypeScript enumeration: ${f.states} states, ${f.choices} (state, action) pairs, ${f.outcomes} outcomes in ${f.enumerationSeconds.toFixed(2)} s: ${millions(f.transitionsPerSecond)} transitions/s (target >= 1 M); host CPU time ${f.enumerationCpuSeconds.toFixed(2)} s; called directly ${millions(f.directTransitionsPerSecond)} transitions/s`,
     `TypeScript sandbox start (bundle, child process, load): cold ${(1000 * f.coldStartSeconds).toFixed(0)} ms, warm (same bundle again) ${(1000 * f.warmStartSeconds).toFixed(0)} ms`,
     `TypeScript rollouts: ${f.rolloutSteps} steps; sandbox ${millions(f.sandboxStepsPerSecond)} steps/s, direct ${millions(f.directStepsPerSecond)} steps/s: ${((100 * f.sandboxStepsPerSecond) / f.directStepsPerSecond).toFixed(0)}% of direct (target >= 50%)`,
     `Empirical model: ${r.plain.episodes} rollouts (${r.plain.steps} steps) ${r.plainSeconds.toFixed(2)} s plain, ${r.recordedSeconds.toFixed(2)} s with ${r.episodes} episodes (${r.steps} steps) counted and explored (${r.exploreSamples} exploration samples); ${r.states} states built in ${r.buildSeconds.toFixed(3)} s (target: a few seconds in all)`,
   ];
+}
+
+export interface LargeEnumerationFigures {
+  states: number;
+  outcomes: number;
+  /** Loading the spec: reading it, bundling, the child's enumeration and the host's CSR model. */
+  seconds: number;
+  /** The enumeration job alone: the child's listing, its reply parts and their assembly in this process. */
+  enumerationSeconds: number;
+  /** Peak resident memory of this process and of the sandbox child, in bytes. */
+  hostPeakBytes: number;
+  childPeakBytes: number;
+}
+
+/** Peak resident memory (VmHWM) of every process whose parent is this one, summed; 0 where /proc is missing. */
+function childrenPeakBytes(): number {
+  let total = 0;
+  try {
+    for (const entry of readdirSync('/proc')) {
+      if (!/^\d+$/.test(entry)) continue;
+      let status: string;
+      try {
+        status = readFileSync(`/proc/${entry}/status`, 'utf8');
+      } catch {
+        continue;
+      }
+      if (Number(/PPid:\s+(\d+)/.exec(status)?.[1]) !== process.pid) continue;
+      total += Number(/VmHWM:\s+(\d+) kB/.exec(status)?.[1] ?? 0) * 1024;
+    }
+  } catch {
+    return 0;
+  }
+  return total;
+}
+
+/**
+ * The seeded random model of `generators.ts` (states x 4 actions x 8 outcomes) loaded through the
+ * whole TypeScript pipeline: enumeration in the sandbox child and the CSR model in this process.
+ * The child is kept warm after the job, so its peak can still be read from /proc.
+ */
+export async function measureLargeEnumeration(states: number): Promise<LargeEnumerationFigures> {
+  const folder = mkdtempSync(join(tmpdir(), 'episcope-bench-'));
+  const path = join(folder, 'random.mdp.ts');
+  const text = randomTypeScriptSpec({ states, actions: 4, outcomes: 8, seed: 20240602, discount: 0.95 });
+  writeFileSync(path, text);
+  try {
+    endIdleSandboxes();
+    const thresholds = { 'model-error.memoryMb': 4096, 'model-error.jobTimeoutMs': 600_000, 'model-error.callTimeoutMs': 10_000 };
+    const config = resolveConfig({ stateCap: states + 1, thresholds });
+    const began = performance.now();
+    const loaded = await loadTypeScriptSpec(path, text, { config, exec: true });
+    const seconds = (performance.now() - began) / 1000;
+    const model = loaded.enumerated?.model;
+    if (!model) throw new Error(`the large bench model did not enumerate: ${loaded.enumerated?.reason ?? 'no model'}`);
+    const enumerationMs = loaded.spec.typescript?.enumeration?.milliseconds;
+    if (enumerationMs === undefined) throw new Error('the pipeline did not time the enumeration');
+    const childPeakBytes = childrenPeakBytes();
+    endIdleSandboxes();
+    return {
+      states: model.stateCount,
+      outcomes: model.outcomeCount,
+      seconds,
+      enumerationSeconds: enumerationMs / 1000,
+      hostPeakBytes: resourceUsage().maxRSS * 1024,
+      childPeakBytes,
+    };
+  } finally {
+    rmSync(folder, { recursive: true, force: true });
+  }
+}
+
+function largeEnumerationLine(f: LargeEnumerationFigures): string {
+  const perTransition = (bytes: number) => `${Math.round(bytes / (1 << 20))} MB (${(bytes / f.outcomes).toFixed(1)} B per transition)`;
+  return (
+    `TypeScript random model ${f.states} states x 4 x 8: ${f.outcomes} transitions loaded in ${f.seconds.toFixed(2)} s (target < 10 s), ` +
+    `of which the enumeration job ${f.enumerationSeconds.toFixed(2)} s (${(f.outcomes / f.enumerationSeconds / 1e6).toFixed(2)} M transitions/s, target >= 1 M); peak memory host ${perTransition(f.hostPeakBytes)} (target <= 40 B), sandbox child ${perTransition(f.childPeakBytes)}`
+  );
 }

@@ -52,8 +52,8 @@ describe('the launch plan', () => {
     expect(plan.notices).toEqual([]);
     expect(plan.env).toEqual({});
     expect(plan.command).toBe('/bin/sh');
-    // 2 x 256 MB heap + 256 MB start-up share, in KB.
-    expect(plan.args[1]).toBe(`ulimit -d ${768 * 1024} && exec "$0" "$@"`);
+    // 2 x 256 MB heap + 256 MB start-up share, in KB; the column file gets as much, in 512-byte blocks.
+    expect(plan.args[1]).toBe(`ulimit -d ${768 * 1024} && ulimit -f ${768 * 1024 * 2} && exec "$0" "$@"`);
     expect(plan.args.slice(2)).toEqual([
       '/usr/bin/node',
       '--max-old-space-size=256',

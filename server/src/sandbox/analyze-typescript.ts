@@ -195,6 +195,9 @@ async function runModel(
       empirical: sampled.empirical,
     };
   } finally {
+    // The child printed before it replied, but the reply's callback can run before the same poll
+    // phase reads the output pipe: one turn of the event loop lets those reads land first.
+    await new Promise((resolve) => setImmediate(resolve));
     const output = sandbox.output();
     if (output) sandboxOutput.set(findings, output);
     await sandbox.close();
@@ -481,6 +484,13 @@ class Placer {
   }
 }
 
+/** Each key's position, built in one pass without a pair array per state. */
+function indexOfKeys(keys: readonly string[]): Map<string, number> {
+  const index = new Map<string, number>();
+  for (let i = 0; i < keys.length; i++) index.set(keys[i], i);
+  return index;
+}
+
 /**
  * The CompiledModel of an enumeration. State ids are the canonical keys; every state points at
  * the function that produced it (`start` for start states, `outcomes` for the others).
@@ -498,7 +508,7 @@ function compiledFromEnumeration(result: Enumeration, spec: ParsedSpec, evidence
     choiceCount,
     outcomeCount: result.outcomeTarget.length,
     stateIds: result.stateKeys,
-    stateIndex: new Map(result.stateKeys.map((key, i) => [key, i])),
+    stateIndex: indexOfKeys(result.stateKeys),
     stateLabels: stateLabels.some((label) => label !== undefined) ? stateLabels : undefined,
     terminal: result.terminal,
     actionNames: result.actionNames,

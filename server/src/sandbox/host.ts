@@ -9,11 +9,12 @@
 import { spawn, type ChildProcess } from 'node:child_process';
 import { createHash } from 'node:crypto';
 import { buildSync } from 'esbuild';
-import { existsSync, mkdtempSync, rmSync, writeFileSync } from 'node:fs';
+import { closeSync, existsSync, mkdtempSync, openSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { dirname, join, resolve } from 'node:path';
 import type { Readable } from 'node:stream';
 import { bundleModel, locateStack, type ModelBundle, type SourceLocation } from './bundle';
+import { emptyColumnFile, readColumns } from './enumeration-columns';
 import type { LearnRun } from './learn';
 import { launchPlan } from './launch';
 import { BEAT_FD, MODEL_SCRIPT_NAME, OUTPUT_MARK, type HostRequest, type ModelDescription, type RandomnessCall, type WorkerReply } from './protocol';
@@ -133,6 +134,25 @@ export class MarkCounter {
   }
 }
 
+/**
+ * A fresh temporary file, open for reading and writing and already unlinked: it leaves nothing on
+ * disk whatever happens, and only the two processes holding its descriptor can reach it.
+ */
+function openColumnFile(): number {
+  const folder = mkdtempSync(join(tmpdir(), 'episcope-columns-'));
+  const path = join(folder, 'columns');
+  try {
+    return openSync(path, 'w+', 0o600);
+  } finally {
+    try {
+      rmSync(folder, { recursive: true, force: true });
+    } catch {
+      // Where an open file cannot be removed (Windows), the folder is removed at exit.
+      process.once('exit', () => rmSync(folder, { recursive: true, force: true }));
+    }
+  }
+}
+
 /** One child process and what the host reads from it. */
 class Child {
   readonly process: ChildProcess;
@@ -149,6 +169,8 @@ class Child {
   replies = 0;
   private readonly marks: MarkCounter[] = [];
   private readonly waiters = new Set<() => void>();
+  /** This process's descriptor of the column file the child writes enumerations to (COLUMN_FD there). */
+  readonly columnFd: number;
 
   constructor(
     readonly key: string,
@@ -158,10 +180,11 @@ class Child {
     const script = childScript();
     const plan = launchPlan(script, [folder, script], memoryMb);
     this.notices = plan.notices;
+    this.columnFd = openColumnFile();
     this.process = spawn(plan.command, plan.args, {
       env: plan.env,
       cwd: folder,
-      stdio: ['ignore', 'pipe', 'pipe', 'ipc', 'pipe'],
+      stdio: ['ignore', 'pipe', 'pipe', 'ipc', 'pipe', this.columnFd],
       serialization: 'advanced',
       windowsHide: true,
     });
@@ -228,6 +251,11 @@ class Child {
   private markExited(): void {
     if (this.exited) return;
     this.exited = true;
+    try {
+      closeSync(this.columnFd);
+    } catch {
+      // Already closed.
+    }
     live.delete(this);
     this.onExit?.();
   }
@@ -322,7 +350,7 @@ export class ModelSandbox {
   private readonly child: Child;
   private closed = false;
   private failed = false;
-  private pending?: { resolve: (reply: WorkerReply | ModelFailure) => void };
+  private pending?: { resolve: (reply: Settled) => void };
   /** The job of the last request, for describing a failure that the child cannot report itself. */
   private job: HostRequest['type'] = 'load';
   private jobBegan = Date.now();
@@ -382,7 +410,7 @@ export class ModelSandbox {
 
   async enumerate(options: Extract<HostRequest, { type: 'enumerate' }>['options']): Promise<Outcome<Enumeration>> {
     const reply = await this.request({ type: 'enumerate', options });
-    return this.outcomeOf(reply, (r) => (r.type === 'enumerated' && validEnumeration(r.result) ? r.result : undefined));
+    return this.outcomeOf(reply, (r) => (r.type === 'assembled' && validEnumeration(r.result) ? r.result : undefined));
   }
 
   async rollouts(options: Extract<HostRequest, { type: 'rollouts' }>['options']): Promise<Outcome<RolloutRun>> {
@@ -414,7 +442,7 @@ export class ModelSandbox {
     return calls.map((call) => ({ api: clip(call.api, 80), count: call.count, location: locateStack(this.bundle, call.stack, MODEL_SCRIPT_NAME) }));
   }
 
-  private outcomeOf<T>(reply: WorkerReply | ModelFailure, pick: (reply: WorkerReply) => T | undefined): Outcome<T> {
+  private outcomeOf<T>(reply: Settled, pick: (reply: WorkerReply | Assembled) => T | undefined): Outcome<T> {
     if (!('type' in reply)) {
       this.failed = true;
       return { failure: reply, randomness: [] };
@@ -436,13 +464,15 @@ export class ModelSandbox {
     return { failure: { kind: 'crashed', phase: this.jobPhase(), message: "sent a reply that is not what the sandbox sends (model code wrote to the sandbox's channel?)" }, randomness: [] };
   }
 
-  private request(message: HostRequest): Promise<WorkerReply | ModelFailure> {
+  private request(message: HostRequest): Promise<Settled> {
     if (this.closed || this.child.exited) return Promise.resolve(this.exitFailure ?? this.exitDescription());
     return new Promise((resolve) => {
       this.pending = { resolve };
       this.job = message.type;
       this.jobBegan = Date.now();
       this.child.lastBeat = this.jobBegan;
+      // Whatever the file holds now (model code may have written to it) must not pass for this job's columns.
+      if (message.type === 'enumerate') emptyColumnFile(this.child.columnFd);
       try {
         this.child.process.send(message, (error) => {
           if (error) this.stop({ kind: 'crashed', phase: this.jobPhase(), message: `could not be reached: ${clip(error.message)}` });
@@ -463,6 +493,10 @@ export class ModelSandbox {
       return;
     }
     const reply = message as WorkerReply;
+    if (reply.type === 'enumerated') {
+      this.settle(this.withColumns(reply));
+      return;
+    }
     if (reply.type === 'fault') {
       const failure: ModelFailure = {
         kind: 'crashed',
@@ -482,10 +516,17 @@ export class ModelSandbox {
     });
   }
 
-  private settle(reply: WorkerReply | ModelFailure): void {
+  private settle(reply: Settled): void {
     const pending = this.pending;
     this.pending = undefined;
     pending?.resolve(reply);
+  }
+
+  /** The enumeration of a head and the columns the child wrote to the column file, or a malformed reply. */
+  private withColumns(reply: Extract<WorkerReply, { type: 'enumerated' }>): Assembled | ModelFailure {
+    const result = this.job === 'enumerate' ? readColumns(reply.head, reply.keys, this.child.columnFd) : 'no enumeration was asked for';
+    if (typeof result === 'string') return { kind: 'crashed', phase: this.jobPhase(), message: `sent an enumeration that does not fit together: ${result}` };
+    return { type: 'assembled', result, randomness: reply.randomness };
   }
 
   /** The phase a failure seen only by the host is blamed on: the whole job, since no single call is known. */
@@ -551,6 +592,15 @@ export class ModelSandbox {
   }
 }
 
+/** An enumeration put together from its head and the column file (enumeration-columns.ts). */
+interface Assembled {
+  type: 'assembled';
+  result: Enumeration;
+  randomness: RandomnessCall[];
+}
+
+type Settled = WorkerReply | Assembled | ModelFailure;
+
 // ---- Replies are model-controlled input: check their shape before anything reads them ----
 
 function validRandomness(call: unknown): call is RandomnessCall {
@@ -569,7 +619,14 @@ function indices(array: unknown, limit: number): boolean {
   return true;
 }
 
-function validEnumeration(result: Enumeration): boolean {
+/** Row starts of a CSR array: from 0, never decreasing, ending at `end`. */
+function rowStarts(array: unknown, end: number): boolean {
+  if (!(array instanceof Int32Array) || array.length === 0 || array[0] !== 0 || array[array.length - 1] !== end) return false;
+  for (let i = 1; i < array.length; i++) if (array[i] < array[i - 1]) return false;
+  return true;
+}
+
+export function validEnumeration(result: Enumeration): boolean {
   if (typeof result !== 'object' || result === null) return false;
   const states = Array.isArray(result.stateKeys) ? result.stateKeys.length : -1;
   if (states < 0 || !result.stateKeys.every((key) => typeof key === 'string')) return false;
@@ -582,7 +639,8 @@ function validEnumeration(result: Enumeration): boolean {
   if (choices < 0 || outcomes < 0) return false;
   if (result.outcomeProb.length !== outcomes || result.outcomeReward.length !== outcomes) return false;
   if (!result.termRewards.every((column) => column instanceof Float64Array && column.length === outcomes)) return false;
-  if (!indices(result.choiceStart, choices) || !indices(result.outcomeStart, outcomes)) return false;
+  if (!rowStarts(result.choiceStart, choices) || !rowStarts(result.outcomeStart, outcomes)) return false;
+  if (!(result.startStates instanceof Int32Array) || result.startStates.length !== result.startProbs.length) return false;
   if (!indices(result.choiceAction, result.actionNames.length - 1) || !indices(result.outcomeTarget, states - 1) || !indices(result.startStates, states - 1)) return false;
   if (result.problem !== undefined && !validProblem(result.problem)) return false;
   // A capped or failed enumeration stops part-way; a complete one has a choice range per state.

@@ -104,8 +104,11 @@ export function launchPlan(script: string, readable: string[], heapMb: number, n
   const env: Record<string, string> = node.electron ? { ELECTRON_RUN_AS_NODE: '1' } : {};
   if (process.platform !== 'win32' && existsSync('/bin/sh')) {
     const kb = processMemoryMb(heapMb) * 1024;
+    // The only file the child can write is the host's column file (fd 5): no honest listing is larger than
+    // the memory it was held in, so the same size (in 512-byte blocks) bounds what hostile code can put on disk.
+    const blocks = kb * 2;
     // exec keeps the child's pid that of node itself, so that killing it kills the model.
-    return { command: '/bin/sh', args: ['-c', `ulimit -d ${kb} && exec "$0" "$@"`, node.path, ...nodeArgs], env, notices };
+    return { command: '/bin/sh', args: ['-c', `ulimit -d ${kb} && ulimit -f ${blocks} && exec "$0" "$@"`, node.path, ...nodeArgs], env, notices };
   }
   notices.push(`model code ran without an OS memory limit (only the ${heapMb} MB heap limit applies): this system has no /bin/sh ulimit`);
   return { command: node.path, args: nodeArgs, env, notices };

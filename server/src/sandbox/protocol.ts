@@ -1,6 +1,7 @@
 /** Messages between the sandbox host and the child process that runs model code (worker.ts). */
 import type { LearnJobOptions, LearnRun } from './learn';
-import type { Enumeration, EnumerationOptions, RolloutOptions, RolloutRun } from './runtime';
+import type { KeyListing } from './enumeration-columns';
+import type { EnumerationHead, EnumerationOptions, RolloutOptions, RolloutRun } from './runtime';
 
 /** The file name model code carries in stack traces inside the sandbox. */
 export const MODEL_SCRIPT_NAME = 'episcope-model.js';
@@ -17,6 +18,13 @@ export const BEAT_FD = 4;
  * what the model printed during a job is then always shown with that job's result.
  */
 export const OUTPUT_MARK = '\u0000episcope:end-of-job\u0000';
+
+/**
+ * The child's file descriptor of the host's column file: an unlinked temporary file the child
+ * writes an enumeration's outcome columns into (enumeration-columns.ts), because the IPC channel
+ * moves large data in socket-buffer-sized handoffs between the two processes, slow on a busy machine.
+ */
+export const COLUMN_FD = 5;
 
 /** A call of an unseeded random source or clock made by model code. */
 export interface RandomnessCall {
@@ -55,7 +63,8 @@ export type HostRequest =
 export type WorkerReply =
   | { type: 'loaded'; description: ModelDescription; randomness: RandomnessCall[] }
   | { type: 'problem'; problem: import('./runtime').RuntimeProblem; randomness: RandomnessCall[] }
-  | { type: 'enumerated'; result: Enumeration; randomness: RandomnessCall[] }
+  /** The enumeration without its outcome columns and state keys (`head.stateKeys` is empty), which the child wrote to COLUMN_FD first (enumeration-columns.ts). */
+  | { type: 'enumerated'; head: EnumerationHead; keys: KeyListing; randomness: RandomnessCall[] }
   | { type: 'rolled'; run: RolloutRun; randomness: RandomnessCall[] }
   | { type: 'learned'; run: LearnRun; randomness: RandomnessCall[] }
   /** An error outside any model call (an unhandled rejection, an uncaught throw in a timer); the child ends after it. */

@@ -342,6 +342,20 @@ export interface Enumeration {
   outcomesListed: number;
 }
 
+/** The outcome columns of an enumeration; the rest (keys, choices, start, problems) is its head. */
+export type OutcomeColumnName = 'outcomeTarget' | 'outcomeProb' | 'outcomeReward' | 'termRewards';
+export type EnumerationHead = Omit<Enumeration, OutcomeColumnName>;
+
+/** An enumeration whose outcome columns are still in chunks of OUTCOME_CHUNK entries (the last may be shorter). */
+export interface ChunkedEnumeration {
+  head: EnumerationHead;
+  target: Int32Array[];
+  prob: Float64Array[];
+  reward: Float64Array[];
+  /** Per term, its chunks. */
+  terms: Float64Array[][];
+}
+
 export interface EnumerationOptions {
   stateCap: number;
   /** Declared reward terms; other term names are malformed when any are declared. */
@@ -389,28 +403,121 @@ class GrowableColumn<T extends NumberColumn> {
   }
 }
 
+/** Integer states below this are looked up in a flat table (it grows only as far as 8 entries per state found). */
+const SMALL_STATE_LIMIT = 1 << 26;
+
+/** Entries in each full chunk of an outcome column: 2^18, so a chunk of all outcome columns is about 5 MB. */
+export const OUTCOME_CHUNK_BITS = 18;
+export const OUTCOME_CHUNK = 1 << OUTCOME_CHUNK_BITS;
+
+/**
+ * A typed column kept in chunks of OUTCOME_CHUNK entries. Growing never copies what is stored
+ * (the first chunk doubles up to full size, later ones are allocated full), and the sandbox sends
+ * the chunks one reply part at a time, so no second whole copy of a column exists in either process.
+ */
+class ChunkedColumn<T extends Int32Array | Float64Array> {
+  private readonly chunks: T[];
+  private last: T;
+  private fill = 0;
+
+  constructor(private readonly kind: new (length: number) => T) {
+    this.last = new kind(64);
+    this.chunks = [this.last];
+  }
+
+  push(value: number): void {
+    if (this.fill === this.last.length) this.makeRoom();
+    this.last[this.fill++] = value;
+  }
+
+  get length(): number {
+    return (this.chunks.length - 1) * OUTCOME_CHUNK + this.fill;
+  }
+
+  /** Entry i; every chunk but the last is full, so the chunk number is i's high bits. */
+  at(i: number): number {
+    return this.chunks[i >>> OUTCOME_CHUNK_BITS][i & (OUTCOME_CHUNK - 1)];
+  }
+
+  /** Appends `count` zeros. */
+  fillZeros(count: number): void {
+    for (let i = 0; i < count; i++) this.push(0);
+  }
+
+  /** The chunks, the last cut to its filled part (a copy of at most one chunk: a view would carry its whole buffer across the channel). */
+  take(): T[] {
+    if (this.fill < this.last.length) this.chunks[this.chunks.length - 1] = this.last.slice(0, this.fill) as T;
+    const chunks = this.chunks.slice();
+    this.chunks.length = 0;
+    this.last = new this.kind(0);
+    this.chunks.push(this.last);
+    this.fill = 0;
+    return chunks;
+  }
+
+  private makeRoom(): void {
+    if (this.last.length < OUTCOME_CHUNK) {
+      this.last = withRoom(this.last, Math.min(OUTCOME_CHUNK, this.last.length * 2));
+      this.chunks[this.chunks.length - 1] = this.last;
+    } else {
+      this.last = new this.kind(OUTCOME_CHUNK);
+      this.chunks.push(this.last);
+      this.fill = 0;
+    }
+  }
+}
+
+/** One contiguous column from its chunks (for callers in the same process: tests and the benchmark). */
+export function joinChunks<T extends Int32Array | Float64Array>(chunks: readonly T[], kind: new (length: number) => T): T {
+  let length = 0;
+  for (const chunk of chunks) length += chunk.length;
+  const out = new kind(length);
+  let at = 0;
+  for (const chunk of chunks) {
+    out.set(chunk, at);
+    at += chunk.length;
+  }
+  return out;
+}
+
+/** The enumeration with contiguous outcome columns. */
+export function enumerateModel(model: ModelFunctions, options: EnumerationOptions): Enumeration {
+  const { head, target, prob, reward, terms } = enumerateInChunks(model, options);
+  return {
+    ...head,
+    outcomeTarget: joinChunks(target, Int32Array),
+    outcomeProb: joinChunks(prob, Float64Array),
+    outcomeReward: joinChunks(reward, Float64Array),
+    termRewards: terms.map((chunks) => joinChunks(chunks, Float64Array)),
+  };
+}
+
 /**
  * Breadth-first enumeration of every state reachable from the start: each state's key is its
  * canonical JSON, `terminal` is asked first, then `actions`, then `outcomes` for each action.
  * Zero-probability outcomes are dropped. Stops at the first problem or when the cap is reached.
  */
-export function enumerateModel(model: ModelFunctions, options: EnumerationOptions): Enumeration {
+export function enumerateInChunks(model: ModelFunctions, options: EnumerationOptions): ChunkedEnumeration {
   const { progress } = options;
   const keys: string[] = [];
   const values: unknown[] = [];
   const index = new Map<string, number>();
+  // Number and string states are looked up by their value: no key string is built for a state already known.
+  // Map compares numbers by SameValueZero (0 and -0 alike, as their JSON is); no other value's key is a number's or a string's JSON, so the maps never disagree.
+  const numberIndex = new Map<number, number>();
+  const stringIndex = new Map<string, number>();
   // Typed columns that double when full: a JS array of numbers costs 8 bytes a slot plus slack and a second copy when converted.
   const terminal = new GrowableColumn(Uint8Array);
   const choiceStart = new GrowableColumn(Int32Array);
   const choiceAction = new GrowableColumn(Int32Array);
   const outcomeStart = new GrowableColumn(Int32Array);
-  const target = new GrowableColumn(Int32Array);
-  const prob = new GrowableColumn(Float64Array);
-  const reward = new GrowableColumn(Float64Array);
+  const target = new ChunkedColumn(Int32Array);
+  const prob = new ChunkedColumn(Float64Array);
+  const reward = new ChunkedColumn(Float64Array);
   const termIndex = new Map<string, number>();
   for (const term of options.declaredTerms) termIndex.set(term, termIndex.size);
   const strictTerms = options.declaredTerms.length > 0;
-  const termColumns: (GrowableColumn<Float64Array> | undefined)[] = options.declaredTerms.map(() => new GrowableColumn(Float64Array));
+  const termColumns: (ChunkedColumn<Float64Array> | undefined)[] = options.declaredTerms.map(() => new ChunkedColumn(Float64Array));
   const termScratch: number[] = [];
   const actionIndex = new Map<string, number>();
   const actionNames: string[] = [];
@@ -424,7 +531,44 @@ export function enumerateModel(model: ModelFunctions, options: EnumerationOption
   let currentAction: string | undefined;
 
   // Messages are built only on failure: a template string per outcome would cost an allocation each.
+  // Small non-negative integer states (the commonest numbered states) are found in a flat table of id + 1:
+  // a hash lookup per outcome into a map of a million entries misses the cache almost every time.
+  let smallIndex = new Int32Array(1024);
+  const growSmallIndex = (value: number): void => {
+    smallIndex = withRoom(smallIndex, value + 1);
+    // States met while the table was too short are moved in, so that the table alone answers for its range.
+    for (const [known, id] of numberIndex) {
+      if (known >= 0 && known < smallIndex.length && (known | 0) === known) {
+        smallIndex[known] = id + 1;
+        numberIndex.delete(known);
+      }
+    }
+  };
   const addState = (value: unknown, what: string | (() => string)): number => {
+    if (typeof value === 'number' && value >= 0 && value < SMALL_STATE_LIMIT && (value | 0) === value) {
+      if (value >= smallIndex.length && value < Math.max(1 << 16, 8 * keys.length)) growSmallIndex(value);
+      if (value < smallIndex.length) {
+        const known = smallIndex[value];
+        if (known !== 0) return known - 1;
+        const id = addKeyed(value, JSON.stringify(value));
+        if (id >= 0) smallIndex[value] = id + 1;
+        return id;
+      }
+    }
+    if (typeof value === 'number' && Number.isFinite(value)) {
+      const known = numberIndex.get(value);
+      if (known !== undefined) return known;
+      const id = addKeyed(value, JSON.stringify(value));
+      if (id >= 0) numberIndex.set(value, id);
+      return id;
+    }
+    if (typeof value === 'string') {
+      const known = stringIndex.get(value);
+      if (known !== undefined) return known;
+      const id = addKeyed(value, JSON.stringify(value));
+      if (id >= 0) stringIndex.set(value, id);
+      return id;
+    }
     let key: string;
     try {
       key = canonicalKey(value);
@@ -434,6 +578,12 @@ export function enumerateModel(model: ModelFunctions, options: EnumerationOption
     }
     const known = index.get(key);
     if (known !== undefined) return known;
+    const id = addKeyed(value, key);
+    if (id >= 0) index.set(key, id);
+    return id;
+  };
+  /** A state not seen before, or -1 past the cap. */
+  const addKeyed = (value: unknown, key: string): number => {
     if (keys.length >= options.stateCap) {
       capped = true;
       firstBeyondCap = key;
@@ -443,7 +593,6 @@ export function enumerateModel(model: ModelFunctions, options: EnumerationOption
     const id = keys.length;
     keys.push(key);
     values.push(value);
-    index.set(key, id);
     return id;
   };
 
@@ -542,7 +691,7 @@ export function enumerateModel(model: ModelFunctions, options: EnumerationOption
           for (let t = 0; t < termIndex.size; t++) {
             let column = termColumns[t];
             if (!column) {
-              column = new GrowableColumn(Float64Array);
+              column = new ChunkedColumn(Float64Array);
               column.fillZeros(target.length - 1);
               termColumns[t] = column;
             }
@@ -562,18 +711,14 @@ export function enumerateModel(model: ModelFunctions, options: EnumerationOption
   }
 
   const outcomesListed = target.length;
-  const result: Enumeration = {
+  const head: EnumerationHead = {
     stateKeys: keys,
     terminal: terminal.take(),
     actionNames,
     choiceStart: (choiceStart.push(choiceAction.length), choiceStart.take()),
     choiceAction: choiceAction.take(),
     outcomeStart: (outcomeStart.push(target.length), outcomeStart.take()),
-    outcomeTarget: target.take(),
-    outcomeProb: prob.take(),
-    outcomeReward: reward.take(),
     termNames: [...termIndex.keys()],
-    termRewards: [...termIndex.keys()].map((_, t) => termColumns[t]?.take() ?? new Float64Array(outcomesListed)),
     startStates: Int32Array.from(startStates),
     startProbs: Float64Array.from(startProbs),
     capped,
@@ -582,15 +727,31 @@ export function enumerateModel(model: ModelFunctions, options: EnumerationOption
     nondeterminism: [],
     outcomesListed,
   };
-  if (!problem && !capped) recheckDeterminism(model, values, result, options);
-  return result;
+  if (!problem && !capped) recheckDeterminism(model, values, head, { target, prob, reward }, options);
+  const targetChunks = target.take();
+  // A term no outcome used has no column yet: zeros in chunks shaped like the target's.
+  const zeros = () => targetChunks.map((chunk) => new Float64Array(chunk.length));
+  return {
+    head,
+    target: targetChunks,
+    prob: prob.take(),
+    reward: reward.take(),
+    terms: head.termNames.map((_, t) => termColumns[t]?.take() ?? zeros()),
+  };
+}
+
+/** Read access to the outcome columns while they are still being filled. */
+interface OutcomeReader {
+  target: { at(k: number): number };
+  prob: { at(k: number): number };
+  reward: { at(k: number): number };
 }
 
 /**
  * Calls `actions` and `outcomes` again on evenly spread states and compares the answers with the
  * enumerated ones; a model that answers differently cannot be analysed exactly.
  */
-function recheckDeterminism(model: ModelFunctions, values: unknown[], result: Enumeration, options: EnumerationOptions): void {
+function recheckDeterminism(model: ModelFunctions, values: unknown[], result: EnumerationHead, outcomes: OutcomeReader, options: EnumerationOptions): void {
   const stateCount = result.stateKeys.length;
   const picks = Math.min(options.recheckChoices, stateCount);
   if (picks <= 0) return;
@@ -613,7 +774,7 @@ function recheckDeterminism(model: ModelFunctions, values: unknown[], result: En
       for (let c = result.choiceStart[s]; c < result.choiceStart[s + 1]; c++) {
         const action = list[c - result.choiceStart[s]];
         const again = listOf(model.outcomes!(state, action), 'the returned outcome list');
-        const firstText = renderChoice(result, c);
+        const firstText = renderChoice(result, outcomes, c);
         const secondText = again
           .filter((o) => (o as { probability: number }).probability !== 0)
           .map((o) => {
@@ -633,16 +794,16 @@ function recheckDeterminism(model: ModelFunctions, values: unknown[], result: En
   }
 }
 
-function listedActions(result: Enumeration, s: number): string[] {
+function listedActions(result: EnumerationHead, s: number): string[] {
   const out: string[] = [];
   for (let c = result.choiceStart[s]; c < result.choiceStart[s + 1]; c++) out.push(result.actionNames[result.choiceAction[c]]);
   return out;
 }
 
-function renderChoice(result: Enumeration, c: number): string {
+function renderChoice(result: EnumerationHead, outcomes: OutcomeReader, c: number): string {
   const parts: string[] = [];
   for (let k = result.outcomeStart[c]; k < result.outcomeStart[c + 1]; k++) {
-    parts.push(`${result.stateKeys[result.outcomeTarget[k]]} p=${result.outcomeProb[k]} r=${result.outcomeReward[k]}`);
+    parts.push(`${result.stateKeys[outcomes.target.at(k)]} p=${outcomes.prob.at(k)} r=${outcomes.reward.at(k)}`);
   }
   return parts.join('; ');
 }

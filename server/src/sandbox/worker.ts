@@ -14,10 +14,10 @@ import { writeSync } from 'node:fs';
 import { createRequire } from 'node:module';
 import { getHeapStatistics } from 'node:v8';
 import { compileFunction } from 'node:vm';
-import { BEAT_FD, LOOP_CHECK, MODEL_SCRIPT_NAME, OUTPUT_MARK, type ChildLimits, type HostRequest, type ModelDescription, type RandomnessCall, type WorkerReply } from './protocol';
+import { BEAT_FD, COLUMN_FD, LOOP_CHECK, MODEL_SCRIPT_NAME, OUTPUT_MARK, type ChildLimits, type HostRequest, type ModelDescription, type RandomnessCall, type WorkerReply } from './protocol';
 import {
   describeValue,
-  enumerateModel,
+  enumerateInChunks,
   ModelExitCall,
   rolloutModel,
   SandboxLimitReached,
@@ -30,6 +30,7 @@ import {
 } from './runtime';
 import { TransitionRecorder } from './transition-record';
 import { learnModel } from './learn';
+import { writeColumns } from './enumeration-columns';
 
 // What the sandbox itself needs, taken before model code can replace any of it.
 const send = process.send!.bind(process) as (message: WorkerReply, callback?: () => void) => boolean;
@@ -328,8 +329,9 @@ function handle(request: HostRequest): WorkerReply {
   if (!model) return { type: 'fault', message: 'no model is loaded' };
   if (request.type === 'enumerate') {
     const options: EnumerationOptions = { ...request.options, progress };
-    const result = enumerateModel(model, options);
-    return { type: 'enumerated', result, randomness: takeRandomness() };
+    const chunks = enumerateInChunks(model, options);
+    const keys = writeColumns(COLUMN_FD, chunks, chunks.head.stateKeys);
+    return { type: 'enumerated', head: { ...chunks.head, stateKeys: [] }, keys, randomness: takeRandomness() };
   }
   if (request.type === 'learn') {
     return { type: 'learned', run: learnModel(model, request.options, progress), randomness: takeRandomness() };
