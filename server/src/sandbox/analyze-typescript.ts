@@ -195,9 +195,6 @@ async function runModel(
       empirical: sampled.empirical,
     };
   } finally {
-    // The child printed before it replied, but the reply's callback can run before the same poll
-    // phase reads the output pipe: one turn of the event loop lets those reads land first.
-    await new Promise((resolve) => setImmediate(resolve));
     const output = sandbox.output();
     if (output) sandboxOutput.set(findings, output);
     await sandbox.close();
