@@ -204,8 +204,12 @@ export function certifiedSolve(
   const { matrix, solver, layout } = system;
   const rows = matrix.n;
   const want = wanted ?? new Uint8Array(solver.blockCount).fill(1);
+  // A certificate solves at least twice more on this system; a first solve from a guess is
+  // cheap by iteration (a few steps), one from nothing is not.
+  if (!guess) solver.expectManySolves();
   const x = approximateSolve(system, reward, want, emptyRowValue, guess);
   if (!x) return undefined;
+  solver.expectManySolves();
   const residual = new Float64Array(rows);
   const residualError = new Float64Array(rows);
   let worst = modelResidual(system, reward, emptyRowValue, x, want, residual, residualError);

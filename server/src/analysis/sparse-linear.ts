@@ -105,6 +105,8 @@ export class BlockSolver {
   private readonly factors: (BlockFactor | null | undefined)[];
   /** Per block, the BiCGSTAB iterations spent so far (-1 once sparse LU was tried). */
   private readonly spent: Float64Array;
+  /** Set by expectManySolves: large blocks are factored by sparse LU at once where it fits. */
+  private factorFirst = false;
 
   constructor(
     readonly matrix: SparseMatrix,
@@ -121,6 +123,16 @@ export class BlockSolver {
     }
     this.factors = new Array(blocks.count);
     this.spent = new Float64Array(blocks.count);
+  }
+
+  /**
+   * Says that several right-hand sides follow (a certificate's solves): from the next solve on,
+   * large blocks are factored by sparse LU where it fits rather than iterated, since two
+   * triangular sweeps per solve soon repay a factorization that a Krylov solve would match only
+   * for a single right-hand side.
+   */
+  expectManySolves(): void {
+    this.factorFirst = true;
   }
 
   /**
@@ -153,7 +165,7 @@ export class BlockSolver {
       }
       let factor = this.factorOf(blk);
       if (!factor) return false;
-      if (factor.kind === 'krylov' && this.spent[blk] >= SPARSE_LU_AFTER_ITERATIONS) factor = this.refactored(blk, factor);
+      if (factor.kind === 'krylov' && this.spent[blk] >= 0 && (this.factorFirst || this.spent[blk] >= SPARSE_LU_AFTER_ITERATIONS)) factor = this.refactored(blk, factor);
       if (factor.kind === 'scalar') {
         x[this.order[first]] = rhs[0] / factor.diagonal;
       } else if (factor.kind === 'dense') {
@@ -226,6 +238,14 @@ export class BlockSolver {
       return luFactor(lu, size, pivot) ? { kind: 'dense', size, lu, pivot } : null;
     }
     const local = this.localBlock(blk);
+    if (this.factorFirst) {
+      this.spent[blk] = -1;
+      const factors = local.rowStart[local.n] <= SPARSE_LU_ENTRY_LIMIT ? sparseFactors(local) : undefined;
+      if (factors) {
+        this.counters.sparse++;
+        return { kind: 'sparse', factors };
+      }
+    }
     const prepared = iluZero(local);
     this.counters.krylov++;
     return prepared ? { kind: 'krylov', local, ilu: prepared.ilu, diagonalAt: prepared.diagonalAt } : null;
