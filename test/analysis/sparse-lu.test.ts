@@ -101,6 +101,15 @@ describe('sparse LU against mathjs lusolve', () => {
     const rows = Array.from({ length: n }, () => Array.from({ length: 8 }, () => [Math.floor(random() * n), 0.99 / 8] as [number, number]));
     expect(sparseFactors(systemOf(rows, 1))).toBeUndefined();
   });
+
+  it('gives up on a large random graph from its outgoing pattern alone, as the symmetrised search would', () => {
+    // Five levels from row 0 already hold more than 6 x 1400 rows, so a symmetrised level past
+    // the limit is certain.
+    const random = rng(7);
+    const n = 40_000;
+    const rows = Array.from({ length: n }, () => Array.from({ length: 8 }, () => [Math.floor(random() * n), 0.99 / 8] as [number, number]));
+    expect(sparseFactors(systemOf(rows, 1))).toBeUndefined();
+  });
 });
 
 describe('sparse LU on a walk', () => {
@@ -138,6 +147,26 @@ describe('the block solver', () => {
     }
     expect(counters.krylov).toBe(1);
     expect(counters.sparse).toBe(1);
+  });
+
+  it('factors a large block at once when told that several solves follow, with the answers of mathjs', () => {
+    const random = rng(4);
+    const matrix = systemOf(gridRows(20, random, 0.0005), 1);
+    const counters = newSolverCounters();
+    const solver = new BlockSolver(matrix, counters);
+    solver.expectManySolves();
+    const x = new Float64Array(matrix.n);
+    const reference = mathjsSolver(matrix);
+    for (let round = 0; round < 3; round++) {
+      const b = Float64Array.from({ length: matrix.n }, () => random());
+      expect(solver.solve(b, x)).toBe(true);
+      const truth = reference(b);
+      const scale = Math.max(...truth.map(Math.abs));
+      for (let i = 0; i < matrix.n; i++) expect(Math.abs(x[i] - truth[i])).toBeLessThanOrEqual(1e-8 * scale);
+    }
+    expect(counters.sparse).toBe(1);
+    expect(counters.krylov).toBe(0);
+    expect(counters.krylovIterations).toBe(0);
   });
 
   it('keeps BiCGSTAB for a random chain, with the answers of mathjs', () => {

@@ -104,11 +104,44 @@ function symmetricPattern(matrix: SparseMatrix): { start: Int32Array; adjacent: 
 }
 
 /**
+ * Whether the first search of dissectionOrder (breadth-first from row 0 on the symmetrised
+ * pattern) is sure to meet a level wider than LEVEL_LIMIT, seen on the rows' own (outgoing)
+ * pattern without building the symmetrised one: every outgoing edge is also a symmetric one, so
+ * the ball of radius k around row 0 is at least as large symmetrised, and a ball of more than
+ * (k + 1) LEVEL_LIMIT vertices holds a level wider than LEVEL_LIMIT. On random transitions this
+ * stops after a few levels, where building the pattern would read every entry twice.
+ */
+function outgoingBallTooWide(matrix: SparseMatrix): boolean {
+  const { n, rowStart, column } = matrix;
+  const seen = new Uint8Array(n);
+  const queue = new Int32Array(n);
+  let head = 0;
+  let tail = 0;
+  queue[tail++] = 0;
+  seen[0] = 1;
+  for (let radius = 1; head < tail; radius++) {
+    const levelEnd = tail;
+    while (head < levelEnd) {
+      const v = queue[head++];
+      for (let e = rowStart[v]; e < rowStart[v + 1]; e++) {
+        const w = column[e];
+        if (seen[w]) continue;
+        seen[w] = 1;
+        queue[tail++] = w;
+      }
+    }
+    if (tail > (radius + 1) * LEVEL_LIMIT) return true;
+  }
+  return false;
+}
+
+/**
  * The nested-dissection order, or undefined when a separator is too large. Parts are processed
  * from a work list; each owns a range of positions, its separator taking the last ones.
  */
 function dissectionOrder(matrix: SparseMatrix): Int32Array | undefined {
   const n = matrix.n;
+  if (outgoingBallTooWide(matrix)) return undefined;
   const { start, adjacent } = symmetricPattern(matrix);
   const perm = new Int32Array(n);
   // owner[v]: the part v currently belongs to; a separator vertex keeps its last part's id, which no later part has.
