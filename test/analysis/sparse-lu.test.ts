@@ -130,21 +130,26 @@ describe('sparse LU on a walk', () => {
   });
 });
 
+/** Solves `rounds` random right-hand sides and checks each against mathjs, to 1e-8 of the largest entry. */
+function expectAnswersOfMathjs(solver: BlockSolver, matrix: ReturnType<typeof systemOf>, random: () => number, rounds: number): void {
+  const x = new Float64Array(matrix.n);
+  const reference = mathjsSolver(matrix);
+  for (let round = 0; round < rounds; round++) {
+    const b = Float64Array.from({ length: matrix.n }, () => random());
+    expect(solver.solve(b, x)).toBe(true);
+    const truth = reference(b);
+    const scale = Math.max(...truth.map(Math.abs));
+    for (let i = 0; i < matrix.n; i++) expect(Math.abs(x[i] - truth[i])).toBeLessThanOrEqual(1e-8 * scale);
+  }
+}
+
 describe('the block solver', () => {
   it('switches a block that keeps BiCGSTAB busy to sparse LU, with the answers of mathjs before and after', () => {
     const random = rng(3);
     const matrix = systemOf(gridRows(20, random, 0.0005), 1);
     const counters = newSolverCounters();
     const solver = new BlockSolver(matrix, counters);
-    const x = new Float64Array(matrix.n);
-    const reference = mathjsSolver(matrix);
-    for (let round = 0; round < 12; round++) {
-      const b = Float64Array.from({ length: matrix.n }, () => random());
-      expect(solver.solve(b, x)).toBe(true);
-      const truth = reference(b);
-      const scale = Math.max(...truth.map(Math.abs));
-      for (let i = 0; i < matrix.n; i++) expect(Math.abs(x[i] - truth[i])).toBeLessThanOrEqual(1e-8 * scale);
-    }
+    expectAnswersOfMathjs(solver, matrix, random, 12);
     expect(counters.krylov).toBe(1);
     expect(counters.sparse).toBe(1);
   });
@@ -155,15 +160,7 @@ describe('the block solver', () => {
     const counters = newSolverCounters();
     const solver = new BlockSolver(matrix, counters);
     solver.expectManySolves();
-    const x = new Float64Array(matrix.n);
-    const reference = mathjsSolver(matrix);
-    for (let round = 0; round < 3; round++) {
-      const b = Float64Array.from({ length: matrix.n }, () => random());
-      expect(solver.solve(b, x)).toBe(true);
-      const truth = reference(b);
-      const scale = Math.max(...truth.map(Math.abs));
-      for (let i = 0; i < matrix.n; i++) expect(Math.abs(x[i] - truth[i])).toBeLessThanOrEqual(1e-8 * scale);
-    }
+    expectAnswersOfMathjs(solver, matrix, random, 3);
     expect(counters.sparse).toBe(1);
     expect(counters.krylov).toBe(0);
     expect(counters.krylovIterations).toBe(0);
