@@ -54,8 +54,7 @@ divides each probability by their sum, which keeps their ratios.
     for (const transition of writtenTransitions(spec)) {
       if (transition.incomplete || transition.outcomes.length === 0) continue;
       const probabilities = transition.outcomes.map((o) => ({ value: o.probability, span: o.probabilitySpan }));
-      const label = transitionLabel(spec, transition);
-      checkDistribution(ctx, probabilities, transition.toSpan, `the outcome probabilities of ${label}`, 'of the episodes that take it have no defined next state', transition);
+      checkDistribution(ctx, probabilities, transition.toSpan, () => `the outcome probabilities of ${transitionLabel(spec, transition)}`, 'of the episodes that take it have no defined next state', transition);
     }
     // The list form of `start` is uniform by construction; only a map can be off.
     const startMap = spec.start.filter((e) => e.probabilitySpan !== undefined);
@@ -70,7 +69,7 @@ function checkDistribution(
   ctx: RuleContext,
   probabilities: Array<{ value: number; span: Span }>,
   span: Span,
-  what: string,
+  what: string | (() => string),
   shortfall: string,
   transition?: SpecTransition,
 ): void {
@@ -93,5 +92,5 @@ function checkDistribution(
   }
   // Six digits would print a sum just off 1 as "1"; twelve always show a gap above the tolerance.
   const shownSum = formatNumber(sum) === '1' ? String(Number(sum.toPrecision(12))) : formatNumber(sum);
-  ctx.report({ message: `${what} add up to ${shownSum}, not 1: ${cost}`, span, fixes });
+  ctx.report({ message: `${typeof what === 'string' ? what : what()} add up to ${shownSum}, not 1: ${cost}`, span, fixes });
 }

@@ -41,9 +41,13 @@ looks like a typo of one) or declare the state. Both are offered as quick fixes.
     const declared = new Set(spec.states.map((s) => s.id));
     const reported = new Set<number>();
     const editor = jsonEditorFor(ctx);
-    const flag = (name: string, span: Span, where: string, cost: string): void => {
+    // `where` and `cost` may be functions: a spec's outcomes are many and nearly all declared, so
+    // their messages are only built for the names that are reported.
+    const flag = (name: string, span: Span, whereText: string | (() => string), costText: string | (() => string)): void => {
       if (declared.has(name) || reported.has(span.start)) return;
       reported.add(span.start);
+      const where = typeof whereText === 'string' ? whereText : whereText();
+      const cost = typeof costText === 'string' ? costText : costText();
       const suggestion = closestName(name, declared);
       const advice = suggestion ? ` (did you mean ${quote(suggestion)}?)` : '';
       ctx.report({
@@ -56,8 +60,12 @@ looks like a typo of one) or declare the state. Both are offered as quick fixes.
       flag(transition.from, transition.fromSpan, `transitions[${transition.sourceIndex}] leaves`, 'the transition belongs to no state, so the MDP is undefined and no values are computed');
     }
     forEachOutcome(spec, (outcome, transition) => {
-      const cost = malformedCost(spec, transition, 'episodes that take it have no next state, so the MDP is undefined and no values are computed');
-      flag(outcome.state, outcome.stateSpan, `${transitionLabel(spec, transition)} leads to`, cost);
+      flag(
+        outcome.state,
+        outcome.stateSpan,
+        () => `${transitionLabel(spec, transition)} leads to`,
+        () => malformedCost(spec, transition, 'episodes that take it have no next state, so the MDP is undefined and no values are computed'),
+      );
     });
     for (const entry of spec.start) {
       flag(entry.state, entry.span, 'the start names', 'episodes may begin nowhere, so no values are computed');
