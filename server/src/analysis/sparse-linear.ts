@@ -42,6 +42,12 @@ const SPARSE_LU_ENTRY_LIMIT = 4_000_000;
  */
 const SPARSE_LU_AFTER_ITERATIONS = 150;
 
+/**
+ * The same once several more solves are expected (expectManySolves): a block that needed this
+ * many iterations for one solve will need about as many for each of the next ones.
+ */
+const SPARSE_LU_AFTER_ITERATIONS_MANY = 30;
+
 /** Counters for reporting: how the blocks were solved. */
 export interface SolverCounters {
   /** Right-hand sides solved (each over every needed block). */
@@ -127,9 +133,10 @@ export class BlockSolver {
 
   /**
    * Says that several right-hand sides follow (a certificate's solves): from the next solve on,
-   * large blocks are factored by sparse LU where it fits rather than iterated, since two
-   * triangular sweeps per solve soon repay a factorization that a Krylov solve would match only
-   * for a single right-hand side.
+   * large blocks not yet factored are factored by sparse LU where it fits, and a block that
+   * already spent SPARSE_LU_AFTER_ITERATIONS_MANY iterations switches to it, since two
+   * triangular sweeps per solve soon repay a factorization that a Krylov solve matches only for
+   * a single right-hand side or a short horizon.
    */
   expectManySolves(): void {
     this.factorFirst = true;
@@ -165,7 +172,7 @@ export class BlockSolver {
       }
       let factor = this.factorOf(blk);
       if (!factor) return false;
-      if (factor.kind === 'krylov' && this.spent[blk] >= 0 && (this.factorFirst || this.spent[blk] >= SPARSE_LU_AFTER_ITERATIONS)) factor = this.refactored(blk, factor);
+      if (factor.kind === 'krylov' && this.spent[blk] >= (this.factorFirst ? SPARSE_LU_AFTER_ITERATIONS_MANY : SPARSE_LU_AFTER_ITERATIONS)) factor = this.refactored(blk, factor);
       if (factor.kind === 'scalar') {
         x[this.order[first]] = rhs[0] / factor.diagonal;
       } else if (factor.kind === 'dense') {
