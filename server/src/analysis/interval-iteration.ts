@@ -27,8 +27,11 @@ export const COMBINE_POLICY = 3;
 export type Combine = typeof COMBINE_MAX | typeof COMBINE_MIN | typeof COMBINE_AVERAGE | typeof COMBINE_POLICY;
 
 /** The Bellman operator of one value problem. */
+/** What the sweeps read of a model: its CSR arrays (sweep-layout.ts hands them a renumbered copy). */
+export type SweepModel = Pick<CompiledModel, 'stateCount' | 'choiceStart' | 'outcomeStart' | 'outcomeTarget' | 'outcomeProb'>;
+
 export interface Operator {
-  model: CompiledModel;
+  model: SweepModel;
   combine: Combine;
   /** For COMBINE_POLICY: the choice of each state. */
   policy?: Int32Array;

@@ -59,7 +59,7 @@ export function policyIterationBounds(
   counters: SolverCounters,
   guess?: Float64Array,
 ): PolicyIterationResult | undefined {
-  const model = op.model;
+  const model = graph.model;
   const sigma = op.combine === COMBINE_MAX ? 1 : -1;
   const reward = sigma === 1 ? op.reward : op.reward.map((r) => -r);
   const nodeOf = new Int32Array(model.stateCount).fill(-1);

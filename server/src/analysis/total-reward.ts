@@ -41,7 +41,6 @@ import {
   COMBINE_POLICY,
   measureWidth,
   singletonNodes,
-  solveBounds,
   type SolveResult,
   type Combine,
   type Nodes,
@@ -52,6 +51,7 @@ import { almostSureReach, backwardLayering, canReach } from './reachability';
 import { reshapeZeroGains } from './zero-gain';
 import { isCyclicComponent, stronglyConnectedComponents, type SccDecomposition } from './scc';
 import { newSolverCounters, type SolverCounters } from './sparse-linear';
+import { solveBoundsInOrder } from './sweep-layout';
 
 export const STATUS_FINITE = 0;
 export const STATUS_PLUS_INFINITE = 1;
@@ -311,7 +311,7 @@ export function solveValues(ctx: AnalysisContext, problem: ValueProblem): ValueS
   const guess = problem.name !== undefined ? ctx.guesses?.get(problem.name) : undefined;
   if (guess && !acyclic) ctx.warmStarts = (ctx.warmStarts ?? 0) + 1;
   const solveOptions = { precision: ctx.precision, lowerBound: apriori.lower, upperBound: apriori.upper, acyclic, maxSweeps: ctx.maxSweeps, guess };
-  const result = (!acyclic && directSolve(ctx, op, solved, nodes, iterate, solveOptions, bounds)) || solveBounds(op, nodes, bounds, solveOptions);
+  const result = (!acyclic && directSolve(ctx, op, solved, nodes, iterate, solveOptions, bounds)) || solveBoundsInOrder(op, nodes, bounds, solveOptions);
   ctx.sweepTotal = (ctx.sweepTotal ?? 0) + result.sweeps;
   if (problem.name !== undefined && ctx.solved) ctx.solved.set(problem.name, solvedEstimate(iterate, bounds, result.estimate));
 
@@ -365,7 +365,7 @@ function solvedEstimate(iterate: Uint8Array, bounds: Float64Array, estimate: Flo
 /**
  * The direct route: a certified linear solve for a chain (chain-solve.ts), certified policy
  * iteration for the best or worst values (policy-iteration.ts). Undefined when it does not apply
- * or its certificate fails; the sweeps of solveBounds are the fallback.
+ * or its certificate fails; the sweeps of solveBounds (solveBoundsInOrder) are the fallback.
  */
 function directSolve(
   ctx: AnalysisContext,
