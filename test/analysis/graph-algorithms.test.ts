@@ -6,8 +6,8 @@
  */
 import { describe, expect, it } from 'vitest';
 import { maximalEndComponents } from '../../server/src/analysis/end-components';
-import { buildModelGraph } from '../../server/src/analysis/graph';
-import { almostSureReach, forwardReachable, reachableFromStart } from '../../server/src/analysis/reachability';
+import { buildModelGraph, graphWithin } from '../../server/src/analysis/graph';
+import { almostSureReach, canReach, forwardReachable, reachableFromStart } from '../../server/src/analysis/reachability';
 import { stronglyConnectedComponents } from '../../server/src/analysis/scc';
 import { ModelBuilder, type CompiledModel } from '../../server/src/model/compiled';
 import { handModel, randomModel } from '../reference/gridworlds';
@@ -178,5 +178,32 @@ describe('reachability', () => {
     const sure = almostSureReach(graph, goal);
     const names = ids(model, Array.from(sure.entries()).filter(([, v]) => v).map(([s]) => s));
     expect(names).toEqual(['goal', 's']);
+  });
+});
+
+describe('the graph within a set of choices', () => {
+  it('answers reachability over the allowed choices as the whole graph does with the mask, on seeded random models', () => {
+    for (let seed = 1; seed <= 8; seed++) {
+      const model = randomModel(seed, 40, 3, 2, 0.9, 4);
+      const graph = buildModelGraph(model);
+      // A policy: one choice per state, picked by the seed.
+      const allowed = new Uint8Array(model.choiceCount);
+      for (let s = 0; s < model.stateCount; s++) {
+        const count = model.choiceStart[s + 1] - model.choiceStart[s];
+        if (count > 0) allowed[model.choiceStart[s] + ((s * seed) % count)] = 1;
+      }
+      const within = graphWithin(graph, allowed);
+      for (let t = 0; t < model.stateCount; t += 3) {
+        const targets = new Uint8Array(model.stateCount);
+        targets[t] = 1;
+        targets[model.stateCount - 1] = 1;
+        expect(Array.from(canReach(within, targets)), `seed ${seed}, target ${t}`).toEqual(Array.from(canReach(graph, targets, allowed)));
+      }
+      // Only allowed choices remain, each as often as in the whole graph.
+      let expected = 0;
+      for (let i = 0; i < graph.predChoice.length; i++) if (allowed[graph.predChoice[i]]) expected++;
+      expect(within.predChoice.length).toBe(expected);
+      expect(Array.from(within.predChoice).every((c) => allowed[c] === 1)).toBe(true);
+    }
   });
 });

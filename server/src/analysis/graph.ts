@@ -22,6 +22,26 @@ export interface ModelGraph {
   absorbing: Uint8Array;
 }
 
+/**
+ * The graph with only the `allowed` choices in its predecessor lists (the chain of one policy):
+ * searches that read many of a policy's predecessors then skip the other choices' entries
+ * without reading them. Everything else is the model's.
+ */
+export function graphWithin(graph: ModelGraph, allowed: Uint8Array): ModelGraph {
+  const { predStart, predChoice } = graph;
+  const n = graph.model.stateCount;
+  const start = new Int32Array(n + 1);
+  let kept = 0;
+  for (let t = 0; t < n; t++) {
+    for (let i = predStart[t]; i < predStart[t + 1]; i++) if (allowed[predChoice[i]]) kept++;
+    start[t + 1] = kept;
+  }
+  const choices = new Int32Array(kept);
+  let fill = 0;
+  for (let t = 0; t < n; t++) for (let i = predStart[t]; i < predStart[t + 1]; i++) if (allowed[predChoice[i]]) choices[fill++] = predChoice[i];
+  return { ...graph, predStart: start, predChoice: choices };
+}
+
 const cache = new WeakMap<CompiledModel, ModelGraph>();
 
 /** The graph of a model, built once and shared by the analysis and the rules that need it. */

@@ -13,7 +13,7 @@
 import { TERMINAL_CODE, type CompiledModel } from '../model/compiled';
 import { maximalEndComponents, type EndComponentDecomposition } from './end-components';
 import { solveFiniteHorizon } from './finite-horizon';
-import { expectedChoiceValues, graphOf, expectedRewards, terminalEntryProbabilities, type ModelGraph } from './graph';
+import { expectedChoiceValues, graphOf, graphWithin, expectedRewards, terminalEntryProbabilities, type ModelGraph } from './graph';
 import { COMBINE_AVERAGE, COMBINE_MAX, COMBINE_MIN, COMBINE_POLICY, scaledWidth } from './interval-iteration';
 import { classifyMdpGains, GAIN_NEGATIVE, GAIN_POSITIVE, GAIN_ZERO, type MdpGainClasses } from './mean-payoff';
 import { attainingPolicy, bestChoices, choiceBounds } from './policy';
@@ -256,11 +256,13 @@ function stationaryAnalysis(ctx: AnalysisContext, shapedReward: Float64Array, en
     solveValues(ctx, { combine: policy ? COMBINE_POLICY : COMBINE_AVERAGE, policy, reward: perChoice, discount: discountFactor, lowerBound, upperBound, name });
   const describe = (solution: ValueSolution, policy: Int32Array | undefined, label: string): PolicyAnalysis => {
     const solve = underPolicy(policy);
-    const chain = policy ? policyChoiceMask(graph, policy) : undefined;
+    // The graph searches of every terminal kind read only the policy's choices: one restricted
+    // copy of the predecessor lists serves them all.
+    const chainGraph = policy ? graphWithin(graph, policyChoiceMask(graph, policy)) : graph;
     const reach = reachOf(
       model.stateCount,
       entry.map((e, i) =>
-        e ? withCertainties(graph, () => pointValues(solve(`${UNDISCOUNTED_PREFIX}${label}:reach${i}`, e, 1, 0, 1), ctx), KIND_CODES[i], 'chain', chain) : undefined,
+        e ? withCertainties(chainGraph, () => pointValues(solve(`${UNDISCOUNTED_PREFIX}${label}:reach${i}`, e, 1, 0, 1), ctx), KIND_CODES[i], 'chain') : undefined,
       ),
     );
     const expectedLength = lengths ? pointValues(solve(`${UNDISCOUNTED_PREFIX}${label}:length`, ones, 1, 0), ctx) : new Float64Array(model.stateCount).fill(NaN);
