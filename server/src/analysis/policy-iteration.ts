@@ -299,7 +299,8 @@ function choiceValue(model: CompiledModel, nodeOf: Int32Array, reward: Float64Ar
 
 /**
  * Howard's improvement step: each node switches to a choice (or to staying) whose value beats its
- * current one by more than the rounding of the evaluation; returns whether any node switched.
+ * current one by more than the rounding of the evaluation and more than `negligible` (absolute);
+ * returns whether any node switched.
  */
 function improve(
   model: CompiledModel,
