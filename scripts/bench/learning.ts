@@ -1,11 +1,15 @@
 /**
  * Learning from samples (sandbox/learn.ts): 200k Q-learning steps on a trivial sampled model of
  * our own (a ring of 50 cells, two moves, a coin flip for slipping), in one process and through the
- * sandbox worker. Goal: 200k steps within 2 s on 2 cores.
+ * sandbox worker. Goal: 200k steps within 2 s on 2 cores. Then the whole check of the same model
+ * as a spec file (rollouts, transition counts, learning) with one and with two sandbox children
+ * (--jobs), whose figures are the same: only the wall time may differ.
  */
 import { mkdtempSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
+import { analyzeFile } from '../../server/src/analyze';
+import { resolveConfig } from '../../server/src/config';
 import { ModelSandbox } from '../../server/src/sandbox/host';
 import { DEFAULT_LEARNING, learnModel } from '../../server/src/sandbox/learn';
 import type { ModelRng } from '../../server/src/sandbox/runtime';
@@ -67,7 +71,25 @@ export async function run(): Promise<void> {
     } finally {
       await sandbox.close();
     }
+    await checkWithJobs(path);
   } finally {
     rmSync(folder, { recursive: true, force: true });
   }
+}
+
+/** Wall time of `episcope check` on the ring spec at --jobs 1 and 2, each after a run that warms its children. */
+async function checkWithJobs(path: string): Promise<void> {
+  const times: string[] = [];
+  let first: string | undefined;
+  for (const jobs of [1, 2]) {
+    const config = resolveConfig({ rollouts: 5000, jobs });
+    await analyzeFile(path, RING_SPEC, { config });
+    const began = performance.now();
+    const report = await analyzeFile(path, RING_SPEC, { config });
+    times.push(`--jobs ${jobs}: ${((performance.now() - began) / 1000).toFixed(2)} s`);
+    const figures = JSON.stringify(report.rollouts);
+    first ??= figures;
+    if (figures !== first) throw new Error(`--jobs ${jobs} changed the figures`);
+  }
+  console.log(`sampled check of the ring (5000 rollouts, 200k learning steps, warm children): ${times.join(', ')}; same figures`);
 }

@@ -5,7 +5,10 @@
  * replayed trajectory logs against one recorder.
  */
 import { describe, expect, test } from 'vitest';
+import { availableParallelism } from 'node:os';
 import { cli } from '../cli/cli-harness';
+import { DEFAULT_CONFIG } from '../../server/src/config';
+import { parseConfigText } from '../../server/src/config-file';
 import { Learner, joinLearning, learnWithSampler, CompiledSampler, DEFAULT_LEARNING, type LearnOptions, type MeasuredPart } from '../../server/src/sandbox/learn';
 import { joinRolloutRuns, splitEpisodes } from '../../server/src/sandbox/parallel';
 import { rolloutModel, type ModelFunctions, type RolloutOptions } from '../../server/src/sandbox/runtime';
@@ -41,6 +44,20 @@ describe('--jobs N on the command line', () => {
     expect(result.stdout).toBe('');
     expect(result.stderr.trimEnd().split('\n')).toHaveLength(1);
     expect(result.stderr).toContain("option '--jobs' needs a whole number from 1 to 256");
+  });
+});
+
+describe('jobs in the config file', () => {
+  test('a whole number from 1 to 256 applies; anything else is a config finding at the value and the default stays', () => {
+    expect(parseConfigText('/c/episcope.config.json', '{ "jobs": 3 }').config.jobs).toBe(3);
+    expect(DEFAULT_CONFIG.jobs).toBe(Math.min(256, availableParallelism()));
+    for (const value of ['0', '1.5', '257', '"2"']) {
+      const text = `{ "jobs": ${value} }`;
+      const file = parseConfigText('/c/episcope.config.json', text);
+      expect(file.findings.map((f) => f.rule), value).toEqual(['config']);
+      expect(text.slice(file.findings[0].span.start, file.findings[0].span.end)).toBe(value);
+      expect(file.config.jobs).toBe(DEFAULT_CONFIG.jobs);
+    }
   });
 });
 
