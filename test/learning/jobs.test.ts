@@ -198,8 +198,9 @@ describe('learning in phases', () => {
 
   test.each([
     ['q-learning, a full budget', { method: 'q-learning' as const, steps: 5000 }],
-    ['monte-carlo, a budget too small to reach every state', { method: 'monte-carlo' as const, steps: 12 }],
+    ['monte-carlo, a small budget', { method: 'monte-carlo' as const, steps: 40 }],
     ['q-learning with a horizon', { method: 'q-learning' as const, steps: 3000, horizon: 6 }],
+    ['q-learning on two steps: measuring meets states training never met', { method: 'q-learning' as const, steps: 2 }],
   ])('%s: trained, measured in three ranges and joined, the same as one run', (_name, setup) => {
     const model = { ...corridor, horizon: 'horizon' in setup ? setup.horizon : undefined };
     const options: LearnOptions = {
@@ -209,11 +210,13 @@ describe('learning in phases', () => {
       horizon: model.horizon,
       stepCap: 100,
       maximize: true,
+      // A compiled model's keys are its state ids.
+      watchKeys: ['s1', 's3', 'nowhere'],
     };
     const single = learnWithSampler(new CompiledSampler(model), options);
     const trainer = new Learner(new CompiledSampler(model), options);
     trainer.train();
-    const trained = { table: trainer.exportTable(), spent: { episodes: trainer.episodes, steps: trainer.steps }, kept: trainer.keptStates() };
+    const trained = { table: trainer.exportTable(), spent: { episodes: trainer.episodes, steps: trainer.steps }, kept: trainer.keptStates(), watched: trainer.watchedStates() };
     const parts: MeasuredPart[] = splitEpisodes(90, 3).map((range) => {
       const learner = new Learner(new CompiledSampler(model), options, trained.table);
       const path = range.first === 0 ? { keys: [], actions: [], truncated: false } : undefined;
@@ -224,5 +227,7 @@ describe('learning in phases', () => {
     const joined = joinLearning(options.settings, trained, parts, decision);
     expect(joined.evaluation).toEqual(single.evaluation);
     expect(joined.summary).toEqual(single.summary);
+    if (setup.steps > 2) expect(single.summary.sourceStates!.map((state) => state.key)).toContain('s1');
+    else expect(parts.filter((part) => part.newKeys.length > 0 && part.newStates.length > 0).length).toBeGreaterThan(1);
   });
 });

@@ -431,6 +431,7 @@ function learnOptions(spec: ParsedSpec, config: ResolvedConfig, declaredTerms: s
     stepCap: ruleThreshold(config, episodeNeverEnds, 'stepCap'),
     maximize: spec.objective !== 'minimize',
     declaredTerms,
+    watchKeys: [...new Set((spec.typescript?.literals ?? []).map((literal) => literal.key))],
   };
 }
 

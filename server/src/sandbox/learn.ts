@@ -72,8 +72,10 @@ export const DEFAULT_LEARNING: LearningSettings = {
 const PATH_STEPS = 200;
 /** Exponent of the step size n^-ALPHA_EXPONENT of Q-learning (Even-Dar and Mansour 2003). */
 const ALPHA_EXPONENT = 0.8;
-/** States whose learned values are kept for the hover, the most visited first. */
+/** States whose learned values are kept for the output, the most visited first. */
 const KEPT_STATES = 50;
+/** Learning states kept for the literals of the source (with a horizon a key has one per time step). */
+const SOURCE_STATES = 4096;
 
 export interface LearnRun {
   summary: LearningSummary;
@@ -111,6 +113,8 @@ export interface LearnOptions {
   /** Cap on steps per episode without a horizon. */
   stepCap: number;
   maximize: boolean;
+  /** Keys whose learned values are kept whatever their visits (the literals of the source; summary.sourceStates). */
+  watchKeys?: string[];
 }
 
 /** Growable per-learning-state tables: action slots, Q and visit counts. */
@@ -215,6 +219,8 @@ export interface TrainedPart {
   spent: { episodes: number; steps: number };
   /** The most visited learning states of the training table (see keptStates). */
   kept: LearnedState[];
+  /** The learned values at the watched keys (LearnOptions.watchKeys). */
+  watched?: LearnedState[];
 }
 
 /**
@@ -417,6 +423,23 @@ export class Learner {
     return keptStates(this.sampler, this.table, this.options.horizon !== undefined);
   }
 
+  /** The learned values of the watched keys' learning states that have a tried action, in table order. */
+  watchedStates(): LearnedState[] | undefined {
+    const { sampler, table } = this;
+    const keys = this.options.watchKeys;
+    if (!keys) return undefined;
+    const watched = new Set(keys);
+    const kept: LearnedState[] = [];
+    const timed = this.options.horizon !== undefined;
+    for (let id = 0; id < table.size && kept.length < SOURCE_STATES; id++) {
+      if (table.sampleState[id] < 0 || !watched.has(sampler.keyOf(table.sampleState[id]))) continue;
+      let tried = false;
+      for (let k = table.slotStart[id]; k < table.slotStart[id] + table.slotCount[id]; k++) if (table.visits[k] > 0) tried = true;
+      if (tried) kept.push(keptState(sampler, table, id, timed));
+    }
+    return kept;
+  }
+
   /** The training table as plain data (keys in the order training met them). */
   exportTable(): LearnedTable {
     const { sampler, table } = this;
@@ -486,6 +509,8 @@ export function learnWithSampler(sampler: LearningSampler, options: LearnOptions
     path,
     states: learner.keptStates(),
   };
+  const watched = learner.watchedStates();
+  if (watched) summary.sourceStates = watched;
   learner.decide(summary, options.settings.evaluationEpisodes);
   return { summary, evaluation };
 }
@@ -526,6 +551,7 @@ export function joinLearning(
     path: parts[0]?.path ?? { keys: [], actions: [], truncated: false },
     states,
   };
+  if (trained.watched) summary.sourceStates = trained.watched;
   if (decision.noDecision !== undefined) summary.noDecision = decision.noDecision;
   if (decision.decision !== undefined) summary.decision = decision.decision;
   return { summary, evaluation: joinRecords(parts.map((part) => part.records)) };
@@ -940,7 +966,12 @@ export function trainModel(model: ModelFunctions, options: LearnJobOptions, prog
   try {
     const learner = new Learner(sampler, options);
     learner.train();
-    const trained: TrainedPart = { table: learner.exportTable(), spent: { episodes: learner.episodes, steps: learner.steps }, kept: learner.keptStates() };
+    const trained: TrainedPart = {
+      table: learner.exportTable(),
+      spent: { episodes: learner.episodes, steps: learner.steps },
+      kept: learner.keptStates(),
+      watched: learner.watchedStates(),
+    };
     return { trained, session: { learner, sampler } };
   } catch (error) {
     return { problem: samplerProblem(error, sampler) };
