@@ -14,6 +14,7 @@ import { joinRolloutRuns, splitEpisodes } from '../../server/src/sandbox/paralle
 import { rolloutModel, type ModelFunctions, type RolloutOptions } from '../../server/src/sandbox/runtime';
 import { TrajectoryLogger, TransitionRecorder, type RecordOptions } from '../../server/src/sandbox/transition-record';
 import { checkSpec } from '../helpers/specs';
+import { analyzeTs } from '../typescript/ts-specs';
 
 const EXAMPLE = 'examples/stealth-guard-bonus.mdp.ts';
 
@@ -44,6 +45,25 @@ describe('--jobs N on the command line', () => {
     expect(result.stdout).toBe('');
     expect(result.stderr.trimEnd().split('\n')).toHaveLength(1);
     expect(result.stderr).toContain("option '--jobs' needs a whole number from 1 to 256");
+  });
+});
+
+describe('model output with several children', () => {
+  // Each process prints once, on its first sample: the rollouts' child and the trainer both sample.
+  const printing = `let printed = false;
+export default { name: 'printer', discount: 0.9, start: 0, actions: () => ['go'],
+  sample: (s, a, rng) => {
+    if (!printed) { printed = true; console.log('first sample in this process'); }
+    return { state: s + 1, reward: 1, terminal: rng() < 0.3 ? 'goal' : undefined };
+  } };`;
+
+  test('what every child printed is kept, the first child first', { timeout: 120_000 }, async () => {
+    const count = (text: string | undefined) => (text ?? '').split('first sample in this process').length - 1;
+    const one = await analyzeTs(printing, { rollouts: 50, jobs: 1, learning: { steps: 500 } });
+    expect(count(one.modelOutput)).toBe(1);
+    const two = await analyzeTs(printing, { rollouts: 50, jobs: 2, learning: { steps: 500 } });
+    expect(count(two.modelOutput)).toBe(2);
+    expect(two.rollouts).toEqual(one.rollouts);
   });
 });
 

@@ -203,10 +203,11 @@ async function runModel(
       empirical: sampled.empirical,
     };
   } finally {
+    // What model code printed, child by child (the first child's first): each child printed only during its own jobs.
+    const output = [sandbox, ...helpers].map((child) => child.output()).filter((text) => text !== '').join('\n');
+    if (output) sandboxOutput.set(findings, output);
     // A helper still busy (training that is no longer wanted) is killed; the others wait warm.
     for (const helper of helpers) await helper.close();
-    const output = sandbox.output();
-    if (output) sandboxOutput.set(findings, output);
     await sandbox.close();
   }
 }
