@@ -231,7 +231,7 @@ interface LocatedError {
 }
 
 const FIELD_LIST: Record<string, string> = {
-  '': 'rules, thresholds, ignore, stateCap, rollouts, seed, precision, learning, halfWidth',
+  '': 'rules, thresholds, ignore, stateCap, rollouts, seed, precision, learning, halfWidth, jobs',
   learning: 'method, episodes, steps, epsilon, firstVisit',
   ignore: 'rule, path, reason',
 };

@@ -1,3 +1,4 @@
+import { availableParallelism } from 'node:os';
 import type { Severity } from './findings';
 
 /** The contents of `episcope.config.json` (schema: schemas/config.schema.json). */
@@ -19,6 +20,8 @@ export interface EpiscopeConfig {
   learning?: Partial<LearningConfig>;
   /** Half-width of the 95% interval wanted for rollout estimates; the output says how many more episodes it needs. */
   halfWidth?: number;
+  /** Sandbox child processes a sampled model's rollouts and learning may use at once (1 to 256). */
+  jobs?: number;
 }
 
 /** Learning from sampled episodes: the method ("off": none) and the budget, whichever runs out first. */
@@ -42,12 +45,17 @@ export interface ResolvedConfig {
   precision: number;
   learning: LearningConfig;
   halfWidth?: number;
+  /** Sandbox child processes a sampled model may use at once; the figures are the same for any number. */
+  jobs: number;
   /**
    * The folder of the config file, which `ignore` path globs are relative to (absolute, or in the
    * same form as the paths the front analyses). Undefined: globs are matched against the path as given.
    */
   baseDir?: string;
 }
+
+/** Most sandbox children one spec may use (the config schema's and --jobs' maximum). */
+export const MAX_JOBS = 256;
 
 export const DEFAULT_CONFIG: ResolvedConfig = {
   rules: {},
@@ -59,7 +67,14 @@ export const DEFAULT_CONFIG: ResolvedConfig = {
   precision: 1e-6,
   // 200k steps keep learning of a simple model to about a second (npm run bench -- learning).
   learning: { method: 'q-learning', episodes: 20_000, steps: 200_000, epsilon: 0.1, firstVisit: true },
+  jobs: defaultJobs(),
 };
+
+/** One child per core the machine offers, within 1..MAX_JOBS. */
+export function defaultJobs(): number {
+  const cores = typeof availableParallelism === 'function' ? availableParallelism() : 1;
+  return Math.max(1, Math.min(MAX_JOBS, Math.floor(cores) || 1));
+}
 
 export function resolveConfig(config: EpiscopeConfig | undefined): ResolvedConfig {
   return {
@@ -72,6 +87,7 @@ export function resolveConfig(config: EpiscopeConfig | undefined): ResolvedConfi
     precision: config?.precision ?? DEFAULT_CONFIG.precision,
     learning: { ...DEFAULT_CONFIG.learning, ...(config?.learning ?? {}) },
     ...(config?.halfWidth !== undefined ? { halfWidth: config.halfWidth } : {}),
+    jobs: config?.jobs ?? DEFAULT_CONFIG.jobs,
   };
 }
 

@@ -48,6 +48,7 @@ describe('config file', () => {
       seed: 7,
       precision: 1e-8,
       learning: DEFAULT_CONFIG.learning,
+      jobs: DEFAULT_CONFIG.jobs,
       baseDir: '/repo',
     });
     expect(where(text, file.ignoreSpans[0])).toMatch(/^5:15 \{ "rule": "reward-loop"/);
@@ -69,7 +70,7 @@ describe('config file', () => {
     const got = file.findings.map((f) => `${f.rule} ${f.severity} ${where(text, f.span)} | ${f.message}`).sort();
     expect(got).toEqual(
       [
-        'config error 10:3 "colour" | unknown field "colour" (the fields are rules, thresholds, ignore, stateCap, rollouts, seed, precision, learning, halfWidth)',
+        'config error 10:3 "colour" | unknown field "colour" (the fields are rules, thresholds, ignore, stateCap, rollouts, seed, precision, learning, halfWidth, jobs)',
         'config error 2:14 "reward-lop" | rules: no rule named "reward-lop" (did you mean "reward-loop"?)',
         'config error 2:49 "loud" | rules.schema must be one of "error", "warning", "info", "off"',
         'config error 3:19 "loopgap" | thresholds: the key "loopgap" must be "rule-id.name", e.g. "reward-loop.probabilityGap"',

@@ -106,6 +106,11 @@ export interface LearningSummary {
   path: { keys: string[]; actions: string[]; truncated: boolean };
   /** The learned values at the most visited states (the start first when it is fixed). */
   states: LearnedState[];
+  /**
+   * The learned values at the states whose keys the spec's source writes as literals (the editor's
+   * hover), learning states with a tried action only, in the order training met them. Not in the JSON output.
+   */
+  sourceStates?: LearnedState[];
   decision?: StartDecision;
   /** Why there is no decision (one start action, a start that varies, ...). */
   noDecision?: string;

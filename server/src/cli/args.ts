@@ -4,6 +4,7 @@
  * commands that accept it; adding a subcommand is one entry in the command table of main.ts.
  */
 
+import { MAX_JOBS } from '../config';
 import { closestName } from '../load/names';
 
 export type OptionValue = string | number | boolean;
@@ -105,6 +106,13 @@ export const OPTIONS: readonly OptionSpec[] = [
   },
   { name: 'learn-steps', kind: 'integer', valueName: 'N', description: "most training steps of learning (default: the config's learning.steps, else 200000)" },
   { name: 'learn-episodes', kind: 'integer', valueName: 'N', description: "most training episodes of learning (default: the config's learning.episodes, else 20000)" },
+  {
+    name: 'jobs',
+    kind: 'integer',
+    range: [1, MAX_JOBS],
+    valueName: 'N',
+    description: "sandbox child processes for a sampled model's rollouts and learning; the figures do not depend on it (default: the config's jobs, else the machine's available parallelism)",
+  },
 ];
 
 /** Options every command accepts. */

@@ -48,7 +48,7 @@ const COMMANDS: readonly Command[] = [
     name: 'check',
     operands: '[paths...]',
     summary: 'check spec files (*.mdp.json, *.mdp.ts) and folders of them; default: the current folder',
-    options: ['format', 'values', 'fail-on', 'baseline', 'report', 'config', 'no-exec', 'seed', 'rollouts', 'learn', 'learn-steps', 'learn-episodes'],
+    options: ['format', 'values', 'fail-on', 'baseline', 'report', 'config', 'no-exec', 'seed', 'rollouts', 'learn', 'learn-steps', 'learn-episodes', 'jobs'],
     minOperands: 0,
     maxOperands: Infinity,
     run: runCheck,
@@ -188,15 +188,16 @@ async function runCheck(args: ParsedArgs, io: CliIo): Promise<number> {
   return gate.exitCode(results) ?? (failsAt(results, failOn) ? EXIT_FINDINGS : EXIT_OK);
 }
 
-/** `--seed`, `--rollouts` and the `--learn` options override the config file's values. */
+/** `--seed`, `--rollouts`, `--jobs` and the `--learn` options override the config file's values. */
 function withRolloutOptions(config: ResolvedConfig, args: ParsedArgs): ResolvedConfig {
-  const { seed, rollouts, learn } = args.options;
+  const { seed, rollouts, learn, jobs } = args.options;
   const steps = args.options['learn-steps'];
   const episodes = args.options['learn-episodes'];
   return {
     ...config,
     seed: typeof seed === 'number' ? seed : config.seed,
     rollouts: typeof rollouts === 'number' ? rollouts : config.rollouts,
+    jobs: typeof jobs === 'number' ? jobs : config.jobs,
     learning: {
       ...config.learning,
       method: learn === 'q-learning' || learn === 'monte-carlo' || learn === 'off' ? learn : config.learning.method,

@@ -64,6 +64,12 @@ export interface TypeScriptEvidence {
   structuralProblems: LocatedProblem[];
   nonFiniteRewards: Array<LocatedProblem & { episodes?: number }>;
   nondeterminism: NondeterminismSite[];
+  /**
+   * String and number literals of the source with the key a state of that value gets (its JSON
+   * text, as `keyOfState` forms it): where the editor can show what was learned about a state.
+   * Import paths are left out; at most STATE_LITERAL_CAP, the first in the text.
+   */
+  literals?: Array<{ key: string; span: Span }>;
   enumeration?: {
     states: number;
     choices: number;

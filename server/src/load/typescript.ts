@@ -106,6 +106,7 @@ function readFile(file: SourceFile, reading: TypeScriptReading, evidence: TypeSc
     reading.syntaxErrors = true;
   }
   evidence.staticRandomness = findRandomness(file);
+  evidence.literals = stateLiterals(file);
 
   const object = findDefinition(file);
   if (!object) {
@@ -385,6 +386,38 @@ function describe(value: unknown): string {
  * Places in the source that read an unseeded random source or the clock: Math.random, Date.now,
  * performance.now, crypto.* random functions (global or imported from "crypto"), and `new Date()`.
  */
+/** Literals kept per spec for the editor: a spec names its states a handful of times, and a data table of thousands is not state names. */
+export const STATE_LITERAL_CAP = 5000;
+
+/**
+ * String and number literals (a negative number with its minus sign) with the key a state of that
+ * value gets: the JSON text of the value, which is what `keyOfState` gives a string or number state
+ * and a `stateKey` that returns one.
+ */
+function stateLiterals(file: SourceFile): Array<{ key: string; span: Span }> {
+  const literals: Array<{ key: string; span: Span }> = [];
+  file.forEachDescendant((node, traversal) => {
+    if (literals.length >= STATE_LITERAL_CAP) {
+      traversal.stop();
+      return;
+    }
+    if (Node.isImportDeclaration(node) || Node.isExportDeclaration(node)) {
+      traversal.skip();
+      return;
+    }
+    if (Node.isStringLiteral(node) || Node.isNoSubstitutionTemplateLiteral(node)) {
+      if (Node.isCallExpression(node.getParent()) && node.getParent()!.getText().startsWith('require(')) return;
+      literals.push({ key: JSON.stringify(node.getLiteralValue()), span: spanOf(node) });
+    } else if (Node.isNumericLiteral(node)) {
+      const parent = node.getParent();
+      const negated = parent && Node.isPrefixUnaryExpression(parent) && parent.getOperatorToken() === SyntaxKind.MinusToken;
+      const value = negated ? -node.getLiteralValue() : node.getLiteralValue();
+      if (Number.isFinite(value)) literals.push({ key: JSON.stringify(value), span: spanOf(negated ? parent : node) });
+    }
+  });
+  return literals;
+}
+
 function findRandomness(file: SourceFile): RandomnessSite[] {
   const sites: RandomnessSite[] = [];
   const importedCrypto = new Map<string, string>();

@@ -1,12 +1,14 @@
 /**
  * Hover text from a completed analysis: on a state, its values under the optimal, worst and random
  * policies with their bounds, Q* of each action and where episodes end; on a transition, Q* of the
- * pairs it defines and the gap to the best action; on `discount` and `horizon`, the prepared text.
+ * pairs it defines and the gap to the best action; on `discount` and `horizon`, the prepared text;
+ * on a literal of a sampled model's source that names a state the learner met, the learned Q of
+ * each action with its visits (an estimate from samples).
  * Reads typed arrays only, so an answer takes microseconds whatever the size of the spec.
  */
 import { TERMINAL_OF_CODE } from '../model/compiled';
-import { code, formatInterval, formatNumber, formatProbability } from './format';
-import type { AnalysisSnapshot, ValueTables } from './protocol';
+import { code, formatInterval, formatNumber, formatProbability, plural } from './format';
+import type { AnalysisSnapshot, LearnedTables, ValueTables } from './protocol';
 
 export interface HoverAnswer {
   markdown: string;
@@ -20,7 +22,7 @@ export function hoverAt(snapshot: AnalysisSnapshot, offset: number): HoverAnswer
     if (offset >= fixed.start && offset < fixed.end) return fixed;
   }
   const index = snapshot.hoverIndex;
-  if (!index) return undefined;
+  if (!index) return learnedHoverAt(snapshot.learned, offset);
   const values = snapshot.values;
   const token = containing(index.tokenStart, index.tokenEnd, offset);
   if (token >= 0) {
@@ -140,4 +142,39 @@ function transitionHover(values: ValueTables, choices: Int32Array): string {
     lines.push(`${code(stateName(values, state))} → ${code(action)}: Q* ${q}, ${verdict}`);
   }
   return lines.join('\n\n');
+}
+
+/** Learned time steps shown per state with a horizon; the rest are counted. */
+const LEARNED_ROWS = 12;
+
+/** A literal naming a state learning met: each action's learned Q and visits, said to be an estimate. */
+function learnedHoverAt(tables: LearnedTables | undefined, offset: number): HoverAnswer | undefined {
+  if (!tables) return undefined;
+  const token = containing(tables.tokenStart, tables.tokenEnd, offset);
+  if (token < 0) return undefined;
+  const key = tables.tokenKey[token];
+  const name = tables.keyNames.slice(tables.keyNameStart[key], tables.keyNameStart[key + 1]);
+  const first = tables.keyRowStart[key];
+  const end = tables.keyRowStart[key + 1];
+  const timed = tables.rowStep[first] >= 0;
+  const method = tables.method === 'monte-carlo' ? 'Monte Carlo control' : 'Q-learning';
+  const blocks = [`**${code(name)}** · learned by ${method} from samples: estimates, not bounds`];
+  const rows = [timed ? '| steps taken | action | learned Q | visits |' : '| action | learned Q | visits |', timed ? '|---|---|---|---|' : '|---|---|---|'];
+  let visits = 0;
+  for (let r = first; r < end; r++) {
+    visits += tables.rowVisits[r];
+    if (r - first >= LEARNED_ROWS) continue;
+    for (let a = tables.rowActionStart[r]; a < tables.rowActionStart[r + 1]; a++) {
+      const q = tables.actionVisits[a] > 0 ? formatNumber(tables.q[a]) : 'not tried';
+      const cells = [code(tables.actionNames[tables.actionName[a]]), q, String(tables.actionVisits[a])];
+      rows.push(`| ${timed ? `${tables.rowStep[r]} | ` : ''}${cells.join(' | ')} |`);
+    }
+  }
+  blocks.push(rows.join('\n'));
+  const more = end - first > LEARNED_ROWS ? ` (${plural(end - first - LEARNED_ROWS, 'more time step')} not shown)` : '';
+  blocks.push(
+    `Visited ${plural(visits, 'time')} in training${more}; learning spent ${plural(tables.spentSteps, 'step')} in ${plural(tables.spentEpisodes, 'episode')}. ` +
+      'Each Q is estimated from the sampled episodes, never a bound on the true value.',
+  );
+  return { markdown: blocks.join('\n\n'), start: tables.tokenStart[token], end: tables.tokenEnd[token] };
 }

@@ -100,6 +100,33 @@ export interface ValueTables {
   randomLength: Float64Array;
 }
 
+/**
+ * What learning from samples found at the states a sampled model's source names as literals:
+ * estimates, never bounds. Literal ranges are sorted and disjoint, each naming a key; a key has
+ * one row (one per time step with a horizon) and each row its actions (CSR throughout).
+ */
+export interface LearnedTables {
+  method: string;
+  spentSteps: number;
+  spentEpisodes: number;
+  tokenStart: Int32Array;
+  tokenEnd: Int32Array;
+  tokenKey: Int32Array;
+  /** Key k's text: keyNames.slice(keyNameStart[k], keyNameStart[k+1]). */
+  keyNames: string;
+  keyNameStart: Int32Array;
+  keyRowStart: Int32Array;
+  /** Per row: steps taken before the state (-1 without a horizon), the visits of the state, its first action. */
+  rowStep: Int32Array;
+  rowVisits: Int32Array;
+  rowActionStart: Int32Array;
+  /** Per action of a row: an index into actionNames, the learned Q (NaN when never tried) and its visits. */
+  actionName: Int32Array;
+  q: Float64Array;
+  actionVisits: Int32Array;
+  actionNames: string[];
+}
+
 /** A markdown hover attached to a fixed range of the analysed text. */
 export interface FixedHover {
   start: number;
@@ -124,6 +151,8 @@ export interface AnalysisSnapshot {
   modelOutput?: string;
   hoverIndex?: HoverIndex;
   values?: ValueTables;
+  /** Learned Q at the states a sampled model's source names (hovers on those literals). */
+  learned?: LearnedTables;
   /** Hovers on `discount` and `horizon`. */
   fixedHovers: FixedHover[];
   /** The config file that applied, with its own problems as diagnostics on it. */

@@ -13,7 +13,7 @@ import {
   type DiagnosticRelatedInformation,
   type Range,
 } from 'vscode-languageserver-types';
-import type { RolloutReport, RolloutStats } from '../analysis/rollout-stats';
+import type { LearnedState, RolloutReport, RolloutStats } from '../analysis/rollout-stats';
 import type { Analysis } from '../analysis/types';
 import type { WarmStart } from '../analysis/warm-start';
 import type { FileReport } from '../analyze';
@@ -28,6 +28,7 @@ import {
   type DiagnosticData,
   type FixedHover,
   type HoverIndex,
+  type LearnedTables,
   type ValueTables,
 } from './protocol';
 
@@ -80,6 +81,8 @@ export function buildSnapshot(input: SnapshotInput): AnalysisSnapshot {
     };
   }
   if (model) snapshot.hoverIndex = buildHoverIndex(report.spec, model);
+  const learned = learnedTables(report);
+  if (learned) snapshot.learned = learned;
   if (model && analysis) snapshot.values = valueTables(model, analysis);
   return snapshot;
 }
@@ -96,6 +99,7 @@ export function transferList(snapshot: AnalysisSnapshot): ArrayBuffer[] {
   };
   visit(snapshot.hoverIndex);
   visit(snapshot.values);
+  visit(snapshot.learned);
   const solutions = (start: WarmStart | undefined): void => {
     if (!start) return;
     visit(start.values);
@@ -315,6 +319,81 @@ export function buildHoverIndex(spec: ParsedSpec, model: CompiledModel): HoverIn
     transitionChoiceStart,
     transitionChoices,
   };
+}
+
+/**
+ * The learned Q and visits at the states whose keys the source writes as literals (a sampled
+ * model's `summary.sourceStates`), with the literals' ranges: typed arrays, a row per learning state.
+ */
+export function learnedTables(report: FileReport): LearnedTables | undefined {
+  const learning = report.rollouts?.learning;
+  const literals = report.spec.typescript?.literals;
+  const states = learning?.sourceStates;
+  if (!learning || !literals || !states || states.length === 0) return undefined;
+  const keyIndex = new Map<string, number>();
+  const rowsOfKey: LearnedState[][] = [];
+  for (const state of states) {
+    let k = keyIndex.get(state.key);
+    if (k === undefined) {
+      k = rowsOfKey.length;
+      keyIndex.set(state.key, k);
+      rowsOfKey.push([]);
+    }
+    rowsOfKey[k].push(state);
+  }
+  const named = literals.filter((literal) => keyIndex.has(literal.key) && literal.span.end > literal.span.start);
+  const order = sortedByStart(named.map((literal) => literal.span.start));
+  const tokens: number[] = [];
+  for (const i of order) {
+    const previous = tokens[tokens.length - 1];
+    if (previous === undefined || named[previous].span.end <= named[i].span.start) tokens.push(i);
+  }
+  if (tokens.length === 0) return undefined;
+  const rows = rowsOfKey.flatMap((list) => [...list].sort((a, b) => (a.step ?? 0) - (b.step ?? 0)));
+  const keyRowStart = new Int32Array(rowsOfKey.length + 1);
+  rowsOfKey.forEach((list, k) => (keyRowStart[k + 1] = keyRowStart[k] + list.length));
+  const actionCount = rows.reduce((sum, row) => sum + row.actions.length, 0);
+  const actionNames: string[] = [];
+  const nameIndex = new Map<string, number>();
+  const tables: LearnedTables = {
+    method: learning.method,
+    spentSteps: learning.spent.steps,
+    spentEpisodes: learning.spent.episodes,
+    tokenStart: Int32Array.from(tokens, (i) => named[i].span.start),
+    tokenEnd: Int32Array.from(tokens, (i) => named[i].span.end),
+    tokenKey: Int32Array.from(tokens, (i) => keyIndex.get(named[i].key)!),
+    keyNames: '',
+    keyNameStart: new Int32Array(rowsOfKey.length + 1),
+    keyRowStart,
+    rowStep: new Int32Array(rows.length),
+    rowVisits: new Int32Array(rows.length),
+    rowActionStart: new Int32Array(rows.length + 1),
+    actionName: new Int32Array(actionCount),
+    q: new Float64Array(actionCount),
+    actionVisits: new Int32Array(actionCount),
+    actionNames,
+  };
+  const names = rowsOfKey.map((list) => list[0].key);
+  names.forEach((name, k) => (tables.keyNameStart[k + 1] = tables.keyNameStart[k] + name.length));
+  tables.keyNames = names.join('');
+  let a = 0;
+  rows.forEach((row, r) => {
+    tables.rowStep[r] = row.step ?? -1;
+    tables.rowVisits[r] = row.visits;
+    for (const action of row.actions) {
+      let n = nameIndex.get(action.action);
+      if (n === undefined) {
+        n = actionNames.length;
+        nameIndex.set(action.action, n);
+        actionNames.push(action.action);
+      }
+      tables.actionName[a] = n;
+      tables.q[a] = action.q;
+      tables.actionVisits[a++] = action.visits;
+    }
+    tables.rowActionStart[r + 1] = a;
+  });
+  return tables;
 }
 
 /** values[at[i]] for each i, as typed arrays (Int32Array.from with a mapping function is far slower). */

@@ -18,9 +18,10 @@ import type { LocatedProblem, RandomnessSite, TypeScriptEvidence } from '../load
 import type { ParsedSpec, Span } from '../load/types';
 import type { SourceLocation } from './bundle';
 import { clip, ModelSandbox, type ModelFailure, type RandomnessUse } from './host';
-import { DEFAULT_LEARNING } from './learn';
+import { DEFAULT_LEARNING, joinLearning, type LearnJobOptions, type MeasuredPart, type TrainedPart } from './learn';
+import { joinRolloutRuns, splitEpisodes } from './parallel';
 import type { ModelDescription } from './protocol';
-import type { Enumeration, ModelFunction, RolloutRun } from './runtime';
+import type { Enumeration, ModelFunction, RolloutOptions, RolloutRun, RuntimeProblem } from './runtime';
 import type { RecordOptions } from './transition-record';
 import { buildEmpiricalModel } from '../model/empirical';
 import { TERMINAL_CODE } from '../model/compiled';
@@ -117,6 +118,7 @@ async function runModel(
   }
   const { sandbox, description } = started.value!;
   recordSandbox(findings, spec, undefined, sandbox.notices);
+  let helpers: ModelSandbox[] = [];
   try {
     const fieldProblems = applyDescription(spec, reading, description);
     for (const problem of fieldProblems) findings.push(problem);
@@ -177,7 +179,12 @@ async function runModel(
     } else {
       evidence.form = 'sampled';
     }
-    const sampled = await sampleByRollouts(sandbox, spec, config, declaredTerms, evidence, place, findings);
+    helpers = await startHelpers(sandbox, config.jobs - 1, evidence, place);
+    // With a second child, training runs there beside the random rollouts; the others roll out.
+    const trainer = config.learning.method !== 'off' ? helpers[0] : undefined;
+    const training = trainer?.train(learnOptions(spec, config, declaredTerms, config.rollouts > 0 ? config.rollouts : DEFAULT_SAMPLED_ROLLOUTS));
+    const rollers = [sandbox, ...helpers.filter((helper) => helper !== trainer)];
+    const sampled = await sampleByRollouts(rollers, spec, config, declaredTerms, evidence, place, findings);
     const stats = sampled.stats;
     const rollouts: RolloutReport | undefined = stats ? { random: stats } : undefined;
     // Learning needs a model that rolled out cleanly: a failure there (a bad state key included,
@@ -187,7 +194,8 @@ async function runModel(
       !findings.some((f) => f.rule === 'non-finite-reward') &&
       !evidence.modelErrors.some((p) => p.phase === 'stateKey');
     if (rollouts && config.learning.method !== 'off' && clean && !isCancelled()) {
-      await learnFromSamples(sandbox, spec, config, declaredTerms, stats!.episodes, evidence, place, findings, rollouts);
+      if (trainer && training) await learnInParts(trainer, training, rollers, spec, config, declaredTerms, stats!.episodes, evidence, place, findings, rollouts);
+      else await learnFromSamples(sandbox, spec, config, declaredTerms, stats!.episodes, evidence, place, findings, rollouts);
     }
     return {
       prebuilt: { reason: evidence.form === 'sampled' ? 'a sampled model has no exact values; see the rollout estimates' : 'enumeration stopped at the state cap; see the rollout estimates' },
@@ -195,14 +203,17 @@ async function runModel(
       empirical: sampled.empirical,
     };
   } finally {
-    const output = sandbox.output();
+    // What model code printed, child by child (the first child's first): each child printed only during its own jobs.
+    const output = [sandbox, ...helpers].map((child) => child.output()).filter((text) => text !== '').join('\n');
     if (output) sandboxOutput.set(findings, output);
+    // A helper still busy (training that is no longer wanted) is killed; the others wait warm.
+    for (const helper of helpers) await helper.close();
     await sandbox.close();
   }
 }
 
 async function sampleByRollouts(
-  sandbox: ModelSandbox,
+  rollers: ModelSandbox[],
   spec: ParsedSpec,
   config: ResolvedConfig,
   declaredTerms: string[],
@@ -223,7 +234,8 @@ async function sampleByRollouts(
           countedSteps: ruleThreshold(config, empiricalModel, 'countedSteps'),
         }
       : undefined;
-  const ran = await sandbox.rollouts({ ...common, episodes, fingerprintEpisodes: REPLAYED_EPISODES, record });
+  const sandbox = rollers[0];
+  const ran = rollers.length > 1 ? await rolloutsInParts(rollers, common, episodes, record, evidence, place) : await sandbox.rollouts({ ...common, episodes, fingerprintEpisodes: REPLAYED_EPISODES, record });
   addRandomness(evidence, ran.randomness, place);
   if (ran.failure) {
     place.failure(evidence, ran.failure);
@@ -253,6 +265,71 @@ async function sampleByRollouts(
   const stats = summarizeEpisodes(finite, { policy: 'random', seed: config.seed, stepCap: effectiveStepCap(common.discount, stepCap) });
   evidence.rollouts = stats;
   return { stats, empirical };
+}
+
+/**
+ * Starts `count` more children for the same bundle (--jobs N), each loaded like the first. A child
+ * that does not start is left out: fewer children change the time, never a figure.
+ */
+async function startHelpers(sandbox: ModelSandbox, count: number, evidence: TypeScriptEvidence, place: Placer): Promise<ModelSandbox[]> {
+  if (count <= 0) return [];
+  ModelSandbox.keepWarm(count + 1);
+  const started = await Promise.all(Array.from({ length: count }, () => sandbox.sibling()));
+  const helpers: ModelSandbox[] = [];
+  for (const one of started) {
+    addRandomness(evidence, one.randomness, place);
+    if (one.sandbox) helpers.push(one.sandbox);
+  }
+  return helpers;
+}
+
+/**
+ * The random policy's rollouts split into consecutive episode ranges, one per child, joined in
+ * episode order. When transitions are counted, the first child counts its range and holds its
+ * recorder; the others log what they saw, and the first child replays the logs in order and then
+ * explores, so the counts are those of a single child.
+ */
+async function rolloutsInParts(
+  rollers: ModelSandbox[],
+  common: Omit<RolloutOptions, 'episodes' | 'fingerprintEpisodes' | 'progress'>,
+  episodes: number,
+  record: RecordOptions | undefined,
+  evidence: TypeScriptEvidence,
+  place: Placer,
+): Promise<{ value?: RolloutRun; failure?: ModelFailure; randomness: RandomnessUse[] }> {
+  const ranges = splitEpisodes(episodes, rollers.length);
+  const outcomes = await Promise.all(
+    ranges.map((range, k) =>
+      rollers[k].rollouts({
+        ...common,
+        firstEpisode: range.first,
+        episodes: range.count,
+        fingerprintEpisodes: Math.max(0, REPLAYED_EPISODES - range.first),
+        record: k === 0 ? record : undefined,
+        holdRecording: k === 0 && record !== undefined ? true : undefined,
+        log: k > 0 ? record : undefined,
+      }),
+    ),
+  );
+  const runs: RolloutRun[] = [];
+  for (const outcome of outcomes) {
+    addRandomness(evidence, outcome.randomness, place);
+    // The first range that failed stands for the whole run, as the first failure of one child would.
+    if (outcome.failure) return { failure: outcome.failure, randomness: [] };
+    runs.push(outcome.value!);
+    if (outcome.value!.problem) break;
+  }
+  const run = joinRolloutRuns(runs, REPLAYED_EPISODES);
+  if (!record || run.problem) return { value: run, randomness: [] };
+  const recorded = await rollers[0].record(
+    runs.slice(1).map((part) => part.log!).filter((log) => log !== undefined),
+    common.seed,
+    common.declaredTerms,
+  );
+  if (recorded.failure) return { failure: recorded.failure, randomness: recorded.randomness };
+  run.counts = recorded.value!.counts;
+  run.countsProblem = recorded.value!.countsProblem;
+  return { value: run, randomness: recorded.randomness };
 }
 
 /** The empirical model of the recorded counts, or undefined with the reason in the evidence. */
@@ -327,18 +404,9 @@ async function learnFromSamples(
   findings: Finding[],
   rollouts: RolloutReport,
 ): Promise<void> {
-  const method = config.learning.method;
-  if (method === 'off') return;
+  if (config.learning.method === 'off') return;
   const stepCap = ruleThreshold(config, episodeNeverEnds, 'stepCap');
-  const learned = await sandbox.learn({
-    settings: { ...DEFAULT_LEARNING, ...config.learning, method, evaluationEpisodes: episodes },
-    seed: config.seed,
-    discount: spec.discount!.value,
-    horizon: spec.horizon?.value,
-    stepCap,
-    maximize: spec.objective !== 'minimize',
-    declaredTerms,
-  });
+  const learned = await sandbox.learn(learnOptions(spec, config, declaredTerms, episodes));
   addRandomness(evidence, learned.randomness, place);
   if (learned.failure) {
     place.failure(evidence, learned.failure);
@@ -350,6 +418,76 @@ async function learnFromSamples(
     return;
   }
   rollouts.learned = summarizeEpisodes(run.evaluation, { policy: 'learned', seed: config.seed, stepCap: effectiveStepCap(spec.discount!.value, stepCap) });
+  rollouts.learning = run.summary;
+}
+
+/** The learning job's options; `episodes` is the number of measured episodes (as many as the random policy's). */
+function learnOptions(spec: ParsedSpec, config: ResolvedConfig, declaredTerms: string[], episodes: number): LearnJobOptions {
+  const method = config.learning.method === 'off' ? DEFAULT_LEARNING.method : config.learning.method;
+  return {
+    settings: { ...DEFAULT_LEARNING, ...config.learning, method, evaluationEpisodes: episodes },
+    seed: config.seed,
+    discount: spec.discount!.value,
+    horizon: spec.horizon?.value,
+    stepCap: ruleThreshold(config, episodeNeverEnds, 'stepCap'),
+    maximize: spec.objective !== 'minimize',
+    declaredTerms,
+    watchKeys: [...new Set((spec.typescript?.literals ?? []).map((literal) => literal.key))],
+  };
+}
+
+/**
+ * Learning split across children (--jobs N): the trainer's table, measured in consecutive
+ * episode ranges by every child, and the trainer's decision on the start actions, joined into the
+ * figures a single child gives (learn.ts, joinLearning). The first failure in the order a single
+ * child meets them (training, the ranges, the decision) stands for the whole run.
+ */
+async function learnInParts(
+  trainer: ModelSandbox,
+  training: Promise<{ value?: { trained?: TrainedPart; problem?: RuntimeProblem }; failure?: ModelFailure; randomness: RandomnessUse[] }>,
+  rollers: ModelSandbox[],
+  spec: ParsedSpec,
+  config: ResolvedConfig,
+  declaredTerms: string[],
+  episodes: number,
+  evidence: TypeScriptEvidence,
+  place: Placer,
+  findings: Finding[],
+  rollouts: RolloutReport,
+): Promise<void> {
+  const options = learnOptions(spec, config, declaredTerms, episodes);
+  const trainedOutcome = await training;
+  addRandomness(evidence, trainedOutcome.randomness, place);
+  const failed = (failure: ModelFailure | undefined, problem: RuntimeProblem | undefined): boolean => {
+    if (failure) place.failure(evidence, failure);
+    else if (problem) place.failure(evidence, trainer.locate(problem), findings);
+    return failure !== undefined || problem !== undefined;
+  };
+  if (failed(trainedOutcome.failure, trainedOutcome.value?.problem)) return;
+  const trained = trainedOutcome.value!.trained!;
+  // The trainer measures the first range (it traces the path) and then decides, so it needs no copy of the table it holds.
+  const children = [trainer, ...rollers];
+  const ranges = splitEpisodes(episodes, children.length);
+  const work = await Promise.all(
+    children.map(async (child, k) => {
+      const range = ranges[k];
+      const measured = range ? await child.measure({ ...options, table: trained.table, first: range.first, count: range.count }) : undefined;
+      const decided = k === 0 ? await child.decide(episodes) : undefined;
+      return { measured, decided };
+    }),
+  );
+  const parts: MeasuredPart[] = [];
+  for (const { measured } of work) {
+    if (!measured) continue;
+    addRandomness(evidence, measured.randomness, place);
+    if (failed(measured.failure, measured.value?.problem)) return;
+    parts.push(measured.value!.part!);
+  }
+  const decided = work[0].decided!;
+  addRandomness(evidence, decided.randomness, place);
+  if (failed(decided.failure, decided.value?.problem)) return;
+  const run = joinLearning(options.settings, trained, parts, decided.value!.decision);
+  rollouts.learned = summarizeEpisodes(run.evaluation, { policy: 'learned', seed: config.seed, stepCap: effectiveStepCap(spec.discount!.value, options.stepCap) });
   rollouts.learning = run.summary;
 }
 

@@ -15,7 +15,10 @@ import { dirname, join, resolve } from 'node:path';
 import type { Readable } from 'node:stream';
 import { bundleModel, locateStack, type ModelBundle, type SourceLocation } from './bundle';
 import { emptyColumnFile, readColumns } from './enumeration-columns';
-import type { LearnRun } from './learn';
+import type { LearningSummary } from '../analysis/rollout-stats';
+import type { TransitionCounts } from '../model/empirical';
+import type { LearnedTable, LearnJobOptions, LearnRun, MeasuredPart, MeasureJobOptions, TrainedPart } from './learn';
+import type { TrajectoryLog } from './transition-record';
 import { launchPlan } from './launch';
 import { BEAT_FD, MODEL_SCRIPT_NAME, OUTPUT_MARK, type HostRequest, type ModelDescription, type RandomnessCall, type WorkerReply } from './protocol';
 import type { Enumeration, ModelFunction, RolloutRun, RuntimeProblem } from './runtime';
@@ -292,6 +295,8 @@ class Child {
 const live = new Set<Child>();
 const idle: Array<{ child: Child; timer: NodeJS.Timeout }> = [];
 let exitHookInstalled = false;
+/** Idle children kept at most: IDLE_CHILDREN, or the largest pool asked for (ModelSandbox.keepWarm). */
+let idleLimit = IDLE_CHILDREN;
 
 function installExitHook(): void {
   if (exitHookInstalled) return;
@@ -331,7 +336,7 @@ function parkIdle(child: Child): void {
       idle.splice(index, 1);
     }
   };
-  while (idle.length > IDLE_CHILDREN) {
+  while (idle.length > idleLimit) {
     const oldest = idle.shift()!;
     clearTimeout(oldest.timer);
     oldest.child.kill();
@@ -360,8 +365,9 @@ export class ModelSandbox {
     private readonly bundle: ModelBundle,
     private readonly limits: SandboxLimits,
     private readonly isCancelled: () => boolean,
-    key: string,
-    folder: string,
+    private readonly key: string,
+    private readonly folder: string,
+    private readonly specPath: string,
   ) {
     installExitHook();
     this.child = takeIdle(key) ?? new Child(key, folder, limits.memoryMb);
@@ -387,15 +393,39 @@ export class ModelSandbox {
     }
     const folder = existsSync(dirname(resolve(path))) ? dirname(resolve(path)) : bundle.root;
     const key = `${folder}\n${limits.memoryMb}\n${createHash('sha256').update(bundle.code).digest('hex')}`;
-    const sandbox = new ModelSandbox(bundle, limits, isCancelled, key, folder);
-    const reply = await sandbox.request({ type: 'load', code: bundle.code, specPath: path, limits });
-    const outcome = sandbox.outcomeOf(reply, (r) => (r.type === 'loaded' ? r.description : undefined));
+    const sandbox = new ModelSandbox(bundle, limits, isCancelled, key, folder, path);
+    const outcome = await sandbox.load();
     if (outcome.failure) {
       const output = sandbox.output();
       await sandbox.close();
       return { failure: outcome.failure, randomness: outcome.randomness, output, notices: sandbox.notices };
     }
     return { value: { sandbox, description: outcome.value! }, randomness: outcome.randomness };
+  }
+
+  private async load(): Promise<Outcome<ModelDescription>> {
+    const reply = await this.request({ type: 'load', code: this.bundle.code, specPath: this.specPath, limits: this.limits });
+    return this.outcomeOf(reply, (r) => (r.type === 'loaded' ? r.description : undefined));
+  }
+
+  /**
+   * Another sandbox with the same bundle, in a warm child when one is parked, loaded like this one
+   * (--jobs N). Undefined when it could not be started or loaded: the caller then uses fewer
+   * children, which changes no figure. What the load reported of unseeded randomness comes along.
+   */
+  async sibling(): Promise<{ sandbox?: ModelSandbox; randomness: RandomnessUse[] }> {
+    const sandbox = new ModelSandbox(this.bundle, this.limits, this.isCancelled, this.key, this.folder, this.specPath);
+    const outcome = await sandbox.load();
+    if (outcome.failure) {
+      await sandbox.close();
+      return { randomness: outcome.randomness };
+    }
+    return { sandbox, randomness: outcome.randomness };
+  }
+
+  /** Keeps up to `count` idle children of this bundle warm (a pool of --jobs N children is reused whole). */
+  static keepWarm(count: number): void {
+    idleLimit = Math.max(idleLimit, count);
   }
 
   /** What the boundary lacks on this machine (shown to the user as a warning). */
@@ -421,6 +451,30 @@ export class ModelSandbox {
   async learn(options: Extract<HostRequest, { type: 'learn' }>['options']): Promise<Outcome<LearnRun>> {
     const reply = await this.request({ type: 'learn', options });
     return this.outcomeOf(reply, (r) => (r.type === 'learned' ? r.run : undefined));
+  }
+
+  /** Replays the later ranges' logs into the recorder held since the last rollouts, then explores (--jobs N). */
+  async record(logs: TrajectoryLog[], seed: number, declaredTerms: string[]): Promise<Outcome<{ counts?: TransitionCounts; countsProblem?: RuntimeProblem }>> {
+    const reply = await this.request({ type: 'record', logs, seed, declaredTerms });
+    return this.outcomeOf(reply, (r) => (r.type === 'recorded' && optionalProblem(r.countsProblem) && typeof r.counts === 'object' && r.counts !== null ? r : undefined));
+  }
+
+  /** The training phase of learning; the child keeps the learner for `decide`. */
+  async train(options: LearnJobOptions): Promise<Outcome<{ trained?: TrainedPart; problem?: RuntimeProblem }>> {
+    const reply = await this.request({ type: 'train', options });
+    return this.outcomeOf(reply, (r) => (r.type === 'trained' && optionalProblem(r.problem) && (r.problem !== undefined || validTable(r.trained?.table)) ? r : undefined));
+  }
+
+  /** The greedy policy of a learned table on a range of measured episodes. */
+  async measure(options: MeasureJobOptions): Promise<Outcome<{ part?: MeasuredPart; problem?: RuntimeProblem }>> {
+    const reply = await this.request({ type: 'measure', options });
+    return this.outcomeOf(reply, (r) => (r.type === 'measured' && optionalProblem(r.problem) && (r.problem !== undefined || validPart(r.part, options.count)) ? r : undefined));
+  }
+
+  /** The decision on the start actions of the learner this child trained last. */
+  async decide(measuredEpisodes: number): Promise<Outcome<{ decision: Pick<LearningSummary, 'decision' | 'noDecision'>; problem?: RuntimeProblem }>> {
+    const reply = await this.request({ type: 'decide', measuredEpisodes });
+    return this.outcomeOf(reply, (r) => (r.type === 'decided' && optionalProblem(r.problem) && typeof r.decision === 'object' && r.decision !== null ? r : undefined));
   }
 
   /** Ends the sandbox: a child that did its jobs well waits for the next load of the same bundle, any other is killed. */
@@ -654,4 +708,25 @@ function validRun(run: RolloutRun, episodes: number): boolean {
   if (returns.length > episodes || lengths.length !== returns.length || ends.length !== returns.length) return false;
   if (!Array.isArray(run.fingerprints) || !run.fingerprints.every((f) => typeof f === 'string')) return false;
   return (run.problem === undefined || validProblem(run.problem)) && (run.firstNonFinite === undefined || validProblem(run.firstNonFinite));
+}
+
+function optionalProblem(problem: unknown): boolean {
+  return problem === undefined || validProblem(problem);
+}
+
+/** A learned table whose arrays fit together: key indices in range, slot starts ascending to the slot count. */
+function validTable(table: LearnedTable | undefined): boolean {
+  if (typeof table !== 'object' || table === null || !Array.isArray(table.keys)) return false;
+  const { stateKey, stateStep, slotStart, q, visits } = table;
+  if (!(stateStep instanceof Int32Array) || !(q instanceof Float64Array) || !(visits instanceof Int32Array) || q.length !== visits.length) return false;
+  if (!indices(stateKey, table.keys.length - 1) || stateStep.length !== stateKey.length) return false;
+  return rowStarts(slotStart, q.length) && slotStart.length === stateKey.length + 1;
+}
+
+function validPart(part: MeasuredPart | undefined, episodes: number): boolean {
+  if (typeof part !== 'object' || part === null || typeof part.records !== 'object' || part.records === null) return false;
+  const { returns, lengths, ends } = part.records;
+  if (!(returns instanceof Float64Array) || !(lengths instanceof Int32Array) || !(ends instanceof Uint8Array)) return false;
+  if (returns.length !== episodes || lengths.length !== episodes || ends.length !== episodes) return false;
+  return Array.isArray(part.newKeys) && Array.isArray(part.newStates) && typeof part.unlearnedSteps === 'number';
 }

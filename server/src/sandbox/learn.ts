@@ -72,8 +72,10 @@ export const DEFAULT_LEARNING: LearningSettings = {
 const PATH_STEPS = 200;
 /** Exponent of the step size n^-ALPHA_EXPONENT of Q-learning (Even-Dar and Mansour 2003). */
 const ALPHA_EXPONENT = 0.8;
-/** States whose learned values are kept for the hover, the most visited first. */
+/** States whose learned values are kept for the output, the most visited first. */
 const KEPT_STATES = 50;
+/** Learning states kept for the literals of the source (with a horizon a key has one per time step). */
+const SOURCE_STATES = 4096;
 
 export interface LearnRun {
   summary: LearningSummary;
@@ -111,6 +113,8 @@ export interface LearnOptions {
   /** Cap on steps per episode without a horizon. */
   stepCap: number;
   maximize: boolean;
+  /** Keys whose learned values are kept whatever their visits (the literals of the source; summary.sourceStates). */
+  watchKeys?: string[];
 }
 
 /** Growable per-learning-state tables: action slots, Q and visit counts. */
@@ -124,6 +128,28 @@ class Table {
   visits = new Int32Array(256);
   size = 0;
   slots = 0;
+
+  /** A table holding another process's learned states; their sample states are unknown here (-1). */
+  static of(learned: LearnedTable): Table {
+    const table = new Table();
+    const size = learned.stateKey.length;
+    const capacity = Math.max(64, size);
+    table.slotStart = new Int32Array(capacity);
+    table.slotStart.set(learned.slotStart.subarray(0, size));
+    table.slotCount = new Int32Array(capacity);
+    for (let id = 0; id < size; id++) table.slotCount[id] = learned.slotStart[id + 1] - learned.slotStart[id];
+    table.stateVisits = new Int32Array(capacity);
+    table.sampleState = new Int32Array(capacity).fill(-1);
+    table.stepOf = new Int32Array(capacity);
+    table.stepOf.set(learned.stateStep);
+    table.slots = learned.q.length;
+    table.q = new Float64Array(Math.max(256, table.slots));
+    table.q.set(learned.q);
+    table.visits = new Int32Array(table.q.length);
+    table.visits.set(learned.visits);
+    table.size = size;
+    return table;
+  }
 
   add(sampleState: number, step: number, actions: number): number {
     const id = this.size++;
@@ -158,36 +184,115 @@ class Table {
 }
 
 /**
- * Learns Q within the budget, then rolls out the greedy policy of the learned Q. Errors of the
- * sampler (model code) propagate; `learnModel` turns them into a RuntimeProblem.
+ * The learned table as plain data: what a child that did not train needs to measure the greedy
+ * policy (the `measure` job of --jobs N). Learning states refer to keys, never to sampler ids,
+ * since each process numbers the states it meets in its own order.
  */
-export function learnWithSampler(sampler: LearningSampler, options: LearnOptions): { summary: LearningSummary; evaluation: EpisodeRecords } {
-  const { settings, seed, discount, horizon } = options;
-  const sign = options.maximize ? 1 : -1;
-  const limit = horizon ?? effectiveStepCap(discount, options.stepCap);
-  const table = new Table();
+export interface LearnedTable {
+  /** Keys of the states met in training, in the order first met. */
+  keys: string[];
+  /** Per learning state: the index of its key in `keys`. */
+  stateKey: Int32Array;
+  /** Per learning state: steps taken before it (0 without a horizon). */
+  stateStep: Int32Array;
+  /** Per learning state: its first slot; one more entry than there are states. */
+  slotStart: Int32Array;
+  q: Float64Array;
+  visits: Int32Array;
+}
+
+/** What the greedy policy did on a range of measured episodes, beside their records. */
+export interface MeasuredPart {
+  records: EpisodeRecords;
+  unlearnedSteps: number;
+  /** Keys met that training never met, in the order first met. */
+  newKeys: string[];
+  /** Learning states added while measuring (no visits), in the order first met. */
+  newStates: LearnedState[];
+  /** The first episode's path, when the range starts at episode 0. */
+  path?: LearningSummary['path'];
+}
+
+/** What training leaves for the host when measuring is split across children. */
+export interface TrainedPart {
+  table: LearnedTable;
+  spent: { episodes: number; steps: number };
+  /** The most visited learning states of the training table (see keptStates). */
+  kept: LearnedState[];
+  /** The learned values at the watched keys (LearnOptions.watchKeys). */
+  watched?: LearnedState[];
+}
+
+/**
+ * One learning run in phases: `train` within the budget, `measure` the greedy policy on a range of
+ * fresh episodes, `decide` whether the best start action is really best. `learnWithSampler` runs
+ * them in turn; with --jobs N the host runs each phase in its own child and joins them with
+ * `joinLearning`, which gives the same figures because every phase seeds its draws per episode.
+ */
+export class Learner {
+  private readonly table: Table;
+  private readonly sign: number;
+  private readonly limit: number;
   // Learning state of (sample state, time): the sample state itself without a horizon.
-  const byTime = new Map<number, number>();
-  const direct: number[] = [];
-  const learningState = (state: number, t: number): number => {
+  private readonly byTime = new Map<number, number>();
+  private readonly direct: number[] = [];
+  private readonly policy = new Xoshiro128();
+  /** A table taken from another process: its states by key index and time, and its keys. */
+  private readonly imported?: { size: number; keys: Map<string, number>; states: Map<number, number> };
+  episodes = 0;
+  steps = 0;
+  unlearnedSteps = 0;
+  private fixedStart = -1;
+  private startVaries = false;
+  private startEnds = false;
+
+  constructor(
+    private readonly sampler: LearningSampler,
+    private readonly options: LearnOptions,
+    learned?: LearnedTable,
+  ) {
+    this.sign = options.maximize ? 1 : -1;
+    this.limit = options.horizon ?? effectiveStepCap(options.discount, options.stepCap);
+    this.table = learned ? Table.of(learned) : new Table();
+    if (learned) {
+      const keys = new Map<string, number>();
+      learned.keys.forEach((key, i) => keys.set(key, i));
+      const states = new Map<number, number>();
+      const span = (options.horizon ?? 0) + 1;
+      for (let id = 0; id < learned.stateKey.length; id++) states.set(learned.stateKey[id] * span + learned.stateStep[id], id);
+      this.imported = { size: learned.stateKey.length, keys, states };
+    }
+  }
+
+  private learningState(state: number, t: number): number {
+    const horizon = this.options.horizon;
     if (horizon === undefined) {
-      const known = direct[state];
+      const known = this.direct[state];
       if (known !== undefined) return known;
-      const id = table.add(state, 0, sampler.actionCount(state));
-      direct[state] = id;
+      const id = this.importedState(state, 0) ?? this.table.add(state, 0, this.sampler.actionCount(state));
+      this.direct[state] = id;
       return id;
     }
     const compound = state * (horizon + 1) + t;
-    const known = byTime.get(compound);
+    const known = this.byTime.get(compound);
     if (known !== undefined) return known;
-    const id = table.add(state, t, sampler.actionCount(state));
-    byTime.set(compound, id);
+    const id = this.importedState(state, t) ?? this.table.add(state, t, this.sampler.actionCount(state));
+    this.byTime.set(compound, id);
     return id;
-  };
-  const policy = new Xoshiro128();
+  }
+
+  /** The imported learning state of a sampler state at time t; its actions are asked so that it can be stepped from. */
+  private importedState(state: number, t: number): number | undefined {
+    if (!this.imported) return undefined;
+    const key = this.imported.keys.get(this.sampler.keyOf(state));
+    const id = key === undefined ? undefined : this.imported.states.get(key * ((this.options.horizon ?? 0) + 1) + t);
+    if (id !== undefined) this.sampler.actionCount(state);
+    return id;
+  }
 
   /** The action with the largest sign * Q; ties broken at random. `triedOnly` skips untried actions. */
-  const greedy = (id: number, triedOnly: boolean): number => {
+  private greedy(id: number, triedOnly: boolean): number {
+    const { table, policy, sign } = this;
     const first = table.slotStart[id];
     const count = table.slotCount[id];
     let best = -1;
@@ -205,124 +310,266 @@ export function learnWithSampler(sampler: LearningSampler, options: LearnOptions
       }
     }
     return best;
-  };
-  const behave = (id: number): number => {
-    const count = table.slotCount[id];
-    if (policy.nextFloat() < settings.epsilon) return policy.nextInt(count);
-    return greedy(id, false);
-  };
+  }
 
-  // Training.
-  let episodes = 0;
-  let steps = 0;
-  const trail = { slot: [] as number[], reward: [] as number[] };
-  let seenEpisode = new Int32Array(0);
-  // The start is fixed when every training episode drew the same start state.
-  let fixedStart = -1;
-  let startVaries = false;
-  let startEnds = false;
-  while (episodes < settings.episodes && steps < settings.steps) {
-    const episode = episodes++;
-    sampler.seedEpisode(seed, episode, 2);
-    policy.seedEpisode(seed, episode, 3);
-    sampler.start();
-    let end = sampler.end;
-    let state = sampler.state;
-    if (episode === 0) {
-      fixedStart = state;
-      startEnds = end !== END_NONE;
-    }
-    else if (state !== fixedStart) startVaries = true;
-    let t = 0;
-    trail.slot.length = 0;
-    trail.reward.length = 0;
-    let cut = false;
-    while (end === END_NONE && t < limit) {
-      if (steps >= settings.steps) {
-        cut = true;
-        break;
-      }
-      const id = learningState(state, t);
-      table.stateVisits[id]++;
-      const a = behave(id);
-      const slot = table.slotStart[id] + a;
-      sampler.step(state, a);
-      steps++;
-      t++;
-      const reward = sampler.reward;
-      end = sampler.end;
-      const next = sampler.state;
-      if (settings.method === 'q-learning') {
-        let target = reward;
-        // A step cap (no horizon) is a cut, not an end: the value of the state reached still counts.
-        if (end === END_NONE && (t < limit || horizon === undefined)) {
-          const nextId = learningState(next, horizon === undefined ? 0 : t);
-          const first = table.slotStart[nextId];
-          let best = -Infinity;
-          for (let b = 0; b < table.slotCount[nextId]; b++) best = Math.max(best, sign * table.q[first + b]);
-          target += discount * sign * best;
+  private behave(id: number): number {
+    const count = this.table.slotCount[id];
+    if (this.policy.nextFloat() < this.options.settings.epsilon) return this.policy.nextInt(count);
+    return this.greedy(id, false);
+  }
+
+  /** Learns Q within the budget (training streams 2 and 3 of each episode). */
+  train(): void {
+    const { sampler, table, policy, sign, limit } = this;
+    const { settings, seed, discount, horizon } = this.options;
+    const trail = { slot: [] as number[], reward: [] as number[] };
+    let seenEpisode = new Int32Array(0);
+    while (this.episodes < settings.episodes && this.steps < settings.steps) {
+      const episode = this.episodes++;
+      sampler.seedEpisode(seed, episode, 2);
+      policy.seedEpisode(seed, episode, 3);
+      sampler.start();
+      let end = sampler.end;
+      let state = sampler.state;
+      // The start is fixed when every training episode drew the same start state.
+      if (episode === 0) {
+        this.fixedStart = state;
+        this.startEnds = end !== END_NONE;
+      } else if (state !== this.fixedStart) this.startVaries = true;
+      let t = 0;
+      trail.slot.length = 0;
+      trail.reward.length = 0;
+      let cut = false;
+      while (end === END_NONE && t < limit) {
+        if (this.steps >= settings.steps) {
+          cut = true;
+          break;
         }
-        const n = ++table.visits[slot];
-        table.q[slot] += (target - table.q[slot]) * Math.pow(n, -ALPHA_EXPONENT);
-      } else {
-        trail.slot.push(slot);
-        trail.reward.push(reward);
+        const id = this.learningState(state, t);
+        table.stateVisits[id]++;
+        const a = this.behave(id);
+        const slot = table.slotStart[id] + a;
+        sampler.step(state, a);
+        this.steps++;
+        t++;
+        const reward = sampler.reward;
+        end = sampler.end;
+        const next = sampler.state;
+        if (settings.method === 'q-learning') {
+          let target = reward;
+          // A step cap (no horizon) is a cut, not an end: the value of the state reached still counts.
+          if (end === END_NONE && (t < limit || horizon === undefined)) {
+            const nextId = this.learningState(next, horizon === undefined ? 0 : t);
+            const first = table.slotStart[nextId];
+            let best = -Infinity;
+            for (let b = 0; b < table.slotCount[nextId]; b++) best = Math.max(best, sign * table.q[first + b]);
+            target += discount * sign * best;
+          }
+          const n = ++table.visits[slot];
+          table.q[slot] += (target - table.q[slot]) * Math.pow(n, -ALPHA_EXPONENT);
+        } else {
+          trail.slot.push(slot);
+          trail.reward.push(reward);
+        }
+        state = next;
       }
-      state = next;
-    }
-    if (settings.method === 'monte-carlo' && !cut) {
-      if (seenEpisode.length < table.slots) {
-        const grown = new Int32Array(Math.max(table.q.length, 64)).fill(-1);
-        grown.set(seenEpisode);
-        seenEpisode = grown;
-      }
-      // A pair's first visit in this episode is the step at which seenEpisode first takes the episode's number.
-      const isFirst = new Uint8Array(trail.slot.length);
-      for (let i = 0; i < trail.slot.length; i++) {
-        const slot = trail.slot[i];
-        isFirst[i] = seenEpisode[slot] === episode ? 0 : 1;
-        seenEpisode[slot] = episode;
-      }
-      let g = 0;
-      for (let i = trail.slot.length - 1; i >= 0; i--) {
-        g = trail.reward[i] + discount * g;
-        if (settings.firstVisit && isFirst[i] === 0) continue;
-        const slot = trail.slot[i];
-        const n = ++table.visits[slot];
-        table.q[slot] += (g - table.q[slot]) / n;
+      if (settings.method === 'monte-carlo' && !cut) {
+        if (seenEpisode.length < table.slots) {
+          const grown = new Int32Array(Math.max(table.q.length, 64)).fill(-1);
+          grown.set(seenEpisode);
+          seenEpisode = grown;
+        }
+        // A pair's first visit in this episode is the step at which seenEpisode first takes the episode's number.
+        const isFirst = new Uint8Array(trail.slot.length);
+        for (let i = 0; i < trail.slot.length; i++) {
+          const slot = trail.slot[i];
+          isFirst[i] = seenEpisode[slot] === episode ? 0 : 1;
+          seenEpisode[slot] = episode;
+        }
+        let g = 0;
+        for (let i = trail.slot.length - 1; i >= 0; i--) {
+          g = trail.reward[i] + discount * g;
+          if (settings.firstVisit && isFirst[i] === 0) continue;
+          const slot = trail.slot[i];
+          const n = ++table.visits[slot];
+          table.q[slot] += (g - table.q[slot]) / n;
+        }
       }
     }
   }
 
-  // Measurement: the greedy policy on fresh episodes (streams 0 and 1, never used in training).
-  let unlearnedSteps = 0;
-  const greedyAction = (state: number, t: number): number => {
-    const id = learningState(state, t);
-    const a = greedy(id, true);
+  /** The greedy action of the learned Q; a state without a tried action gets a random one (counted as unlearned). */
+  private readonly greedyAction = (state: number, t: number): number => {
+    const id = this.learningState(state, t);
+    const a = this.greedy(id, true);
     if (a >= 0) return a;
-    unlearnedSteps++;
-    return policy.nextInt(table.slotCount[id]);
+    this.unlearnedSteps++;
+    return this.policy.nextInt(this.table.slotCount[id]);
   };
-  const path: LearningSummary['path'] = { keys: [], actions: [], truncated: false };
-  const evaluation = rolloutGreedy(sampler, settings.evaluationEpisodes, seed, 0, limit, horizon, discount, greedyAction, policy, undefined, path);
 
-  const summary: LearningSummary = {
+  /** The greedy policy on `count` fresh episodes from `first` (streams 0 and 1, never used in training). */
+  measure(first: number, count: number, path?: LearningSummary['path']): EpisodeRecords {
+    const { horizon, discount, seed } = this.options;
+    return rolloutGreedy(this.sampler, count, seed, first, this.limit, horizon, discount, this.greedyAction, this.policy, undefined, path);
+  }
+
+  /** Learning states so far (training and measuring). */
+  get learningStates(): number {
+    return this.table.size;
+  }
+
+  /** The start state(s) first, then the most visited states, with each action's Q and visit count. */
+  keptStates(): LearnedState[] {
+    return keptStates(this.sampler, this.table, this.options.horizon !== undefined);
+  }
+
+  /** The learned values of the watched keys' learning states that have a tried action, in table order. */
+  watchedStates(): LearnedState[] | undefined {
+    const { sampler, table } = this;
+    const keys = this.options.watchKeys;
+    if (!keys) return undefined;
+    const watched = new Set(keys);
+    const kept: LearnedState[] = [];
+    const timed = this.options.horizon !== undefined;
+    for (let id = 0; id < table.size && kept.length < SOURCE_STATES; id++) {
+      if (table.sampleState[id] < 0 || !watched.has(sampler.keyOf(table.sampleState[id]))) continue;
+      let tried = false;
+      for (let k = table.slotStart[id]; k < table.slotStart[id] + table.slotCount[id]; k++) if (table.visits[k] > 0) tried = true;
+      if (tried) kept.push(keptState(sampler, table, id, timed));
+    }
+    return kept;
+  }
+
+  /** The training table as plain data (keys in the order training met them). */
+  exportTable(): LearnedTable {
+    const { sampler, table } = this;
+    const keys: string[] = [];
+    for (let s = 0; s < sampler.stateCount; s++) keys.push(sampler.keyOf(s));
+    const slotStart = new Int32Array(table.size + 1);
+    slotStart.set(table.slotStart.subarray(0, table.size));
+    slotStart[table.size] = table.slots;
+    return {
+      keys,
+      stateKey: table.sampleState.slice(0, table.size),
+      stateStep: table.stepOf.slice(0, table.size),
+      slotStart,
+      q: table.q.slice(0, table.slots),
+      visits: table.visits.slice(0, table.slots),
+    };
+  }
+
+  /** What measuring met beyond an imported table: new keys and new learning states, in the order first met. */
+  measuredBeyond(records: EpisodeRecords, path?: LearningSummary['path']): MeasuredPart {
+    const { sampler, table, imported } = this;
+    const newKeys: string[] = [];
+    for (let s = 0; s < sampler.stateCount; s++) {
+      const key = sampler.keyOf(s);
+      if (!imported?.keys.has(key)) newKeys.push(key);
+    }
+    const timed = this.options.horizon !== undefined;
+    const newStates: LearnedState[] = [];
+    for (let id = imported?.size ?? 0; id < table.size; id++) newStates.push(keptState(sampler, table, id, timed));
+    return { records, unlearnedSteps: this.unlearnedSteps, newKeys, newStates, path };
+  }
+
+  /** Whether the best start action is really best (summary.decision), or why that is not asked. */
+  decide(summary: Pick<LearningSummary, 'decision' | 'noDecision'>, measuredEpisodes: number): void {
+    if (this.startVaries) summary.noDecision = 'the start state varies between episodes';
+    else if (this.fixedStart < 0 || this.episodes === 0) summary.noDecision = 'no training episode ran';
+    else if (this.startEnds) summary.noDecision = 'the start state is terminal';
+    else decideStart(this.sampler, this.table, this.options, this.limit, measuredEpisodes, this.learningState(this.fixedStart, 0), this.greedyAction, this.policy, summary);
+  }
+}
+
+/** The summary's fields that do not depend on what was measured. */
+function summaryHead(settings: LearningSettings, spent: { episodes: number; steps: number }): Pick<LearningSummary, 'method' | 'visits' | 'epsilon' | 'budget' | 'spent'> {
+  return {
     method: settings.method,
     visits: settings.method === 'monte-carlo' ? (settings.firstVisit ? 'first' : 'every') : undefined,
     epsilon: settings.epsilon,
     budget: { episodes: settings.episodes, steps: settings.steps },
-    spent: { episodes, steps },
-    distinctKeys: sampler.stateCount,
-    learningStates: table.size,
-    unlearnedSteps,
-    path,
-    states: keptStates(sampler, table, horizon !== undefined),
+    spent,
   };
-  if (startVaries) summary.noDecision = 'the start state varies between episodes';
-  else if (fixedStart < 0 || episodes === 0) summary.noDecision = 'no training episode ran';
-  else if (startEnds) summary.noDecision = 'the start state is terminal';
-  else decideStart(sampler, table, options, limit, learningState(fixedStart, 0), greedyAction, policy, summary);
+}
+
+/**
+ * Learns Q within the budget, then rolls out the greedy policy of the learned Q. Errors of the
+ * sampler (model code) propagate; `learnModel` turns them into a RuntimeProblem.
+ */
+export function learnWithSampler(sampler: LearningSampler, options: LearnOptions): { summary: LearningSummary; evaluation: EpisodeRecords } {
+  const learner = new Learner(sampler, options);
+  learner.train();
+  const path: LearningSummary['path'] = { keys: [], actions: [], truncated: false };
+  const evaluation = learner.measure(0, options.settings.evaluationEpisodes, path);
+  const summary: LearningSummary = {
+    ...summaryHead(options.settings, { episodes: learner.episodes, steps: learner.steps }),
+    distinctKeys: sampler.stateCount,
+    learningStates: learner.learningStates,
+    unlearnedSteps: learner.unlearnedSteps,
+    path,
+    states: learner.keptStates(),
+  };
+  const watched = learner.watchedStates();
+  if (watched) summary.sourceStates = watched;
+  learner.decide(summary, options.settings.evaluationEpisodes);
   return { summary, evaluation };
+}
+
+/**
+ * The learning summary and measured episodes of a run split across children: the training part,
+ * the measured parts in episode order and the decision. The same figures as `learnWithSampler`:
+ * keys and learning states first met while measuring are counted once, in the order a single
+ * process would have met them, and fill the kept states after the training table's (they have no visits).
+ */
+export function joinLearning(
+  settings: LearningSettings,
+  trained: TrainedPart,
+  parts: readonly MeasuredPart[],
+  decision: Pick<LearningSummary, 'decision' | 'noDecision'>,
+): { summary: LearningSummary; evaluation: EpisodeRecords } {
+  const newKeys = new Set<string>();
+  const newStates = new Map<string, LearnedState>();
+  let unlearnedSteps = 0;
+  for (const part of parts) {
+    for (const key of part.newKeys) newKeys.add(key);
+    for (const state of part.newStates) {
+      const id = `${state.step ?? 0}\n${state.key}`;
+      if (!newStates.has(id)) newStates.set(id, state);
+    }
+    unlearnedSteps += part.unlearnedSteps;
+  }
+  const states = [...trained.kept];
+  for (const state of newStates.values()) {
+    if (states.length >= KEPT_STATES) break;
+    states.push(state);
+  }
+  const summary: LearningSummary = {
+    ...summaryHead(settings, trained.spent),
+    distinctKeys: trained.table.keys.length + newKeys.size,
+    learningStates: trained.table.stateKey.length + newStates.size,
+    unlearnedSteps,
+    path: parts[0]?.path ?? { keys: [], actions: [], truncated: false },
+    states,
+  };
+  if (trained.watched) summary.sourceStates = trained.watched;
+  if (decision.noDecision !== undefined) summary.noDecision = decision.noDecision;
+  if (decision.decision !== undefined) summary.decision = decision.decision;
+  return { summary, evaluation: joinRecords(parts.map((part) => part.records)) };
+}
+
+/** Episode records of consecutive ranges, in order. */
+export function joinRecords(parts: readonly EpisodeRecords[]): EpisodeRecords {
+  let total = 0;
+  for (const part of parts) total += part.returns.length;
+  const joined = { returns: new Float64Array(total), lengths: new Int32Array(total), ends: new Uint8Array(total) };
+  let at = 0;
+  for (const part of parts) {
+    joined.returns.set(part.returns, at);
+    joined.lengths.set(part.lengths, at);
+    joined.ends.set(part.ends, at);
+    at += part.returns.length;
+  }
+  return joined;
 }
 
 /** Episodes under `choose`, seeded per episode; `firstAction` forces the action at the first step. */
@@ -380,15 +627,17 @@ function rolloutGreedy(
 /** The start state(s) first, then the most visited states, with each action's Q and visit count. */
 function keptStates(sampler: LearningSampler, table: Table, timed: boolean): LearnedState[] {
   const order = Array.from({ length: table.size }, (_, i) => i).sort((x, y) => table.stateVisits[y] - table.stateVisits[x] || x - y);
-  return order.slice(0, KEPT_STATES).map((id) => {
-    const first = table.slotStart[id];
-    const actions: LearnedAction[] = [];
-    for (let a = 0; a < table.slotCount[id]; a++) {
-      const visits = table.visits[first + a];
-      actions.push({ action: sampler.actionNameOf(table.sampleState[id], a), q: visits > 0 ? table.q[first + a] : NaN, visits });
-    }
-    return { key: sampler.keyOf(table.sampleState[id]), step: timed ? table.stepOf[id] : undefined, visits: table.stateVisits[id], actions };
-  });
+  return order.slice(0, KEPT_STATES).map((id) => keptState(sampler, table, id, timed));
+}
+
+function keptState(sampler: LearningSampler, table: Table, id: number, timed: boolean): LearnedState {
+  const first = table.slotStart[id];
+  const actions: LearnedAction[] = [];
+  for (let a = 0; a < table.slotCount[id]; a++) {
+    const visits = table.visits[first + a];
+    actions.push({ action: sampler.actionNameOf(table.sampleState[id], a), q: visits > 0 ? table.q[first + a] : NaN, visits });
+  }
+  return { key: sampler.keyOf(table.sampleState[id]), step: timed ? table.stepOf[id] : undefined, visits: table.stateVisits[id], actions };
 }
 
 function decideStart(
@@ -396,10 +645,11 @@ function decideStart(
   table: Table,
   options: LearnOptions,
   limit: number,
+  measuredEpisodes: number,
   startId: number,
   choose: (state: number, t: number) => number,
   policy: Xoshiro128,
-  summary: LearningSummary,
+  summary: Pick<LearningSummary, 'decision' | 'noDecision'>,
 ): void {
   const episodes = options.settings.decisionEpisodes;
   if (episodes < 2) {
@@ -418,7 +668,7 @@ function decideStart(
   const [a, b] = tried;
   const start = table.sampleState[startId];
   // Fresh episodes past the measured ones, so the decision uses draws of its own.
-  const base = options.settings.evaluationEpisodes;
+  const base = measuredEpisodes;
   const arm = (action: number, offset: number) => {
     const records = rolloutGreedy(sampler, episodes, options.seed, base + offset, limit, options.horizon, options.discount, choose, policy, action);
     let mean = 0;
@@ -688,16 +938,74 @@ export function learnModel(model: ModelFunctions, options: LearnJobOptions, prog
   try {
     return learnWithSampler(sampler, options);
   } catch (error) {
-    const where = { episode: sampler.episode, step: sampler.steps };
-    const problem: RuntimeProblem =
-      error instanceof DeadEnd
-        ? { kind: 'dead-end', phase: 'actions', message: error.message, state: error.key, ...where }
-        : problemOf(error, sampler.phase, {
-            state: sampler.current === undefined ? undefined : describeValue(sampler.current),
-            action: sampler.currentAction === undefined ? undefined : String(sampler.currentAction),
-            ...where,
-          });
-    return { summary: emptySummary(options), evaluation: { returns: new Float64Array(0), lengths: new Int32Array(0), ends: new Uint8Array(0) }, problem };
+    return { summary: emptySummary(options), evaluation: { returns: new Float64Array(0), lengths: new Int32Array(0), ends: new Uint8Array(0) }, problem: samplerProblem(error, sampler) };
+  }
+}
+
+/** Where a sampler over model code was when model code failed, as a RuntimeProblem. */
+function samplerProblem(error: unknown, sampler: FunctionSampler): RuntimeProblem {
+  const where = { episode: sampler.episode, step: sampler.steps };
+  return error instanceof DeadEnd
+    ? { kind: 'dead-end', phase: 'actions', message: error.message, state: error.key, ...where }
+    : problemOf(error, sampler.phase, {
+        state: sampler.current === undefined ? undefined : describeValue(sampler.current),
+        action: sampler.currentAction === undefined ? undefined : String(sampler.currentAction),
+        ...where,
+      });
+}
+
+/** A learner trained in this process, kept for the decision (the worker's `decide` job). */
+export interface TrainedSession {
+  learner: Learner;
+  sampler: FunctionSampler;
+}
+
+/** The training phase over model functions (the `train` job). */
+export function trainModel(model: ModelFunctions, options: LearnJobOptions, progress?: Progress): { trained?: TrainedPart; problem?: RuntimeProblem; session?: TrainedSession } {
+  const sampler = new FunctionSampler(model, options.declaredTerms, progress);
+  try {
+    const learner = new Learner(sampler, options);
+    learner.train();
+    const trained: TrainedPart = {
+      table: learner.exportTable(),
+      spent: { episodes: learner.episodes, steps: learner.steps },
+      kept: learner.keptStates(),
+      watched: learner.watchedStates(),
+    };
+    return { trained, session: { learner, sampler } };
+  } catch (error) {
+    return { problem: samplerProblem(error, sampler) };
+  }
+}
+
+/** Options of the `measure` job: a range of measured episodes under a learned table. */
+export interface MeasureJobOptions extends LearnJobOptions {
+  table: LearnedTable;
+  first: number;
+  count: number;
+}
+
+/** The greedy policy of a learned table on a range of measured episodes (the `measure` job). */
+export function measureModel(model: ModelFunctions, options: MeasureJobOptions, progress?: Progress): { part?: MeasuredPart; problem?: RuntimeProblem } {
+  const sampler = new FunctionSampler(model, options.declaredTerms, progress);
+  try {
+    const learner = new Learner(sampler, options, options.table);
+    const path: LearningSummary['path'] | undefined = options.first === 0 ? { keys: [], actions: [], truncated: false } : undefined;
+    const records = learner.measure(options.first, options.count, path);
+    return { part: learner.measuredBeyond(records, path) };
+  } catch (error) {
+    return { problem: samplerProblem(error, sampler) };
+  }
+}
+
+/** The decision on the start actions of a trained session (the `decide` job). */
+export function decideModel(session: TrainedSession, measuredEpisodes: number): { decision: Pick<LearningSummary, 'decision' | 'noDecision'>; problem?: RuntimeProblem } {
+  const decision: Pick<LearningSummary, 'decision' | 'noDecision'> = {};
+  try {
+    session.learner.decide(decision, measuredEpisodes);
+    return { decision };
+  } catch (error) {
+    return { decision: {}, problem: samplerProblem(error, session.sampler) };
   }
 }
 

@@ -1,7 +1,10 @@
 /** Messages between the sandbox host and the child process that runs model code (worker.ts). */
-import type { LearnJobOptions, LearnRun } from './learn';
+import type { LearningSummary } from '../analysis/rollout-stats';
+import type { TransitionCounts } from '../model/empirical';
+import type { LearnJobOptions, LearnRun, MeasuredPart, MeasureJobOptions, TrainedPart } from './learn';
+import type { TrajectoryLog } from './transition-record';
 import type { KeyListing } from './enumeration-columns';
-import type { EnumerationHead, EnumerationOptions, RolloutOptions, RolloutRun } from './runtime';
+import type { EnumerationHead, EnumerationOptions, RolloutOptions, RolloutRun, RuntimeProblem } from './runtime';
 
 /** The file name model code carries in stack traces inside the sandbox. */
 export const MODEL_SCRIPT_NAME = 'episcope-model.js';
@@ -58,7 +61,13 @@ export type HostRequest =
   | { type: 'load'; code: string; specPath: string; limits: ChildLimits }
   | { type: 'enumerate'; options: Omit<EnumerationOptions, 'progress' | 'onExpand'> }
   | { type: 'rollouts'; options: Omit<RolloutOptions, 'progress'> }
-  | { type: 'learn'; options: LearnJobOptions };
+  | { type: 'learn'; options: LearnJobOptions }
+  /** --jobs N: the held recorder of a `rollouts` job with `holdRecording` replays the later ranges' logs in order, then explores. */
+  | { type: 'record'; logs: TrajectoryLog[]; seed: number; declaredTerms: string[] }
+  /** --jobs N: learning in phases (learn.ts); `decide` uses the learner this child trained last. */
+  | { type: 'train'; options: LearnJobOptions }
+  | { type: 'measure'; options: MeasureJobOptions }
+  | { type: 'decide'; measuredEpisodes: number };
 
 export type WorkerReply =
   | { type: 'loaded'; description: ModelDescription; randomness: RandomnessCall[] }
@@ -67,5 +76,9 @@ export type WorkerReply =
   | { type: 'enumerated'; head: EnumerationHead; keys: KeyListing; randomness: RandomnessCall[] }
   | { type: 'rolled'; run: RolloutRun; randomness: RandomnessCall[] }
   | { type: 'learned'; run: LearnRun; randomness: RandomnessCall[] }
+  | { type: 'recorded'; counts?: TransitionCounts; countsProblem?: RuntimeProblem; randomness: RandomnessCall[] }
+  | { type: 'trained'; trained?: TrainedPart; problem?: RuntimeProblem; randomness: RandomnessCall[] }
+  | { type: 'measured'; part?: MeasuredPart; problem?: RuntimeProblem; randomness: RandomnessCall[] }
+  | { type: 'decided'; decision: Pick<LearningSummary, 'decision' | 'noDecision'>; problem?: RuntimeProblem; randomness: RandomnessCall[] }
   /** An error outside any model call (an unhandled rejection, an uncaught throw in a timer); the child ends after it. */
   | { type: 'fault'; message: string; stack?: string };

@@ -6,7 +6,7 @@
  */
 import { withRoom, type NumberColumn } from '../model/compiled';
 import type { TransitionCounts } from '../model/empirical';
-import type { RecordOptions } from './transition-record';
+import type { RecordOptions, TrajectoryLog } from './transition-record';
 import { effectiveStepCap, END_FAILURE, END_GOAL, END_NEUTRAL, END_NONE, END_STEP_CAP, Xoshiro128, type EpisodeRecords } from '../analysis/rollouts';
 
 /** What a model function did wrong; `phase` names the function. */
@@ -822,6 +822,10 @@ export interface RolloutOptions {
   fingerprintEpisodes: number;
   /** Count the transitions per (state key, action) and explore from the keys seen (the worker does it). */
   record?: RecordOptions;
+  /** With `record`: keep the recorder in the child for a `record` job instead of exploring now (--jobs N, the first range). */
+  holdRecording?: boolean;
+  /** Log what a recorder would be fed instead of counting (--jobs N, the later ranges; transition-record.ts). */
+  log?: RecordOptions;
   progress: Progress;
 }
 
@@ -850,6 +854,8 @@ export interface RolloutRun {
   counts?: TransitionCounts;
   /** A problem of model code met while recording or exploring (the rollouts themselves went on). */
   countsProblem?: RuntimeProblem;
+  /** The logged trajectories, when `log` was asked for. */
+  log?: TrajectoryLog;
 }
 
 /**

@@ -86,20 +86,64 @@ export class TransitionRecorder implements StepRecorder {
     private readonly progress: Progress,
   ) {}
 
-  begin(state: unknown, code: number): void {
+  begin(state: unknown, code: number, key?: string): void {
     this.current = -1;
     if (this.stopped || this.steps >= this.options.countedSteps) return;
-    this.current = this.node(state, code);
+    this.current = this.node(state, code, key);
     if (this.current < 0) return;
     this.episodes++;
     this.starts.set(this.current, (this.starts.get(this.current) ?? 0) + 1);
   }
 
-  step(action: string, next: unknown, reward: number, terms: readonly number[], code: number): void {
+  step(action: string, next: unknown, reward: number, terms: readonly number[], code: number, key?: string): void {
     if (this.stopped || this.current < 0) return;
     const from = this.current;
-    this.current = this.record(from, action, next, reward, terms, code);
+    this.current = this.record(from, action, next, reward, terms, code, key);
     this.steps++;
+  }
+
+  /**
+   * Feeds the recorder the logged rollouts of a later range of episodes (--jobs N), as if this
+   * process had rolled them out itself: the same calls in the same order give the same counts.
+   */
+  replay(log: TrajectoryLog): void {
+    const terms: number[] = [];
+    const width = this.termNames.length;
+    const fail = (problem: RuntimeProblem) => {
+      this.problem = problem;
+      this.stopped = `the state key could not be formed (${problem.message})`;
+    };
+    const episodes = log.beginNode.length;
+    // A start whose key failed is the episode after the last logged one.
+    for (let e = 0; e <= episodes; e++) {
+      const failsAt = log.failure?.episode === e ? log.failure.step : -2;
+      if (failsAt === -1) {
+        this.current = -1;
+        if (!this.stopped && this.steps < this.options.countedSteps) fail(log.failure!.problem);
+        return;
+      }
+      if (e === episodes) return;
+      const start = log.beginNode[e];
+      this.begin(log.nodeValue[start], log.nodeCode[start], log.nodeKey[start]);
+      const last = failsAt >= 0 ? log.episodeStart[e] + failsAt : log.episodeStart[e + 1];
+      for (let k = log.episodeStart[e]; k < last; k++) {
+        const to = log.stepNode[k];
+        terms.length = 0;
+        for (let t = 0; t < width; t++) terms.push(log.stepTerms[k * width + t]);
+        const reward = log.stepReward[k];
+        // A non-finite reward stops recording before any key is formed, so its target is not logged.
+        if (to < 0) this.step(log.actions[log.stepAction[k]], undefined, reward, terms, 0, '');
+        else this.step(log.actions[log.stepAction[k]], log.nodeValue[to], reward, terms, log.nodeCode[to], log.nodeKey[to]);
+      }
+      if (failsAt >= 0) {
+        if (!this.stopped && this.current >= 0) {
+          fail(log.failure!.problem);
+          this.current = -1;
+          this.steps++;
+        }
+        return;
+      }
+    }
   }
 
   /**
@@ -183,12 +227,12 @@ export class TransitionRecorder implements StepRecorder {
   }
 
   /** Counts one transition; returns the target node, or -1 once recording has stopped. */
-  private record(from: number, action: string, next: unknown, reward: number, terms: readonly number[], code: number): number {
+  private record(from: number, action: string, next: unknown, reward: number, terms: readonly number[], code: number, key?: string): number {
     if (!Number.isFinite(reward)) {
       this.stopped = `a sampled reward was ${reward}, so no mean reward can be formed`;
       return -1;
     }
-    const to = this.node(next, code);
+    const to = this.node(next, code, key);
     if (to < 0) return -1;
     const pair = this.pairs[this.pairOf(from, action)];
     pair.samples++;
@@ -231,11 +275,11 @@ export class TransitionRecorder implements StepRecorder {
   }
 
   /** The node of a state entered with terminal kind `code`; -1 when the key cannot be formed or the cap is reached. */
-  private node(state: unknown, code: number): number {
+  private node(state: unknown, code: number, given?: string): number {
     let key: string;
     try {
       this.progress[1] = 6;
-      key = keyOfState(this.model, state);
+      key = given ?? keyOfState(this.model, state);
     } catch (error) {
       this.problem = problemOf(error, 'stateKey', { state: describeValue(state) });
       this.stopped = `the state key could not be formed (${this.problem.message})`;
@@ -259,6 +303,129 @@ export class TransitionRecorder implements StepRecorder {
     this.values.push(code === 0 ? structuredClone(state) : undefined);
     this.expanded.push(0);
     this.pairIndex.push(new Map());
+    return n;
+  }
+}
+
+/**
+ * The counted part of a range of rollouts as plain data (--jobs N): the child of a later range
+ * logs what its recorder would have been fed, with keys already formed, and the child of the first
+ * range replays the logs in episode order (`TransitionRecorder.replay`) before it explores.
+ */
+export interface TrajectoryLog {
+  /** Distinct (key, terminal kind) nodes in the order first logged, with a copy of the first state of each non-terminal one. */
+  nodeKey: string[];
+  nodeCode: number[];
+  nodeValue: unknown[];
+  /** Per logged episode: its start node and its first step; one more entry in episodeStart. */
+  beginNode: Int32Array;
+  episodeStart: Int32Array;
+  actions: string[];
+  stepAction: Int32Array;
+  /** The target node of each step; -1 after a non-finite reward (recording stops there). */
+  stepNode: Int32Array;
+  stepReward: Float64Array;
+  /** The declared terms' parts of each step's reward, `termCount` per step. */
+  stepTerms: Float64Array;
+  /** A key that could not be formed: at the start (step -1) or at a step of a logged episode. */
+  failure?: { episode: number; step: number; problem: RuntimeProblem };
+}
+
+/**
+ * A StepRecorder that logs instead of counting. It stops where the first range's recorder would
+ * certainly stop too: after `countedSteps` steps of its own, a key that cannot be formed, a
+ * non-finite reward, or more distinct keys than the cap.
+ */
+export class TrajectoryLogger implements StepRecorder {
+  private readonly nodeIndex = [new Map<string, number>(), new Map<string, number>(), new Map<string, number>(), new Map<string, number>()];
+  private readonly log = { nodeKey: [] as string[], nodeCode: [] as number[], nodeValue: [] as unknown[] };
+  private readonly beginNode: number[] = [];
+  private readonly episodeStart: number[] = [];
+  private readonly actionIndex = new Map<string, number>();
+  private readonly actions: string[] = [];
+  private readonly stepAction: number[] = [];
+  private readonly stepNode: number[] = [];
+  private readonly stepReward: number[] = [];
+  private readonly stepTerms: number[] = [];
+  private failure?: TrajectoryLog['failure'];
+  private done = false;
+  private logging = false;
+
+  constructor(
+    private readonly model: ModelFunctions,
+    private readonly options: RecordOptions,
+    private readonly termCount: number,
+    private readonly progress: Progress,
+  ) {}
+
+  begin(state: unknown, code: number): void {
+    this.logging = false;
+    if (this.done || this.stepNode.length >= this.options.countedSteps) {
+      this.done = true;
+      return;
+    }
+    const node = this.node(state, code, -1);
+    if (node < 0) return;
+    this.beginNode.push(node);
+    this.episodeStart.push(this.stepNode.length);
+    this.logging = true;
+  }
+
+  step(action: string, next: unknown, reward: number, terms: readonly number[], code: number): void {
+    if (this.done || !this.logging) return;
+    let known = this.actionIndex.get(action);
+    if (known === undefined) {
+      known = this.actions.length;
+      this.actions.push(action);
+      this.actionIndex.set(action, known);
+    }
+    let to = -1;
+    if (Number.isFinite(reward)) {
+      to = this.node(next, code, this.stepNode.length - this.episodeStart[this.episodeStart.length - 1]);
+      if (to < 0) return;
+    } else this.done = true;
+    this.stepAction.push(known);
+    this.stepNode.push(to);
+    this.stepReward.push(reward);
+    for (let t = 0; t < this.termCount; t++) this.stepTerms.push(terms[t] ?? 0);
+  }
+
+  result(): TrajectoryLog {
+    const episodeStart = Int32Array.from([...this.episodeStart, this.stepNode.length]);
+    return {
+      ...this.log,
+      beginNode: Int32Array.from(this.beginNode),
+      episodeStart,
+      actions: this.actions,
+      stepAction: Int32Array.from(this.stepAction),
+      stepNode: Int32Array.from(this.stepNode),
+      stepReward: Float64Array.from(this.stepReward),
+      stepTerms: Float64Array.from(this.stepTerms),
+      failure: this.failure,
+    };
+  }
+
+  /** The node of a state; -1 (and the log ends) when its key cannot be formed. `step` is where in the episode (-1: its start). */
+  private node(state: unknown, code: number, step: number): number {
+    let key: string;
+    try {
+      this.progress[1] = 6;
+      key = keyOfState(this.model, state);
+    } catch (error) {
+      this.failure = { episode: step < 0 ? this.beginNode.length : this.beginNode.length - 1, step, problem: problemOf(error, 'stateKey', { state: describeValue(state) }) };
+      this.done = true;
+      return -1;
+    }
+    const index = this.nodeIndex[code];
+    const known = index.get(key);
+    if (known !== undefined) return known;
+    const n = this.log.nodeKey.length;
+    this.log.nodeKey.push(key);
+    this.log.nodeCode.push(code);
+    this.log.nodeValue.push(code === 0 ? structuredClone(state) : undefined);
+    index.set(key, n);
+    // Past the cap the first range's recorder has stopped: more keys than this were seen by then.
+    if (n + 1 > this.options.keyCap) this.done = true;
     return n;
   }
 }

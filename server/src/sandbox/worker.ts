@@ -28,8 +28,8 @@ import {
   type ModelFunctions,
   type RolloutOptions,
 } from './runtime';
-import { TransitionRecorder } from './transition-record';
-import { learnModel } from './learn';
+import { TrajectoryLogger, TransitionRecorder } from './transition-record';
+import { decideModel, learnModel, measureModel, trainModel, type TrainedSession } from './learn';
 import { writeColumns } from './enumeration-columns';
 
 // What the sandbox itself needs, taken before model code can replace any of it.
@@ -324,6 +324,9 @@ function handle(request: HostRequest): WorkerReply {
   beginJob();
   if (request.type === 'load') {
     limits = request.limits;
+    // A warm child loads the model again: nothing of the last spec's jobs carries over.
+    session = undefined;
+    heldRecorder = undefined;
     return load(request.code, request.specPath);
   }
   if (!model) return { type: 'fault', message: 'no model is loaded' };
@@ -336,16 +339,47 @@ function handle(request: HostRequest): WorkerReply {
   if (request.type === 'learn') {
     return { type: 'learned', run: learnModel(model, request.options, progress), randomness: takeRandomness() };
   }
+  if (request.type === 'train') {
+    const trained = trainModel(model, request.options, progress);
+    session = trained.session;
+    return { type: 'trained', trained: trained.trained, problem: trained.problem, randomness: takeRandomness() };
+  }
+  if (request.type === 'measure') {
+    const measured = measureModel(model, request.options, progress);
+    return { type: 'measured', part: measured.part, problem: measured.problem, randomness: takeRandomness() };
+  }
+  if (request.type === 'decide') {
+    if (!session) return { type: 'fault', message: 'no learner was trained in this process' };
+    const decided = decideModel(session, request.measuredEpisodes);
+    session = undefined;
+    return { type: 'decided', decision: decided.decision, problem: decided.problem, randomness: takeRandomness() };
+  }
+  if (request.type === 'record') {
+    const recorder = heldRecorder;
+    heldRecorder = undefined;
+    if (!recorder) return { type: 'fault', message: 'no recording is held in this process' };
+    for (const log of request.logs) recorder.replay(log);
+    recorder.explore(request.seed, request.declaredTerms);
+    return { type: 'recorded', counts: recorder.result(), countsProblem: recorder.problem, randomness: takeRandomness() };
+  }
   const options: RolloutOptions = { ...request.options, progress };
   const recorder = options.record ? new TransitionRecorder(model, options.record, options.declaredTerms, progress) : undefined;
-  const run = rolloutModel(model, options, recorder);
-  if (recorder && !run.problem) {
+  const logger = options.log ? new TrajectoryLogger(model, options.log, options.declaredTerms.length, progress) : undefined;
+  const run = rolloutModel(model, options, recorder ?? logger);
+  if (logger) run.log = logger.result();
+  if (recorder && options.holdRecording) heldRecorder = run.problem ? undefined : recorder;
+  else if (recorder && !run.problem) {
     recorder.explore(options.seed, options.declaredTerms);
     run.counts = recorder.result();
     run.countsProblem = recorder.problem;
   }
   return { type: 'rolled', run, randomness: takeRandomness() };
 }
+
+/** The learner of the last `train` job, for the `decide` job that follows it. */
+let session: TrainedSession | undefined;
+/** The recorder of the first range's rollouts, for the `record` job that follows it (--jobs N). */
+let heldRecorder: TransitionRecorder | undefined;
 
 /** An error outside any model call: report it, then end this process (its state is unknown). */
 function fault(error: unknown): void {
