@@ -102,8 +102,12 @@ function childScript(): string {
   return childScriptPath;
 }
 
-/** How long a reply waits for the output printed before it (see OUTPUT_MARK). */
-const OUTPUT_WAIT_MS = 500;
+/**
+ * How long a reply waits for the output printed before it (see OUTPUT_MARK). The mark follows
+ * the output at once unless model code closed a stream, so the wait is only spent then; it is
+ * long enough that a machine under load (several children, load average 8) loses no output.
+ */
+const OUTPUT_WAIT_MS = 3000;
 
 /**
  * Removes end-of-job marks from one output stream and counts them. A mark split across two chunks
