@@ -62,9 +62,19 @@ await Promise.all(
 );
 
 // Rule pages (dist/docs/rules/<id>.md), linked from editor diagnostics; generated from the registry so they never go stale.
-const ruleDocs = await build({ ...common, entryPoints: ['server/src/lsp/rule-docs.ts'], write: false, outfile: 'rule-docs.js', sourcemap: false });
+const ruleDocs = await build({
+  ...common,
+  entryPoints: ['server/src/lsp/rule-docs.ts'],
+  write: false,
+  outfile: 'rule-docs.js',
+  sourcemap: false,
+});
 const ruleDocsModule = { exports: {} };
-new Function('module', 'exports', 'require', ruleDocs.outputFiles[0].text)(ruleDocsModule, ruleDocsModule.exports, createRequire(import.meta.url));
+new Function('module', 'exports', 'require', ruleDocs.outputFiles[0].text)(
+  ruleDocsModule,
+  ruleDocsModule.exports,
+  createRequire(import.meta.url),
+);
 ruleDocsModule.exports.writeRuleDocs('dist/docs/rules');
 
 // The package's types entry (package.json "types"): declarations of the authoring API, defineMdp.

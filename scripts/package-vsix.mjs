@@ -41,9 +41,13 @@ const vsce = require.resolve('@vscode/vsce/vsce');
 // images stay relative (there is no repository URL to point them at); the screenshots travel in the
 // package, so VS Code's extension page shows them.
 try {
-  execFileSync(process.execPath, [vsce, 'package', '--target', target, '--out', out, '--allow-missing-repository', '--no-rewrite-relative-links'], {
-    stdio: 'inherit',
-  });
+  execFileSync(
+    process.execPath,
+    [vsce, 'package', '--target', target, '--out', out, '--allow-missing-repository', '--no-rewrite-relative-links'],
+    {
+      stdio: 'inherit',
+    },
+  );
 } catch (error) {
   console.error(`vsce package failed (exit ${error.status ?? 'unknown'}); its message is above.`);
   process.exit(1);

@@ -49,7 +49,9 @@ export const CATALOG_RULE_IDS: readonly string[] = [
 function sourcesCell(rule: DocumentedRule): string {
   if (!rule.sources) return 'all (config and comments)';
   const short: Record<RuleSource, string> = { json: 'JSON', enumerable: 'TS enumerable', sampled: 'TS sampled' };
-  return RULE_SOURCES.filter((source) => rule.sources!.includes(source)).map((source) => short[source]).join(', ');
+  return RULE_SOURCES.filter((source) => rule.sources!.includes(source))
+    .map((source) => short[source])
+    .join(', ');
 }
 
 function escapeCell(text: string): string {
@@ -65,7 +67,8 @@ export function renderRulesTable(): string {
   };
   const sorted = [...rules].sort((a, b) => order(a.id) - order(b.id) || a.id.localeCompare(b.id));
   const lines = ['| rule | default | finds | runs on |', '|---|---|---|---|'];
-  for (const rule of sorted) lines.push(`| \`${rule.id}\` | ${rule.defaultSeverity} | ${escapeCell(rule.summary)} | ${sourcesCell(rule)} |`);
+  for (const rule of sorted)
+    lines.push(`| \`${rule.id}\` | ${rule.defaultSeverity} | ${escapeCell(rule.summary)} | ${sourcesCell(rule)} |`);
   const implemented = new Set(rules.map((r) => r.id));
   const planned = CATALOG_RULE_IDS.filter((id) => !implemented.has(id));
   if (planned.length > 0) {

@@ -39,7 +39,11 @@ export async function activate(context: vscode.ExtensionContext): Promise<void> 
   const serverModule = context.asAbsolutePath('dist/server.js');
   const serverOptions: ServerOptions = {
     run: { module: serverModule, transport: TransportKind.ipc },
-    debug: { module: serverModule, transport: TransportKind.ipc, options: { execArgv: ['--nolazy', '--inspect=6011'] } },
+    debug: {
+      module: serverModule,
+      transport: TransportKind.ipc,
+      options: { execArgv: ['--nolazy', '--inspect=6011'] },
+    },
   };
   const clientOptions: LanguageClientOptions = {
     documentSelector: [...SPEC_SELECTOR, { scheme: 'file', pattern: '**/episcope.config.json' }],
@@ -115,7 +119,8 @@ class StatusItem implements vscode.Disposable {
   show(uri: string | undefined): void {
     const params = uri ? this.byUri.get(uri) : undefined;
     this.item.busy = params?.state === 'analysing';
-    this.item.severity = params?.state === 'failed' ? vscode.LanguageStatusSeverity.Error : vscode.LanguageStatusSeverity.Information;
+    this.item.severity =
+      params?.state === 'failed' ? vscode.LanguageStatusSeverity.Error : vscode.LanguageStatusSeverity.Information;
     this.item.text = params?.state === 'off' ? 'Episcope (off)' : 'Episcope';
     const trust = vscode.workspace.isTrusted ? '' : ' · restricted mode: model code does not run';
     this.item.detail = (params?.text ?? '') + trust;

@@ -31,7 +31,10 @@ const OUTCOMES = 8;
 function buildModel(states: number, discount: number): CompiledModel {
   const random = seededRandom(20240601);
   // Room reserved up front as the spec compiler does (BENCH_RESERVE=0 measures the doubling path instead).
-  const reserve = process.env.BENCH_RESERVE === '0' ? undefined : { states, choices: states * ACTIONS, outcomes: states * ACTIONS * OUTCOMES };
+  const reserve =
+    process.env.BENCH_RESERVE === '0'
+      ? undefined
+      : { states, choices: states * ACTIONS, outcomes: states * ACTIONS * OUTCOMES };
   const builder = new ModelBuilder({ discount, maximize: true, reserve });
   const nowhere = { start: 0, end: 0 };
   for (let s = 0; s < states; s++) builder.addState(`s${s}`, undefined, nowhere);
@@ -57,10 +60,17 @@ const millions = (x: number): string => `${(x / 1e6).toFixed(1)} M`;
 const megabytes = (bytes: number): string => `${Math.round(bytes / (1 << 20))} MB`;
 /** The process's peak resident memory so far, in bytes (it never decreases, so each reading covers the phases before it). */
 const peakBytes = (): number => resourceUsage().maxRSS * 1024;
-const perTransition = (bytes: number, transitions: number): string => `${megabytes(bytes)}, ${(bytes / transitions).toFixed(1)} B per transition`;
+const perTransition = (bytes: number, transitions: number): string =>
+  `${megabytes(bytes)}, ${(bytes / transitions).toFixed(1)} B per transition`;
 
 /** A plain Jacobi sweep over the CSR arrays, one vector, no bookkeeping: the baseline. */
-function plainSweep(model: CompiledModel, from: Float64Array, to: Float64Array, discount: number, reward: Float64Array): void {
+function plainSweep(
+  model: CompiledModel,
+  from: Float64Array,
+  to: Float64Array,
+  discount: number,
+  reward: Float64Array,
+): void {
   const { choiceStart, outcomeStart, outcomeTarget, outcomeProb } = model;
   const n = model.stateCount;
   for (let s = 0; s < n; s++) {
@@ -102,7 +112,9 @@ function measureSweepRates(model: CompiledModel, discount: number, reward: Float
   t = process.hrtime.bigint();
   for (let i = 0; i < rounds; i++) sweepEstimate(op, nodes, estimate);
   const estimateRate = (rounds * transitions) / seconds(t);
-  console.log(`analysis sweep, one vector (Gauss-Seidel estimate): ${millions(estimateRate)} transitions/s (${((100 * estimateRate) / plainRate).toFixed(0)}% of baseline)`);
+  console.log(
+    `analysis sweep, one vector (Gauss-Seidel estimate): ${millions(estimateRate)} transitions/s (${((100 * estimateRate) / plainRate).toFixed(0)}% of baseline)`,
+  );
   const bounds = new Float64Array(2 * model.stateCount);
   for (let s = 0; s < model.stateCount; s++) bounds[2 * s + 1] = 1 / (1 - discount);
   const stats: SweepStats = { relativeWidth: 0, lowerViolations: 0, upperViolations: 0, crossed: false };
@@ -110,18 +122,24 @@ function measureSweepRates(model: CompiledModel, discount: number, reward: Float
   t = process.hrtime.bigint();
   for (let i = 0; i < rounds; i++) sweepBounds(op, nodes, bounds, true, true, stats);
   const boundsRate = (rounds * transitions) / seconds(t);
-  console.log(`analysis sweep, lower and upper bounds together: ${millions(boundsRate)} transitions/s (${millions(2 * boundsRate)} bound updates/s)`);
+  console.log(
+    `analysis sweep, lower and upper bounds together: ${millions(boundsRate)} transitions/s (${millions(2 * boundsRate)} bound updates/s)`,
+  );
 }
 
 export async function run(): Promise<void> {
   const states = Number(process.env.BENCH_STATES ?? 1_000_000);
   const discount = Number(process.env.BENCH_DISCOUNT ?? 0.9);
-  console.log(`random sparse MDP: ${states} states x ${ACTIONS} actions x ${OUTCOMES} outcomes, rewards in [0, 1), discount ${discount} (seeded, our own)`);
+  console.log(
+    `random sparse MDP: ${states} states x ${ACTIONS} actions x ${OUTCOMES} outcomes, rewards in [0, 1), discount ${discount} (seeded, our own)`,
+  );
 
   let t = process.hrtime.bigint();
   const model = buildModel(states, discount);
   const transitions = model.outcomeCount;
-  console.log(`compile (ModelBuilder to CSR arrays): ${seconds(t).toFixed(2)} s (target < 10 s), ${millions(transitions)} transitions`);
+  console.log(
+    `compile (ModelBuilder to CSR arrays): ${seconds(t).toFixed(2)} s (target < 10 s), ${millions(transitions)} transitions`,
+  );
   console.log(`peak memory after compile: ${perTransition(peakBytes(), transitions)}`);
 
   const reward = expectedRewards(model);
@@ -143,7 +161,9 @@ export async function run(): Promise<void> {
   const solved = seconds(t);
   let widest = 0;
   for (let s = 0; s < model.stateCount; s++) widest = Math.max(widest, solution.upper[s] - solution.lower[s]);
-  console.log(`graph preparation (predecessors, SCCs, end components): ${prepared.toFixed(2)} s, ${mecs.count} end component(s)`);
+  console.log(
+    `graph preparation (predecessors, SCCs, end components): ${prepared.toFixed(2)} s, ${mecs.count} end component(s)`,
+  );
   console.log(`peak memory after graph preparation: ${perTransition(peakAfterGraph, transitions)}`);
   console.log(
     `time to V* bounds of width <= 1e-6: ${solved.toFixed(2)} s, ${solution.sweeps} sweeps, widest bound ${widest.toExponential(2)}, V*(start) in [${solution.lower[0].toFixed(6)}, ${solution.upper[0].toFixed(6)}]`,
@@ -152,10 +172,14 @@ export async function run(): Promise<void> {
   if (process.env.BENCH_FULL === '1') {
     t = process.hrtime.bigint();
     const analysis = analyzeModel(model, { precision: 1e-6 });
-    console.log(`whole analyzeModel (optimal, worst, random, reach, lengths, Q): ${seconds(t).toFixed(2)} s, ${analysis.iterations} sweeps`);
+    console.log(
+      `whole analyzeModel (optimal, worst, random, reach, lengths, Q): ${seconds(t).toFixed(2)} s, ${analysis.iterations} sweeps`,
+    );
   }
 
   const memory = process.memoryUsage();
-  console.log(`memory now: rss ${megabytes(memory.rss)}, heap ${megabytes(memory.heapUsed)}, typed arrays ${megabytes(memory.arrayBuffers)}`);
+  console.log(
+    `memory now: rss ${megabytes(memory.rss)}, heap ${megabytes(memory.heapUsed)}, typed arrays ${megabytes(memory.arrayBuffers)}`,
+  );
   console.log(`peak memory (maxRSS): ${perTransition(peakBytes(), transitions)} (target <= 40 B per transition)`);
 }

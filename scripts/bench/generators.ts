@@ -130,7 +130,8 @@ export function randomWalkSpec(options: WalkOptions): GeneratedSpec {
   if (!(up > 0 && up < 1)) throw new Error(`the probability of a step up must be strictly between 0 and 1, not ${up}`);
   const start = options.start ?? Math.floor(n / 2);
   const states: Record<string, unknown> = {};
-  for (let i = 0; i <= n; i++) states[walkState(i)] = i === 0 ? { terminal: 'failure' } : i === n ? { terminal: 'goal' } : {};
+  for (let i = 0; i <= n; i++)
+    states[walkState(i)] = i === 0 ? { terminal: 'failure' } : i === n ? { terminal: 'goal' } : {};
   const transitions: unknown[] = [];
   for (let i = 1; i < n; i++) {
     transitions.push({
@@ -174,7 +175,10 @@ export function walkTruth(n: number, p: number, i: number): WalkTruth {
   const r = q / p;
   // (1 - r^i)/(1 - r^n) = r^(i-n) (1 - r^-i)/(1 - r^-n) when r > 1, so no power above 1 is formed.
   const ln = Math.log(r);
-  const goal = r < 1 ? Math.expm1(i * ln) / Math.expm1(n * ln) : Math.exp((i - n) * ln) * (Math.expm1(-i * ln) / Math.expm1(-n * ln));
+  const goal =
+    r < 1
+      ? Math.expm1(i * ln) / Math.expm1(n * ln)
+      : Math.exp((i - n) * ln) * (Math.expm1(-i * ln) / Math.expm1(-n * ln));
   return { goal, failure: 1 - goal, duration: i / (q - p) - (n / (q - p)) * goal };
 }
 
@@ -239,10 +243,22 @@ export default defineMdp({
  */
 export function wrongTypedTransitionsText(count: number): string {
   const transitions = Array.from({ length: count }, (_, i) => ({ from: i, action: 'go', to: 'g', reward: 1 }));
-  return JSON.stringify({ discount: 0.9, start: 'a', actions: ['go'], states: { a: {}, g: { terminal: 'goal' } }, transitions });
+  return JSON.stringify({
+    discount: 0.9,
+    start: 'a',
+    actions: ['go'],
+    states: { a: {}, g: { terminal: 'goal' } },
+    transitions,
+  });
 }
 
 export function blankPaddedSpecText(blanks: number): string {
-  const spec = { discount: 0.9, start: 'a', actions: ['go'], states: { a: {}, g: { terminal: 'goal' } }, transitions: [{ from: 'a', action: 'go', to: 'g', reward: 1 }] };
+  const spec = {
+    discount: 0.9,
+    start: 'a',
+    actions: ['go'],
+    states: { a: {}, g: { terminal: 'goal' } },
+    transitions: [{ from: 'a', action: 'go', to: 'g', reward: 1 }],
+  };
   return JSON.stringify(spec).replace('"transitions"', `${' '.repeat(blanks)}"transitions"`);
 }

@@ -25,15 +25,22 @@ export async function run(): Promise<void> {
       const path = join(folder, 'hostile.mdp.json');
       writeFileSync(path, text);
       const started = performance.now();
-      const result = spawnSync(process.execPath, [cli, 'check', '--format', 'json', path], { encoding: 'utf8', maxBuffer: 64 * 1024 * 1024 });
+      const result = spawnSync(process.execPath, [cli, 'check', '--format', 'json', path], {
+        encoding: 'utf8',
+        maxBuffer: 64 * 1024 * 1024,
+      });
       const seconds = (performance.now() - started) / 1000;
       let findings = '-';
       try {
-        findings = String((JSON.parse(result.stdout) as { files: Array<{ findings: unknown[] }> }).files[0].findings.length);
+        findings = String(
+          (JSON.parse(result.stdout) as { files: Array<{ findings: unknown[] }> }).files[0].findings.length,
+        );
       } catch {
         findings = `no JSON (exit ${result.status})`;
       }
-      console.log(`${c.name.padEnd(40)} ${`${(text.length / 1e6).toFixed(1)} MB`.padStart(9)} ${`${seconds.toFixed(2)} s`.padStart(8)}  ${findings}`);
+      console.log(
+        `${c.name.padEnd(40)} ${`${(text.length / 1e6).toFixed(1)} MB`.padStart(9)} ${`${seconds.toFixed(2)} s`.padStart(8)}  ${findings}`,
+      );
     }
   } finally {
     rmSync(folder, { recursive: true, force: true });

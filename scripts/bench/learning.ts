@@ -53,7 +53,9 @@ export async function run(): Promise<void> {
   let began = performance.now();
   const direct = learnModel(ring, options);
   let seconds = (performance.now() - began) / 1000;
-  console.log(`learning in process: ${direct.summary.spent.steps} steps in ${seconds.toFixed(2)} s (${Math.round(direct.summary.spent.steps / seconds)} steps/s; goal: 200k steps <= 2 s)`);
+  console.log(
+    `learning in process: ${direct.summary.spent.steps} steps in ${seconds.toFixed(2)} s (${Math.round(direct.summary.spent.steps / seconds)} steps/s; goal: 200k steps <= 2 s)`,
+  );
 
   const folder = mkdtempSync(join(tmpdir(), 'episcope-bench-learn-'));
   try {
@@ -67,7 +69,9 @@ export async function run(): Promise<void> {
       const learned = await sandbox.learn(options);
       seconds = (performance.now() - began) / 1000;
       const steps = learned.value?.summary.spent.steps ?? 0;
-      console.log(`learning in the sandbox: ${steps} steps in ${seconds.toFixed(2)} s (${Math.round(steps / seconds)} steps/s, thread start excluded)`);
+      console.log(
+        `learning in the sandbox: ${steps} steps in ${seconds.toFixed(2)} s (${Math.round(steps / seconds)} steps/s, thread start excluded)`,
+      );
     } finally {
       await sandbox.close();
     }

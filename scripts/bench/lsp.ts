@@ -31,37 +31,57 @@ export async function run(): Promise<void> {
   try {
     await client.initialize();
     // Figures scale with what else the machine runs; the load says how busy it was.
-    console.log(`machine: ${cpus().length} cores, load average ${loadavg().map((l) => l.toFixed(1)).join(' ')} at the start`);
+    console.log(
+      `machine: ${cpus().length} cores, load average ${loadavg()
+        .map((l) => l.toFixed(1))
+        .join(' ')} at the start`,
+    );
     const small = await openSpec(client, folder, 'small', warehouseSpecText(1_000), '"action":"hop"');
     console.log(`1k-state spec (${mb(small.text)}): opened, first diagnostics after ${ms(small.openMs)}`);
     const statusMark = client.statuses.length;
     const smallEdits = await timeEdits(client, small, EDITS);
     console.log(`  edit -> fresh diagnostics (warm), ${EDITS} edits: ${summary(smallEdits)}   (target p95 <= 100 ms)`);
-    console.log(`    of which the pipeline in the worker (analyzeFile and the snapshot): ${summary(workerTimes(client, small.uri, statusMark))}`);
+    console.log(
+      `    of which the pipeline in the worker (analyzeFile and the snapshot): ${summary(workerTimes(client, small.uri, statusMark))}`,
+    );
     const smallCold = await timeReopens(client, small, 5);
     console.log(`  reopen -> diagnostics (cold), 5 reopens: ${summary(smallCold)}`);
     const idleHovers = await timeHovers(client, small, HOVERS);
     console.log(`  hover, idle, ${HOVERS} hovers: ${summary(idleHovers)}   (target p95 <= 20 ms)`);
 
-    const grid = await openSpec(client, folder, 'grid', JSON.stringify(slipperyGridSpec({ size: 100, discount: 0.99 })), '"from":"r50c50"');
-    console.log(`100x100 slippery grid at discount 0.99 (${mb(grid.text)}): opened, first diagnostics after ${ms(grid.openMs)}`);
+    const grid = await openSpec(
+      client,
+      folder,
+      'grid',
+      JSON.stringify(slipperyGridSpec({ size: 100, discount: 0.99 })),
+      '"from":"r50c50"',
+    );
+    console.log(
+      `100x100 slippery grid at discount 0.99 (${mb(grid.text)}): opened, first diagnostics after ${ms(grid.openMs)}`,
+    );
     const gridMark = client.statuses.length;
     const gridEdits = await timeEdits(client, grid, GRID_EDITS);
     console.log(`  edit -> fresh diagnostics (warm), ${GRID_EDITS} edits: ${summary(gridEdits)}   (target <= 1 s)`);
     console.log(`    of which the pipeline in the worker: ${summary(workerTimes(client, grid.uri, gridMark))}`);
     const gridReopenMark = client.statuses.length;
     const gridCold = await timeReopens(client, grid, 2);
-    console.log(`  reopen -> diagnostics (cold), 2 reopens: ${summary(gridCold)} (pipeline in the worker ${summary(workerTimes(client, grid.uri, gridReopenMark))})`);
+    console.log(
+      `  reopen -> diagnostics (cold), 2 reopens: ${summary(gridCold)} (pipeline in the worker ${summary(workerTimes(client, grid.uri, gridReopenMark))})`,
+    );
     await close(client, grid);
 
     const large = await openSpec(client, folder, 'large', warehouseSpecText(100_000), '"action":"hop"');
     console.log(`100k-state spec (${mb(large.text)}): opened, first diagnostics after ${ms(large.openMs)}`);
     const largeMark = client.statuses.length;
     const quietLarge = await timeEdits(client, large, 2);
-    console.log(`  edit -> fresh diagnostics (warm), nothing else running: ${summary(quietLarge)} (pipeline in the worker ${summary(workerTimes(client, large.uri, largeMark))})   (target <= 3 s)`);
+    console.log(
+      `  edit -> fresh diagnostics (warm), nothing else running: ${summary(quietLarge)} (pipeline in the worker ${summary(workerTimes(client, large.uri, largeMark))})   (target <= 3 s)`,
+    );
     const largeReopenMark = client.statuses.length;
     const largeCold = await timeReopens(client, large, 1);
-    console.log(`  reopen -> diagnostics (cold): ${summary(largeCold)} (pipeline in the worker ${summary(workerTimes(client, large.uri, largeReopenMark))})`);
+    console.log(
+      `  reopen -> diagnostics (cold): ${summary(largeCold)} (pipeline in the worker ${summary(workerTimes(client, large.uri, largeReopenMark))})`,
+    );
 
     // One edit of the large spec, with the editor kept busy meanwhile: hovers on both specs every
     // 20 ms and edits of the small spec, each timed, until the large spec's fresh diagnostics arrive.
@@ -83,7 +103,11 @@ export async function run(): Promise<void> {
     console.log(`  while it was analysed: hover on the 1k spec ${summary(during.smallHovers)}`);
     console.log(`                         hover on the 100k spec (previous analysis) ${summary(during.largeHovers)}`);
     console.log(`                         1k spec edit -> diagnostics ${summary(during.smallEdits)}`);
-    console.log(`machine: load average ${loadavg().map((l) => l.toFixed(1)).join(' ')} at the end`);
+    console.log(
+      `machine: load average ${loadavg()
+        .map((l) => l.toFixed(1))
+        .join(' ')} at the end`,
+    );
     await client.stop();
   } finally {
     if (client.process.exitCode === null) client.process.kill();
@@ -102,14 +126,27 @@ interface OpenSpec {
   hoverTargets: Array<{ line: number; character: number }>;
 }
 
-async function openSpec(client: TestClient, folder: string, name: string, text: string, editAnchor: string): Promise<OpenSpec> {
+async function openSpec(
+  client: TestClient,
+  folder: string,
+  name: string,
+  text: string,
+  editAnchor: string,
+): Promise<OpenSpec> {
   const path = join(folder, `${name}.mdp.json`);
   writeFileSync(path, text);
   const uri = pathUri(path);
   const started = performance.now();
   await client.open(uri, text);
   await client.pushed(uri, 1, 0, LARGE_TIMEOUT_MS);
-  return { uri, text, version: 1, editAnchor, openMs: performance.now() - started, hoverTargets: declarationPositions(text, 200) };
+  return {
+    uri,
+    text,
+    version: 1,
+    editAnchor,
+    openMs: performance.now() - started,
+    hoverTargets: declarationPositions(text, 200),
+  };
 }
 
 async function close(client: TestClient, spec: OpenSpec): Promise<void> {
@@ -138,7 +175,10 @@ function declarationPositions(text: string, count: number): Array<{ line: number
   const end = lines.indexOf('  },');
   for (let line = 0; line < end; line++) if (/^ {2}"b\d+": \{/.test(lines[line])) declarations.push(line);
   const step = Math.max(1, Math.floor(declarations.length / count));
-  return declarations.filter((_, i) => i % step === 0).slice(0, count).map((line) => ({ line, character: 3 }));
+  return declarations
+    .filter((_, i) => i % step === 0)
+    .slice(0, count)
+    .map((line) => ({ line, character: 3 }));
 }
 
 /** Edits the first reward after the spec's anchor back and forth (-1, -2); resolves with each edit's time to its diagnostics. */

@@ -111,7 +111,12 @@ function killGroup(group: number): void {
 }
 
 /** Runs a command with a time limit; past it the whole process group is killed. */
-function runLimited(command: string, args: readonly string[], limitSeconds: number, env?: NodeJS.ProcessEnv): Promise<RunResult> {
+function runLimited(
+  command: string,
+  args: readonly string[],
+  limitSeconds: number,
+  env?: NodeJS.ProcessEnv,
+): Promise<RunResult> {
   return new Promise((resolve) => {
     const began = performance.now();
     // A group of its own, so that whatever the run starts is stopped with it.
@@ -208,7 +213,10 @@ const COLUMNS: ReadonlyArray<[keyof Row, string, number]> = [
   ['ratio', 'ratio', 7],
 ];
 
-const line = (row: Row): string => COLUMNS.map(([key, , size]) => row[key].padEnd(size)).join(' ').trimEnd();
+const line = (row: Row): string =>
+  COLUMNS.map(([key, , size]) => row[key].padEnd(size))
+    .join(' ')
+    .trimEnd();
 const header = (): Row => Object.fromEntries(COLUMNS.map(([key, title]) => [key, title])) as unknown as Row;
 
 /** The row of one `episcope check --format json` run. */
@@ -228,17 +236,31 @@ function checkRow(spec: BenchSpec, run: RunResult, limit: number): { row: Row; s
   const file = report?.files?.[0];
   row.check = secondsText(run.seconds);
   const analysis = file?.analysis;
-  if (!analysis) return { row: { ...row, value: `not analysed: ${file?.notAnalysed ?? file?.internalErrors?.[0] ?? 'no reason given'}`.slice(0, 60) }, seconds: run.seconds };
+  if (!analysis)
+    return {
+      row: {
+        ...row,
+        value: `not analysed: ${file?.notAnalysed ?? file?.internalErrors?.[0] ?? 'no reason given'}`.slice(0, 60),
+      },
+      seconds: run.seconds,
+    };
   const start = analysis.start;
   row.states = String(analysis.states);
   const precision = analysis.precision;
-  const widest = Math.max(width(start.optimal), width(start.worst), width(start.random), finite(precision) ? precision : Infinity);
+  const widest = Math.max(
+    width(start.optimal),
+    width(start.worst),
+    width(start.random),
+    finite(precision) ? precision : Infinity,
+  );
   row.widest = Number.isFinite(widest) ? widest.toExponential(2) : 'inf';
   // Counters the analysis may report; "-" until it does.
   const solver = analysis.solver;
   row.sweeps = finite(solver?.sweeps) ? String(solver.sweeps) : '-';
   // Krylov iterations count the solver's work whatever the machine's load.
-  row.solves = finite(solver?.solves) ? `${solver.solves}${finite(solver?.krylovIterations) ? ` (${solver.krylovIterations})` : ''}` : '-';
+  row.solves = finite(solver?.solves)
+    ? `${solver.solves}${finite(solver?.krylovIterations) ? ` (${solver.krylovIterations})` : ''}`
+    : '-';
   row.value = interval(start.optimal);
   row.reach = `${figure(start.reach?.random?.goal)} / ${figure(start.reach?.random?.failure)}`;
   row.length = figure(start.expectedLength?.random);
@@ -252,17 +274,36 @@ function scipyAvailable(): boolean {
 
 /** The scipy script beside this section's source, from the bundle in dist/ or from the source folder. */
 function scipyScript(): string | undefined {
-  return [join(__dirname, '..', 'scripts', 'bench', 'scipy-policy-iteration.py'), join(__dirname, 'scipy-policy-iteration.py')].find((path) => existsSync(path));
+  return [
+    join(__dirname, '..', 'scripts', 'bench', 'scipy-policy-iteration.py'),
+    join(__dirname, 'scipy-policy-iteration.py'),
+  ].find((path) => existsSync(path));
 }
 
 /** The 1M x 4 x 8 figure of the `analysis` section, run as its own process so the time limit holds. */
 async function timeToBounds(limit: number): Promise<Row> {
-  const row: Row = { ...header(), spec: 'random 1M x 4 x 8, V* to 1e-6', states: '1000000', target: '<= 5 s', truth: '-', scipy: '-', ratio: '-' };
+  const row: Row = {
+    ...header(),
+    spec: 'random 1M x 4 x 8, V* to 1e-6',
+    states: '1000000',
+    target: '<= 5 s',
+    truth: '-',
+    scipy: '-',
+    ratio: '-',
+  };
   for (const key of ['widest', 'sweeps', 'solves', 'value', 'reach', 'length'] as const) row[key] = '-';
-  const run = await runLimited(process.execPath, [process.argv[1], 'analysis'], limit, { ...process.env, BENCH_BOUNDS_ONLY: '1', BENCH_STATES: '1000000' });
+  const run = await runLimited(process.execPath, [process.argv[1], 'analysis'], limit, {
+    ...process.env,
+    BENCH_BOUNDS_ONLY: '1',
+    BENCH_STATES: '1000000',
+  });
   if (run.outcome === 'over') return { ...row, check: `over ${limit} s` };
-  const solved = /time to V\* bounds of width <= 1e-6: ([\d.]+) s, (\d+) sweeps, widest bound (\S+), V\*\(start\) in \[(\S+), (\S+)\]/.exec(run.stdout);
-  if (!solved) return { ...row, check: 'failed', value: (run.stderr.trim().split('\n')[0] || 'no figure printed').slice(0, 60) };
+  const solved =
+    /time to V\* bounds of width <= 1e-6: ([\d.]+) s, (\d+) sweeps, widest bound (\S+), V\*\(start\) in \[(\S+), (\S+)\]/.exec(
+      run.stdout,
+    );
+  if (!solved)
+    return { ...row, check: 'failed', value: (run.stderr.trim().split('\n')[0] || 'no figure printed').slice(0, 60) };
   const prepared = /graph preparation \(predecessors, SCCs, end components\): ([\d.]+) s/.exec(run.stdout);
   return {
     ...row,
@@ -277,7 +318,8 @@ async function timeToBounds(limit: number): Promise<Row> {
 /** The `solver` section of `npm run bench`. */
 export async function run(): Promise<void> {
   const limit = Number(process.env.BENCH_SOLVER_LIMIT ?? 120);
-  if (!(limit > 0)) throw new Error(`BENCH_SOLVER_LIMIT must be a positive number of seconds, not '${process.env.BENCH_SOLVER_LIMIT}'`);
+  if (!(limit > 0))
+    throw new Error(`BENCH_SOLVER_LIMIT must be a positive number of seconds, not '${process.env.BENCH_SOLVER_LIMIT}'`);
   const quick = process.env.BENCH_SOLVER_QUICK === '1';
   const only = (process.env.BENCH_SOLVER_ONLY ?? '')
     .split(',')
@@ -285,14 +327,17 @@ export async function run(): Promise<void> {
     .filter(Boolean);
   // A word that is a whole spec name picks that spec alone ("grid 100x100 discount 0.9" not also 0.99).
   const names = specs().map((spec) => spec.name);
-  const wanted = (name: string) => only.length === 0 || only.some((word) => (names.includes(word) ? name === word : name.includes(word)));
+  const wanted = (name: string) =>
+    only.length === 0 || only.some((word) => (names.includes(word) ? name === word : name.includes(word)));
   stopRunsOnSignal();
   const cli = join(__dirname, 'cli.js');
   if (!existsSync(cli)) throw new Error(`the built CLI is missing at ${cli}: run 'node scripts/bundle.mjs' first`);
   const script = scipyScript();
   const scipy = script !== undefined && scipyAvailable();
 
-  console.log(`whole 'episcope check --format json' per spec (generated, our own), time limit ${limit} s per run${quick ? ', small specs only' : ''}`);
+  console.log(
+    `whole 'episcope check --format json' per spec (generated, our own), time limit ${limit} s per run${quick ? ', small specs only' : ''}`,
+  );
   console.log(
     scipy
       ? "scipy PI: in-process time of a policy iteration with a sparse direct solve per evaluation, plus the random policy's reach and length solves (file loading excluded); ratio = check / scipy PI"
@@ -317,7 +362,13 @@ export async function run(): Promise<void> {
             reference = JSON.parse(solved.stdout) as Record<string, number>;
             row.scipy = secondsText(reference.seconds);
             // A check cut by the limit took at least the limit: the ratio is then a lower bound.
-            if (reference.seconds > 0) row.ratio = seconds !== undefined ? `${(seconds / reference.seconds).toFixed(1)}x` : checked.outcome === 'over' ? `> ${(limit / reference.seconds).toFixed(0)}x` : '-';
+            if (reference.seconds > 0)
+              row.ratio =
+                seconds !== undefined
+                  ? `${(seconds / reference.seconds).toFixed(1)}x`
+                  : checked.outcome === 'over'
+                    ? `> ${(limit / reference.seconds).toFixed(0)}x`
+                    : '-';
           } catch {
             row.scipy = 'failed';
           }

@@ -116,7 +116,12 @@ export async function measureTypeScript(): Promise<TypeScriptFigures> {
     const directSeconds = (performance.now() - directBegan) / 1000;
     const directSteps = run.records.lengths.reduce((a, b) => a + b, 0);
     const directEnumerationBegan = performance.now();
-    const directEnumeration = enumerateModel(direct, { stateCap: 200_000, declaredTerms: [], recheckChoices: 0, progress });
+    const directEnumeration = enumerateModel(direct, {
+      stateCap: 200_000,
+      declaredTerms: [],
+      recheckChoices: 0,
+      progress,
+    });
     const directEnumerationSeconds = (performance.now() - directEnumerationBegan) / 1000;
 
     return {
@@ -154,7 +159,16 @@ async function loadDirectly(path: string): Promise<ModelFunctions> {
  * 30 x 30 slippery grid of our own (900 keys, four moves), called directly, with and without the
  * recorder and the exploration pass at the default budget, and the empirical model built from them.
  */
-export function measureRecording(): { plain: { episodes: number; steps: number }; plainSeconds: number; recordedSeconds: number; buildSeconds: number; episodes: number; steps: number; exploreSamples: number; states: number } {
+export function measureRecording(): {
+  plain: { episodes: number; steps: number };
+  plainSeconds: number;
+  recordedSeconds: number;
+  buildSeconds: number;
+  episodes: number;
+  steps: number;
+  exploreSamples: number;
+  states: number;
+} {
   const size = 30;
   const moves: Record<string, [number, number]> = { north: [0, -1], south: [0, 1], east: [1, 0], west: [-1, 0] };
   const clamp = (v: number) => Math.min(size - 1, Math.max(0, v));
@@ -169,21 +183,50 @@ export function measureRecording(): { plain: { episodes: number; steps: number }
       return { state: next, reward: -1, terminal: next.x === size - 1 && next.y === size - 1 ? 'goal' : undefined };
     },
   };
-  const options = { episodes: 1000, seed: 1, discount: 0.99, stepCap: 10_000, declaredTerms: [], fingerprintEpisodes: 0, progress: new Int32Array(5) };
+  const options = {
+    episodes: 1000,
+    seed: 1,
+    discount: 0.99,
+    stepCap: 10_000,
+    declaredTerms: [],
+    fingerprintEpisodes: 0,
+    progress: new Int32Array(5),
+  };
   let began = performance.now();
   const plainRun = rolloutModel(grid, options);
   const plain = { episodes: plainRun.completed, steps: plainRun.records.lengths.reduce((a, b) => a + b, 0) };
   const plainSeconds = (performance.now() - began) / 1000;
   began = performance.now();
-  const recorder = new TransitionRecorder(grid, { keyCap: 5000, tries: 30, exploreBudget: 100_000, countedSteps: 200_000 }, [], options.progress);
+  const recorder = new TransitionRecorder(
+    grid,
+    { keyCap: 5000, tries: 30, exploreBudget: 100_000, countedSteps: 200_000 },
+    [],
+    options.progress,
+  );
   rolloutModel(grid, options, recorder);
   recorder.explore(options.seed, []);
   const counts = recorder.result();
   const recordedSeconds = (performance.now() - began) / 1000;
   began = performance.now();
-  const built = buildEmpiricalModel(counts, { discount: 0.99, maximize: true, terms: [], span: { start: 0, end: 0 }, tolerance: 0.1, declaredKinds: new Set() });
+  const built = buildEmpiricalModel(counts, {
+    discount: 0.99,
+    maximize: true,
+    terms: [],
+    span: { start: 0, end: 0 },
+    tolerance: 0.1,
+    declaredKinds: new Set(),
+  });
   const buildSeconds = (performance.now() - began) / 1000;
-  return { plain, plainSeconds, recordedSeconds, buildSeconds, episodes: counts.episodes, steps: counts.steps, exploreSamples: counts.exploreSamples, states: built.model?.stateCount ?? 0 };
+  return {
+    plain,
+    plainSeconds,
+    recordedSeconds,
+    buildSeconds,
+    episodes: counts.episodes,
+    steps: counts.steps,
+    exploreSamples: counts.exploreSamples,
+    states: built.model?.stateCount ?? 0,
+  };
 }
 
 /** The `typescript` section of `npm run bench`. */
@@ -254,7 +297,11 @@ export async function measureLargeEnumeration(states: number): Promise<LargeEnum
   writeFileSync(path, text);
   try {
     endIdleSandboxes();
-    const thresholds = { 'model-error.memoryMb': 4096, 'model-error.jobTimeoutMs': 600_000, 'model-error.callTimeoutMs': 10_000 };
+    const thresholds = {
+      'model-error.memoryMb': 4096,
+      'model-error.jobTimeoutMs': 600_000,
+      'model-error.callTimeoutMs': 10_000,
+    };
     const config = resolveConfig({ stateCap: states + 1, thresholds });
     const began = performance.now();
     const loaded = await loadTypeScriptSpec(path, text, { config, exec: true });
@@ -279,7 +326,8 @@ export async function measureLargeEnumeration(states: number): Promise<LargeEnum
 }
 
 function largeEnumerationLine(f: LargeEnumerationFigures): string {
-  const perTransition = (bytes: number) => `${Math.round(bytes / (1 << 20))} MB (${(bytes / f.outcomes).toFixed(1)} B per transition)`;
+  const perTransition = (bytes: number) =>
+    `${Math.round(bytes / (1 << 20))} MB (${(bytes / f.outcomes).toFixed(1)} B per transition)`;
   return (
     `TypeScript random model ${f.states} states x 4 x 8: ${f.outcomes} transitions loaded in ${f.seconds.toFixed(2)} s (target < 10 s), ` +
     `of which the enumeration job ${f.enumerationSeconds.toFixed(2)} s (${(f.outcomes / f.enumerationSeconds / 1e6).toFixed(2)} M transitions/s, target >= 1 M); peak memory host ${perTransition(f.hostPeakBytes)} (target <= 40 B), sandbox child ${perTransition(f.childPeakBytes)}`

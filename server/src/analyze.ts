@@ -54,7 +54,11 @@ async function loadTypeScript(path: string, text: string, options: AnalyzeOption
 /** Loads a JSON spec (`*.mdp.json`). Never throws. */
 export function loadJsonSpec(text: string): LoadedSpec {
   const parsed = parseJsonSpec(text);
-  const loaded: LoadedSpec = { spec: parsed.spec, findings: parsed.findings, internalErrors: parsed.internalError ? [parsed.internalError] : [] };
+  const loaded: LoadedSpec = {
+    spec: parsed.spec,
+    findings: parsed.findings,
+    internalErrors: parsed.internalError ? [parsed.internalError] : [],
+  };
   const unreadable = unreadableJson(text, parsed.findings);
   if (unreadable) loaded.unreadable = unreadable;
   return loaded;
@@ -81,7 +85,9 @@ function unreadableJson(text: string, findings: Finding[]): string | undefined {
   }
   if (text.trim() === '') return 'the document is empty';
   const deep = findings.find((f) => f.rule === 'schema' && f.message.startsWith(NESTING_PREFIX));
-  return deep ? `values are nested more than ${MAX_NESTING_DEPTH} levels deep, so the document was not read` : undefined;
+  return deep
+    ? `values are nested more than ${MAX_NESTING_DEPTH} levels deep, so the document was not read`
+    : undefined;
 }
 
 /** Analyses a JSON spec (`*.mdp.json`). Never throws for any input text. */
@@ -102,18 +108,36 @@ export function analyzeParsed(
   options: AnalyzeOptions = {},
   prebuiltModel?: CompileResult,
 ): FileReport {
-  return analyzeLoaded(path, text, { spec, findings: loaderFindings, enumerated: prebuiltModel, internalErrors: [] }, { ...options, config });
+  return analyzeLoaded(
+    path,
+    text,
+    { spec, findings: loaderFindings, enumerated: prebuiltModel, internalErrors: [] },
+    { ...options, config },
+  );
 }
 
 /** Compile, analyse, check and suppress a loaded spec. Never throws. */
-export function analyzeLoaded(path: string, text: string, loaded: LoadedSpec, options: AnalyzeOptions = {}): FileReport {
+export function analyzeLoaded(
+  path: string,
+  text: string,
+  loaded: LoadedSpec,
+  options: AnalyzeOptions = {},
+): FileReport {
   try {
     return runStages(path, text, loaded, options);
   } catch (error) {
     // Each stage guards itself; this catches a bug in the code between them, so no front ever gets a rejection.
     const reason = `the analysis of the spec failed: ${errorText(error)}`;
     const internalErrors = [...loaded.internalErrors, reason];
-    const report: FileReport = { path, text, lines: new LineIndex(text), spec: loaded.spec, findings: [...loaded.findings], internalErrors, notAnalysed: internalErrors[0] };
+    const report: FileReport = {
+      path,
+      text,
+      lines: new LineIndex(text),
+      spec: loaded.spec,
+      findings: [...loaded.findings],
+      internalErrors,
+      notAnalysed: internalErrors[0],
+    };
     // What the model code printed is the user's to see even then.
     if (loaded.modelOutput) report.modelOutput = loaded.modelOutput;
     return report;
@@ -123,7 +147,14 @@ export function analyzeLoaded(path: string, text: string, loaded: LoadedSpec, op
 function runStages(path: string, text: string, loaded: LoadedSpec, options: AnalyzeOptions): FileReport {
   const config = options.config ?? DEFAULT_CONFIG;
   const lines = new LineIndex(text);
-  const report: FileReport = { path, text, lines, spec: loaded.spec, findings: [], internalErrors: [...loaded.internalErrors] };
+  const report: FileReport = {
+    path,
+    text,
+    lines,
+    spec: loaded.spec,
+    findings: [],
+    internalErrors: [...loaded.internalErrors],
+  };
   if (report.internalErrors.length > 0) report.notAnalysed = report.internalErrors[0];
   const findings: Finding[] = [];
   for (const f of loaded.findings) {
@@ -141,7 +172,11 @@ function runStages(path: string, text: string, loaded: LoadedSpec, options: Anal
   const analysisWanted = options.analysis === true || enabled.some((rule) => rule.needs === 'analysis');
   if (compiled.model && analysisWanted && !options.isCancelled?.()) {
     try {
-      report.analysis = analyzeModel(compiled.model, { precision: config.precision, startFrom: options.startFrom, keepSolution: options.keepSolution });
+      report.analysis = analyzeModel(compiled.model, {
+        precision: config.precision,
+        startFrom: options.startFrom,
+        keepSolution: options.keepSolution,
+      });
     } catch (error) {
       report.notAnalysed = `the analysis failed: ${errorText(error)}`;
       report.internalErrors.push(report.notAnalysed);
@@ -150,11 +185,18 @@ function runStages(path: string, text: string, loaded: LoadedSpec, options: Anal
   if (report.model && report.analysis && config.rollouts > 0 && !options.isCancelled?.()) {
     try {
       const stepCap = ruleThreshold(config, episodeNeverEnds, 'stepCap');
-      report.rollouts = exactModelRollouts(report.model, report.analysis, { episodes: config.rollouts, seed: config.seed, stepCap });
+      report.rollouts = exactModelRollouts(report.model, report.analysis, {
+        episodes: config.rollouts,
+        seed: config.seed,
+        stepCap,
+      });
       const method = config.learning.method;
       if (method !== 'off') {
         const settings = { ...DEFAULT_LEARNING, ...config.learning, method, evaluationEpisodes: config.rollouts };
-        Object.assign(report.rollouts, exactModelLearning(report.model, report.analysis.start.optimal, settings, { seed: config.seed, stepCap }));
+        Object.assign(
+          report.rollouts,
+          exactModelLearning(report.model, report.analysis.start.optimal, settings, { seed: config.seed, stepCap }),
+        );
       }
     } catch (error) {
       report.internalErrors.push(`the rollouts failed: ${errorText(error)}`);
@@ -185,7 +227,8 @@ function runStages(path: string, text: string, loaded: LoadedSpec, options: Anal
     if (rule.needs === 'analysis' && !report.analysis) continue;
     runRule(rule, report, config, findings);
   }
-  if (loaded.empirical && !report.cancelled) checkEmpirical(loaded.empirical, enabled, report, config, findings, options);
+  if (loaded.empirical && !report.cancelled)
+    checkEmpirical(loaded.empirical, enabled, report, config, findings, options);
 
   findings.sort((a, b) => a.span.start - b.span.start || a.span.end - b.span.end || a.rule.localeCompare(b.rule));
   report.findings = findings;
@@ -207,7 +250,14 @@ function runStages(path: string, text: string, loaded: LoadedSpec, options: Anal
  * run only when the exploration tried every state it saw. Its figures stay off the fronts'
  * exact-value displays (report.model and report.analysis stay unset).
  */
-function checkEmpirical(model: CompiledModel, enabled: Rule[], report: FileReport, config: ResolvedConfig, findings: Finding[], options: AnalyzeOptions): void {
+function checkEmpirical(
+  model: CompiledModel,
+  enabled: Rule[],
+  report: FileReport,
+  config: ResolvedConfig,
+  findings: Finding[],
+  options: AnalyzeOptions,
+): void {
   let analysis: Analysis | undefined;
   try {
     analysis = analyzeModel(model, { precision: config.precision });
@@ -260,7 +310,12 @@ function runRule(
 
 /** A LoadedSpec for a load that failed through a bug of ours: an empty spec and the reason. */
 function failedLoad(path: string, text: string, reason: string): LoadedSpec {
-  return { spec: emptySpec(path.endsWith('.mdp.ts') ? 'ts' : 'json', { start: 0, end: text.length }), findings: [], enumerated: { reason }, internalErrors: [reason] };
+  return {
+    spec: emptySpec(path.endsWith('.mdp.ts') ? 'ts' : 'json', { start: 0, end: text.length }),
+    findings: [],
+    enumerated: { reason },
+    internalErrors: [reason],
+  };
 }
 
 /** Why there is no model: an unreadable document first, then what the part that was read lacks. */

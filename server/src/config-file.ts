@@ -8,7 +8,14 @@
  * The command line and the language server both load configs through this module.
  */
 import Ajv2020, { type ErrorObject, type ValidateFunction } from 'ajv/dist/2020';
-import { findNodeAtLocation, getNodeValue, parseTree, printParseErrorCode, type Node, type ParseError } from 'jsonc-parser';
+import {
+  findNodeAtLocation,
+  getNodeValue,
+  parseTree,
+  printParseErrorCode,
+  type Node,
+  type ParseError,
+} from 'jsonc-parser';
 import { existsSync, readFileSync, statSync } from 'node:fs';
 import * as nodePath from 'node:path';
 import configSchema from '../../schemas/config.schema.json';
@@ -81,7 +88,14 @@ export function parseConfigText(
     }
   };
   const baseDir = options.baseDir ?? dirname(path);
-  const empty = (): ConfigFile => ({ path, text, lines, config: { ...resolveConfig(undefined), baseDir }, findings, ignoreSpans: [] });
+  const empty = (): ConfigFile => ({
+    path,
+    text,
+    lines,
+    config: { ...resolveConfig(undefined), baseDir },
+    findings,
+    ignoreSpans: [],
+  });
 
   const syntaxErrors: ParseError[] = [];
   const root = parseTree(text, syntaxErrors, { allowTrailingComma: true, disallowComments: false });
@@ -93,7 +107,8 @@ export function parseConfigText(
     });
   }
   if (syntaxErrors.length > 0 || !root) {
-    if (!root && syntaxErrors.length === 0) report('the file is empty: write {} for the defaults', { start: 0, end: 0 });
+    if (!root && syntaxErrors.length === 0)
+      report('the file is empty: write {} for the defaults', { start: 0, end: 0 });
     return empty();
   }
 
@@ -142,7 +157,12 @@ export function loadConfigFile(path: string): ConfigFile {
   } catch (error) {
     const file = parseConfigText(path, '{}');
     const reason = error instanceof Error ? error.message : String(error);
-    file.findings.push({ rule: CONFIG_RULE_ID, severity: 'error', message: `cannot read the config file: ${reason}`, span: { start: 0, end: 0 } });
+    file.findings.push({
+      rule: CONFIG_RULE_ID,
+      severity: 'error',
+      message: `cannot read the config file: ${reason}`,
+      span: { start: 0, end: 0 },
+    });
     return file;
   }
   return parseConfigText(path, text);
@@ -243,23 +263,39 @@ function describeSchemaError(error: ErrorObject, rules: readonly Rule[]): Locate
   switch (error.keyword) {
     case 'additionalProperties': {
       const key = String(params.additionalProperty);
-      if (pointer.length === 1 && pointer[0] === 'rules') return { message: `rules: no rule named "${key}"${didYouMean(key, rules)}`, pointer, key };
+      if (pointer.length === 1 && pointer[0] === 'rules')
+        return { message: `rules: no rule named "${key}"${didYouMean(key, rules)}`, pointer, key };
       const fields = FIELD_LIST[pointer[0] === 'ignore' || pointer[0] === 'learning' ? pointer[0] : ''];
-      return { message: `${where === '' ? '' : `${where}: `}unknown field "${key}" (the fields are ${fields})`, pointer, key };
+      return {
+        message: `${where === '' ? '' : `${where}: `}unknown field "${key}" (the fields are ${fields})`,
+        pointer,
+        key,
+      };
     }
     case 'propertyNames':
       // Reported through the inner keyword (with error.propertyName) below.
       return undefined;
     case 'required':
-      return { message: `${where === '' ? 'the config' : where} needs "${String(params.missingProperty)}"`, pointer, openingOnly: true };
+      return {
+        message: `${where === '' ? 'the config' : where} needs "${String(params.missingProperty)}"`,
+        pointer,
+        openingOnly: true,
+      };
     case 'enum':
       if (pointer[0] === 'ignore' && pointer[2] === 'rule') {
-        return { message: `${where}: no rule named ${JSON.stringify(valueText(error.data))}${didYouMean(String(error.data), rules)}; use a rule id or "*"`, pointer };
+        return {
+          message: `${where}: no rule named ${JSON.stringify(valueText(error.data))}${didYouMean(String(error.data), rules)}; use a rule id or "*"`,
+          pointer,
+        };
       }
-      return { message: `${where} must be one of ${(params.allowedValues as unknown[]).map((v) => JSON.stringify(v)).join(', ')}`, pointer };
+      return {
+        message: `${where} must be one of ${(params.allowedValues as unknown[]).map((v) => JSON.stringify(v)).join(', ')}`,
+        pointer,
+      };
     case 'type': {
       const type = String(params.type);
-      const article = type === 'integer' ? 'a whole number' : type === 'object' || type === 'array' ? `an ${type}` : `a ${type}`;
+      const article =
+        type === 'integer' ? 'a whole number' : type === 'object' || type === 'array' ? `an ${type}` : `a ${type}`;
       return { message: `${where === '' ? 'the config' : where} must be ${article}`, pointer };
     }
     case 'minimum':
@@ -277,7 +313,10 @@ function describeSchemaError(error: ErrorObject, rules: readonly Rule[]): Locate
           key: error.propertyName,
         };
       }
-      return { message: `${where} must ${pointer[pointer.length - 1] === 'reason' ? 'say why (not only spaces)' : `match ${String(params.pattern)}`}`, pointer };
+      return {
+        message: `${where} must ${pointer[pointer.length - 1] === 'reason' ? 'say why (not only spaces)' : `match ${String(params.pattern)}`}`,
+        pointer,
+      };
     default:
       return { message: `${where === '' ? 'the config' : where} ${error.message ?? 'is invalid'}`, pointer };
   }

@@ -75,8 +75,11 @@ interface CommonFields<State, Action extends ActionName, Term extends string> {
  * A model that lists its outcomes with probabilities. Episcope enumerates every state reachable
  * from the start and analyses the finite MDP exactly. States must be plain JSON values.
  */
-export interface EnumerableMdp<State, Action extends ActionName = ActionName, Term extends string = string>
-  extends CommonFields<State, Action, Term> {
+export interface EnumerableMdp<
+  State,
+  Action extends ActionName = ActionName,
+  Term extends string = string,
+> extends CommonFields<State, Action, Term> {
   /** The start state (or give `startDistribution`). */
   start?: State;
   /** Several start states with their probabilities (adding up to 1). */
@@ -88,8 +91,11 @@ export interface EnumerableMdp<State, Action extends ActionName = ActionName, Te
  * A black-box model that can only sample transitions. Episcope runs seeded rollouts under the
  * uniformly random policy and reports estimates with confidence intervals.
  */
-export interface SampledMdp<State, Action extends ActionName = ActionName, Term extends string = string>
-  extends CommonFields<State, Action, Term> {
+export interface SampledMdp<
+  State,
+  Action extends ActionName = ActionName,
+  Term extends string = string,
+> extends CommonFields<State, Action, Term> {
   /** The start state, or a function drawing one. */
   start: State | ((rng: Rng) => State);
   sample(state: State, action: Action, rng: Rng): SampledTransition<State, Term>;
@@ -102,8 +108,7 @@ export interface SampledMdp<State, Action extends ActionName = ActionName, Term 
 }
 
 export type MdpDefinition<State = unknown, Action extends ActionName = ActionName, Term extends string = string> =
-  | EnumerableMdp<State, Action, Term>
-  | SampledMdp<State, Action, Term>;
+  EnumerableMdp<State, Action, Term> | SampledMdp<State, Action, Term>;
 
 /** The identity function; it only gives the definition its types. */
 export function defineMdp<State, Action extends ActionName = ActionName, Term extends string = string>(

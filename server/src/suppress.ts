@@ -155,7 +155,14 @@ export function applySuppressions(
           message: `episcope-ignore for ${names} suppresses nothing: no ${names} finding starts on line ${comment.targetLine + 1}; remove ${whole ? 'the comment' : `${names} from it`}`,
           span: whole ? comment.span : unused[0].span,
           tags: ['unnecessary'],
-          fixes: whole ? [{ title: 'Remove the unused episcope-ignore comment', edits: [{ span: comment.removalSpan, newText: '' }] }] : undefined,
+          fixes: whole
+            ? [
+                {
+                  title: 'Remove the unused episcope-ignore comment',
+                  edits: [{ span: comment.removalSpan, newText: '' }],
+                },
+              ]
+            : undefined,
         });
       }
     }
@@ -164,9 +171,13 @@ export function applySuppressions(
   // Config ignores come last, so that they can also silence the problems reported above.
   const afterConfig: Finding[] = [];
   const relative = config.baseDir !== undefined ? relativePath(config.baseDir, input.path) : normalizePath(input.path);
-  const matchers = config.ignore.map((entry) => (relative !== undefined && globMatches(entry.path, relative) ? entry : undefined));
+  const matchers = config.ignore.map((entry) =>
+    relative !== undefined && globMatches(entry.path, relative) ? entry : undefined,
+  );
   for (const finding of [...kept, ...problems]) {
-    const index = matchers.findIndex((entry) => entry !== undefined && (entry.rule === finding.rule || entry.rule === '*'));
+    const index = matchers.findIndex(
+      (entry) => entry !== undefined && (entry.rule === finding.rule || entry.rule === '*'),
+    );
     if (index >= 0) {
       suppressed.push({ finding, reason: config.ignore[index].reason, source: { kind: 'config', ignoreIndex: index } });
     } else {
@@ -208,7 +219,9 @@ export function unusedIgnoreFindings(
   const out: Finding[] = [];
   config.ignore.forEach((entry, index) => {
     const matched = files.filter((f) => ignoreMatchesPath(config, entry.path, f.path));
-    const used = matched.some((f) => f.suppressed.some((s) => s.source.kind === 'config' && s.source.ignoreIndex === index));
+    const used = matched.some((f) =>
+      f.suppressed.some((s) => s.source.kind === 'config' && s.source.ignoreIndex === index),
+    );
     if (used || matched.some((f) => !f.complete)) return;
     if (matched.length === 0 && !allSpecsChecked) return;
     const what = entry.rule === '*' ? 'any rule' : entry.rule;
@@ -216,7 +229,13 @@ export function unusedIgnoreFindings(
       matched.length === 0
         ? `ignore[${index}] (${what} in "${entry.path}") matches no spec file: correct its path or remove it`
         : `ignore[${index}] (${what} in "${entry.path}") suppressed nothing in the ${matched.length} matching spec file${matched.length === 1 ? '' : 's'}: remove it`;
-    out.push({ rule: SUPPRESSION_RULE_ID, severity, message, span: ignoreSpans[index] ?? { start: 0, end: 0 }, tags: ['unnecessary'] });
+    out.push({
+      rule: SUPPRESSION_RULE_ID,
+      severity,
+      message,
+      span: ignoreSpans[index] ?? { start: 0, end: 0 },
+      tags: ['unnecessary'],
+    });
   });
   return out;
 }
@@ -242,8 +261,10 @@ function commentProblem(comment: IgnoreComment, known: ReadonlySet<string>): str
   const usage = 'write it as "// episcope-ignore RULE: reason"';
   if (comment.rules.length === 0) return `episcope-ignore names no rule: ${usage}`;
   const unknown = comment.rules.filter((r) => !known.has(r.id));
-  if (unknown.length > 0) return `episcope-ignore names no rule "${unknown[0].id}" (see 'episcope explain' for the rule ids); it suppresses nothing`;
-  if (!comment.hasColon || comment.reason === '') return `episcope-ignore for ${comment.rules.map((r) => r.id).join(', ')} gives no reason: ${usage}; it suppresses nothing`;
+  if (unknown.length > 0)
+    return `episcope-ignore names no rule "${unknown[0].id}" (see 'episcope explain' for the rule ids); it suppresses nothing`;
+  if (!comment.hasColon || comment.reason === '')
+    return `episcope-ignore for ${comment.rules.map((r) => r.id).join(', ')} gives no reason: ${usage}; it suppresses nothing`;
   return undefined;
 }
 
@@ -269,9 +290,20 @@ export function parseIgnoreComments(text: string, lines: LineIndex = new LineInd
     const standsAlone = text.slice(lineStart, comment.start).trim() === '';
     const targetLine = standsAlone ? nextCodeLine(text, lines, line) : line;
     const removalSpan = standsAlone
-      ? { start: lineStart, end: line + 1 < lines.lineCount ? lines.offset({ line: line + 1, character: 0 }) : comment.end }
+      ? {
+          start: lineStart,
+          end: line + 1 < lines.lineCount ? lines.offset({ line: line + 1, character: 0 }) : comment.end,
+        }
       : { start: lineStart + text.slice(lineStart, comment.start).trimEnd().length, end: comment.end };
-    out.push({ line, targetLine, rules, reason, hasColon: colon >= 0, span: { start: comment.start, end: comment.end }, removalSpan });
+    out.push({
+      line,
+      targetLine,
+      rules,
+      reason,
+      hasColon: colon >= 0,
+      span: { start: comment.start, end: comment.end },
+      removalSpan,
+    });
   }
   return out;
 }

@@ -49,8 +49,15 @@ describe('terminals with a horizon read as without one', () => {
   it('entering a terminal is still counted once: a two-step corridor reaches the goal with probability 1, not 2', () => {
     // By hand: a -> b -> g takes 2 steps; within a horizon of 2 the goal is reached surely, within 1 never.
     const spec = (horizon: number) => ({
-      discount: 1, horizon, start: 'a', actions: ['go'], states: { a: {}, b: {}, g: { terminal: 'goal' } },
-      transitions: [{ from: 'a', action: 'go', to: 'b', reward: 0 }, { from: 'b', action: 'go', to: 'g', reward: 1 }],
+      discount: 1,
+      horizon,
+      start: 'a',
+      actions: ['go'],
+      states: { a: {}, b: {}, g: { terminal: 'goal' } },
+      transitions: [
+        { from: 'a', action: 'go', to: 'b', reward: 0 },
+        { from: 'b', action: 'go', to: 'g', reward: 1 },
+      ],
     });
     expect(checkSpec(spec(2)).analysis!.start.reach.optimal).toEqual({ goal: 1, failure: 0, neutral: 0, none: 0 });
     expect(checkSpec(spec(2)).analysis!.start.maxGoalReach).toBe(1);
@@ -67,10 +74,20 @@ describe('shares of reward terms that cancel', () => {
    * 0.3 * 7/3 + fee = 0.7 + fee.
    */
   const spec = (fee: number) => ({
-    discount: 1, start: 'a', actions: ['go'], rewardTerms: { bonus: { direction: 'either' }, fee: { direction: 'either' } },
+    discount: 1,
+    start: 'a',
+    actions: ['go'],
+    rewardTerms: { bonus: { direction: 'either' }, fee: { direction: 'either' } },
     states: { a: {}, b: {}, g: { terminal: 'goal' } },
     transitions: [
-      { from: 'a', action: 'go', to: [{ state: 'b', probability: 0.3, reward: { bonus: 0.1 } }, { state: 'a', probability: 0.7, reward: { fee: 0.3 } }] },
+      {
+        from: 'a',
+        action: 'go',
+        to: [
+          { state: 'b', probability: 0.3, reward: { bonus: 0.1 } },
+          { state: 'a', probability: 0.7, reward: { fee: 0.3 } },
+        ],
+      },
       { from: 'b', action: 'go', to: [{ state: 'g', probability: 1, reward: { bonus: -0.1, fee } }] },
     ],
   });

@@ -81,7 +81,10 @@ describe('a solve stopped by its work cap', () => {
     expect(json.start.expectedLength.random).toBe('undetermined');
     expect(textProbability(json.start.reach.random.goal)).toBe('undetermined');
     const validate = new Ajv2020({ allErrors: true, strict: false }).compile(outputSchema);
-    expect(validate({ version: 1, files: [{ path: 'walk.mdp.json', findings: [], analysis: json }] }), JSON.stringify(validate.errors)).toBe(true);
+    expect(
+      validate({ version: 1, files: [{ path: 'walk.mdp.json', findings: [], analysis: json }] }),
+      JSON.stringify(validate.errors),
+    ).toBe(true);
     // The same walk with the direct solves gives the closed forms.
     const direct = analyzeModel(model, { precision: 1e-6 });
     expect(direct.start.reach.random.goal).toBeCloseTo(0.5, 9);

@@ -7,12 +7,18 @@
 import { describe, expect, it } from 'vitest';
 import { maximalEndComponents } from '../../server/src/analysis/end-components';
 import { buildModelGraph, graphWithin } from '../../server/src/analysis/graph';
-import { almostSureReach, canReach, forwardReachable, reachableFromStart } from '../../server/src/analysis/reachability';
+import {
+  almostSureReach,
+  canReach,
+  forwardReachable,
+  reachableFromStart,
+} from '../../server/src/analysis/reachability';
 import { stronglyConnectedComponents } from '../../server/src/analysis/scc';
 import { ModelBuilder, type CompiledModel } from '../../server/src/model/compiled';
 import { handModel, randomModel } from '../reference/gridworlds';
 
-const ids = (model: CompiledModel, states: ArrayLike<number>): string[] => Array.from(states, (s) => model.stateIds[s]).sort();
+const ids = (model: CompiledModel, states: ArrayLike<number>): string[] =>
+  Array.from(states, (s) => model.stateIds[s]).sort();
 
 describe('strongly connected components (Tarjan 1972, iterative)', () => {
   it('agrees with mutual reachability on seeded random models of our own', () => {
@@ -45,7 +51,8 @@ describe('strongly connected components (Tarjan 1972, iterative)', () => {
     const count = 300_000;
     for (let i = 0; i < count; i++) b.addState(`s${i}`, undefined, nowhere);
     const end = b.addState('end', 'goal', nowhere);
-    for (let i = 0; i < count; i++) b.addChoice(i, 'next', -1, [{ target: i + 1 < count ? i + 1 : end, probability: 1, reward: 1 }]);
+    for (let i = 0; i < count; i++)
+      b.addChoice(i, 'next', -1, [{ target: i + 1 < count ? i + 1 : end, probability: 1, reward: 1 }]);
     // A back edge from the last state to the first makes the whole path one component.
     b.addChoice(count - 1, 'back', -1, [{ target: 0, probability: 1, reward: 0 }]);
     const model = b.finish([{ state: 0, probability: 1 }]);
@@ -64,11 +71,32 @@ describe('maximal end components (Courcoubetis and Yannakakis 1995; de Alfaro 19
     states: ['a', 'b', 'c', 'd', 'e', 'f', ['goal', 'goal']],
     choices: [
       ['a', 'stay', [['b', 1, 0]]],
-      ['a', 'exit', [['goal', 0.5, 0], ['d', 0.5, 0]]],
+      [
+        'a',
+        'exit',
+        [
+          ['goal', 0.5, 0],
+          ['d', 0.5, 0],
+        ],
+      ],
       ['b', 'back', [['a', 1, 0]]],
-      ['c', 'go', [['a', 0.5, 0], ['goal', 0.5, 0]]],
+      [
+        'c',
+        'go',
+        [
+          ['a', 0.5, 0],
+          ['goal', 0.5, 0],
+        ],
+      ],
       ['d', 'loop', [['e', 1, 0]]],
-      ['e', 'loop', [['d', 0.5, 0], ['e', 0.5, 0]]],
+      [
+        'e',
+        'loop',
+        [
+          ['d', 0.5, 0],
+          ['e', 0.5, 0],
+        ],
+      ],
       ['e', 'leave', [['f', 1, 0]]],
       ['f', 'go', [['goal', 1, 0]]],
     ],
@@ -77,12 +105,23 @@ describe('maximal end components (Courcoubetis and Yannakakis 1995; de Alfaro 19
   const mecs = maximalEndComponents(graph);
 
   it('finds exactly {a, b} and {d, e}', () => {
-    expect(mecs.states.map((s) => ids(model, s)).sort()).toEqual([['a', 'b'], ['d', 'e']]);
+    expect(mecs.states.map((s) => ids(model, s)).sort()).toEqual([
+      ['a', 'b'],
+      ['d', 'e'],
+    ]);
   });
 
   it('keeps only the choices that stay inside (a.exit and e.leave are not part of them)', () => {
-    const choiceNames = mecs.choices.map((cs) => Array.from(cs, (c) => `${model.stateIds[graph.choiceState[c]]}.${model.actionNames[model.choiceAction[c]]}`).sort());
-    expect(choiceNames.sort()).toEqual([['a.stay', 'b.back'], ['d.loop', 'e.loop']]);
+    const choiceNames = mecs.choices.map((cs) =>
+      Array.from(
+        cs,
+        (c) => `${model.stateIds[graph.choiceState[c]]}.${model.actionNames[model.choiceAction[c]]}`,
+      ).sort(),
+    );
+    expect(choiceNames.sort()).toEqual([
+      ['a.stay', 'b.back'],
+      ['d.loop', 'e.loop'],
+    ]);
   });
 
   it('satisfies the definition on seeded random models of our own: closed, strongly connected, maximal', () => {
@@ -96,7 +135,8 @@ describe('maximal end components (Courcoubetis and Yannakakis 1995; de Alfaro 19
         const choiceMask = new Uint8Array(random.choiceCount);
         for (const c of d.choices[i]) {
           choiceMask[c] = 1;
-          for (let k = random.outcomeStart[c]; k < random.outcomeStart[c + 1]; k++) expect(inside[random.outcomeTarget[k]]).toBe(1);
+          for (let k = random.outcomeStart[c]; k < random.outcomeStart[c + 1]; k++)
+            expect(inside[random.outcomeTarget[k]]).toBe(1);
         }
         for (const s of d.states[i]) expect(Array.from(d.choices[i]).some((c) => g.choiceState[c] === s)).toBe(true);
         const scc = stronglyConnectedComponents(random, inside, choiceMask);
@@ -105,7 +145,7 @@ describe('maximal end components (Courcoubetis and Yannakakis 1995; de Alfaro 19
     }
   });
 
-  it('gives the same components when the first round reuses the whole graph\'s SCCs', () => {
+  it("gives the same components when the first round reuses the whole graph's SCCs", () => {
     for (let seed = 31; seed <= 36; seed++) {
       const random = randomModel(seed, 40, 3, 2, 1, 3);
       const g = buildModelGraph(random);
@@ -137,12 +177,15 @@ describe('maximal end components (Courcoubetis and Yannakakis 1995; de Alfaro 19
         let closed = true;
         for (let c = 0; c < choices && closed; c++) {
           if (!chosen[c]) continue;
-          for (let k = random.outcomeStart[c]; k < random.outcomeStart[c + 1]; k++) if (!owners[random.outcomeTarget[k]]) closed = false;
+          for (let k = random.outcomeStart[c]; k < random.outcomeStart[c + 1]; k++)
+            if (!owners[random.outcomeTarget[k]]) closed = false;
         }
         if (!closed || stronglyConnectedComponents(random, owners, chosen).count !== 1) continue;
         // An end component: all its states share one MEC, which holds all its choices.
         found++;
-        const members = Array.from(owners.entries()).filter(([, v]) => v).map(([s]) => s);
+        const members = Array.from(owners.entries())
+          .filter(([, v]) => v)
+          .map(([s]) => s);
         const mec = d.componentOf[members[0]];
         expect(mec, `seed ${seed}: subset ${subset}`).toBeGreaterThanOrEqual(0);
         for (const s of members) expect(d.componentOf[s]).toBe(mec);
@@ -161,7 +204,14 @@ describe('reachability', () => {
     choices: [
       ['s', 'safe', [['goal', 1, 0]]],
       ['s', 'gamble', [['risky', 1, 0]]],
-      ['risky', 'go', [['goal', 0.5, 0], ['loop', 0.5, 0]]],
+      [
+        'risky',
+        'go',
+        [
+          ['goal', 0.5, 0],
+          ['loop', 0.5, 0],
+        ],
+      ],
       ['loop', 'spin', [['loop', 1, 0]]],
       ['unseen', 'go', [['pit', 1, 0]]],
     ],
@@ -169,14 +219,26 @@ describe('reachability', () => {
   const graph = buildModelGraph(model);
 
   it('marks states no policy reaches from the start', () => {
-    expect(ids(model, Array.from(reachableFromStart(model).entries()).filter(([, v]) => v).map(([s]) => s))).toEqual(['goal', 'loop', 'risky', 's']);
+    expect(
+      ids(
+        model,
+        Array.from(reachableFromStart(model).entries())
+          .filter(([, v]) => v)
+          .map(([s]) => s),
+      ),
+    ).toEqual(['goal', 'loop', 'risky', 's']);
   });
 
   it('reaches the goal almost surely only from states with a sure route (de Alfaro 1997)', () => {
     const goal = new Uint8Array(model.stateCount);
     goal[model.stateIndex.get('goal')!] = 1;
     const sure = almostSureReach(graph, goal);
-    const names = ids(model, Array.from(sure.entries()).filter(([, v]) => v).map(([s]) => s));
+    const names = ids(
+      model,
+      Array.from(sure.entries())
+        .filter(([, v]) => v)
+        .map(([s]) => s),
+    );
     expect(names).toEqual(['goal', 's']);
   });
 });
@@ -197,7 +259,9 @@ describe('the graph within a set of choices', () => {
         const targets = new Uint8Array(model.stateCount);
         targets[t] = 1;
         targets[model.stateCount - 1] = 1;
-        expect(Array.from(canReach(within, targets)), `seed ${seed}, target ${t}`).toEqual(Array.from(canReach(graph, targets, allowed)));
+        expect(Array.from(canReach(within, targets)), `seed ${seed}, target ${t}`).toEqual(
+          Array.from(canReach(graph, targets, allowed)),
+        );
       }
       // Only allowed choices remain, each as often as in the whole graph.
       let expected = 0;

@@ -55,7 +55,8 @@ function gridRows(side: number, random: () => number, leak: number): Array<Array
 
 function dense(matrix: SparseMatrix): number[][] {
   const out = Array.from({ length: matrix.n }, () => new Array<number>(matrix.n).fill(0));
-  for (let i = 0; i < matrix.n; i++) for (let e = matrix.rowStart[i]; e < matrix.rowStart[i + 1]; e++) out[i][matrix.column[e]] += matrix.value[e];
+  for (let i = 0; i < matrix.n; i++)
+    for (let e = matrix.rowStart[i]; e < matrix.rowStart[i + 1]; e++) out[i][matrix.column[e]] += matrix.value[e];
   return out;
 }
 
@@ -64,7 +65,10 @@ function mathjsSolver(matrix: SparseMatrix): (b: Float64Array) => number[] {
   const factored = lup(dense(matrix));
   return (b) => {
     // Given a decomposition, lusolve answers with a mathjs Matrix.
-    const solved = lusolve(factored, Array.from(b, (v) => [v])) as Matrix | number[][];
+    const solved = lusolve(
+      factored,
+      Array.from(b, (v) => [v]),
+    ) as Matrix | number[][];
     return ((Array.isArray(solved) ? solved : solved.toArray()) as number[][]).map((row) => row[0]);
   };
 }
@@ -98,7 +102,9 @@ describe('sparse LU against mathjs lusolve', () => {
   it('gives up on a random graph, whose separators are large', () => {
     const random = rng(5);
     const n = 3000;
-    const rows = Array.from({ length: n }, () => Array.from({ length: 8 }, () => [Math.floor(random() * n), 0.99 / 8] as [number, number]));
+    const rows = Array.from({ length: n }, () =>
+      Array.from({ length: 8 }, () => [Math.floor(random() * n), 0.99 / 8] as [number, number]),
+    );
     expect(sparseFactors(systemOf(rows, 1))).toBeUndefined();
   });
 
@@ -107,7 +113,9 @@ describe('sparse LU against mathjs lusolve', () => {
     // the limit is certain.
     const random = rng(7);
     const n = 40_000;
-    const rows = Array.from({ length: n }, () => Array.from({ length: 8 }, () => [Math.floor(random() * n), 0.99 / 8] as [number, number]));
+    const rows = Array.from({ length: n }, () =>
+      Array.from({ length: 8 }, () => [Math.floor(random() * n), 0.99 / 8] as [number, number]),
+    );
     expect(sparseFactors(systemOf(rows, 1))).toBeUndefined();
   });
 });
@@ -152,12 +160,18 @@ describe('sparse LU on a walk', () => {
     expect(factors).toBeDefined();
     const x = new Float64Array(N - 1);
     sparseSolve(factors!, new Float64Array(N - 1).fill(1), x);
-    for (const i of [1, 500, 1000, 1999]) expect(Math.abs(x[i - 1] - i * (N - i))).toBeLessThanOrEqual(1e-9 * i * (N - i));
+    for (const i of [1, 500, 1000, 1999])
+      expect(Math.abs(x[i - 1] - i * (N - i))).toBeLessThanOrEqual(1e-9 * i * (N - i));
   });
 });
 
 /** Solves `rounds` random right-hand sides and checks each against mathjs, to 1e-8 of the largest entry. */
-function expectAnswersOfMathjs(solver: BlockSolver, matrix: ReturnType<typeof systemOf>, random: () => number, rounds: number): void {
+function expectAnswersOfMathjs(
+  solver: BlockSolver,
+  matrix: ReturnType<typeof systemOf>,
+  random: () => number,
+  rounds: number,
+): void {
   const x = new Float64Array(matrix.n);
   const reference = mathjsSolver(matrix);
   for (let round = 0; round < rounds; round++) {
@@ -195,7 +209,9 @@ describe('the block solver', () => {
   it('keeps BiCGSTAB for a random chain, with the answers of mathjs', () => {
     const random = rng(11);
     const n = 500;
-    const rows = Array.from({ length: n }, () => Array.from({ length: 6 }, () => [Math.floor(random() * n), 0.98 / 6] as [number, number]));
+    const rows = Array.from({ length: n }, () =>
+      Array.from({ length: 6 }, () => [Math.floor(random() * n), 0.98 / 6] as [number, number]),
+    );
     const matrix = systemOf(rows, 1);
     const counters = newSolverCounters();
     const solver = new BlockSolver(matrix, counters);
@@ -205,7 +221,8 @@ describe('the block solver', () => {
       const b = Float64Array.from({ length: n }, () => random());
       expect(solver.solve(b, x)).toBe(true);
       const truth = reference(b);
-      for (let i = 0; i < n; i++) expect(Math.abs(x[i] - truth[i])).toBeLessThanOrEqual(1e-8 * Math.abs(truth[i]) + 1e-9);
+      for (let i = 0; i < n; i++)
+        expect(Math.abs(x[i] - truth[i])).toBeLessThanOrEqual(1e-8 * Math.abs(truth[i]) + 1e-9);
     }
     expect(counters.sparse).toBe(0);
   });

@@ -22,7 +22,13 @@ import { packInSweepOrder, solveBoundsOnCopy } from '../../server/src/analysis/s
 import { seededRandom as rng } from '../reference/gridworlds';
 
 /** A random model: `states` states, the last `ends` of them without choices (their values stay fixed at 0). */
-function randomModel(random: () => number, states: number, ends: number, actions: number, outcomes: number): SweepModel {
+function randomModel(
+  random: () => number,
+  states: number,
+  ends: number,
+  actions: number,
+  outcomes: number,
+): SweepModel {
   const choiceStart = new Int32Array(states + 1);
   for (let s = 0; s < states; s++) choiceStart[s + 1] = choiceStart[s] + (s < states - ends ? actions : 0);
   const choices = choiceStart[states];
@@ -72,8 +78,17 @@ describe('sweeps on a copy in sweep order', () => {
       const choices = model.choiceStart[states];
       const reward = Float64Array.from({ length: choices }, () => 2 * random() - 1);
       const allowed = Uint8Array.from({ length: choices }, (_, c) => (c % 3 === 2 && random() < 0.5 ? 0 : 1));
-      const policy = Int32Array.from({ length: states }, (_, s) => (s < states - ends ? model.choiceStart[s] + (s % 3) : -1));
-      const op: Operator = { model, combine, reward, discount: 0.95, allowed: combine === COMBINE_POLICY ? undefined : allowed, policy: combine === COMBINE_POLICY ? policy : undefined };
+      const policy = Int32Array.from({ length: states }, (_, s) =>
+        s < states - ends ? model.choiceStart[s] + (s % 3) : -1,
+      );
+      const op: Operator = {
+        model,
+        combine,
+        reward,
+        discount: 0.95,
+        allowed: combine === COMBINE_POLICY ? undefined : allowed,
+        policy: combine === COMBINE_POLICY ? policy : undefined,
+      };
       const nodes = shuffledNodes(random, states - ends, group);
       const written = new Float64Array(2 * states);
       const copied = new Float64Array(2 * states);
@@ -96,14 +111,17 @@ describe('sweeps on a copy in sweep order', () => {
     const bounds = new Float64Array(2 * states);
     solveBoundsOnCopy(op, shuffledNodes(random, states - 10, 1), bounds, OPTIONS);
     // The uniformly random policy's chain over every state; ending states keep the value 0.
-    const matrix = Array.from({ length: states }, (_, i) => Array.from({ length: states }, (_, j) => (i === j ? 1 : 0)));
+    const matrix = Array.from({ length: states }, (_, i) =>
+      Array.from({ length: states }, (_, j) => (i === j ? 1 : 0)),
+    );
     const rhs = new Array<number>(states).fill(0);
     for (let s = 0; s < states; s++) {
       const first = model.choiceStart[s];
       const end = model.choiceStart[s + 1];
       for (let c = first; c < end; c++) {
         rhs[s] += reward[c] / (end - first);
-        for (let k = model.outcomeStart[c]; k < model.outcomeStart[c + 1]; k++) matrix[s][model.outcomeTarget[k]] -= (discount * model.outcomeProb[k]) / (end - first);
+        for (let k = model.outcomeStart[c]; k < model.outcomeStart[c + 1]; k++)
+          matrix[s][model.outcomeTarget[k]] -= (discount * model.outcomeProb[k]) / (end - first);
       }
     }
     const truth = (lusolve(matrix, rhs) as number[][]).map((row) => row[0]);
@@ -126,7 +144,9 @@ describe('sweeps on a copy in sweep order', () => {
       const c = packed.op.model.choiceStart[t];
       // Rewards were numbered by original choice: the copy's first choice of t is s's first choice.
       expect(packed.op.reward[c]).toBe(model.choiceStart[s]);
-      expect(packed.stateOf[packed.op.model.outcomeTarget[packed.op.model.outcomeStart[c]]]).toBe(model.outcomeTarget[model.outcomeStart[model.choiceStart[s]]]);
+      expect(packed.stateOf[packed.op.model.outcomeTarget[packed.op.model.outcomeStart[c]]]).toBe(
+        model.outcomeTarget[model.outcomeStart[model.choiceStart[s]]],
+      );
     }
     for (let t = 45; t < 50; t++) expect(packed.op.model.choiceStart[t + 1] - packed.op.model.choiceStart[t]).toBe(0);
   });

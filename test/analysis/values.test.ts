@@ -9,7 +9,12 @@ import type { Analysis } from '../../server/src/analysis/types';
 import { ModelBuilder, type CompiledModel } from '../../server/src/model/compiled';
 import { handModel, type HandModel } from '../reference/gridworlds';
 
-function run(spec: HandModel): { model: CompiledModel; analysis: Analysis; at: (state: string) => number; action: (state: string) => string } {
+function run(spec: HandModel): {
+  model: CompiledModel;
+  analysis: Analysis;
+  at: (state: string) => number;
+  action: (state: string) => string;
+} {
   const model = handModel(spec);
   const analysis = analyzeModel(model, { precision: 1e-6 });
   const at = (state: string): number => model.stateIndex.get(state)!;
@@ -82,7 +87,9 @@ describe('unbounded return at discount 1 (a loop that pays every round)', () => 
     const negative: HandModel = {
       ...loop,
       maximize: false,
-      choices: loop.choices.map(([s, a, o]) => [s, a, o.map(([t, p, r]) => [t, p, a === 'circle' ? -r : r])] as [string, string, typeof o]),
+      choices: loop.choices.map(
+        ([s, a, o]) => [s, a, o.map(([t, p, r]) => [t, p, a === 'circle' ? -r : r])] as [string, string, typeof o],
+      ),
     };
     const { analysis, at } = run(negative);
     expectValue(analysis, 'optimal', at('start'), -Infinity);
@@ -153,7 +160,14 @@ describe('mixed-sign end components (sign of the best mean decided soundly)', ()
       start: 'a',
       states: ['a', 'b', ['goal', 'goal']],
       choices: [
-        ['a', 'gamble', [['a', 0.5, 2], ['b', 0.5, 0]]],
+        [
+          'a',
+          'gamble',
+          [
+            ['a', 0.5, 2],
+            ['b', 0.5, 0],
+          ],
+        ],
         ['a', 'cash', [['goal', 1, 4]]],
         ['b', 'back', [['a', 1, -3]]],
       ],
@@ -257,7 +271,14 @@ describe('exact solution where the graph is acyclic', () => {
         ['s', 'a', [['x', 1, 1]]],
         ['s', 'b', [['y', 1, 2]]],
         ['x', 'go', [['goal', 1, 3]]],
-        ['y', 'go', [['goal', 0.5, 10], ['pit', 0.5, -10]]],
+        [
+          'y',
+          'go',
+          [
+            ['goal', 0.5, 10],
+            ['pit', 0.5, -10],
+          ],
+        ],
       ],
     });
     expect(analysis.exact).toBe(true);
@@ -282,8 +303,22 @@ describe('reach probabilities and the best goal probability', () => {
       start: 's',
       states: ['s', ['goal', 'goal'], ['pit', 'failure']],
       choices: [
-        ['s', 'cash', [['goal', 0.5, 5], ['pit', 0.5, 5]]],
-        ['s', 'retry', [['goal', 0.8, -1], ['s', 0.2, -1]]],
+        [
+          's',
+          'cash',
+          [
+            ['goal', 0.5, 5],
+            ['pit', 0.5, 5],
+          ],
+        ],
+        [
+          's',
+          'retry',
+          [
+            ['goal', 0.8, -1],
+            ['s', 0.2, -1],
+          ],
+        ],
       ],
     });
     expect(analysis.start.optimal.lower).toBeCloseTo(5, 6);
@@ -389,7 +424,18 @@ describe('reward-term shares under the optimal policy', () => {
     const goal = b.addState('goal', 'goal', nowhere);
     // s -> t: battery -1 and shaping +2; t -> goal: delivery 10, battery -1, shaping -2.
     b.addChoice(s, 'fly', 0, [{ target: t, probability: 1, reward: 1, terms: [['battery', -1]], shaping: 2 }]);
-    b.addChoice(t, 'drop', 1, [{ target: goal, probability: 1, reward: 7, terms: [['delivery', 10], ['battery', -1]], shaping: -2 }]);
+    b.addChoice(t, 'drop', 1, [
+      {
+        target: goal,
+        probability: 1,
+        reward: 7,
+        terms: [
+          ['delivery', 10],
+          ['battery', -1],
+        ],
+        shaping: -2,
+      },
+    ]);
     const model = b.finish([{ state: s, probability: 1 }]);
     const analysis = analyzeModel(model, { precision: 1e-6 });
     const byTerm = Object.fromEntries(analysis.termShares.map((share) => [share.term, share]));
@@ -419,7 +465,14 @@ describe('extreme numbers', () => {
         start: 's',
         states: ['s', 't', ['goal', 'goal']],
         choices: [
-          ['s', 'a', [['t', 0.5, reward], ['s', 0.5, reward]]],
+          [
+            's',
+            'a',
+            [
+              ['t', 0.5, reward],
+              ['s', 0.5, reward],
+            ],
+          ],
           ['s', 'b', [['goal', 1, reward]]],
           ['t', 'go', [['goal', 1, -reward]]],
         ],

@@ -28,7 +28,8 @@ function bestOverPolicies(model: CompiledModel, maximize: boolean): number[] {
   const best = new Array<number>(model.stateCount).fill(maximize ? -Infinity : Infinity);
   for (const policy of allPolicies(model)) {
     const values = evaluate(model, (s, c) => (policy[s] === c ? 1 : 0));
-    for (let s = 0; s < values.length; s++) best[s] = maximize ? Math.max(best[s], values[s]) : Math.min(best[s], values[s]);
+    for (let s = 0; s < values.length; s++)
+      best[s] = maximize ? Math.max(best[s], values[s]) : Math.min(best[s], values[s]);
   }
   return best;
 }
@@ -38,7 +39,9 @@ function expectInside(values: { lower: Float64Array; upper: Float64Array }, exac
     const slack = 1e-9 * Math.max(1, Math.abs(exact[s]));
     expect(values.lower[s], `${label}: lower bound of state ${s}`).toBeLessThanOrEqual(exact[s] + slack);
     expect(values.upper[s], `${label}: upper bound of state ${s}`).toBeGreaterThanOrEqual(exact[s] - slack);
-    expect(scaledWidth(values.lower[s], values.upper[s]), `${label}: width at state ${s}`).toBeLessThanOrEqual(PRECISION);
+    expect(scaledWidth(values.lower[s], values.upper[s]), `${label}: width at state ${s}`).toBeLessThanOrEqual(
+      PRECISION,
+    );
   }
 }
 
@@ -56,7 +59,13 @@ function wrongGuesses(model: CompiledModel, seed: number): Array<[string, WarmSt
     ['noise of +-50', map((v) => v + 100 * (random() - 0.5))],
     ['half the states missing', map((v, s) => (s % 2 === 0 ? NaN : v))],
     ['solved at another discount', { ...map((v) => -v), discount: model.discount }],
-    ['another model under the same state ids', analyzeModel(randomModel(seed + 1000, model.stateCount, 3, 3, model.discount, 1, !model.maximize), { precision: PRECISION, keepSolution: true }).solution!],
+    [
+      'another model under the same state ids',
+      analyzeModel(randomModel(seed + 1000, model.stateCount, 3, 3, model.discount, 1, !model.maximize), {
+        precision: PRECISION,
+        keepSolution: true,
+      }).solution!,
+    ],
   ];
 }
 
@@ -81,7 +90,9 @@ describe('a wrong guess still gives sound bounds (mathjs lusolve, every determin
     const model = properModel(seed, 6, 3);
     const random = evaluate(model, uniform(model));
     const best = bestOverPolicies(model, true);
-    const goal = evaluate(model, uniform(model), 1, (k) => (model.terminal[model.outcomeTarget[k]] === TERMINAL_CODE.goal ? 1 : 0));
+    const goal = evaluate(model, uniform(model), 1, (k) =>
+      model.terminal[model.outcomeTarget[k]] === TERMINAL_CODE.goal ? 1 : 0,
+    );
     const length = evaluate(model, uniform(model), 1, () => 1);
     for (const [label, guess] of wrongGuesses(model, seed)) {
       it(`discount 1, proper model ${seed}: ${label}`, () => {
@@ -91,8 +102,12 @@ describe('a wrong guess still gives sound bounds (mathjs lusolve, every determin
         expectInside(analysis.optimal.values, best, 'optimal value');
         for (let s = 0; s < model.stateCount; s++) {
           if (model.terminal[s] !== 0) continue;
-          expect(Math.abs(analysis.random.reach.goal[s] - goal[s]), `random goal reach at ${s}`).toBeLessThanOrEqual(PRECISION);
-          expect(Math.abs(analysis.random.expectedLength[s] - length[s]), `random length at ${s}`).toBeLessThanOrEqual(PRECISION);
+          expect(Math.abs(analysis.random.reach.goal[s] - goal[s]), `random goal reach at ${s}`).toBeLessThanOrEqual(
+            PRECISION,
+          );
+          expect(Math.abs(analysis.random.expectedLength[s] - length[s]), `random length at ${s}`).toBeLessThanOrEqual(
+            PRECISION,
+          );
         }
       });
     }
@@ -103,26 +118,49 @@ describe('a wrong guess still gives sound bounds (mathjs lusolve, every determin
 function expectSameAnalysis(warm: Analysis, cold: Analysis, label: string): void {
   const close = (a: number, b: number, what: string): void => {
     if (!Number.isFinite(a) || !Number.isFinite(b)) expect(a, what).toBe(b);
-    else expect(Math.abs(a - b), `${what}: ${a} against ${b}`).toBeLessThanOrEqual(2 * PRECISION * Math.max(1, Math.abs(b) / 1000));
+    else
+      expect(Math.abs(a - b), `${what}: ${a} against ${b}`).toBeLessThanOrEqual(
+        2 * PRECISION * Math.max(1, Math.abs(b) / 1000),
+      );
   };
   const n = cold.model.stateCount;
   expect(warm.model.stateIds).toEqual(cold.model.stateIds);
   for (const which of ['optimal', 'worst', 'random'] as const) {
     for (let s = 0; s < n; s++) {
-      close(warm[which].values.lower[s], cold[which].values.lower[s], `${label}: ${which} lower at ${cold.model.stateIds[s]}`);
-      close(warm[which].values.upper[s], cold[which].values.upper[s], `${label}: ${which} upper at ${cold.model.stateIds[s]}`);
-      close(warm[which].expectedLength[s], cold[which].expectedLength[s], `${label}: ${which} length at ${cold.model.stateIds[s]}`);
+      close(
+        warm[which].values.lower[s],
+        cold[which].values.lower[s],
+        `${label}: ${which} lower at ${cold.model.stateIds[s]}`,
+      );
+      close(
+        warm[which].values.upper[s],
+        cold[which].values.upper[s],
+        `${label}: ${which} upper at ${cold.model.stateIds[s]}`,
+      );
+      close(
+        warm[which].expectedLength[s],
+        cold[which].expectedLength[s],
+        `${label}: ${which} length at ${cold.model.stateIds[s]}`,
+      );
       for (const kind of ['goal', 'failure', 'neutral', 'none'] as const) {
-        close(warm[which].reach[kind][s], cold[which].reach[kind][s], `${label}: ${which} ${kind} reach at ${cold.model.stateIds[s]}`);
+        close(
+          warm[which].reach[kind][s],
+          cold[which].reach[kind][s],
+          `${label}: ${which} ${kind} reach at ${cold.model.stateIds[s]}`,
+        );
       }
     }
   }
-  for (let s = 0; s < n; s++) close(warm.maxGoalReach[s], cold.maxGoalReach[s], `${label}: best goal reach at ${cold.model.stateIds[s]}`);
-  expect(warm.precision, `${label}: widest bound`).toBeLessThanOrEqual(Math.max(PRECISION, cold.precision) * (1 + 1e-9));
+  for (let s = 0; s < n; s++)
+    close(warm.maxGoalReach[s], cold.maxGoalReach[s], `${label}: best goal reach at ${cold.model.stateIds[s]}`);
+  expect(warm.precision, `${label}: widest bound`).toBeLessThanOrEqual(
+    Math.max(PRECISION, cold.precision) * (1 + 1e-9),
+  );
 }
 
 function expectSameReport(warm: FileReport, cold: FileReport, label: string): void {
-  const shown = (report: FileReport) => report.findings.map((f) => ({ rule: f.rule, severity: f.severity, span: f.span, message: f.message }));
+  const shown = (report: FileReport) =>
+    report.findings.map((f) => ({ rule: f.rule, severity: f.severity, span: f.span, message: f.message }));
   expect(shown(warm), `${label}: findings`).toEqual(shown(cold));
   expect(warm.notAnalysed).toEqual(cold.notAnalysed);
   expect(warm.internalErrors).toEqual([]);
@@ -133,7 +171,11 @@ function expectSameReport(warm: FileReport, cold: FileReport, label: string): vo
 /** The edit's report started from the original's solution, against a cold report of the edit. */
 function warmAgainstCold(original: string, edited: string, label: string): { warm: FileReport; cold: FileReport } {
   const first = analyzeJsonText('spec.mdp.json', original, { analysis: true, keepSolution: true });
-  const warm = analyzeJsonText('spec.mdp.json', edited, { analysis: true, startFrom: first.analysis?.solution, keepSolution: true });
+  const warm = analyzeJsonText('spec.mdp.json', edited, {
+    analysis: true,
+    startFrom: first.analysis?.solution,
+    keepSolution: true,
+  });
   const cold = analyzeJsonText('spec.mdp.json', edited, { analysis: true });
   expectSameReport(warm, cold, label);
   return { warm, cold };
@@ -141,8 +183,12 @@ function warmAgainstCold(original: string, edited: string, label: string): { war
 
 describe('warm and cold give the same findings and bounds', () => {
   const specs = [
-    ...readdirSync(join(ROOT, 'examples')).filter((f) => f.endsWith('.mdp.json')).map((f) => join('examples', f)),
-    ...readdirSync(join(ROOT, 'test/fixtures/classic')).filter((f) => f.endsWith('.mdp.json')).map((f) => join('test/fixtures/classic', f)),
+    ...readdirSync(join(ROOT, 'examples'))
+      .filter((f) => f.endsWith('.mdp.json'))
+      .map((f) => join('examples', f)),
+    ...readdirSync(join(ROOT, 'test/fixtures/classic'))
+      .filter((f) => f.endsWith('.mdp.json'))
+      .map((f) => join('test/fixtures/classic', f)),
   ];
   for (const file of specs) {
     it(`${file}, re-analysed from its own solution`, () => {
@@ -153,7 +199,9 @@ describe('warm and cold give the same findings and bounds', () => {
 
   const warehouse = warehouseSpecText(1000);
   it('a 1k-state spec after a reward edit, and the warm path does less work', () => {
-    const edited = warehouse.replace('"action":"hop","to":"b', '"action":"hop","reward":-3,"to":"b').replace(/("action":"hop","reward":-3,"to":"b\d+"),"reward":-1/, '$1');
+    const edited = warehouse
+      .replace('"action":"hop","to":"b', '"action":"hop","reward":-3,"to":"b')
+      .replace(/("action":"hop","reward":-3,"to":"b\d+"),"reward":-1/, '$1');
     expect(edited).not.toBe(warehouse);
     const { warm, cold } = warmAgainstCold(warehouse, edited, 'reward edit');
     expect(warm.analysis!.warmStarts).toBeGreaterThan(0);

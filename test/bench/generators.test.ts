@@ -18,7 +18,8 @@ import { checkSpec } from '../helpers/specs';
 import { analyzeTs } from '../typescript/ts-specs';
 import type { FileReport } from '../../server/src/analyze';
 
-const errors = (report: FileReport) => report.findings.filter((f) => f.severity === 'error').map((f) => `${f.rule}: ${f.message}`);
+const errors = (report: FileReport) =>
+  report.findings.filter((f) => f.severity === 'error').map((f) => `${f.rule}: ${f.message}`);
 
 describe('slippery grid', () => {
   test.each([0.9, 0.99, 0.999, 1])('a 12x12 grid at discount %s compiles and has no error finding', (discount) => {
@@ -31,7 +32,13 @@ describe('slippery grid', () => {
   });
 
   test('moves as intended with 0.8 and sideways with 0.1 each; walls bounce; every step costs 1', () => {
-    const spec = slipperyGridSpec({ size: 6, discount: 0.9 }) as { transitions: Array<{ from: string; action: string; to: Array<{ state: string; probability: number; reward: number }> }> };
+    const spec = slipperyGridSpec({ size: 6, discount: 0.9 }) as {
+      transitions: Array<{
+        from: string;
+        action: string;
+        to: Array<{ state: string; probability: number; reward: number }>;
+      }>;
+    };
     const outcomes = (from: string, action: string) => {
       const t = spec.transitions.find((x) => x.from === from && x.action === action)!;
       return Object.fromEntries(t.to.map((o) => [o.state, o.probability]));
@@ -42,13 +49,17 @@ describe('slippery grid', () => {
     expect(corner[gridCell(0, 1)]).toBeCloseTo(0.1, 12);
     // South from an inner cell: 0.8 down, 0.1 to each side.
     const inner = outcomes(gridCell(2, 1), 'south');
-    expect(inner).toEqual({ [gridCell(3, 1)]: 0.8, [gridCell(2, 2)]: expect.closeTo(0.1, 12), [gridCell(2, 0)]: expect.closeTo(0.1, 12) });
+    expect(inner).toEqual({
+      [gridCell(3, 1)]: 0.8,
+      [gridCell(2, 2)]: expect.closeTo(0.1, 12),
+      [gridCell(2, 0)]: expect.closeTo(0.1, 12),
+    });
     expect(spec.transitions.every((t) => t.to.every((o) => o.reward === -1))).toBe(true);
     for (const t of spec.transitions) expect(t.to.reduce((sum, o) => sum + o.probability, 0)).toBeCloseTo(1, 12);
   });
 });
 
-describe('random walk (gambler\'s ruin)', () => {
+describe("random walk (gambler's ruin)", () => {
   test('the closed forms agree with the formulas written out directly at a size where no power overflows', () => {
     // Feller ch. XIV: fair P = i/N and duration i(N - i); biased, r = q/p: P = (1 - r^i)/(1 - r^N),
     // duration i/(q - p) - (N/(q - p)) P.
@@ -71,24 +82,29 @@ describe('random walk (gambler\'s ruin)', () => {
   test.each([
     [0.5, 10],
     [0.49, 7],
-  ])('a walk on 0..20 with up %s from %s has no error finding, and its value, reach and length match the closed form', (up, start) => {
-    const report = checkSpec(randomWalkSpec({ n: 20, up, start }));
-    expect(errors(report)).toEqual([]);
-    const truth = walkTruth(20, up, start);
-    const summary = report.analysis!.start;
-    // Reaching 20 pays 1 and nothing else pays, so the value is the probability of reaching 20.
-    expect(summary.optimal.lower).toBeLessThanOrEqual(truth.goal + 1e-9);
-    expect(summary.optimal.upper).toBeGreaterThanOrEqual(truth.goal - 1e-9);
-    expect(summary.reach.random.goal).toBeCloseTo(truth.goal, 5);
-    expect(summary.reach.random.failure).toBeCloseTo(truth.failure, 5);
-    expect(summary.expectedLength.random).toBeCloseTo(truth.duration, 3);
-    expect(report.model!.stateIds).toContain(walkState(20));
-  });
+  ])(
+    'a walk on 0..20 with up %s from %s has no error finding, and its value, reach and length match the closed form',
+    (up, start) => {
+      const report = checkSpec(randomWalkSpec({ n: 20, up, start }));
+      expect(errors(report)).toEqual([]);
+      const truth = walkTruth(20, up, start);
+      const summary = report.analysis!.start;
+      // Reaching 20 pays 1 and nothing else pays, so the value is the probability of reaching 20.
+      expect(summary.optimal.lower).toBeLessThanOrEqual(truth.goal + 1e-9);
+      expect(summary.optimal.upper).toBeGreaterThanOrEqual(truth.goal - 1e-9);
+      expect(summary.reach.random.goal).toBeCloseTo(truth.goal, 5);
+      expect(summary.reach.random.failure).toBeCloseTo(truth.failure, 5);
+      expect(summary.expectedLength.random).toBeCloseTo(truth.duration, 3);
+      expect(report.model!.stateIds).toContain(walkState(20));
+    },
+  );
 });
 
 describe('random TypeScript model', () => {
   test('a 400-state instance enumerates every state, 4 actions x 8 outcomes each, with no error finding', async () => {
-    const report = await analyzeTs(randomTypeScriptSpec({ states: 400, actions: 4, outcomes: 8, seed: 5, discount: 0.95 }));
+    const report = await analyzeTs(
+      randomTypeScriptSpec({ states: 400, actions: 4, outcomes: 8, seed: 5, discount: 0.95 }),
+    );
     expect(errors(report)).toEqual([]);
     const model = report.model!;
     expect(model).toBeDefined();

@@ -2,7 +2,14 @@ import { describe, expect, it } from 'vitest';
 import { OPTIONS, UsageError, parseArgs, usageText, type CommandSpec } from '../../server/src/cli/args';
 
 const COMMANDS: CommandSpec[] = [
-  { name: 'check', operands: '[paths...]', summary: 'check specs', options: ['format', 'values', 'fail-on'], minOperands: 0, maxOperands: Infinity },
+  {
+    name: 'check',
+    operands: '[paths...]',
+    summary: 'check specs',
+    options: ['format', 'values', 'fail-on'],
+    minOperands: 0,
+    maxOperands: Infinity,
+  },
   { name: 'explain', operands: '[RULE]', summary: 'explain a rule', options: [], minOperands: 0, maxOperands: 1 },
 ];
 
@@ -19,7 +26,11 @@ function usageMessage(argv: string[]): string {
 describe('argument parser', () => {
   it('reads the command, operands and defaults', () => {
     const parsed = parseArgs(['check', 'a', 'b'], COMMANDS);
-    expect(parsed).toEqual({ command: 'check', operands: ['a', 'b'], options: { format: 'text', values: false, 'fail-on': 'error' } });
+    expect(parsed).toEqual({
+      command: 'check',
+      operands: ['a', 'b'],
+      options: { format: 'text', values: false, 'fail-on': 'error' },
+    });
   });
 
   it('takes --name value, --name=value and options before the command', () => {
@@ -56,7 +67,10 @@ describe('argument parser', () => {
       [['chek'], "unknown command 'chek'; did you mean 'check'?"],
       [['check', '--formt', 'json'], "unknown option '--formt'; did you mean '--format'?"],
       [['check', '--fail-on=warn'], "option '--fail-on' must be one of error, warning, info, never; got 'warn'"],
-      [['check', '--format', 'jsn'], "option '--format' must be one of text, json, sarif, markdown; got 'jsn'; did you mean 'json'?"],
+      [
+        ['check', '--format', 'jsn'],
+        "option '--format' must be one of text, json, sarif, markdown; got 'jsn'; did you mean 'json'?",
+      ],
       [['check', '--base-line', 'b.json'], "unknown option '--base-line'; did you mean '--baseline'?"],
     ];
     for (const [argv, message] of cases) {

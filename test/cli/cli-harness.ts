@@ -79,7 +79,8 @@ export function expectContract(output: unknown, withValues: boolean): void {
       expect((f.message as string).length, fw).toBeGreaterThan(0);
       for (const key of ['line', 'column', 'endLine', 'endColumn']) expectPosition(f[key], `${fw}.${key}`);
       const startsBeforeEnd =
-        (f.line as number) < (f.endLine as number) || ((f.line as number) === (f.endLine as number) && (f.column as number) <= (f.endColumn as number));
+        (f.line as number) < (f.endLine as number) ||
+        ((f.line as number) === (f.endLine as number) && (f.column as number) <= (f.endColumn as number));
       expect(startsBeforeEnd, `${fw}: range start before end`).toBe(true);
       expect(Array.isArray(f.trace), `${fw}.trace`).toBe(true);
       for (const step of f.trace as Array<Record<string, unknown>>) {
@@ -94,7 +95,8 @@ export function expectContract(output: unknown, withValues: boolean): void {
     expect(a.exact, `${where}.exact`).toBeTypeOf('boolean');
     for (const policy of ['optimal', 'worst', 'random']) expectInterval(a.start[policy], `${where}.start.${policy}`);
     for (const policy of ['optimal', 'random']) {
-      for (const kind of ['goal', 'failure', 'none']) expectProbability(a.start.reach[policy][kind], `${where}.reach.${policy}.${kind}`);
+      for (const kind of ['goal', 'failure', 'none'])
+        expectProbability(a.start.reach[policy][kind], `${where}.reach.${policy}.${kind}`);
     }
     if (!withValues) {
       expect(a.values, `${where}.values without --values`).toBeUndefined();
@@ -103,7 +105,8 @@ export function expectContract(output: unknown, withValues: boolean): void {
     expect(a.values, `${where}.values`).toBeTypeOf('object');
     expect(Object.keys(a.values).length, `${where}: one entry per state`).toBe(a.states);
     for (const [state, v] of Object.entries(a.values as Record<string, any>)) {
-      for (const policy of ['optimal', 'random', 'worst']) expectInterval(v[policy], `${where}.values.${state}.${policy}`);
+      for (const policy of ['optimal', 'random', 'worst'])
+        expectInterval(v[policy], `${where}.values.${state}.${policy}`);
       expect(Array.isArray(v.best), `${where}.values.${state}.best`).toBe(true);
       for (const action of v.best) expect(action).toBeTypeOf('string');
     }

@@ -60,27 +60,53 @@ describe('episcope --version and --help', () => {
   it('exits 2 with one line naming the allowed range when a number option is out of range or not a whole number', async () => {
     // The ranges are those of the config file's schema (seed: a 32-bit unsigned number; rollouts: at least 0).
     const cases: Array<[string[], string]> = [
-      [['check', 'examples', '--rollouts', '-5'], "option '--rollouts' needs a whole number from 0 to 10000000; got -5"],
-      [['check', 'examples', '--rollouts', '1.5'], "option '--rollouts' needs a whole number from 0 to 10000000; got '1.5'"],
-      [['check', 'examples', '--rollouts=99999999999'], "option '--rollouts' needs a whole number from 0 to 10000000; got 99999999999"],
+      [
+        ['check', 'examples', '--rollouts', '-5'],
+        "option '--rollouts' needs a whole number from 0 to 10000000; got -5",
+      ],
+      [
+        ['check', 'examples', '--rollouts', '1.5'],
+        "option '--rollouts' needs a whole number from 0 to 10000000; got '1.5'",
+      ],
+      [
+        ['check', 'examples', '--rollouts=99999999999'],
+        "option '--rollouts' needs a whole number from 0 to 10000000; got 99999999999",
+      ],
       [['check', 'examples', '--seed', 'abc'], "option '--seed' needs a whole number from 0 to 4294967295; got 'abc'"],
       [['check', 'examples', '--seed=-1'], "option '--seed' needs a whole number from 0 to 4294967295; got -1"],
-      [['check', 'examples', '--seed', '4294967296'], "option '--seed' needs a whole number from 0 to 4294967295; got 4294967296"],
+      [
+        ['check', 'examples', '--seed', '4294967296'],
+        "option '--seed' needs a whole number from 0 to 4294967295; got 4294967296",
+      ],
       [['check', 'examples', '--seed', '1e3'], "option '--seed' needs a whole number from 0 to 4294967295; got '1e3'"],
       [['server', '--socket=70000'], "option '--socket' needs a whole number from 1 to 65535; got 70000"],
-      [['server', '--stdio', '--clientProcessId', '-3'], "option '--clientProcessId' needs a whole number from 1 to 2147483647; got -3"],
+      [
+        ['server', '--stdio', '--clientProcessId', '-3'],
+        "option '--clientProcessId' needs a whole number from 1 to 2147483647; got -3",
+      ],
     ];
     for (const [argv, message] of cases) {
       const result = await cli(argv);
       expect(result.code, argv.join(' ')).toBe(2);
       expect(result.stdout, argv.join(' ')).toBe('');
-      expect(result.stderr.trimEnd().split('\n'), argv.join(' ')).toEqual([`episcope: ${message} (see 'episcope --help')`]);
+      expect(result.stderr.trimEnd().split('\n'), argv.join(' ')).toEqual([
+        `episcope: ${message} (see 'episcope --help')`,
+      ]);
       expect(result.stderr).not.toMatch(/\bat .+:\d+:\d+/);
     }
   });
 
   it('accepts the ends of the number ranges', async () => {
-    const result = await cli(['check', 'examples/warehouse-picking.mdp.json', '--seed', '4294967295', '--rollouts', '0', '--format', 'json']);
+    const result = await cli([
+      'check',
+      'examples/warehouse-picking.mdp.json',
+      '--seed',
+      '4294967295',
+      '--rollouts',
+      '0',
+      '--format',
+      'json',
+    ]);
     expect(result.stderr).toBe('');
     expect([0, 1]).toContain(result.code);
   });
@@ -94,7 +120,9 @@ describe('episcope check --format json', () => {
     expectContract(output, true);
     const validate = new Ajv2020({ allErrors: true, strict: false }).compile(outputSchema);
     expect(validate(output), JSON.stringify(validate.errors)).toBe(true);
-    const names = readdirSync(EXAMPLES).filter((n) => n.endsWith('.mdp.json') || n.endsWith('.mdp.ts')).sort();
+    const names = readdirSync(EXAMPLES)
+      .filter((n) => n.endsWith('.mdp.json') || n.endsWith('.mdp.ts'))
+      .sort();
     expect(output.files.map((f: { path: string }) => f.path)).toEqual(names.map((n) => `examples/${n}`));
   });
 
@@ -143,7 +171,9 @@ describe('episcope check --format json', () => {
     for (const [state, v] of Object.entries(reference as Record<string, number>)) {
       expect(bound(values[state].random.lower), state).toBeLessThanOrEqual(v);
       expect(bound(values[state].random.upper), state).toBeGreaterThanOrEqual(v);
-      expect(bound(values[state].random.upper) - bound(values[state].random.lower)).toBeLessThanOrEqual(1e-6 * Math.max(1, Math.abs(v)));
+      expect(bound(values[state].random.upper) - bound(values[state].random.lower)).toBeLessThanOrEqual(
+        1e-6 * Math.max(1, Math.abs(v)),
+      );
     }
   });
 
@@ -213,7 +243,9 @@ describe('paths', () => {
     const result = await cli(['check', 'examples/warehouse-picking.mdp.json/inner.mdp.json']);
     expect(result.code).toBe(2);
     expect(result.stdout).toBe('');
-    expect(result.stderr).toBe("episcope: cannot read 'examples/warehouse-picking.mdp.json/inner.mdp.json': a part of the path is not a folder\n");
+    expect(result.stderr).toBe(
+      "episcope: cannot read 'examples/warehouse-picking.mdp.json/inner.mdp.json': a part of the path is not a folder\n",
+    );
   });
 
   // Root reads every file whatever its mode, so this case can only be seen by another user.
@@ -230,7 +262,14 @@ describe('paths', () => {
 
   it('searches folders recursively, skips node_modules and dot folders, sorts, and writes nothing', async () => {
     const folder = tempFolder('walk');
-    const files = ['b.mdp.json', 'a/z.mdp.json', 'a/deeper/y.mdp.json', 'node_modules/x.mdp.json', '.hidden/w.mdp.json', 'a/notes.json'];
+    const files = [
+      'b.mdp.json',
+      'a/z.mdp.json',
+      'a/deeper/y.mdp.json',
+      'node_modules/x.mdp.json',
+      '.hidden/w.mdp.json',
+      'a/notes.json',
+    ];
     for (const f of files) {
       mkdirSync(path.dirname(path.join(folder, f)), { recursive: true });
       writeFileSync(path.join(folder, f), SMALL_SPEC);
@@ -242,7 +281,11 @@ describe('paths', () => {
     const before = listing();
     const { code, output } = await checkJson(['.'], folder);
     expect(code).toBe(0);
-    expect(output.files.map((f: { path: string }) => f.path)).toEqual(['a/deeper/y.mdp.json', 'a/z.mdp.json', 'b.mdp.json']);
+    expect(output.files.map((f: { path: string }) => f.path)).toEqual([
+      'a/deeper/y.mdp.json',
+      'a/z.mdp.json',
+      'b.mdp.json',
+    ]);
     expect(listing()).toEqual(before);
   });
 
@@ -251,7 +294,10 @@ describe('paths', () => {
     for (const name of readdirSync(EXAMPLES).filter((n) => n.endsWith('.mdp.ts'))) {
       writeFileSync(path.join(folder, name), readFileSync(path.join(EXAMPLES, name)));
     }
-    const listing = () => (readdirSync(folder, { recursive: true }) as string[]).sort().map((f) => `${f}:${statSync(path.join(folder, f)).mtimeMs}`);
+    const listing = () =>
+      (readdirSync(folder, { recursive: true }) as string[])
+        .sort()
+        .map((f) => `${f}:${statSync(path.join(folder, f)).mtimeMs}`);
     const before = listing();
     expect(before.length).toBeGreaterThan(0);
     const { code } = await cli(['check', '.', '--format', 'json'], { cwd: folder });
@@ -298,7 +344,9 @@ describe('text output', () => {
     expect(lines.filter((l) => findingLine.test(l)).length).toBeGreaterThanOrEqual(3);
     expect(stdout).toMatch(/^examples\/drone-delivery\.mdp\.json:\d+:\d+ error undeclared-state /m);
     const specCount = readdirSync(EXAMPLES).filter((n) => /\.mdp\.(json|ts)$/.test(n)).length;
-    expect(lines[lines.length - 1]).toMatch(new RegExp(`^${specCount} files checked: \\d+ errors?, \\d+ warnings?, \\d+ infos?$`));
+    expect(lines[lines.length - 1]).toMatch(
+      new RegExp(`^${specCount} files checked: \\d+ errors?, \\d+ warnings?, \\d+ infos?$`),
+    );
     // The patrol loop is listed state by state, indented under its finding.
     const patrol = lines.findIndex((l) => /npc-patrol\.mdp\.json:\d+:\d+ error unbounded-return/.test(l));
     expect(patrol).toBeGreaterThanOrEqual(0);
@@ -308,7 +356,9 @@ describe('text output', () => {
   it('summarises the start: optimal, random and worst ranges with goal and failure reach', async () => {
     const { stdout } = await cli(['check', 'examples/warehouse-picking.mdp.json']);
     const lines = stdout.split('\n');
-    expect(lines[0]).toMatch(/^examples\/warehouse-picking\.mdp\.json: 6 states, 6 transitions, maximize, discount 0\.95$/);
+    expect(lines[0]).toMatch(
+      /^examples\/warehouse-picking\.mdp\.json: 6 states, 6 transitions, maximize, discount 0\.95$/,
+    );
     expect(lines[1]).toMatch(/^\s+return from start\s+goal\s+failure$/);
     expect(lines[2]).toMatch(/^ {2}optimal\s+-?\d[\d.]*( \.\. -?\d[\d.]*)?\s+[\d.]+\s+[\d.]+$/);
     expect(lines[3]).toMatch(/^ {2}random\s+/);
@@ -341,7 +391,8 @@ describe('episcope explain', () => {
   it('lists the rules without an argument', async () => {
     const result = await cli(['explain']);
     expect(result.code).toBe(0);
-    for (const rule of documentedRules()) expect(result.stdout).toMatch(new RegExp(`^  ${rule.id} +${rule.defaultSeverity} `, 'm'));
+    for (const rule of documentedRules())
+      expect(result.stdout).toMatch(new RegExp(`^  ${rule.id} +${rule.defaultSeverity} `, 'm'));
   });
 
   it('exits 2 with a suggestion for a misspelt rule', async () => {

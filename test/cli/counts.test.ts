@@ -12,7 +12,16 @@ import { severityCount, type Severity } from '../../server/src/rules/types';
 function fileWith(path: string, severities: Severity[]): JsonFile {
   return {
     path,
-    findings: severities.map((severity, i) => ({ rule: 'unreachable-state', severity, message: `finding ${i}`, line: i + 1, column: 1, endLine: i + 1, endColumn: 2, trace: [] })),
+    findings: severities.map((severity, i) => ({
+      rule: 'unreachable-state',
+      severity,
+      message: `finding ${i}`,
+      line: i + 1,
+      column: 1,
+      endLine: i + 1,
+      endColumn: 2,
+      trace: [],
+    })),
     notAnalysed: 'not needed here',
   };
 }

@@ -11,12 +11,17 @@ import { REPO_ROOT, expectContract } from './cli-harness';
 const CLI = path.join(REPO_ROOT, 'dist', 'cli.js');
 
 function run(args: string[]) {
-  const result = spawnSync(process.execPath, [CLI, ...args], { cwd: REPO_ROOT, encoding: 'utf8', env: { ...process.env, NO_COLOR: '1' } });
+  const result = spawnSync(process.execPath, [CLI, ...args], {
+    cwd: REPO_ROOT,
+    encoding: 'utf8',
+    env: { ...process.env, NO_COLOR: '1' },
+  });
   return { code: result.status, stdout: result.stdout, stderr: result.stderr };
 }
 
 beforeAll(() => {
-  if (!existsSync(CLI)) execFileSync(process.execPath, [path.join(REPO_ROOT, 'scripts', 'bundle.mjs')], { cwd: REPO_ROOT });
+  if (!existsSync(CLI))
+    execFileSync(process.execPath, [path.join(REPO_ROOT, 'scripts', 'bundle.mjs')], { cwd: REPO_ROOT });
 });
 
 describe('dist/cli.js', () => {

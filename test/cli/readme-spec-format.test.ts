@@ -27,7 +27,8 @@ const schema = JSON.parse(readFileSync(path.join(REPO_ROOT, 'schemas', 'mdp.sche
 function schemaNames(): Array<{ where: string; name: string }> {
   const defs = schema.$defs ?? {};
   const names: Array<{ where: string; name: string }> = [];
-  const add = (where: string, list: readonly unknown[]) => list.forEach((name) => names.push({ where, name: String(name) }));
+  const add = (where: string, list: readonly unknown[]) =>
+    list.forEach((name) => names.push({ where, name: String(name) }));
   add('top-level property', Object.keys(schema.properties ?? {}));
   add('shaping property', Object.keys(schema.properties?.shaping?.properties ?? {}));
   add('state property', Object.keys(defs.state?.properties ?? {}));
@@ -50,9 +51,15 @@ function authoringCalls(): string[] {
   const source = ts.createSourceFile(file, readFileSync(file, 'utf8'), ts.ScriptTarget.Latest, true);
   const calls = new Set<string>();
   const isFunctionType = (type: ts.TypeNode | undefined): boolean =>
-    !!type && (ts.isFunctionTypeNode(type) || (ts.isUnionTypeNode(type) && type.types.some((t) => isFunctionType(ts.isParenthesizedTypeNode(t) ? t.type : t))));
+    !!type &&
+    (ts.isFunctionTypeNode(type) ||
+      (ts.isUnionTypeNode(type) && type.types.some((t) => isFunctionType(ts.isParenthesizedTypeNode(t) ? t.type : t))));
   source.forEachChild((node) => {
-    if (ts.isFunctionDeclaration(node) && node.name && node.modifiers?.some((m) => m.kind === ts.SyntaxKind.ExportKeyword)) {
+    if (
+      ts.isFunctionDeclaration(node) &&
+      node.name &&
+      node.modifiers?.some((m) => m.kind === ts.SyntaxKind.ExportKeyword)
+    ) {
       calls.add(`${node.name.text}(`);
     }
     if (!ts.isInterfaceDeclaration(node)) return;
@@ -61,7 +68,8 @@ function authoringCalls(): string[] {
       if (ts.isCallSignatureDeclaration(member)) calls.add(`${owner}()`);
       const name = member.name && ts.isIdentifier(member.name) ? member.name.text : undefined;
       if (!name) continue;
-      const isFunction = ts.isMethodSignature(member) || (ts.isPropertySignature(member) && isFunctionType(member.type));
+      const isFunction =
+        ts.isMethodSignature(member) || (ts.isPropertySignature(member) && isFunctionType(member.type));
       if (isFunction) calls.add(owner ? `${owner}.${name}(` : `${name}(`);
     }
   });
@@ -74,15 +82,35 @@ describe('README.md, "Writing a spec"', () => {
     // The schema's own structure, so that a renamed $def cannot empty the list silently.
     expect(names.filter((n) => n.where === 'top-level property').length).toBeGreaterThanOrEqual(11);
     expect(names.filter((n) => n.where === 'terminal kind').map((n) => n.name)).toEqual(['goal', 'failure', 'neutral']);
-    expect(names.filter((n) => n.where === 'term direction').map((n) => n.name)).toEqual(['bonus', 'penalty', 'either']);
-    expect(names.filter((n) => n.where === 'transition property').map((n) => n.name)).toEqual(['from', 'action', 'to', 'reward']);
+    expect(names.filter((n) => n.where === 'term direction').map((n) => n.name)).toEqual([
+      'bonus',
+      'penalty',
+      'either',
+    ]);
+    expect(names.filter((n) => n.where === 'transition property').map((n) => n.name)).toEqual([
+      'from',
+      'action',
+      'to',
+      'reward',
+    ]);
     const missing = names.filter(({ name }) => !manual.includes(`\`${name}\``) && !manual.includes(`"${name}"`));
     expect(missing, 'add these to the section "Writing a spec" of README.md').toEqual([]);
   });
 
   it('names every function of the authoring types (server/src/define.ts) and every rng method', () => {
     const calls = authoringCalls();
-    for (const expected of ['defineMdp(', 'actions(', 'outcomes(', 'terminal(', 'start(', 'sample(', 'rng()', 'rng.int(', 'rng.pick(', 'rng.normal(']) {
+    for (const expected of [
+      'defineMdp(',
+      'actions(',
+      'outcomes(',
+      'terminal(',
+      'start(',
+      'sample(',
+      'rng()',
+      'rng.int(',
+      'rng.pick(',
+      'rng.normal(',
+    ]) {
       expect(calls).toContain(expected);
     }
     const missing = calls.filter((call) => !manual.includes(call));
@@ -100,7 +128,10 @@ describe('README.md, "Writing a spec"', () => {
     const output = await checkJson(folder);
     expect(output.files.map((f) => f.path).sort()).toEqual([jsonExample![1], tsExample![1]].sort());
     for (const file of output.files) {
-      expect(file.findings.map((f) => `${f.rule}: ${f.message}`), file.path).toEqual([]);
+      expect(
+        file.findings.map((f) => `${f.rule}: ${f.message}`),
+        file.path,
+      ).toEqual([]);
       expect(file.analysis, file.path).toBeDefined();
     }
     // The README says how many states the courier model has.
@@ -204,7 +235,10 @@ const LOADER_RULES = new Set(['schema', 'syntax', 'model-error']);
 interface CheckedFile {
   path: string;
   findings: Array<{ rule: string; message: string }>;
-  analysis?: { states: number; start: { optimal: { lower: number | string; upper: number | string }; maxGoalReach: number } };
+  analysis?: {
+    states: number;
+    start: { optimal: { lower: number | string; upper: number | string }; maxGoalReach: number };
+  };
 }
 
 async function checkJson(folder: string): Promise<{ files: CheckedFile[] }> {

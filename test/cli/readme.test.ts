@@ -39,7 +39,10 @@ describe('README.md', () => {
   });
 
   it('gives a newcomer exactly two commands: install and check the examples, and run every test', () => {
-    const quickStart = readme.slice(readme.indexOf('## Quick start'), readme.indexOf('\n## ', readme.indexOf('## Quick start') + 1));
+    const quickStart = readme.slice(
+      readme.indexOf('## Quick start'),
+      readme.indexOf('\n## ', readme.indexOf('## Quick start') + 1),
+    );
     const commands = [...quickStart.matchAll(/```sh\n([\s\S]*?)```/g)].map((m) => m[1].trim());
     expect(commands).toEqual(['npm ci && npx episcope check examples', 'npm test']);
     const pkg = JSON.parse(readFileSync(path.join(REPO_ROOT, 'package.json'), 'utf8'));
@@ -51,7 +54,15 @@ describe('README.md', () => {
 
   it('carries the safety caution of the design brief', () => {
     const safety = readme.slice(readme.indexOf('## Safety')).replace(/\s+/g, ' ');
-    for (const phrase of ['not that a trained policy is safe', 'safety', 'standards', 'local codes', 'licensed engineering practice', 'simulation', 'supervision']) {
+    for (const phrase of [
+      'not that a trained policy is safe',
+      'safety',
+      'standards',
+      'local codes',
+      'licensed engineering practice',
+      'simulation',
+      'supervision',
+    ]) {
       expect(safety).toContain(phrase);
     }
   });
@@ -74,7 +85,9 @@ describe('examples/README.md', () => {
   const documented = documentedExamples();
 
   it('documents every example spec, says the numbers are invented, and has at least two clean and two buggy ones', () => {
-    const files = readdirSync(path.join(REPO_ROOT, 'examples')).filter((n) => /\.mdp\.(json|ts)$/.test(n)).sort();
+    const files = readdirSync(path.join(REPO_ROOT, 'examples'))
+      .filter((n) => /\.mdp\.(json|ts)$/.test(n))
+      .sort();
     expect([...documented.keys()].sort()).toEqual(files);
     expect(examplesReadme).toMatch(/invented/i);
     const clean = [...documented.values()].filter((rules) => rules.size === 0).length;

@@ -43,13 +43,27 @@ export function readReferenceMdp(file: string): ReferenceMdp {
     let list: Outcome[];
     if (typeof t.to === 'string') list = [{ to: t.to, probability: 1, reward: rewardOf(t.reward) }];
     else if (Array.isArray(t.to)) {
-      list = t.to.map((o: any) => ({ to: o.state, probability: o.probability, reward: rewardOf(o.reward ?? t.reward) }));
+      list = t.to.map((o: any) => ({
+        to: o.state,
+        probability: o.probability,
+        reward: rewardOf(o.reward ?? t.reward),
+      }));
     } else {
-      list = Object.entries(t.to as Record<string, number>).map(([to, p]) => ({ to, probability: p, reward: rewardOf(t.reward) }));
+      list = Object.entries(t.to as Record<string, number>).map(([to, p]) => ({
+        to,
+        probability: p,
+        reward: rewardOf(t.reward),
+      }));
     }
     outcomes[t.from][t.action] = list;
   }
-  return { discount: spec.discount, start: spec.start, maximize: (spec.objective ?? 'maximize') === 'maximize', states, outcomes };
+  return {
+    discount: spec.discount,
+    start: spec.start,
+    maximize: (spec.objective ?? 'maximize') === 'maximize',
+    states,
+    outcomes,
+  };
 }
 
 /**
@@ -57,7 +71,10 @@ export function readReferenceMdp(file: string): ReferenceMdp {
  * distribution over its actions. Solves (I - discount P) v = r; undefined when singular (the
  * policy never ends the episode at discount 1).
  */
-export function evaluatePolicy(mdp: ReferenceMdp, policy: Record<string, Record<string, number>>): Record<string, number> | undefined {
+export function evaluatePolicy(
+  mdp: ReferenceMdp,
+  policy: Record<string, Record<string, number>>,
+): Record<string, number> | undefined {
   const n = mdp.states.length;
   const index = new Map(mdp.states.map((s, i) => [s, i]));
   const a: number[][] = mdp.states.map((_, i) => mdp.states.map((__, j) => (i === j ? 1 : 0)));

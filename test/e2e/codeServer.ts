@@ -4,7 +4,18 @@
  * `--install-extension`, and the whole process group stopped at the end.
  */
 import { spawn, spawnSync, type ChildProcess } from 'node:child_process';
-import { existsSync, mkdirSync, mkdtempSync, openSync, readdirSync, readFileSync, rmSync, statSync, writeFileSync, closeSync } from 'node:fs';
+import {
+  existsSync,
+  mkdirSync,
+  mkdtempSync,
+  openSync,
+  readdirSync,
+  readFileSync,
+  rmSync,
+  statSync,
+  writeFileSync,
+  closeSync,
+} from 'node:fs';
 import { createServer } from 'node:net';
 import { tmpdir } from 'node:os';
 import { join, resolve } from 'node:path';
@@ -104,11 +115,15 @@ export class CodeServer {
     const common = ['--config', configFile, '--user-data-dir', userDataDir, '--extensions-dir', extensionsDir];
 
     for (const vsix of options.vsix) {
-      const installed = spawnSync(options.install.node, [options.install.codeServerEntry, ...common, '--install-extension', vsix], {
-        env,
-        encoding: 'utf8',
-        timeout: 120_000,
-      });
+      const installed = spawnSync(
+        options.install.node,
+        [options.install.codeServerEntry, ...common, '--install-extension', vsix],
+        {
+          env,
+          encoding: 'utf8',
+          timeout: 120_000,
+        },
+      );
       const installOutput = `${installed.stdout ?? ''}${installed.stderr ?? ''}`;
       if (installed.status !== 0 || !/successfully installed/i.test(installOutput)) {
         throw new Error(`--install-extension ${vsix} failed (exit ${installed.status}):\n${installOutput}`);
@@ -121,7 +136,13 @@ export class CodeServer {
     // that outlive it unless the whole group is signalled.
     const child = spawn(
       options.install.node,
-      [options.install.codeServerEntry, ...common, '--disable-telemetry', '--disable-update-check', '--disable-getting-started-override'],
+      [
+        options.install.codeServerEntry,
+        ...common,
+        '--disable-telemetry',
+        '--disable-update-check',
+        '--disable-getting-started-override',
+      ],
       { env, detached: true, stdio: ['ignore', logFd, logFd] },
     );
     closeSync(logFd);
@@ -178,12 +199,16 @@ export class CodeServer {
       }
     };
     walk(logsRoot);
-    return found.sort((a, b) => a.time - b.time).map(({ path, text }) => ({ path: path.slice(logsRoot.length + 1), text }));
+    return found
+      .sort((a, b) => a.time - b.time)
+      .map(({ path, text }) => ({ path: path.slice(logsRoot.length + 1), text }));
   }
 
   /** The newest output channel whose file name contains `name` (the extension's own log). */
   outputChannel(name: string): string {
-    const matches = this.extensionHostLogs().filter((log) => /output_logging_/.test(log.path) && log.path.includes(name));
+    const matches = this.extensionHostLogs().filter(
+      (log) => /output_logging_/.test(log.path) && log.path.includes(name),
+    );
     return matches.length > 0 ? matches[matches.length - 1].text : '';
   }
 

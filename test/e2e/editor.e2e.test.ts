@@ -8,7 +8,18 @@
  * same editor. Screenshots of each step go to test-results/e2e/, the editor's logs on failure.
  */
 import { spawnSync } from 'node:child_process';
-import { cpSync, existsSync, mkdirSync, mkdtempSync, readdirSync, readFileSync, rmSync, statSync, symlinkSync, writeFileSync } from 'node:fs';
+import {
+  cpSync,
+  existsSync,
+  mkdirSync,
+  mkdtempSync,
+  readdirSync,
+  readFileSync,
+  rmSync,
+  statSync,
+  symlinkSync,
+  writeFileSync,
+} from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import type { Browser } from 'playwright-core';
@@ -39,9 +50,14 @@ function packageExtension(): string {
   timings.package = Date.now() - started;
   const candidates = [REPO_ROOT, join(REPO_ROOT, 'dist')]
     .filter(existsSync)
-    .flatMap((dir) => readdirSync(dir).filter((name) => name.endsWith('.vsix')).map((name) => join(dir, name)))
+    .flatMap((dir) =>
+      readdirSync(dir)
+        .filter((name) => name.endsWith('.vsix'))
+        .map((name) => join(dir, name)),
+    )
     .filter((path) => statSync(path).mtimeMs >= started - 1_000);
-  if (candidates.length !== 1) throw new Error(`npm run package should produce one fresh .vsix, found: ${candidates.join(', ') || 'none'}`);
+  if (candidates.length !== 1)
+    throw new Error(`npm run package should produce one fresh .vsix, found: ${candidates.join(', ') || 'none'}`);
   return candidates[0];
 }
 
@@ -60,10 +76,15 @@ function copyExamples(parent: string): string {
 
 /** What the command line says about one spec (exit 1 only means findings were reported). */
 function cliReport(specPath: string): CliFile {
-  const result = spawnSync(process.execPath, [join(REPO_ROOT, 'dist', 'cli.js'), 'check', '--format', 'json', '--values', specPath], {
-    encoding: 'utf8',
-  });
-  if (result.status !== 0 && result.status !== 1) throw new Error(`episcope check exited ${result.status}:\n${result.stderr}`);
+  const result = spawnSync(
+    process.execPath,
+    [join(REPO_ROOT, 'dist', 'cli.js'), 'check', '--format', 'json', '--values', specPath],
+    {
+      encoding: 'utf8',
+    },
+  );
+  if (result.status !== 0 && result.status !== 1)
+    throw new Error(`episcope check exited ${result.status}:\n${result.stderr}`);
   const report = JSON.parse(result.stdout) as { files: CliFile[] };
   return report.files[0];
 }
@@ -82,7 +103,9 @@ interface CliFile {
 
 /** The 1-based line of a TypeScript spec where its lens sits (the default export), to scroll it into view. */
 function defaultExportLine(specPath: string): number {
-  const index = readFileSync(specPath, 'utf8').split('\n').findIndex((line) => line.startsWith('export default'));
+  const index = readFileSync(specPath, 'utf8')
+    .split('\n')
+    .findIndex((line) => line.startsWith('export default'));
   if (index < 0) throw new Error(`${specPath} has no default export`);
   return index + 1;
 }
@@ -177,9 +200,11 @@ describe('Episcope in a real VS Code (code-server)', () => {
     const text = await hover.innerText();
     await workbench.screenshot('hover-state-values', { keepPointer: true });
     const rows = Object.fromEntries(
-      (await hover.locator('tr').evaluateAll((trs) => trs.map((tr) => [...tr.children].map((cell) => (cell.textContent ?? '').trim())))).map(
-        (cells) => [cells[0], cells.slice(1)],
-      ),
+      (
+        await hover
+          .locator('tr')
+          .evaluateAll((trs) => trs.map((tr) => [...tr.children].map((cell) => (cell.textContent ?? '').trim())))
+      ).map((cells) => [cells[0], cells.slice(1)]),
     ) as Record<string, string[]>;
     const cli = cliReport(join(trustedExamples, 'conveyor-sorter.mdp.json')).analysis?.values?.incoming;
     expect(cli, 'episcope check --values reports the state').toBeDefined();
@@ -188,8 +213,14 @@ describe('Episcope in a real VS Code (code-server)', () => {
       const shown = shownInterval(rows[policy][0]);
       const lower = Number(cli![policy].lower);
       const upper = Number(cli![policy].upper);
-      expect(shown.lower - shown.tolerance, `${policy}: hover ${rows[policy][0]} against CLI [${lower}, ${upper}]`).toBeLessThanOrEqual(upper);
-      expect(shown.upper + shown.tolerance, `${policy}: hover ${rows[policy][0]} against CLI [${lower}, ${upper}]`).toBeGreaterThanOrEqual(lower);
+      expect(
+        shown.lower - shown.tolerance,
+        `${policy}: hover ${rows[policy][0]} against CLI [${lower}, ${upper}]`,
+      ).toBeLessThanOrEqual(upper);
+      expect(
+        shown.upper + shown.tolerance,
+        `${policy}: hover ${rows[policy][0]} against CLI [${lower}, ${upper}]`,
+      ).toBeGreaterThanOrEqual(lower);
     }
     // An independent check of the number itself. Every state of this spec has one action, so the
     // optimal, worst and random values coincide and solve the Bellman equations (common practice):

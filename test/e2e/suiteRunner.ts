@@ -39,11 +39,15 @@ export async function packageSuiteRunner(dir: string): Promise<string> {
   writeFileSync(join(dir, 'package.json'), JSON.stringify(manifest, null, 2));
   const vsix = join(dir, 'extension-host-suite.vsix');
   const vsce = createRequire(join(REPO_ROOT, 'package.json')).resolve('@vscode/vsce/vsce');
-  const result = spawnSync(process.execPath, [vsce, 'package', '--allow-missing-repository', '--skip-license', '--out', vsix], {
-    cwd: dir,
-    encoding: 'utf8',
-    timeout: 120_000,
-  });
+  const result = spawnSync(
+    process.execPath,
+    [vsce, 'package', '--allow-missing-repository', '--skip-license', '--out', vsix],
+    {
+      cwd: dir,
+      encoding: 'utf8',
+      timeout: 120_000,
+    },
+  );
   if (result.status !== 0) throw new Error(`packaging the suite runner failed:\n${result.stdout}\n${result.stderr}`);
   return vsix;
 }

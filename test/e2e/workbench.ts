@@ -81,7 +81,10 @@ export class Workbench {
     await input.fill(`:${line}`);
     await this.page.keyboard.press('Enter');
     await input.waitFor({ state: 'hidden' });
-    await this.page.locator('.statusbar-item', { hasText: `Ln ${line},` }).first().waitFor();
+    await this.page
+      .locator('.statusbar-item', { hasText: `Ln ${line},` })
+      .first()
+      .waitFor();
   }
 
   /** Shows the Problems panel (Ctrl+Shift+M) unless it is already showing. */
@@ -136,8 +139,8 @@ export class Workbench {
         };
         const SHOW_TEXT = 4;
         const clean = (text: string) => text.replace(/\u00a0/g, ' ');
-        const line = Array.from(page.document.querySelectorAll('.monaco-editor .view-lines .view-line')).find((candidate) =>
-          clean(candidate.textContent ?? '').includes(lineText),
+        const line = Array.from(page.document.querySelectorAll('.monaco-editor .view-lines .view-line')).find(
+          (candidate) => clean(candidate.textContent ?? '').includes(lineText),
         );
         if (!line) return null;
         const walker = page.document.createTreeWalker(line, SHOW_TEXT);
@@ -167,7 +170,8 @@ export class Workbench {
       },
       { lineText, needle, nth },
     );
-    if (!box) throw new Error(`No editor line shows ${JSON.stringify(needle)} on a line with ${JSON.stringify(lineText)}`);
+    if (!box)
+      throw new Error(`No editor line shows ${JSON.stringify(needle)} on a line with ${JSON.stringify(lineText)}`);
     return box;
   }
 
@@ -184,7 +188,10 @@ export class Workbench {
       await this.page.mouse.move(box.x + 1, y);
       await this.page.mouse.move(box.x + box.width / 2, y, { steps: 3 });
       try {
-        await hover.waitFor({ state: 'visible', timeout: Math.min(5_000 + attempt * 1_000, Math.max(1, deadline - Date.now())) });
+        await hover.waitFor({
+          state: 'visible',
+          timeout: Math.min(5_000 + attempt * 1_000, Math.max(1, deadline - Date.now())),
+        });
         await settled(hover);
         return hover;
       } catch (error) {
@@ -207,7 +214,11 @@ export class Workbench {
   async dismissHover(): Promise<void> {
     await this.page.mouse.move(5, VIEWPORT.height / 2);
     await this.page.keyboard.press('Escape');
-    await this.page.locator('.monaco-hover:visible').first().waitFor({ state: 'detached', timeout: 10_000 }).catch(() => undefined);
+    await this.page
+      .locator('.monaco-hover:visible')
+      .first()
+      .waitFor({ state: 'detached', timeout: 10_000 })
+      .catch(() => undefined);
   }
 
   /** Puts the cursor on `needle`, opens the quick-fix menu (Ctrl+.) and waits for an entry matching `title`. */
@@ -243,7 +254,10 @@ export class Workbench {
 
   /** The text of the visible editor line containing `lineText`. */
   async lineText(lineText: string): Promise<string> {
-    const text = await this.page.locator('.monaco-editor .view-lines .view-line', { hasText: lineText }).first().innerText();
+    const text = await this.page
+      .locator('.monaco-editor .view-lines .view-line', { hasText: lineText })
+      .first()
+      .innerText();
     return text.replace(/\u00a0/g, ' ');
   }
 
@@ -260,7 +274,11 @@ export class Workbench {
 /** Waits until the CSS animations of an element and its content (a hover's fade-in) have finished. */
 async function settled(locator: Locator): Promise<void> {
   await locator.evaluate(async (element) => {
-    const animated = element as unknown as { getAnimations(options: { subtree: boolean }): Array<{ finished: Promise<unknown> }> };
-    await Promise.all(animated.getAnimations({ subtree: true }).map((animation) => animation.finished.catch(() => undefined)));
+    const animated = element as unknown as {
+      getAnimations(options: { subtree: boolean }): Array<{ finished: Promise<unknown> }>;
+    };
+    await Promise.all(
+      animated.getAnimations({ subtree: true }).map((animation) => animation.finished.catch(() => undefined)),
+    );
   });
 }

@@ -25,7 +25,10 @@ ${extra}
 
 describe('bad key functions', () => {
   it('a stateKey that throws: model-error at its line and the empirical model not built', async () => {
-    const report = await analyzeTs(walk(`  stateKey(state: number) {\n    throw new Error('no key for ' + state);\n  },`), FAST_LIMITS);
+    const report = await analyzeTs(
+      walk(`  stateKey(state: number) {\n    throw new Error('no key for ' + state);\n  },`),
+      FAST_LIMITS,
+    );
     const errors = findingsOf(report, 'model-error');
     expect(errors).toHaveLength(1);
     expect(errors[0].message).toContain('stateKey(');
@@ -55,7 +58,9 @@ describe('bad key functions', () => {
   }, 60_000);
 
   it('continuous states without a key function: more keys than the cap, an info finding and no model', async () => {
-    const report = await analyzeTs(walk('', 'state + (action === "right" ? rng() : -rng())'), { thresholds: { 'empirical-model.keyCap': 500 } });
+    const report = await analyzeTs(walk('', 'state + (action === "right" ? rng() : -rng())'), {
+      thresholds: { 'empirical-model.keyCap': 500 },
+    });
     expect(findingsOf(report, 'model-error')).toEqual([]);
     const info = findingsOf(report, 'empirical-model');
     expect(info).toHaveLength(1);
@@ -65,9 +70,12 @@ describe('bad key functions', () => {
   }, 60_000);
 
   it('a key function that maps the same continuous walk to grid cells builds the model', async () => {
-    const report = await analyzeTs(walk('  stateKey: (state: number) => Math.floor(state),', 'state + (action === "right" ? rng() : -rng())'), {
-      thresholds: { 'empirical-model.keyCap': 500 },
-    });
+    const report = await analyzeTs(
+      walk('  stateKey: (state: number) => Math.floor(state),', 'state + (action === "right" ? rng() : -rng())'),
+      {
+        thresholds: { 'empirical-model.keyCap': 500 },
+      },
+    );
     expect(findingsOf(report, 'empirical-model')).toEqual([]);
     expect(report.empirical?.model.stateCount).toBe(6);
     expect(report.findings.filter((f) => f.severity !== 'info')).toEqual([]);
@@ -79,10 +87,13 @@ describe('bad key functions', () => {
   }, 60_000);
 
   it('a stateKey that throws is reported once, by the rollouts, and learning does not repeat it', async () => {
-    const report = await analyzeTs(walk(`  stateKey(state: number) {
+    const report = await analyzeTs(
+      walk(`  stateKey(state: number) {
     if (state > 2) throw new Error('no key past 2');
     return state;
-  },`), FAST_LIMITS);
+  },`),
+      FAST_LIMITS,
+    );
     expect(findingsOf(report, 'model-error')).toHaveLength(1);
     expect(report.rollouts?.learning).toBeUndefined();
     expect(report.internalErrors).toEqual([]);

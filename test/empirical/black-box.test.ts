@@ -15,12 +15,21 @@ const EXAMPLES = join(__dirname, '../../examples');
 /** The textbook MDPs (clean: no warning as exact models); see test/incentives/classic-fixtures.test.ts. */
 const CLASSIC = join(__dirname, '../fixtures/classic');
 /** Rules that read the spec or the sandbox's evidence, not a model: they have no exact counterpart. */
-const SAMPLED_ONLY = new Set(['empirical-model', 'episode-never-ends', 'unseeded-randomness', 'nondeterministic-model']);
+const SAMPLED_ONLY = new Set([
+  'empirical-model',
+  'episode-never-ends',
+  'unseeded-randomness',
+  'nondeterministic-model',
+]);
 /** Rules about declared states that no policy reaches: a black box declares no states, so it has nothing to compare. */
 const DECLARED_ONLY = new Set(['unreachable-state']);
 
 const wrapped = [EXAMPLES, CLASSIC]
-  .flatMap((folder) => readdirSync(folder).filter((name) => name.endsWith('.mdp.json')).map((name) => ({ name, text: readFileSync(join(folder, name), 'utf8') })))
+  .flatMap((folder) =>
+    readdirSync(folder)
+      .filter((name) => name.endsWith('.mdp.json'))
+      .map((name) => ({ name, text: readFileSync(join(folder, name), 'utf8') })),
+  )
   .map((example) => ({ ...example, box: blackBoxOf(example.text) }))
   .filter((example) => example.box.text !== undefined);
 
@@ -33,8 +42,12 @@ describe('black boxes: the empirical model finds what the exact model finds', ()
     it(`${example.name}`, async () => {
       const exact = analyzeJsonText(example.name, example.text, { config: resolveConfig({}) });
       const sampled = await analyzeTs(example.box.text!);
-      const exactRules = [...new Set(exact.findings.map((f) => f.rule).filter((rule) => !DECLARED_ONLY.has(rule)))].sort();
-      const sampledRules = [...new Set(sampled.findings.map((f) => f.rule).filter((rule) => !SAMPLED_ONLY.has(rule)))].sort();
+      const exactRules = [
+        ...new Set(exact.findings.map((f) => f.rule).filter((rule) => !DECLARED_ONLY.has(rule))),
+      ].sort();
+      const sampledRules = [
+        ...new Set(sampled.findings.map((f) => f.rule).filter((rule) => !SAMPLED_ONLY.has(rule))),
+      ].sort();
       expect(sampled.internalErrors).toEqual([]);
       expect(sampled.findings.filter((f) => f.rule === 'empirical-model').map((f) => f.message)).toEqual([]);
       expect(sampledRules).toEqual(exactRules);

@@ -12,8 +12,12 @@ export function blackBoxOf(jsonText: string): { text?: string; reason?: string }
   const { spec } = parseJsonSpec(jsonText);
   const { model, reason } = compileSpec(spec);
   if (!model) return { reason };
-  if (model.potential) return { reason: 'a shaping potential is a property of states, which a black box does not expose' };
-  const table: Record<string, Record<string, Array<[number, string, number | Record<string, number>, string | null]>>> = {};
+  if (model.potential)
+    return { reason: 'a shaping potential is a property of states, which a black box does not expose' };
+  const table: Record<
+    string,
+    Record<string, Array<[number, string, number | Record<string, number>, string | null]>>
+  > = {};
   for (let s = 0; s < model.stateCount; s++) {
     if (model.terminal[s] !== 0) continue;
     const actions: (typeof table)[string] = {};
@@ -28,18 +32,26 @@ export function blackBoxOf(jsonText: string): { text?: string; reason?: string }
             terms[name] = model.outcomeTermReward[t][k];
             rest -= terms[name];
           });
-          if (Math.abs(rest) > 1e-12) return { reason: 'a reward with an untyped part beside declared terms cannot be written as terms' };
+          if (Math.abs(rest) > 1e-12)
+            return { reason: 'a reward with an untyped part beside declared terms cannot be written as terms' };
           reward = terms;
         }
         const target = model.outcomeTarget[k];
-        outs.push([model.outcomeProb[k], stateName(model, target), reward, TERMINAL_OF_CODE[model.terminal[target]] ?? null]);
+        outs.push([
+          model.outcomeProb[k],
+          stateName(model, target),
+          reward,
+          TERMINAL_OF_CODE[model.terminal[target]] ?? null,
+        ]);
       }
       actions[model.actionNames[model.choiceAction[c]]] = outs;
     }
     table[stateName(model, s)] = actions;
   }
   const start = Array.from(model.startState, (s, i): [string, number] => [stateName(model, s), model.startProb[i]]);
-  const terms = Object.fromEntries(spec.rewardTerms.map((t) => [t.name, { direction: t.direction, ...(t.shaping ? { shaping: true } : {}) }]));
+  const terms = Object.fromEntries(
+    spec.rewardTerms.map((t) => [t.name, { direction: t.direction, ...(t.shaping ? { shaping: true } : {}) }]),
+  );
   const text = `import { defineMdp } from 'episcope';
 const TABLE: Record<string, Record<string, Array<[number, string, any, any]>>> = ${JSON.stringify(table)};
 const START: Array<[string, number]> = ${JSON.stringify(start)};

@@ -15,7 +15,8 @@ const read = (name: string) => readFileSync(join(__dirname, '../../examples', na
  * The default config, except for the elevator: its endless episodes run 10,000 steps each, so it
  * gets 100 rollouts and more exploration samples per pair instead.
  */
-const configOf = (file: string) => (file.startsWith('elevator') ? { rollouts: 100, thresholds: { 'empirical-model.tries': 150 } } : {});
+const configOf = (file: string) =>
+  file.startsWith('elevator') ? { rollouts: 100, thresholds: { 'empirical-model.tries': 150 } } : {};
 
 const PLANTED: Array<[string, string, RegExp]> = [
   // Loop shadows -> guard-post -> shadows pays +2 per 2 steps: 2/(1-0.95^2) = 20.5 from the start.
@@ -24,9 +25,17 @@ const PLANTED: Array<[string, string, RegExp]> = [
   ['crane-drop-shortcut.mdp.ts', 'failure-preferred', /failing returns -4\.0 from the start/],
   // +1 per step at discount 0.99 is 1/(1-0.99) = 100.
   ['vacuum-alive-bonus.mdp.ts', 'living-reward', /worth at least 100\.0/],
-  ['arcade-coin-loop.mdp.ts', 'unbounded-return', /'hall' --to-coins--> 'coin-room' --back--> 'hall' earns \+1\.0 per round/],
+  [
+    'arcade-coin-loop.mdp.ts',
+    'unbounded-return',
+    /'hall' --to-coins--> 'coin-room' --back--> 'hall' earns \+1\.0 per round/,
+  ],
   ['elevator-parking.mdp.ts', 'trap-state', /no action leads out and no terminal can be reached/],
-  ['pump-overheat-never.mdp.ts', 'unreachable-terminal', /names the terminal kind "failure", but none of 1000 rollout episodes/],
+  [
+    'pump-overheat-never.mdp.ts',
+    'unreachable-terminal',
+    /names the terminal kind "failure", but none of 1000 rollout episodes/,
+  ],
   ['orchard-frost-sign.mdp.ts', 'term-direction', /'loss' is declared a penalty \(cost >= 0\) but is -30\.0/],
   ['orchard-frost-sign.mdp.ts', 'objective-sign', /failing is better than succeeding by 30\.0/],
   ['rover-progress-shaping.mdp.ts', 'shaping-not-potential', /shaping 'progress' is not of the form 0\.9\*Phi/],
@@ -87,7 +96,10 @@ export default defineMdp({
   }, 120_000);
 
   it('stops at its budget: unexplored keys, an info, and only the rules that read what was sampled', async () => {
-    const report = await analyzeTs(corridor, { rollouts: 1, thresholds: { 'empirical-model.exploreBudget': 10, 'empirical-model.tries': 5 } });
+    const report = await analyzeTs(corridor, {
+      rollouts: 1,
+      thresholds: { 'empirical-model.exploreBudget': 10, 'empirical-model.tries': 5 },
+    });
     const samples = report.empirical!.model.samples!;
     expect(samples.complete).toBe(false);
     expect(samples.exploreSamples).toBe(10);
@@ -99,6 +111,8 @@ export default defineMdp({
   it('gives the same counts for the same seed', async () => {
     const a = await analyzeTs(corridor, { rollouts: 50, seed: 4 });
     const b = await analyzeTs(corridor, { rollouts: 50, seed: 4 });
-    expect(Array.from(a.empirical!.model.samples!.outcomeSamples)).toEqual(Array.from(b.empirical!.model.samples!.outcomeSamples));
+    expect(Array.from(a.empirical!.model.samples!.outcomeSamples)).toEqual(
+      Array.from(b.empirical!.model.samples!.outcomeSamples),
+    );
   }, 120_000);
 });

@@ -11,10 +11,14 @@ import { analysis, finding, output } from './json-fixtures';
 
 describe('finding identity', () => {
   it('masks numbers but keeps digits inside names', () => {
-    expect(messageSkeleton('the loop cell-3-4 -> s12 -> cell-3-4 earns 48.1 from the start; reaching exit earns -7.2e-1 (line 12:5).')).toBe(
-      'the loop cell-3-4 -> s12 -> cell-3-4 earns # from the start; reaching exit earns # (line #:#).',
+    expect(
+      messageSkeleton(
+        'the loop cell-3-4 -> s12 -> cell-3-4 earns 48.1 from the start; reaching exit earns -7.2e-1 (line 12:5).',
+      ),
+    ).toBe('the loop cell-3-4 -> s12 -> cell-3-4 earns # from the start; reaching exit earns # (line #:#).');
+    expect(messageSkeleton('probabilities of  (roof, east)\n add up to 0.9, not 1')).toBe(
+      'probabilities of (roof, east) add up to #, not #',
     );
-    expect(messageSkeleton('probabilities of  (roof, east)\n add up to 0.9, not 1')).toBe('probabilities of (roof, east) add up to #, not #');
     expect(messageSkeleton('a 3-step loop')).toBe('a 3-step loop');
   });
 
@@ -31,17 +35,27 @@ describe('comparison with a baseline', () => {
   const base = output([
     {
       path: 'specs/a.mdp.json',
-      findings: [finding('unreachable-state', 10, 'state "attic" is unreachable', 'info'), finding('reward-loop', 20, 'loop hall -> pad earns 48.1; the exit earns 7.2')],
+      findings: [
+        finding('unreachable-state', 10, 'state "attic" is unreachable', 'info'),
+        finding('reward-loop', 20, 'loop hall -> pad earns 48.1; the exit earns 7.2'),
+      ],
       analysis: analysis([8.41, 8.43], 0.97),
     },
-    { path: 'specs/gone.mdp.json', findings: [finding('dead-end', 3, 'state "x" offers no action', 'error')], analysis: analysis([1, 1], 1) },
+    {
+      path: 'specs/gone.mdp.json',
+      findings: [finding('dead-end', 3, 'state "x" offers no action', 'error')],
+      analysis: analysis([1, 1], 1),
+    },
   ]);
 
   it('finds nothing new when findings only moved and their figures shifted', () => {
     const moved = output([
       {
         path: 'specs/a.mdp.json',
-        findings: [finding('reward-loop', 4, 'loop hall -> pad earns 48.2; the exit earns 7.2'), finding('unreachable-state', 31, 'state "attic" is unreachable', 'info')],
+        findings: [
+          finding('reward-loop', 4, 'loop hall -> pad earns 48.2; the exit earns 7.2'),
+          finding('unreachable-state', 31, 'state "attic" is unreachable', 'info'),
+        ],
         analysis: analysis([8.42, 8.44], 0.97),
       },
       base.files[1],
@@ -71,7 +85,9 @@ describe('comparison with a baseline', () => {
       { path: 'specs/new.mdp.json', findings: [], analysis: analysis([2, 2], 1) },
     ]);
     const c = compareWithBaseline(base, edited);
-    expect(c.newFindings.map((n) => [n.path, n.finding.rule, n.finding.line])).toEqual([['specs/a.mdp.json', 'trap-state', 14]]);
+    expect(c.newFindings.map((n) => [n.path, n.finding.rule, n.finding.line])).toEqual([
+      ['specs/a.mdp.json', 'trap-state', 14],
+    ]);
     expect(c.fixedFindings.map((n) => [n.path, n.finding.rule])).toEqual([['specs/gone.mdp.json', 'dead-end']]);
     expect(c.unchangedFindings).toBe(2);
     expect(c.specs.map((s) => [s.path, s.status])).toEqual([
@@ -89,11 +105,16 @@ describe('comparison with a baseline', () => {
   });
 
   it('pairs same-key findings by exact message first', () => {
-    const one = output([{ path: 'p', findings: [finding('probability-sum', 5, 'outcomes add up to 0.9, not 1', 'error')] }]);
+    const one = output([
+      { path: 'p', findings: [finding('probability-sum', 5, 'outcomes add up to 0.9, not 1', 'error')] },
+    ]);
     const two = output([
       {
         path: 'p',
-        findings: [finding('probability-sum', 2, 'outcomes add up to 0.8, not 1', 'error'), finding('probability-sum', 9, 'outcomes add up to 0.9, not 1', 'error')],
+        findings: [
+          finding('probability-sum', 2, 'outcomes add up to 0.8, not 1', 'error'),
+          finding('probability-sum', 9, 'outcomes add up to 0.9, not 1', 'error'),
+        ],
       },
     ]);
     const c = compareWithBaseline(one, two);
@@ -110,9 +131,15 @@ describe('reading a baseline', () => {
 
   it('rejects malformed files with a one-line reason', () => {
     const cases: Array<[string, RegExp]> = [
-      ['{"version": 1, "files": [', /^baseline 'base.json' is not JSON \(.+\); give it the output of 'episcope check --format json'$/],
+      [
+        '{"version": 1, "files": [',
+        /^baseline 'base.json' is not JSON \(.+\); give it the output of 'episcope check --format json'$/,
+      ],
       ['{"version": 2, "files": []}', /^baseline 'base.json' is version 2 output; this episcope reads version 1$/],
-      ['{"version": 1, "files": [{"path": "a", "findings": [{"rule": "x"}]}]}', /^baseline 'base.json' is not an 'episcope check --format json' output: files\[0\]\.findings\[0\] must have required property '\w+'$/],
+      [
+        '{"version": 1, "files": [{"path": "a", "findings": [{"rule": "x"}]}]}',
+        /^baseline 'base.json' is not an 'episcope check --format json' output: files\[0\]\.findings\[0\] must have required property '\w+'$/,
+      ],
       ['[]', /^baseline 'base.json' is not an 'episcope check --format json' output: the top level must be object$/],
     ];
     for (const [text, pattern] of cases) {

@@ -16,7 +16,11 @@ interface Step {
 }
 
 describe('GitHub Actions recipe', () => {
-  const workflow = load(workflowText) as { on: Record<string, unknown>; permissions: Record<string, string>; jobs: Record<string, { steps: Step[] }> };
+  const workflow = load(workflowText) as {
+    on: Record<string, unknown>;
+    permissions: Record<string, string>;
+    jobs: Record<string, { steps: Step[] }>;
+  };
   const steps = workflow.jobs.check.steps;
 
   it('is the one shown in the README', () => {

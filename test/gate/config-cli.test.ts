@@ -19,7 +19,10 @@ interface Finding {
   column: number;
 }
 
-async function checkJson(dir: string, args: string[] = []): Promise<{ code: number; files: Array<{ path: string; findings: Finding[] }>; stderr: string }> {
+async function checkJson(
+  dir: string,
+  args: string[] = [],
+): Promise<{ code: number; files: Array<{ path: string; findings: Finding[] }>; stderr: string }> {
   const result = await cli(['check', '.', '--format', 'json', '--fail-on', 'info', ...args], { cwd: dir });
   return { code: result.code, files: JSON.parse(result.stdout).files, stderr: result.stderr };
 }
@@ -36,7 +39,9 @@ function project(config: string | undefined, specText = SPEC_TEXT, specFolder = 
 describe('config and suppressions through the command line', () => {
   it('without a config the planted finding shows', async () => {
     const run = await checkJson(project(undefined));
-    expect(run.files.map((f) => [f.path, f.findings.map((x) => `${x.rule}:${x.line}`)])).toEqual([['specs/greenhouse-vent.mdp.json', [`tiny-probability:${TINY_LINE}`]]]);
+    expect(run.files.map((f) => [f.path, f.findings.map((x) => `${x.rule}:${x.line}`)])).toEqual([
+      ['specs/greenhouse-vent.mdp.json', [`tiny-probability:${TINY_LINE}`]],
+    ]);
     expect(run.code).toBe(1);
   });
 
@@ -51,16 +56,26 @@ describe('config and suppressions through the command line', () => {
     expect(run.files.map((f) => f.path)).toEqual(['specs/greenhouse-vent.mdp.json', 'episcope.config.json']);
     expect(run.files[0].findings).toEqual([]);
     expect(run.files[1].findings.map((f) => [f.rule, f.severity, f.line, f.column, f.message])).toEqual([
-      ['suppression', 'warning', 4, 5, 'ignore[1] (dead-end in "specs/old/**") matches no spec file: correct its path or remove it'],
+      [
+        'suppression',
+        'warning',
+        4,
+        5,
+        'ignore[1] (dead-end in "specs/old/**") matches no spec file: correct its path or remove it',
+      ],
     ]);
     expect(run.code).toBe(1);
   });
 
-  it('a run over one file does not call the other files\' ignores unused', async () => {
+  it("a run over one file does not call the other files' ignores unused", async () => {
     const config = '{ "ignore": [ { "rule": "dead-end", "path": "other/*.mdp.json", "reason": "retired" } ] }';
     const dir = project(config);
-    const result = await cli(['check', 'specs/greenhouse-vent.mdp.json', '--format', 'json', '--fail-on', 'never'], { cwd: dir });
-    expect(JSON.parse(result.stdout).files.map((f: { path: string }) => f.path)).toEqual(['specs/greenhouse-vent.mdp.json']);
+    const result = await cli(['check', 'specs/greenhouse-vent.mdp.json', '--format', 'json', '--fail-on', 'never'], {
+      cwd: dir,
+    });
+    expect(JSON.parse(result.stdout).files.map((f: { path: string }) => f.path)).toEqual([
+      'specs/greenhouse-vent.mdp.json',
+    ]);
   });
 
   it('config problems are findings with positions; the valid rest applies', async () => {
@@ -75,7 +90,9 @@ describe('config and suppressions through the command line', () => {
       ['config', 'error', 2, 41],
       ['config', 'error', 3, 11],
     ]);
-    expect(run.files[1].findings[0].message).toBe('rules: no rule named "tiny-probabilty" (did you mean "tiny-probability"?)');
+    expect(run.files[1].findings[0].message).toBe(
+      'rules: no rule named "tiny-probabilty" (did you mean "tiny-probability"?)',
+    );
     expect(run.files[1].findings[1].message).toBe('seed must be a whole number');
     expect(run.code).toBe(1);
   });
@@ -91,8 +108,12 @@ describe('config and suppressions through the command line', () => {
     const run = await checkJson(project(undefined, commented));
     const findings = run.files[0].findings;
     expect(findings.map((f) => f.rule)).toEqual(['suppression']);
-    expect(findings[0].message).toMatch(/^episcope-ignore for probability-sum suppresses nothing: no probability-sum finding starts on line \d+; remove the comment$/);
-    expect(commented.split('\n')[findings[0].line - 1].trim()).toBe('// episcope-ignore probability-sum: no longer needed');
+    expect(findings[0].message).toMatch(
+      /^episcope-ignore for probability-sum suppresses nothing: no probability-sum finding starts on line \d+; remove the comment$/,
+    );
+    expect(commented.split('\n')[findings[0].line - 1].trim()).toBe(
+      '// episcope-ignore probability-sum: no longer needed',
+    );
   });
 
   it('a comment in a TypeScript spec suppresses the finding on the next line', async () => {
@@ -118,7 +139,10 @@ export default defineMdp({
     writeFileSync(path.join(dir, 'noisy.mdp.ts'), source('// a log tag only'));
     const plain = await checkJson(dir);
     expect(plain.files[0].findings.map((f) => [f.rule, f.line])).toEqual([['unseeded-randomness', 10]]);
-    writeFileSync(path.join(dir, 'noisy.mdp.ts'), source('// episcope-ignore unseeded-randomness: the value only tags a log line'));
+    writeFileSync(
+      path.join(dir, 'noisy.mdp.ts'),
+      source('// episcope-ignore unseeded-randomness: the value only tags a log line'),
+    );
     const suppressed = await checkJson(dir);
     expect(suppressed.files[0].findings).toEqual([]);
     expect(suppressed.code).toBe(0);

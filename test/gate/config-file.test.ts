@@ -19,7 +19,15 @@ const RULES: Rule[] = [
     thresholds: { probabilityGap: { default: 0.2, description: 'gap' } },
     check: () => undefined,
   },
-  { id: 'schema', defaultSeverity: 'error', summary: 's', documentation: 's', needs: 'spec', sources: ['json'], check: () => undefined },
+  {
+    id: 'schema',
+    defaultSeverity: 'error',
+    summary: 's',
+    documentation: 's',
+    needs: 'spec',
+    sources: ['json'],
+    check: () => undefined,
+  },
 ];
 
 /** The 1-based line and column where a finding starts, and the text it covers. */
@@ -92,13 +100,25 @@ describe('config file', () => {
     const file = parseConfigText('/repo/episcope.config.json', text, { rules: RULES });
     expect(file.findings).toHaveLength(1);
     expect(where(text, file.findings[0].span)).toBe('3:3 "seed"');
-    expect(file.findings[0].message).toBe('not valid JSON: a comma was expected; nothing of this file applies until it is fixed');
+    expect(file.findings[0].message).toBe(
+      'not valid JSON: a comma was expected; nothing of this file applies until it is fixed',
+    );
     expect(file.config.rules).toEqual({});
     expect(file.config.seed).toBe(1);
   });
 
   it('never throws on hostile text', () => {
-    for (const text of ['', '[]', 'null', '"x"', '{"rules": []}', '{"ignore": {}}', '{"thresholds": {"a.b": "x"}}', '{'.repeat(5000), '{"ignore": [1, null, []]}']) {
+    for (const text of [
+      '',
+      '[]',
+      'null',
+      '"x"',
+      '{"rules": []}',
+      '{"ignore": {}}',
+      '{"thresholds": {"a.b": "x"}}',
+      '{'.repeat(5000),
+      '{"ignore": [1, null, []]}',
+    ]) {
       const file = parseConfigText('/c/episcope.config.json', text, { rules: RULES });
       expect(file.findings.length).toBeGreaterThan(0);
       for (const f of file.findings) {
@@ -130,11 +150,38 @@ describe('config file', () => {
 describe('config schema', () => {
   // The rule catalog of DESIGN.md ("Rule catalog, version 1"), plus the fronts' own config and suppression.
   const CATALOG = [
-    'schema', 'undeclared-state', 'undeclared-action', 'probability-sum', 'negative-probability', 'missing-outcomes', 'dead-end',
-    'terminal-has-transitions', 'duplicate-transition', 'unreachable-state', 'unreachable-terminal', 'trap-state', 'unbounded-return',
-    'reward-loop', 'failure-preferred', 'living-reward', 'objective-sign', 'term-direction', 'shaping-not-potential', 'terminal-potential',
-    'shaping-changes-policy', 'goal-discounted-away', 'horizon-too-short', 'time-dependent-optimum', 'reward-scale', 'tiny-probability',
-    'enumeration-limit', 'model-error', 'non-finite-reward', 'unseeded-randomness', 'nondeterministic-model', 'episode-never-ends',
+    'schema',
+    'undeclared-state',
+    'undeclared-action',
+    'probability-sum',
+    'negative-probability',
+    'missing-outcomes',
+    'dead-end',
+    'terminal-has-transitions',
+    'duplicate-transition',
+    'unreachable-state',
+    'unreachable-terminal',
+    'trap-state',
+    'unbounded-return',
+    'reward-loop',
+    'failure-preferred',
+    'living-reward',
+    'objective-sign',
+    'term-direction',
+    'shaping-not-potential',
+    'terminal-potential',
+    'shaping-changes-policy',
+    'goal-discounted-away',
+    'horizon-too-short',
+    'time-dependent-optimum',
+    'reward-scale',
+    'tiny-probability',
+    'enumeration-limit',
+    'model-error',
+    'non-finite-reward',
+    'unseeded-randomness',
+    'nondeterministic-model',
+    'episode-never-ends',
   ];
 
   it('names exactly the catalog rules and the front rules, and every registered rule', async () => {

@@ -1,12 +1,22 @@
 /** Builders of `--format json` output for the gate's tests (invented figures). */
 import type { JsonFile, JsonFinding, JsonOutput } from '../../server/src/cli/json-output';
 
-export function finding(rule: string, line: number, message: string, severity: JsonFinding['severity'] = 'warning', column = 5): JsonFinding {
+export function finding(
+  rule: string,
+  line: number,
+  message: string,
+  severity: JsonFinding['severity'] = 'warning',
+  column = 5,
+): JsonFinding {
   return { rule, severity, message, line, column, endLine: line, endColumn: column + 15, trace: [] };
 }
 
 /** An analysis whose start has the given optimal return range and goal probability (both policies). */
-export function analysis(optimal: [number, number], goal: number, random: [number, number] = [1, 1]): NonNullable<JsonFile['analysis']> {
+export function analysis(
+  optimal: [number, number],
+  goal: number,
+  random: [number, number] = [1, 1],
+): NonNullable<JsonFile['analysis']> {
   const reach = { goal, failure: 1 - goal, none: 0, neutral: 0 };
   return {
     states: 4,

@@ -8,7 +8,10 @@ import { markdownReport } from '../../server/src/cli/markdown';
  * specification, "Tables (extension)": a `\|` inside a cell is part of the cell's text).
  */
 function cells(row: string): string[] {
-  return row.slice(1, -1).split(/(?<!\\)\|/).map((c) => c.trim());
+  return row
+    .slice(1, -1)
+    .split(/(?<!\\)\|/)
+    .map((c) => c.trim());
 }
 
 function tables(markdown: string): string[][][] {
@@ -25,7 +28,14 @@ function tables(markdown: string): string[][][] {
 
 describe('markdown pull-request comment', () => {
   const base = out([
-    { path: 'a.mdp.json', findings: [finding('reward-scale', 2, 'rewards span 1e5', 'info'), finding('dead-end', 8, 'state "pit" offers no action', 'error')], analysis: analysisOf([10, 10], 0.9, [0.5, 0.5]) },
+    {
+      path: 'a.mdp.json',
+      findings: [
+        finding('reward-scale', 2, 'rewards span 1e5', 'info'),
+        finding('dead-end', 8, 'state "pit" offers no action', 'error'),
+      ],
+      analysis: analysisOf([10, 10], 0.9, [0.5, 0.5]),
+    },
     { path: 'b.mdp.json', findings: [], analysis: analysisOf([3, 3], 1, [0.5, 0.5]) },
   ]);
   const head = out([
@@ -54,9 +64,13 @@ describe('markdown pull-request comment', () => {
     expect(added[3][3]).toBe('entering "crash" pays 5 \\| more than "dock" pays 1');
     expect(md).toContain('### New findings (1 at or above `--fail-on error`)');
     expect(fixed.slice(2).map((row) => row[1])).toEqual(['`dead-end`']);
-    expect(moved.slice(2)).toEqual([['`a.mdp.json`', '10 → **4** (-6)', '0.5', '0.9 → **0.6** (-0.3)', '0.9 → **0.6** (-0.3)']]);
+    expect(moved.slice(2)).toEqual([
+      ['`a.mdp.json`', '10 → **4** (-6)', '0.5', '0.9 → **0.6** (-0.3)', '0.9 → **0.6** (-0.3)'],
+    ]);
     expect(md).toContain('1 finding unchanged from the baseline.');
-    expect(md.trim().split('\n').pop()).toMatch(/^_Passing checks means the spec is well-posed, not that a trained policy is safe/);
+    expect(md.trim().split('\n').pop()).toMatch(
+      /^_Passing checks means the spec is well-posed, not that a trained policy is safe/,
+    );
   });
 
   it('says so when nothing changed', () => {
@@ -71,7 +85,14 @@ describe('markdown pull-request comment', () => {
     expect(md.split('\n')[0]).toBe('## Episcope: 1 error, 1 warning, 1 info in 2 files');
     const [findings, returns] = tables(md);
     expect(findings.slice(2).map((r) => r[1])).toEqual(['`trap-state`', '`objective-sign`', '`reward-scale`']);
-    expect(returns[0]).toEqual(['Spec', 'Optimal return', 'Random return', 'Worst return', 'Goal reach (optimal)', 'Best goal reach']);
+    expect(returns[0]).toEqual([
+      'Spec',
+      'Optimal return',
+      'Random return',
+      'Worst return',
+      'Goal reach (optimal)',
+      'Best goal reach',
+    ]);
     expect(returns.slice(2).map((r) => r.slice(0, 2))).toEqual([
       ['`a.mdp.json`', '4'],
       ['`b.mdp.json`', '3'],
@@ -79,8 +100,17 @@ describe('markdown pull-request comment', () => {
   });
 
   it('cuts long lists with a count', () => {
-    const many = out([{ path: 'a.mdp.json', findings: Array.from({ length: 30 }, (_, i) => finding('unreachable-state', i + 1, `state "s${i}" is unreachable`, 'info')) }]);
-    const md = markdownReport(many, compareWithBaseline(out([{ path: 'a.mdp.json', findings: [] }]), many), { maxRows: 10 });
+    const many = out([
+      {
+        path: 'a.mdp.json',
+        findings: Array.from({ length: 30 }, (_, i) =>
+          finding('unreachable-state', i + 1, `state "s${i}" is unreachable`, 'info'),
+        ),
+      },
+    ]);
+    const md = markdownReport(many, compareWithBaseline(out([{ path: 'a.mdp.json', findings: [] }]), many), {
+      maxRows: 10,
+    });
     const [added] = tables(md);
     expect(added).toHaveLength(2 + 10 + 1);
     expect(added[12][3]).toBe('_and 20 more_');

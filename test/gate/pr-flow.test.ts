@@ -49,24 +49,32 @@ function markdownTables(markdown: string): string[][] {
 describe('pull-request flow through the command line', () => {
   it('an edit that only moves lines shows nothing new, and SARIF fingerprints stay', async () => {
     const { dir, baseline } = await withBaseline();
-    const sarifBefore = JSON.parse((await cli(['check', '.', '--format', 'sarif', '--fail-on', 'never'], { cwd: dir })).stdout) as SarifLog;
+    const sarifBefore = JSON.parse(
+      (await cli(['check', '.', '--format', 'sarif', '--fail-on', 'never'], { cwd: dir })).stdout,
+    ) as SarifLog;
     const moved = movedOnly(BASE_TEXT);
     expect(transitionLines(moved)).not.toEqual(transitionLines(BASE_TEXT));
     writeFileSync(path.join(dir, SPEC), moved);
 
     // --fail-on info: the base's own info finding is not new, so the check passes.
-    const result = await cli(['check', '.', '--format', 'markdown', '--baseline', baseline, '--fail-on', 'info'], { cwd: dir });
+    const result = await cli(['check', '.', '--format', 'markdown', '--baseline', baseline, '--fail-on', 'info'], {
+      cwd: dir,
+    });
     expect(result.stderr).toBe('');
     expect(result.code).toBe(0);
     expect(result.stdout.split('\n')[0]).toBe('## Episcope: 0 new findings, 0 fixed, 0 specs with changed returns');
     expect(result.stdout).toContain('No change against the baseline: 1 finding as before in 1 file.');
     expect(markdownTables(result.stdout)).toEqual([]);
 
-    const sarifAfter = JSON.parse((await cli(['check', '.', '--format', 'sarif', '--fail-on', 'never'], { cwd: dir })).stdout) as SarifLog;
+    const sarifAfter = JSON.parse(
+      (await cli(['check', '.', '--format', 'sarif', '--fail-on', 'never'], { cwd: dir })).stdout,
+    ) as SarifLog;
     const [before] = sarifBefore.runs[0].results;
     const [after] = sarifAfter.runs[0].results;
     expect(after.ruleId).toBe('tiny-probability');
-    expect(after.locations[0].physicalLocation!.region!.startLine).not.toBe(before.locations[0].physicalLocation!.region!.startLine);
+    expect(after.locations[0].physicalLocation!.region!.startLine).not.toBe(
+      before.locations[0].physicalLocation!.region!.startLine,
+    );
     expect(after.partialFingerprints[FINGERPRINT_NAME]).toBe(before.partialFingerprints[FINGERPRINT_NAME]);
   });
 
@@ -79,13 +87,19 @@ describe('pull-request flow through the command line', () => {
     writeFileSync(path.join(dir, SPEC), buggy);
     const addedLine = buggy.split('\n').findIndex((line) => line.includes('"from": "cooled"')) + 1;
 
-    const result = await cli(['check', '.', '--format', 'markdown', '--baseline', baseline, '--fail-on', 'warning'], { cwd: dir });
+    const result = await cli(['check', '.', '--format', 'markdown', '--baseline', baseline, '--fail-on', 'warning'], {
+      cwd: dir,
+    });
     expect(result.code).toBe(1);
     expect(result.stdout.split('\n')[0]).toBe('## Episcope: 1 new finding, 0 fixed, 0 specs with changed returns');
     const tables = markdownTables(result.stdout);
     expect(tables).toHaveLength(1);
     expect(tables[0]).toHaveLength(1);
-    expect(tables[0][0]).toMatch(new RegExp(`^\\| 🟠 warning \\| \`terminal-has-transitions\` \\| \`${SPEC.replace(/\./g, '\\.')}:${addedLine}:\\d+\` \\| 'cooled' is a goal terminal`));
+    expect(tables[0][0]).toMatch(
+      new RegExp(
+        `^\\| 🟠 warning \\| \`terminal-has-transitions\` \\| \`${SPEC.replace(/\./g, '\\.')}:${addedLine}:\\d+\` \\| 'cooled' is a goal terminal`,
+      ),
+    );
     expect(result.stdout).toContain('### New findings (1 at or above `--fail-on warning`)');
     expect(result.stdout).toContain('1 finding unchanged from the baseline.');
 
@@ -93,7 +107,11 @@ describe('pull-request flow through the command line', () => {
     const text = await cli(['check', '.', '--baseline', baseline], { cwd: dir });
     const tail = text.stdout.trimEnd().split('\n').slice(-2);
     expect(tail[0]).toBe('compared with the baseline: 1 new, 0 fixed, 1 unchanged; start values moved in 0 specs');
-    expect(tail[1]).toMatch(new RegExp(`^  new   ${SPEC.replace(/\./g, '\\.')}:${addedLine}:\\d+ warning terminal-has-transitions 'cooled' is a goal terminal`));
+    expect(tail[1]).toMatch(
+      new RegExp(
+        `^  new   ${SPEC.replace(/\./g, '\\.')}:${addedLine}:\\d+ warning terminal-has-transitions 'cooled' is a goal terminal`,
+      ),
+    );
 
     // The exit status follows --fail-on applied to new findings only.
     expect((await cli(['check', '.', '--format', 'markdown', '--baseline', baseline], { cwd: dir })).code).toBe(0);
@@ -103,11 +121,19 @@ describe('pull-request flow through the command line', () => {
   it('a reward edit that is not a bug moves the start values and nothing else', async () => {
     const { dir, baseline } = await withBaseline();
     const before = JSON.parse(readFileSync(baseline, 'utf8')).files[0].analysis.start.random;
-    writeFileSync(path.join(dir, SPEC), BASE_TEXT.replace('"to": { "cooled": 0.7, "frost": 0.3 }, "reward": 3', '"to": { "cooled": 0.7, "frost": 0.3 }, "reward": 1'));
+    writeFileSync(
+      path.join(dir, SPEC),
+      BASE_TEXT.replace(
+        '"to": { "cooled": 0.7, "frost": 0.3 }, "reward": 3',
+        '"to": { "cooled": 0.7, "frost": 0.3 }, "reward": 1',
+      ),
+    );
     const json = JSON.parse((await cli(['check', '.', '--format', 'json', '--fail-on', 'never'], { cwd: dir })).stdout);
     expect(json.files[0].analysis.start.random.upper).toBeLessThan(before.lower);
 
-    const result = await cli(['check', '.', '--format', 'markdown', '--baseline', baseline, '--fail-on', 'info'], { cwd: dir });
+    const result = await cli(['check', '.', '--format', 'markdown', '--baseline', baseline, '--fail-on', 'info'], {
+      cwd: dir,
+    });
     expect(result.code).toBe(0);
     expect(result.stdout.split('\n')[0]).toBe('## Episcope: 0 new findings, 0 fixed, 1 spec with changed returns');
     const [moved] = markdownTables(result.stdout);
@@ -129,7 +155,13 @@ describe('pull-request flow through the command line', () => {
   it('an incentive bug introduced by a reward edit shows as its finding, with the goal reach it costs', async () => {
     const { dir, baseline } = await withBaseline();
     // Waiting with the vent ajar no longer pays: the optimal policy now gambles on the wide vent.
-    writeFileSync(path.join(dir, SPEC), BASE_TEXT.replace('"to": { "cooled": 0.5, "ajar": 0.5 }, "reward": 2', '"to": { "cooled": 0.5, "ajar": 0.5 }, "reward": 0'));
+    writeFileSync(
+      path.join(dir, SPEC),
+      BASE_TEXT.replace(
+        '"to": { "cooled": 0.5, "ajar": 0.5 }, "reward": 2',
+        '"to": { "cooled": 0.5, "ajar": 0.5 }, "reward": 0',
+      ),
+    );
     const result = await cli(['check', '.', '--format', 'markdown', '--baseline', baseline], { cwd: dir });
     expect(result.stdout.split('\n')[0]).toBe('## Episcope: 1 new finding, 0 fixed, 1 spec with changed returns');
     const [added, moved] = markdownTables(result.stdout);
@@ -146,7 +178,9 @@ describe('pull-request flow through the command line', () => {
     const result = await cli(['check', '.', '--baseline', 'broken.json'], { cwd: dir });
     expect(result.code).toBe(2);
     expect(result.stdout).toBe('');
-    expect(result.stderr).toBe("episcope: baseline 'broken.json' is not an 'episcope check --format json' output: files[0].path must be string\n");
+    expect(result.stderr).toBe(
+      "episcope: baseline 'broken.json' is not an 'episcope check --format json' output: files[0].path must be string\n",
+    );
     const missing = await cli(['check', '.', '--baseline', 'nope.json'], { cwd: dir });
     expect(missing.code).toBe(2);
     expect(missing.stderr).toBe("episcope: cannot read baseline 'nope.json': no such file\n");

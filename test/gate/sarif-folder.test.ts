@@ -15,9 +15,12 @@ describe('SARIF from a folder of specs', () => {
     const driver = log.runs[0].tool.driver as { rules: Array<{ id: string }>; version: string };
     const packageVersion = JSON.parse(readFileSync(path.join(REPO_ROOT, 'package.json'), 'utf8')).version;
     expect(driver.version).toBe(packageVersion);
-    expect(driver.rules.map((r) => r.id)).toEqual([...new Set([...documentedRules().map((r) => r.id), 'config'])].sort());
+    expect(driver.rules.map((r) => r.id)).toEqual(
+      [...new Set([...documentedRules().map((r) => r.id), 'config'])].sort(),
+    );
     expect(log.runs[0].artifacts.length).toBeGreaterThanOrEqual(4);
-    for (const artifact of log.runs[0].artifacts) expect(artifact.location.uri).toMatch(/^examples\/[\w%.-]+\.mdp\.(json|ts)$/);
+    for (const artifact of log.runs[0].artifacts)
+      expect(artifact.location.uri).toMatch(/^examples\/[\w%.-]+\.mdp\.(json|ts)$/);
     expect(log.runs[0].results.length).toBeGreaterThan(0);
     expect(schemaErrors(log)).toEqual([]);
     const validation = multitoolValidate(log);

@@ -15,7 +15,10 @@ import * as path from 'node:path';
  */
 export function multitoolBinary(): string {
   const packageJson = require.resolve(`@microsoft/sarif-multitool-${process.platform}/package.json`);
-  const binary = path.join(path.dirname(packageJson), process.platform === 'win32' ? 'Sarif.Multitool.exe' : 'Sarif.Multitool');
+  const binary = path.join(
+    path.dirname(packageJson),
+    process.platform === 'win32' ? 'Sarif.Multitool.exe' : 'Sarif.Multitool',
+  );
   const mode = statSync(binary).mode;
   if ((mode & 0o100) === 0) chmodSync(binary, mode | 0o100);
   return binary;
@@ -33,13 +36,23 @@ export function multitoolValidate(log: unknown): MultitoolResult[] {
   const input = path.join(dir, 'input.sarif');
   const output = path.join(dir, 'validation.sarif');
   writeFileSync(input, JSON.stringify(log, null, 2));
-  const run = spawnSync(multitoolBinary(), ['validate', input, '--output', output, '--level', 'Error;Warning;Note', '--log', 'ForceOverwrite'], {
-    encoding: 'utf8',
-    timeout: 120_000,
-  });
+  const run = spawnSync(
+    multitoolBinary(),
+    ['validate', input, '--output', output, '--level', 'Error;Warning;Note', '--log', 'ForceOverwrite'],
+    {
+      encoding: 'utf8',
+      timeout: 120_000,
+    },
+  );
   if (run.status !== 0) throw new Error(`Sarif.Multitool validate exited ${run.status}: ${run.stdout}\n${run.stderr}`);
   const validation = JSON.parse(readFileSync(output, 'utf8')) as {
-    runs: Array<{ results?: Array<{ ruleId: string; level?: string; message: { text?: string; id?: string; arguments?: string[] } }> }>;
+    runs: Array<{
+      results?: Array<{
+        ruleId: string;
+        level?: string;
+        message: { text?: string; id?: string; arguments?: string[] };
+      }>;
+    }>;
   };
   return (validation.runs[0].results ?? []).map((r) => ({
     ruleId: r.ruleId,
@@ -48,12 +61,14 @@ export function multitoolValidate(log: unknown): MultitoolResult[] {
   }));
 }
 
-let schemaValidator: ((data: unknown) => boolean) & { errors?: unknown } | undefined;
+let schemaValidator: (((data: unknown) => boolean) & { errors?: unknown }) | undefined;
 
 /** Validates against the SARIF 2.1.0 JSON schema; returns ajv's errors (empty when valid). */
 export function schemaErrors(log: unknown): unknown[] {
   if (!schemaValidator) {
-    const schema = JSON.parse(readFileSync(path.join(__dirname, '..', 'fixtures', 'sarif', 'sarif-schema-2.1.0.json'), 'utf8'));
+    const schema = JSON.parse(
+      readFileSync(path.join(__dirname, '..', 'fixtures', 'sarif', 'sarif-schema-2.1.0.json'), 'utf8'),
+    );
     // strict: false because the schema itself lists "required" properties inside anyOf branches.
     const ajv = new Ajv2020({ allErrors: true, strict: false });
     addFormats(ajv);

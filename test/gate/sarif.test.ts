@@ -8,28 +8,51 @@ import { multitoolValidate, schemaErrors } from './sarif-tools';
 const RULES = [
   SUPPRESSION_RULE,
   CONFIG_RULE,
-  { id: 'reward-loop', defaultSeverity: 'warning' as const, summary: 'A loop pays more than the goal.', documentation: 'Why it matters.\n\nHow to fix it.' },
+  {
+    id: 'reward-loop',
+    defaultSeverity: 'warning' as const,
+    summary: 'A loop pays more than the goal.',
+    documentation: 'Why it matters.\n\nHow to fix it.',
+  },
 ];
 
-function finding(rule: string, line: number, message: string, severity: JsonFinding['severity'] = 'warning'): JsonFinding {
+function finding(
+  rule: string,
+  line: number,
+  message: string,
+  severity: JsonFinding['severity'] = 'warning',
+): JsonFinding {
   return { rule, severity, message, line, column: 7, endLine: line + 1, endColumn: 3, trace: [] };
 }
 
 function output(loopLine: number): JsonOutput {
   const loop: JsonFinding = {
-    ...finding('reward-loop', loopLine, 'the loop hall -> pad -> hall earns 48.1 from the start; reaching the exit earns 7.2'),
+    ...finding(
+      'reward-loop',
+      loopLine,
+      'the loop hall -> pad -> hall earns 48.1 from the start; reaching the exit earns 7.2',
+    ),
     trace: [
       { state: 'hall', action: 'east', line: loopLine, column: 7 },
       { state: 'pad', action: 'west', line: loopLine + 2, column: 7 },
       { state: 'hall' },
     ],
-    related: [{ message: 'the transition hall --east--> pad', line: loopLine, column: 7, endLine: loopLine, endColumn: 40 }],
+    related: [
+      { message: 'the transition hall --east--> pad', line: loopLine, column: 7, endLine: loopLine, endColumn: 40 },
+    ],
   };
   return {
     version: 1,
     files: [
-      { path: 'specs/my drone.mdp.json', findings: [finding('suppression', 2, 'episcope-ignore for trap-state suppresses nothing'), loop] },
-      { path: 'episcope.config.json', findings: [finding('config', 3, 'rules: no rule named "reward-lop"', 'error')], internalErrors: ['rule x failed: boom'] },
+      {
+        path: 'specs/my drone.mdp.json',
+        findings: [finding('suppression', 2, 'episcope-ignore for trap-state suppresses nothing'), loop],
+      },
+      {
+        path: 'episcope.config.json',
+        findings: [finding('config', 3, 'rules: no rule named "reward-lop"', 'error')],
+        internalErrors: ['rule x failed: boom'],
+      },
     ],
     summary: { files: 2, error: 1, warning: 2, info: 0 },
   };
@@ -63,7 +86,11 @@ describe('SARIF output', () => {
       region: { startLine: 12, startColumn: 7, endLine: 13, endColumn: 3 },
     });
     expect(run.originalUriBaseIds['%SRCROOT%'].uri).toBe('file:///work/project/');
-    expect(loop.codeFlows![0].threadFlows[0].locations.map((l) => l.location.message!.text)).toEqual(['hall --east-->', 'pad --west-->', 'hall']);
+    expect(loop.codeFlows![0].threadFlows[0].locations.map((l) => l.location.message!.text)).toEqual([
+      'hall --east-->',
+      'pad --west-->',
+      'hall',
+    ]);
     expect(loop.relatedLocations![0].message).toEqual({ text: 'the transition hall --east--> pad' });
     expect(run.results[2].level).toBe('error');
     expect(run.invocations[0].executionSuccessful).toBe(false);
@@ -72,7 +99,8 @@ describe('SARIF output', () => {
   it('keeps fingerprints when unrelated lines move, and tells different findings apart', () => {
     const before = toSarif(output(12), options).runs[0].results;
     const after = toSarif(output(40), options).runs[0].results;
-    const prints = (results: SarifLog['runs'][number]['results']) => results.map((r) => r.partialFingerprints[FINGERPRINT_NAME]);
+    const prints = (results: SarifLog['runs'][number]['results']) =>
+      results.map((r) => r.partialFingerprints[FINGERPRINT_NAME]);
     expect(prints(after)).toEqual(prints(before));
     expect(new Set(prints(before)).size).toBe(before.length);
     expect(after[1].locations[0].physicalLocation!.region!.startLine).toBe(40);
@@ -85,7 +113,17 @@ describe('SARIF output', () => {
     expect(results.filter((r) => r.level === 'error')).toEqual([]);
     // The one warning: the tool has no informationUri while the package declares no homepage.
     expect(results.filter((r) => r.level === 'warning').map((r) => r.ruleId)).toEqual(['SARIF2005']);
-    expect(multitoolValidate({ ...log, runs: [{ ...log.runs[0], tool: { driver: { ...log.runs[0].tool.driver, informationUri: 'https://example.org/episcope' } } }] }).filter((r) => r.level !== 'note')).toEqual([]);
+    expect(
+      multitoolValidate({
+        ...log,
+        runs: [
+          {
+            ...log.runs[0],
+            tool: { driver: { ...log.runs[0].tool.driver, informationUri: 'https://example.org/episcope' } },
+          },
+        ],
+      }).filter((r) => r.level !== 'note'),
+    ).toEqual([]);
   });
 
   it('a schema violation is caught by both checks (the checks can fail)', () => {

@@ -97,11 +97,22 @@ describe('suppression comments', () => {
 
   it('names an unknown rule and honours the severity set for suppression', () => {
     const text = '// episcope-ignore reward-lop: typo\nx\n';
-    const loud = applySuppressions({ path: 'x', text, findings: [], complete: true }, config({ rules: { suppression: 'error' } }), KNOWN);
+    const loud = applySuppressions(
+      { path: 'x', text, findings: [], complete: true },
+      config({ rules: { suppression: 'error' } }),
+      KNOWN,
+    );
     expect(loud.findings.map((f) => [f.severity, f.message])).toEqual([
-      ['error', `episcope-ignore names no rule "reward-lop" (see 'episcope explain' for the rule ids); it suppresses nothing`],
+      [
+        'error',
+        `episcope-ignore names no rule "reward-lop" (see 'episcope explain' for the rule ids); it suppresses nothing`,
+      ],
     ]);
-    const off = applySuppressions({ path: 'x', text, findings: [], complete: true }, config({ rules: { suppression: 'off' } }), KNOWN);
+    const off = applySuppressions(
+      { path: 'x', text, findings: [], complete: true },
+      config({ rules: { suppression: 'off' } }),
+      KNOWN,
+    );
     expect(off.findings).toEqual([]);
   });
 });
@@ -117,12 +128,24 @@ describe('config ignores', () => {
   const cfg = config({ ignore, baseDir: '/repo' });
 
   it('match by rule and path glob relative to the config folder', () => {
-    const legacy = applySuppressions({ path: '/repo/specs/legacy/deep/a.mdp.json', text, findings, complete: true }, cfg, KNOWN);
+    const legacy = applySuppressions(
+      { path: '/repo/specs/legacy/deep/a.mdp.json', text, findings, complete: true },
+      cfg,
+      KNOWN,
+    );
     expect(legacy.findings.map((f) => f.rule)).toEqual(['trap-state']);
     expect(legacy.suppressed.map((s) => s.source)).toEqual([{ kind: 'config', ignoreIndex: 0 }]);
-    const generated = applySuppressions({ path: '/repo/specs/gen/a.mdp.json', text, findings, complete: true }, cfg, KNOWN);
+    const generated = applySuppressions(
+      { path: '/repo/specs/gen/a.mdp.json', text, findings, complete: true },
+      cfg,
+      KNOWN,
+    );
     expect(generated.findings).toEqual([]);
-    const elsewhere = applySuppressions({ path: '/other/specs/gen/a.mdp.json', text, findings, complete: true }, cfg, KNOWN);
+    const elsewhere = applySuppressions(
+      { path: '/other/specs/gen/a.mdp.json', text, findings, complete: true },
+      cfg,
+      KNOWN,
+    );
     expect(elsewhere.findings).toHaveLength(2);
   });
 
@@ -132,12 +155,24 @@ describe('config ignores', () => {
       { start: 30, end: 40 },
       { start: 50, end: 60 },
     ];
-    const legacyUsed = { path: '/repo/specs/legacy/a.mdp.json', suppressed: [{ finding: findings[0], reason: 'r', source: { kind: 'config' as const, ignoreIndex: 0 } }], complete: true };
+    const legacyUsed = {
+      path: '/repo/specs/legacy/a.mdp.json',
+      suppressed: [{ finding: findings[0], reason: 'r', source: { kind: 'config' as const, ignoreIndex: 0 } }],
+      complete: true,
+    };
     const genUnused = { path: '/repo/specs/gen/b.mdp.json', suppressed: [], complete: true };
     const all = unusedIgnoreFindings(cfg, spans, [legacyUsed, genUnused], true);
     expect(all.map((f) => [f.rule, f.span.start, f.message])).toEqual([
-      ['suppression', 30, 'ignore[1] (any rule in "specs/{gen,tmp}/*.mdp.json") suppressed nothing in the 1 matching spec file: remove it'],
-      ['suppression', 50, 'ignore[2] (trap-state in "specs/nowhere.mdp.json") matches no spec file: correct its path or remove it'],
+      [
+        'suppression',
+        30,
+        'ignore[1] (any rule in "specs/{gen,tmp}/*.mdp.json") suppressed nothing in the 1 matching spec file: remove it',
+      ],
+      [
+        'suppression',
+        50,
+        'ignore[2] (trap-state in "specs/nowhere.mdp.json") matches no spec file: correct its path or remove it',
+      ],
     ]);
     // A run over part of the folder does not know about the files it did not check.
     expect(unusedIgnoreFindings(cfg, spans, [legacyUsed, genUnused], false).map((f) => f.span.start)).toEqual([30]);
@@ -170,6 +205,7 @@ describe('paths and globs', () => {
       ['specs/{a,b}.mdp.ts', 'specs/c.mdp.ts', false],
       ['./specs/a+b.mdp.ts', 'specs/a+b.mdp.ts', true],
     ];
-    for (const [glob, path, expected] of cases) expect([glob, path, globMatches(glob, path)]).toEqual([glob, path, expected]);
+    for (const [glob, path, expected] of cases)
+      expect([glob, path, globMatches(glob, path)]).toEqual([glob, path, expected]);
   });
 });

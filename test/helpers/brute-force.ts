@@ -30,7 +30,14 @@ function choicesOf(spec: SimpleSpec): Map<string, Choice[]> {
       const t = spec.transitions.find((x) => x.from === id && x.action === action);
       if (!t) continue;
       const targets = typeof t.to === 'string' ? { [t.to]: 1 } : t.to;
-      choices.push({ action, outcomes: Object.entries(targets).map(([to, p]) => ({ to, probability: fraction(p), reward: fraction(t.reward) })) });
+      choices.push({
+        action,
+        outcomes: Object.entries(targets).map(([to, p]) => ({
+          to,
+          probability: fraction(p),
+          reward: fraction(t.reward),
+        })),
+      });
     }
     out.set(id, choices);
   }
@@ -38,7 +45,11 @@ function choicesOf(spec: SimpleSpec): Map<string, Choice[]> {
 }
 
 /** The return from the start of a policy that picks a choice index per (steps left, state). */
-function evaluate(spec: SimpleSpec, choices: Map<string, Choice[]>, pick: (k: number, state: string) => number): Fraction {
+function evaluate(
+  spec: SimpleSpec,
+  choices: Map<string, Choice[]>,
+  pick: (k: number, state: string) => number,
+): Fraction {
   const gamma = fraction(spec.discount);
   const memo = new Map<string, Fraction>();
   const value = (k: number, state: string): Fraction => {
@@ -79,7 +90,8 @@ export function bestTimeDependentReturn(spec: SimpleSpec): Fraction {
   const choices = choicesOf(spec);
   const states = [...choices.keys()];
   const slots: Array<{ k: number; state: string; size: number }> = [];
-  for (let k = 1; k <= spec.horizon; k++) for (const state of states) slots.push({ k, state, size: choices.get(state)!.length });
+  for (let k = 1; k <= spec.horizon; k++)
+    for (const state of states) slots.push({ k, state, size: choices.get(state)!.length });
   const index = new Map(slots.map((slot, i) => [`${slot.k} ${slot.state}`, i]));
   return bestOver(spec, slots, (a) => evaluate(spec, choices, (k, state) => a[index.get(`${k} ${state}`)!]));
 }

@@ -13,7 +13,12 @@ import { seededRandom } from '../reference/gridworlds';
  * Solves (I - discount P) v = r for the chain where state s takes choices with the given weights;
  * `reward` per outcome (default the model's), `discount` default the model's.
  */
-export function evaluate(model: CompiledModel, weights: (s: number, c: number) => number, discount = model.discount, reward = (k: number) => model.outcomeReward[k]): number[] {
+export function evaluate(
+  model: CompiledModel,
+  weights: (s: number, c: number) => number,
+  discount = model.discount,
+  reward = (k: number) => model.outcomeReward[k],
+): number[] {
   const n = model.stateCount;
   const a: number[][] = Array.from({ length: n }, (_, i) => Array.from({ length: n }, (_, j) => (i === j ? 1 : 0)));
   const b: number[] = new Array(n).fill(0);

@@ -69,7 +69,12 @@ export interface RuleTable {
 const TYPESCRIPT_CASE_TIMEOUT_MS = 60_000;
 
 function isTypeScript(spec: CaseSpec): spec is { typescript: string } {
-  return typeof spec === 'object' && spec !== null && 'typescript' in spec && typeof (spec as { typescript: unknown }).typescript === 'string';
+  return (
+    typeof spec === 'object' &&
+    spec !== null &&
+    'typescript' in spec &&
+    typeof (spec as { typescript: unknown }).typescript === 'string'
+  );
 }
 
 /** Runs the whole pipeline on a case's spec, as the CLI would. */
@@ -86,12 +91,16 @@ export function testRule(ruleId: string, table: RuleTable): void {
       expect(rule, `no rule ${ruleId} in the registry`).toBeDefined();
     });
     for (const c of table.valid) {
-      it(`does not fire: ${c.name}`, { timeout: isTypeScript(c.spec) ? TYPESCRIPT_CASE_TIMEOUT_MS : undefined }, async () => {
-        const report = await runCase(c.spec, c.config);
-        if (c.analysed) expect(report.notAnalysed).toBeUndefined();
-        expect(findingsOf(report, ruleId).map((f) => f.message)).toEqual([]);
-        c.check?.(report);
-      });
+      it(
+        `does not fire: ${c.name}`,
+        { timeout: isTypeScript(c.spec) ? TYPESCRIPT_CASE_TIMEOUT_MS : undefined },
+        async () => {
+          const report = await runCase(c.spec, c.config);
+          if (c.analysed) expect(report.notAnalysed).toBeUndefined();
+          expect(findingsOf(report, ruleId).map((f) => f.message)).toEqual([]);
+          c.check?.(report);
+        },
+      );
     }
     for (const c of table.invalid) {
       it(`fires: ${c.name}`, { timeout: isTypeScript(c.spec) ? TYPESCRIPT_CASE_TIMEOUT_MS : undefined }, async () => {
@@ -99,7 +108,10 @@ export function testRule(ruleId: string, table: RuleTable): void {
         if (c.analysed) expect(report.notAnalysed).toBeUndefined();
         const findings = findingsOf(report, ruleId);
         const expected = typeof c.findings === 'number' ? c.findings : c.findings.length;
-        expect(findings.map((f) => f.message), `${ruleId} findings`).toHaveLength(expected);
+        expect(
+          findings.map((f) => f.message),
+          `${ruleId} findings`,
+        ).toHaveLength(expected);
         for (const [i, finding] of findings.entries()) {
           checkFindingBasics(report, finding);
           if (typeof c.findings !== 'number') checkExpected(report, finding, c.findings[i]);
@@ -142,7 +154,8 @@ function checkFindingBasics(report: FileReport, finding: Finding): void {
     const edits = [...fix.edits].sort((a, b) => a.span.start - b.span.start);
     edits.forEach((edit, i) => {
       expectInside(report, edit.span, `an edit of "${fix.title}"`);
-      if (i > 0) expect(edit.span.start, `the edits of "${fix.title}" overlap`).toBeGreaterThanOrEqual(edits[i - 1].span.end);
+      if (i > 0)
+        expect(edit.span.start, `the edits of "${fix.title}" overlap`).toBeGreaterThanOrEqual(edits[i - 1].span.end);
     });
   }
   // A rule may raise or lower its own severity per finding (documented on the rule); it is always one of the three.
@@ -158,13 +171,16 @@ function checkExpected(report: FileReport, finding: Finding, expected: ExpectedF
   else if (expected.trace) expect((finding.trace ?? []).map((step) => step.state)).toEqual(expected.trace);
   if (expected.steps) expect((finding.trace ?? []).map((step) => [step.state, step.action])).toEqual(expected.steps);
   if (typeof expected.related === 'number') expect(finding.related ?? []).toHaveLength(expected.related);
-  else if (expected.related) expect((finding.related ?? []).map((r) => spanText(report, r.span))).toEqual(expected.related);
+  else if (expected.related)
+    expect((finding.related ?? []).map((r) => spanText(report, r.span))).toEqual(expected.related);
   if (expected.tags) expect(finding.tags ?? []).toEqual(expected.tags);
   if (expected.severity) expect(finding.severity).toBe(expected.severity);
   if (expected.fixes) {
     const titles = (finding.fixes ?? []).map((fix) => fix.title);
     expect(titles).toHaveLength(expected.fixes.length);
-    expected.fixes.forEach((title, i) => (typeof title === 'string' ? expect(titles[i]).toBe(title) : expect(titles[i]).toMatch(title)));
+    expected.fixes.forEach((title, i) =>
+      typeof title === 'string' ? expect(titles[i]).toBe(title) : expect(titles[i]).toMatch(title),
+    );
   }
 }
 

@@ -52,7 +52,9 @@ describe('the classic fixtures reproduce the published values', () => {
 
   it('Sutton and Barto 2nd ed., Example 6.2: the random walk values are 1/6 .. 5/6', () => {
     const a = analysed('sutton-barto-6.2-random-walk.mdp.json');
-    ['A', 'B', 'C', 'D', 'E'].forEach((id, i) => expectPrinted(a.optimal.values, a.model.stateIndex.get(id)!, (i + 1) / 6, 6));
+    ['A', 'B', 'C', 'D', 'E'].forEach((id, i) =>
+      expectPrinted(a.optimal.values, a.model.stateIndex.get(id)!, (i + 1) / 6, 6),
+    );
   });
 
   it('Sutton and Barto 2nd ed., Examples 6.5 and 6.6: the shortest episodes take 15 (windy) and 13 (cliff) steps', () => {

@@ -13,7 +13,9 @@ import { checkSpec, findingsOf } from '../helpers/specs';
 import { INCENTIVE_RULES } from './incentive-rules';
 
 const FOLDER = path.resolve(__dirname, '..', 'fixtures', 'classic');
-const FIXTURES = readdirSync(FOLDER).filter((f) => f.endsWith('.mdp.json')).sort();
+const FIXTURES = readdirSync(FOLDER)
+  .filter((f) => f.endsWith('.mdp.json'))
+  .sort();
 
 describe('classic textbook MDPs raise no warning and no error from any rule', () => {
   it('the fixtures are all there', () => {

@@ -55,12 +55,22 @@ describe('episcope check on the incentive examples', () => {
   it('text output prints each finding as file:line:col severity rule message', async () => {
     const result = await cli(['check', 'examples/loading-dock-edge.mdp.json', '--fail-on', 'warning']);
     expect(result.code).toBe(1);
-    expect(result.stdout).toMatch(/^examples\/loading-dock-edge\.mdp\.json:\d+:\d+ warning failure-preferred the optimal policy ends in failure/m);
-    expect(result.stdout).toContain('failing returns -3.0 from the start, while the most direct route to a goal returns -4.0');
+    expect(result.stdout).toMatch(
+      /^examples\/loading-dock-edge\.mdp\.json:\d+:\d+ warning failure-preferred the optimal policy ends in failure/m,
+    );
+    expect(result.stdout).toContain(
+      'failing returns -3.0 from the start, while the most direct route to a goal returns -4.0',
+    );
   });
 
   it('explain prints each incentive rule with its thresholds', async () => {
-    for (const rule of ['reward-loop', 'failure-preferred', 'goal-discounted-away', 'shaping-not-potential', 'time-dependent-optimum']) {
+    for (const rule of [
+      'reward-loop',
+      'failure-preferred',
+      'goal-discounted-away',
+      'shaping-not-potential',
+      'time-dependent-optimum',
+    ]) {
       const result = await cli(['explain', rule]);
       expect(result.code).toBe(0);
       expect(result.stdout).toContain(rule);
@@ -94,7 +104,13 @@ const PLANTED: Array<[string, string, object]> = [
       discount: 0.99,
       start: 'hook',
       actions: ['lower', 'release'],
-      states: { hook: {}, mid: { actions: ['lower'] }, low: { actions: ['lower'] }, placed: { terminal: 'goal' }, dropped: { terminal: 'failure' } },
+      states: {
+        hook: {},
+        mid: { actions: ['lower'] },
+        low: { actions: ['lower'] },
+        placed: { terminal: 'goal' },
+        dropped: { terminal: 'failure' },
+      },
       transitions: [
         { from: 'hook', action: 'lower', to: 'mid', reward: -2 },
         { from: 'mid', action: 'lower', to: 'low', reward: -2 },
@@ -155,7 +171,12 @@ const PLANTED: Array<[string, string, object]> = [
       start: 'gate1',
       actions: ['next', 'retry', 'finish'],
       rewardTerms: { time: { direction: 'penalty' }, progress: { direction: 'either', shaping: true } },
-      states: { gate1: { actions: ['next'] }, gate2: { actions: ['next', 'retry'] }, gate3: { actions: ['finish'] }, end: { terminal: 'goal' } },
+      states: {
+        gate1: { actions: ['next'] },
+        gate2: { actions: ['next', 'retry'] },
+        gate3: { actions: ['finish'] },
+        end: { terminal: 'goal' },
+      },
       transitions: [
         { from: 'gate1', action: 'next', to: 'gate2', reward: { time: -1, progress: 2 } },
         { from: 'gate2', action: 'retry', to: 'gate1', reward: { time: -1 } },
@@ -183,8 +204,16 @@ const PLANTED: Array<[string, string, object]> = [
       discount: 0.5,
       start: 'row0',
       actions: ['drill'],
-      states: Object.fromEntries([...Array.from({ length: 12 }, (_, i) => [`row${i}`, {}]), ['barn', { terminal: 'goal' }]]),
-      transitions: Array.from({ length: 12 }, (_, i) => ({ from: `row${i}`, action: 'drill', to: i === 11 ? 'barn' : `row${i + 1}`, reward: i === 11 ? 30 : 0 })),
+      states: Object.fromEntries([
+        ...Array.from({ length: 12 }, (_, i) => [`row${i}`, {}]),
+        ['barn', { terminal: 'goal' }],
+      ]),
+      transitions: Array.from({ length: 12 }, (_, i) => ({
+        from: `row${i}`,
+        action: 'drill',
+        to: i === 11 ? 'barn' : `row${i + 1}`,
+        reward: i === 11 ? 30 : 0,
+      })),
     },
   ],
   [
@@ -223,17 +252,25 @@ const PLANTED: Array<[string, string, object]> = [
 describe('episcope check on a folder of planted bugs and classic MDPs', () => {
   it('finds every planted bug and raises nothing at warning or above on the classic MDPs', async () => {
     const folder = tempFolder('incentives');
-    for (const [file, , spec] of PLANTED) writeFileSync(path.join(folder, file), JSON.stringify({ name: file.replace('.mdp.json', ''), ...spec }, null, 2));
+    for (const [file, , spec] of PLANTED)
+      writeFileSync(path.join(folder, file), JSON.stringify({ name: file.replace('.mdp.json', ''), ...spec }, null, 2));
     const classic = path.join(REPO_ROOT, 'test', 'fixtures', 'classic');
-    for (const file of readdirSync(classic).filter((f) => f.endsWith('.mdp.json'))) copyFileSync(path.join(classic, file), path.join(folder, file));
+    for (const file of readdirSync(classic).filter((f) => f.endsWith('.mdp.json')))
+      copyFileSync(path.join(classic, file), path.join(folder, file));
     const result = await cli(['check', folder, '--format', 'json', '--fail-on', 'warning']);
     const output = JSON.parse(result.stdout) as JsonOutput;
     for (const [file, rule] of PLANTED) {
       const found = output.files.find((f) => path.basename(f.path) === file);
-      expect(found?.findings.map((f) => f.rule), file).toContain(rule);
+      expect(
+        found?.findings.map((f) => f.rule),
+        file,
+      ).toContain(rule);
     }
     for (const file of output.files.filter((f) => !PLANTED.some(([name]) => name === path.basename(f.path)))) {
-      expect(file.findings.filter((f) => f.severity !== 'info').map((f) => `${f.rule}: ${f.message}`), file.path).toEqual([]);
+      expect(
+        file.findings.filter((f) => f.severity !== 'info').map((f) => `${f.rule}: ${f.message}`),
+        file.path,
+      ).toEqual([]);
     }
     expect(result.code).toBe(1);
   });

@@ -14,7 +14,12 @@ function rescue(potential: Record<string, number>): object {
     discount: 0.95,
     start: 'field',
     actions: ['fly-on', 'turn-back', 'deliver'],
-    states: { field: { actions: ['fly-on', 'turn-back'] }, ridge: { actions: ['deliver'] }, shelter: { terminal: 'goal' }, base: { terminal: 'neutral' } },
+    states: {
+      field: { actions: ['fly-on', 'turn-back'] },
+      ridge: { actions: ['deliver'] },
+      shelter: { terminal: 'goal' },
+      base: { terminal: 'neutral' },
+    },
     shaping: { potential },
     transitions: [
       { from: 'field', action: 'fly-on', to: 'ridge', reward: -1 },

@@ -27,10 +27,17 @@ const randomMdp: fc.Arbitrary<RandomMdp> = fc
     states: fc.integer({ min: 1, max: 6 }),
     seed: fc.array(
       fc.array(
-        fc.array(fc.record({ target: fc.nat(7), weight: fc.integer({ min: 1, max: 9 }), reward: fc.double({ min: -5, max: 5, noNaN: true }) }), {
-          minLength: 1,
-          maxLength: 3,
-        }),
+        fc.array(
+          fc.record({
+            target: fc.nat(7),
+            weight: fc.integer({ min: 1, max: 9 }),
+            reward: fc.double({ min: -5, max: 5, noNaN: true }),
+          }),
+          {
+            minLength: 1,
+            maxLength: 3,
+          },
+        ),
         { minLength: 1, maxLength: 3 },
       ),
       { minLength: 6, maxLength: 6 },
@@ -102,7 +109,11 @@ describe('Ng, Harada and Russell (1999), Theorem 1 and Corollary 2, on random MD
           for (let c = model.choiceStart[s]; c < model.choiceStart[s + 1]; c++) best = Math.max(best, a.q.lower[c]);
           for (let c = model.choiceStart[s]; c < model.choiceStart[s + 1]; c++) {
             // Corollary 2: the shaped Q is the unshaped Q minus Phi(s), within both bounds' widths.
-            const slack = a.q.upper[c] - a.q.lower[c] + (b.q.upper[c] - b.q.lower[c]) + 1e-9 * (1 + Math.abs(phi) + Math.abs(a.q.upper[c]));
+            const slack =
+              a.q.upper[c] -
+              a.q.lower[c] +
+              (b.q.upper[c] - b.q.lower[c]) +
+              1e-9 * (1 + Math.abs(phi) + Math.abs(a.q.upper[c]));
             expect(b.q.lower[c]).toBeLessThanOrEqual(a.q.upper[c] - phi + slack);
             expect(b.q.upper[c]).toBeGreaterThanOrEqual(a.q.lower[c] - phi - slack);
             // Theorem 1: an action clearly worse without shaping is not best with it, and a best one stays best.

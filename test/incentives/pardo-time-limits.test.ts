@@ -27,7 +27,15 @@ function corridor(horizon?: number): object {
       ],
     },
   ]);
-  return { name: 'corridor', discount: 1, ...(horizon ? { horizon } : {}), start: 'c1', actions: ['left', 'right'], states, transitions };
+  return {
+    name: 'corridor',
+    discount: 1,
+    ...(horizon ? { horizon } : {}),
+    start: 'c1',
+    actions: ['left', 'right'],
+    states,
+    transitions,
+  };
 }
 
 describe('Pardo et al. (2018): the optimal action depends on the time left', () => {

@@ -16,10 +16,18 @@ const arbitrarySpec = fc
     minimize: fc.boolean(),
     choices: fc.array(
       fc.array(
-        fc.array(fc.record({ target: fc.nat(7), weight: fc.integer({ min: 1, max: 4 }), task: fc.integer({ min: -5, max: 5 }), shape: fc.integer({ min: -2, max: 2 }) }), {
-          minLength: 1,
-          maxLength: 3,
-        }),
+        fc.array(
+          fc.record({
+            target: fc.nat(7),
+            weight: fc.integer({ min: 1, max: 4 }),
+            task: fc.integer({ min: -5, max: 5 }),
+            shape: fc.integer({ min: -2, max: 2 }),
+          }),
+          {
+            minLength: 1,
+            maxLength: 3,
+          },
+        ),
         { minLength: 1, maxLength: 3 },
       ),
       { minLength: 5, maxLength: 5 },
@@ -45,7 +53,11 @@ const arbitrarySpec = fc
         transitions.push({
           from: name(s),
           action: `a${a}`,
-          to: [...merged].map(([t, o]) => ({ state: name(t), probability: o.weight / total, reward: { task: o.task, progress: o.shape } })),
+          to: [...merged].map(([t, o]) => ({
+            state: name(t),
+            probability: o.weight / total,
+            reward: { task: o.task, progress: o.shape },
+          })),
         });
       });
     }
@@ -58,7 +70,9 @@ const arbitrarySpec = fc
       actions: ['a0', 'a1', 'a2'],
       rewardTerms: { task: { direction: 'penalty' }, progress: { direction: 'either', shaping: true } },
       states: stateMap,
-      ...(potential ? { shaping: { potential: Object.fromEntries(potential.slice(0, states + 2).map((v, i) => [name(i), v])) } } : {}),
+      ...(potential
+        ? { shaping: { potential: Object.fromEntries(potential.slice(0, states + 2).map((v, i) => [name(i), v])) } }
+        : {}),
       transitions,
     };
   });

@@ -22,7 +22,12 @@ function compiled(spec: object): { spec: ParsedSpec; model: CompiledModel } {
 }
 
 /** A spec whose `progress` term is marked shaping; `edges` are [from, action, to, progress, task reward]. */
-function shapedSpec(discount: number, edges: Array<[string, string, string, number, number]>, terminals: Record<string, string>, start: string) {
+function shapedSpec(
+  discount: number,
+  edges: Array<[string, string, string, number, number]>,
+  terminals: Record<string, string>,
+  start: string,
+) {
   const states: Record<string, object> = {};
   const actions: Record<string, string[]> = {};
   for (const [from, action, to] of edges) {
@@ -57,7 +62,16 @@ describe('recoverPotential: amounts built from a potential (Ng, Harada and Russe
     const discount = 0.9;
     const f = (s: string, t: string) => discount * phi[t] - phi[s];
     const { spec, model } = compiled(
-      shapedSpec(discount, [['a', 'go', 'b', f('a', 'b'), -1], ['b', 'go', 'goal', f('b', 'goal'), 10], ['b', 'back', 'a', f('b', 'a'), -1]], { goal: 'goal' }, 'a'),
+      shapedSpec(
+        discount,
+        [
+          ['a', 'go', 'b', f('a', 'b'), -1],
+          ['b', 'go', 'goal', f('b', 'goal'), 10],
+          ['b', 'back', 'a', f('b', 'a'), -1],
+        ],
+        { goal: 'goal' },
+        'a',
+      ),
     );
     const recovery = recoverPotential(spec, model);
     expect(recovery.shapingTerms).toEqual(['progress']);
@@ -72,12 +86,23 @@ describe('recoverPotential: amounts built from a potential (Ng, Harada and Russe
     const discount = 0.8;
     const f = (s: string, t: string) => discount * phi[t] - phi[s];
     const { spec, model } = compiled(
-      shapedSpec(discount, [['x', 'go', 'y', f('x', 'y'), 0], ['y', 'go', 'z', f('y', 'z'), 0], ['z', 'go', 'x', f('z', 'x'), 1], ['z', 'stay', 'z', f('z', 'z'), 0]], {}, 'x'),
+      shapedSpec(
+        discount,
+        [
+          ['x', 'go', 'y', f('x', 'y'), 0],
+          ['y', 'go', 'z', f('y', 'z'), 0],
+          ['z', 'go', 'x', f('z', 'x'), 1],
+          ['z', 'stay', 'z', f('z', 'z'), 0],
+        ],
+        {},
+        'x',
+      ),
     );
     const recovery = recoverPotential(spec, model);
     expect(recovery.conflict).toBeUndefined();
     // A loop fixes Phi uniquely when discount < 1: (discount^L - 1) Phi(v0) = sum discount^i F_i.
-    for (const [id, value] of Object.entries(phi)) expect(recovery.potential![model.stateIndex.get(id)!]).toBeCloseTo(value, 10);
+    for (const [id, value] of Object.entries(phi))
+      expect(recovery.potential![model.stateIndex.get(id)!]).toBeCloseTo(value, 10);
   });
 
   it('property: random graphs, discounts and potentials with Phi = 0 on terminals are always recognised', () => {
@@ -110,7 +135,9 @@ describe('recoverPotential: amounts built from a potential (Ng, Harada and Russe
         expect(recovery.conflict).toBeUndefined();
         // Every state reaches the goal, so Phi is anchored everywhere and must come back exactly.
         for (let s = 0; s < stateCount; s++) {
-          expect(Math.abs(recovery.potential![model.stateIndex.get(name(s))!] - potential[s])).toBeLessThan(1e-7 * (1 + Math.abs(potential[s])));
+          expect(Math.abs(recovery.potential![model.stateIndex.get(name(s))!] - potential[s])).toBeLessThan(
+            1e-7 * (1 + Math.abs(potential[s])),
+          );
         }
       }),
       { numRuns: 200 },
@@ -121,21 +148,40 @@ describe('recoverPotential: amounts built from a potential (Ng, Harada and Russe
 describe('recoverPotential: amounts that no potential produces', () => {
   it('discount 1: a bonus for going forward and nothing for going back nets +1 per lap', () => {
     const { spec, model } = compiled(
-      shapedSpec(1, [['hall', 'ahead', 'pad', 1, -1], ['pad', 'back', 'hall', 0, -1], ['pad', 'exit', 'goal', 0, 10]], { goal: 'goal' }, 'hall'),
+      shapedSpec(
+        1,
+        [
+          ['hall', 'ahead', 'pad', 1, -1],
+          ['pad', 'back', 'hall', 0, -1],
+          ['pad', 'exit', 'goal', 0, 10],
+        ],
+        { goal: 'goal' },
+        'hall',
+      ),
     );
     const { conflict, potential } = recoverPotential(spec, model);
     expect(potential).toBeUndefined();
     expect(conflict).toBeDefined();
     expect(Math.abs(conflict!.net!)).toBeCloseTo(1, 12);
     // The witness is the two-step cycle hall -> pad -> hall, nothing else.
-    const outcomes = [...conflict!.first.steps, ...conflict!.second.steps].map((s) => `${model.stateIds[s.from]}>${model.stateIds[s.to]}`).sort();
+    const outcomes = [...conflict!.first.steps, ...conflict!.second.steps]
+      .map((s) => `${model.stateIds[s.from]}>${model.stateIds[s.to]}`)
+      .sort();
     expect(outcomes).toEqual(['hall>pad', 'pad>hall']);
     expect(Math.abs(conflict!.first.value - conflict!.second.value)).toBeCloseTo(1, 12);
   });
 
   it('discount < 1: two routes to terminals that imply different potentials for one state', () => {
     const { spec, model } = compiled(
-      shapedSpec(0.9, [['s', 'win', 'goal', 5, 1], ['s', 'lose', 'fail', 3, -1]], { goal: 'goal', fail: 'failure' }, 's'),
+      shapedSpec(
+        0.9,
+        [
+          ['s', 'win', 'goal', 5, 1],
+          ['s', 'lose', 'fail', 3, -1],
+        ],
+        { goal: 'goal', fail: 'failure' },
+        's',
+      ),
     );
     const { conflict } = recoverPotential(spec, model);
     expect(conflict).toBeDefined();
@@ -179,20 +225,61 @@ describe('recoverPotential: amounts that no potential produces', () => {
   });
 
   it('discount 0: every outcome leaving a state must carry the same amount', () => {
-    const ok = compiled(shapedSpec(0, [['s', 'a', 'goal', 2, 0], ['s', 'b', 't', 2, 0], ['t', 'a', 'goal', -1, 0]], { goal: 'goal' }, 's'));
+    const ok = compiled(
+      shapedSpec(
+        0,
+        [
+          ['s', 'a', 'goal', 2, 0],
+          ['s', 'b', 't', 2, 0],
+          ['t', 'a', 'goal', -1, 0],
+        ],
+        { goal: 'goal' },
+        's',
+      ),
+    );
     expect(recoverPotential(ok.spec, ok.model).conflict).toBeUndefined();
     expect(recoverPotential(ok.spec, ok.model).potential![ok.model.stateIndex.get('s')!]).toBe(-2);
-    const bad = compiled(shapedSpec(0, [['s', 'a', 'goal', 2, 0], ['s', 'b', 't', 1, 0], ['t', 'a', 'goal', -1, 0]], { goal: 'goal' }, 's'));
+    const bad = compiled(
+      shapedSpec(
+        0,
+        [
+          ['s', 'a', 'goal', 2, 0],
+          ['s', 'b', 't', 1, 0],
+          ['t', 'a', 'goal', -1, 0],
+        ],
+        { goal: 'goal' },
+        's',
+      ),
+    );
     const { conflict } = recoverPotential(bad.spec, bad.model);
     expect([conflict!.first.value, conflict!.second.value].sort((a, b) => a - b)).toEqual([-2, -1]);
   });
 
   it('a tolerance absorbs hand-rounded amounts only when asked to', () => {
     // Phi(a) = 1/3, Phi(goal) = 0: the exact amount a --go--> goal is -1/3, written here as -0.3333.
-    const { spec, model } = compiled(shapedSpec(1, [['a', 'go', 'goal', -0.3333, 1], ['a', 'loop', 'a', 0, 0]], { goal: 'goal' }, 'a'));
+    const { spec, model } = compiled(
+      shapedSpec(
+        1,
+        [
+          ['a', 'go', 'goal', -0.3333, 1],
+          ['a', 'loop', 'a', 0, 0],
+        ],
+        { goal: 'goal' },
+        'a',
+      ),
+    );
     expect(recoverPotential(spec, model).conflict).toBeUndefined();
     const two = compiled(
-      shapedSpec(1, [['a', 'go', 'b', 0.3333, 0], ['b', 'go', 'goal', -2 / 3, 1], ['a', 'skip', 'goal', -1 / 3, 0]], { goal: 'goal' }, 'a'),
+      shapedSpec(
+        1,
+        [
+          ['a', 'go', 'b', 0.3333, 0],
+          ['b', 'go', 'goal', -2 / 3, 1],
+          ['a', 'skip', 'goal', -1 / 3, 0],
+        ],
+        { goal: 'goal' },
+        'a',
+      ),
     );
     expect(recoverPotential(two.spec, two.model).conflict).toBeDefined();
     expect(recoverPotential(two.spec, two.model, 1e-3).conflict).toBeUndefined();

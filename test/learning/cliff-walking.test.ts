@@ -7,7 +7,11 @@ import { describe, expect, test } from 'vitest';
 import { DEFAULT_LEARNING, learnModel, type LearnJobOptions } from '../../server/src/sandbox/learn';
 import { cliffActions, cliffStep, START, type Cell } from '../fixtures/learning/cliff-world';
 
-const cliff = { start: START, actions: cliffActions, sample: (cell: unknown, action: unknown) => cliffStep(cell as Cell, action as string) };
+const cliff = {
+  start: START,
+  actions: cliffActions,
+  sample: (cell: unknown, action: unknown) => cliffStep(cell as Cell, action as string),
+};
 
 function options(seed: number): LearnJobOptions {
   return {
@@ -21,7 +25,11 @@ function options(seed: number): LearnJobOptions {
 }
 
 /** The cells of the book's optimal path: up from the start, along row 2 to the right, down into the goal. */
-const EDGE_PATH = [{ row: 3, col: 0 }, ...Array.from({ length: 12 }, (_, col) => ({ row: 2, col })), { row: 3, col: 11 }].map((c) => JSON.stringify({ col: c.col, row: c.row }));
+const EDGE_PATH = [
+  { row: 3, col: 0 },
+  ...Array.from({ length: 12 }, (_, col) => ({ row: 2, col })),
+  { row: 3, col: 11 },
+].map((c) => JSON.stringify({ col: c.col, row: c.row }));
 
 describe('cliff walking (Sutton and Barto 2nd ed., Example 6.6)', () => {
   for (const seed of [1, 2, 3]) {

@@ -20,7 +20,11 @@ interface BlackBox {
   steps: Record<LearningMethod, number>;
   /** Measured episodes (fewer for the model whose episodes run to the discount's step cap). */
   evaluationEpisodes?: number;
-  model: { start: unknown; actions: (state: unknown) => unknown; sample: (state: unknown, action: unknown, rng: ModelRng) => unknown };
+  model: {
+    start: unknown;
+    actions: (state: unknown) => unknown;
+    sample: (state: unknown, action: unknown, rng: ModelRng) => unknown;
+  };
 }
 
 const MODELS: BlackBox[] = [
@@ -34,7 +38,11 @@ const MODELS: BlackBox[] = [
       start: 'choose',
       actions: () => ['safe', 'risky'],
       sample: (_s, action, rng) =>
-        action === 'safe' ? { state: 'done', reward: 1, terminal: 'goal' } : rng.chance(0.6) ? { state: 'won', reward: 3, terminal: 'goal' } : { state: 'lost', reward: 0, terminal: 'failure' },
+        action === 'safe'
+          ? { state: 'done', reward: 1, terminal: 'goal' }
+          : rng.chance(0.6)
+            ? { state: 'won', reward: 3, terminal: 'goal' }
+            : { state: 'lost', reward: 0, terminal: 'failure' },
     },
   },
   {
@@ -64,7 +72,10 @@ const MODELS: BlackBox[] = [
     model: {
       start: 'here',
       actions: () => ['stay', 'leave'],
-      sample: (_s, action, rng) => (action === 'leave' ? { state: 'out', reward: 4, terminal: 'neutral' } : { state: 'here', reward: rng.chance(0.5) ? 2 : 0 }),
+      sample: (_s, action, rng) =>
+        action === 'leave'
+          ? { state: 'out', reward: 4, terminal: 'neutral' }
+          : { state: 'here', reward: rng.chance(0.5) ? 2 : 0 },
     },
   },
   {
@@ -93,7 +104,14 @@ function coverage(box: BlackBox, method: LearningMethod): number {
   let covered = 0;
   for (let seed = 1; seed <= SEEDS; seed++) {
     const run = learnModel(box.model, {
-      settings: { ...DEFAULT_LEARNING, method, episodes: 20_000, steps: box.steps[method], evaluationEpisodes: box.evaluationEpisodes ?? 1000, decisionEpisodes: 0 },
+      settings: {
+        ...DEFAULT_LEARNING,
+        method,
+        episodes: 20_000,
+        steps: box.steps[method],
+        evaluationEpisodes: box.evaluationEpisodes ?? 1000,
+        decisionEpisodes: 0,
+      },
       seed,
       discount: box.discount,
       horizon: box.horizon,

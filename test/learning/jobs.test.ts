@@ -9,7 +9,15 @@ import { availableParallelism } from 'node:os';
 import { cli } from '../cli/cli-harness';
 import { DEFAULT_CONFIG } from '../../server/src/config';
 import { parseConfigText } from '../../server/src/config-file';
-import { Learner, joinLearning, learnWithSampler, CompiledSampler, DEFAULT_LEARNING, type LearnOptions, type MeasuredPart } from '../../server/src/sandbox/learn';
+import {
+  Learner,
+  joinLearning,
+  learnWithSampler,
+  CompiledSampler,
+  DEFAULT_LEARNING,
+  type LearnOptions,
+  type MeasuredPart,
+} from '../../server/src/sandbox/learn';
 import { joinRolloutRuns, splitEpisodes } from '../../server/src/sandbox/parallel';
 import { rolloutModel, type ModelFunctions, type RolloutOptions } from '../../server/src/sandbox/runtime';
 import { TrajectoryLogger, TransitionRecorder, type RecordOptions } from '../../server/src/sandbox/transition-record';
@@ -19,7 +27,20 @@ import { analyzeTs } from '../typescript/ts-specs';
 const EXAMPLE = 'examples/stealth-guard-bonus.mdp.ts';
 
 async function checkWithJobs(jobs: number) {
-  const result = await cli(['check', EXAMPLE, '--format', 'json', '--rollouts', '400', '--learn-steps', '40000', '--jobs', String(jobs), '--fail-on', 'never']);
+  const result = await cli([
+    'check',
+    EXAMPLE,
+    '--format',
+    'json',
+    '--rollouts',
+    '400',
+    '--learn-steps',
+    '40000',
+    '--jobs',
+    String(jobs),
+    '--fail-on',
+    'never',
+  ]);
   expect(result.stderr).toBe('');
   expect(result.code).toBe(0);
   return JSON.parse(result.stdout) as { files: Array<{ rollouts?: Record<string, unknown>; findings: unknown[] }> };
@@ -74,7 +95,10 @@ describe('jobs in the config file', () => {
     for (const value of ['0', '1.5', '257', '"2"']) {
       const text = `{ "jobs": ${value} }`;
       const file = parseConfigText('/c/episcope.config.json', text);
-      expect(file.findings.map((f) => f.rule), value).toEqual(['config']);
+      expect(
+        file.findings.map((f) => f.rule),
+        value,
+      ).toEqual(['config']);
       expect(text.slice(file.findings[0].span.start, file.findings[0].span.end)).toBe(value);
       expect(file.config.jobs).toBe(DEFAULT_CONFIG.jobs);
     }
@@ -83,7 +107,12 @@ describe('jobs in the config file', () => {
 
 describe('episode ranges', () => {
   test('consecutive, covering every episode once, sizes within one', () => {
-    for (const [total, parts] of [[10, 3], [2, 5], [1000, 7], [1, 1]]) {
+    for (const [total, parts] of [
+      [10, 3],
+      [2, 5],
+      [1000, 7],
+      [1, 1],
+    ]) {
       const ranges = splitEpisodes(total, parts);
       expect(ranges.length).toBe(Math.min(total, parts));
       let next = 0;
@@ -113,7 +142,8 @@ function walkModel(options: { failKeyAt?: number; infiniteRewardAt?: number } = 
       const up = action === 'right' ? rng() < 0.7 : rng() < 0.2;
       const next = up ? s + 1 : s - 1;
       const position = next % 10;
-      const reward = position === options.infiniteRewardAt ? Infinity : position === 6 ? 10 : -1 + Math.round(rng() * 100) / 100;
+      const reward =
+        position === options.infiniteRewardAt ? Infinity : position === 6 ? 10 : -1 + Math.round(rng() * 100) / 100;
       return { state: next, reward, terminal: position === 6 ? 'goal' : position === 0 ? 'failure' : undefined };
     },
     stateKey:
@@ -141,7 +171,16 @@ function stateFirstMetInSecondRange(): number {
 const FAILING_KEY = stateFirstMetInSecondRange();
 
 function rolloutOptions(episodes: number, record?: RecordOptions): RolloutOptions {
-  return { episodes, seed: 7, discount: 0.95, stepCap: 200, declaredTerms: [], fingerprintEpisodes: 16, record, progress: new Int32Array(5) };
+  return {
+    episodes,
+    seed: 7,
+    discount: 0.95,
+    stepCap: 200,
+    declaredTerms: [],
+    fingerprintEpisodes: 16,
+    record,
+    progress: new Int32Array(5),
+  };
 }
 
 /** The counts of one recorder over every episode, and of a recorder fed the first range and the logs of the others. */
@@ -152,7 +191,11 @@ function countsBothWays(model: ModelFunctions, record: RecordOptions, episodes: 
   const ranges = splitEpisodes(episodes, parts);
   const first = new TransitionRecorder(model, record, [], new Int32Array(5));
   const runs = ranges.map((range, k) => {
-    const options = { ...rolloutOptions(range.count), firstEpisode: range.first, fingerprintEpisodes: Math.max(0, 16 - range.first) };
+    const options = {
+      ...rolloutOptions(range.count),
+      firstEpisode: range.first,
+      fingerprintEpisodes: Math.max(0, 16 - range.first),
+    };
     if (k === 0) return rolloutModel(model, options, first);
     const logger = new TrajectoryLogger(model, record, 0, new Int32Array(5));
     const run = rolloutModel(model, options, logger);
@@ -161,7 +204,14 @@ function countsBothWays(model: ModelFunctions, record: RecordOptions, episodes: 
   });
   for (const run of runs.slice(1)) first.replay(run.log!);
   first.explore(7, []);
-  return { whole, joined: joinRolloutRuns(runs, 16), single: single.result(), split: first.result(), singleProblem: single.problem, splitProblem: first.problem };
+  return {
+    whole,
+    joined: joinRolloutRuns(runs, 16),
+    single: single.result(),
+    split: first.result(),
+    singleProblem: single.problem,
+    splitProblem: first.problem,
+  };
 }
 
 describe('transition counts from replayed logs', () => {
@@ -224,7 +274,13 @@ describe('learning in phases', () => {
   ])('%s: trained, measured in three ranges and joined, the same as one run', (_name, setup) => {
     const model = { ...corridor, horizon: 'horizon' in setup ? setup.horizon : undefined };
     const options: LearnOptions = {
-      settings: { ...DEFAULT_LEARNING, method: setup.method, steps: setup.steps, evaluationEpisodes: 90, decisionEpisodes: 40 },
+      settings: {
+        ...DEFAULT_LEARNING,
+        method: setup.method,
+        steps: setup.steps,
+        evaluationEpisodes: 90,
+        decisionEpisodes: 40,
+      },
       seed: 3,
       discount: model.discount,
       horizon: model.horizon,
@@ -236,7 +292,12 @@ describe('learning in phases', () => {
     const single = learnWithSampler(new CompiledSampler(model), options);
     const trainer = new Learner(new CompiledSampler(model), options);
     trainer.train();
-    const trained = { table: trainer.exportTable(), spent: { episodes: trainer.episodes, steps: trainer.steps }, kept: trainer.keptStates(), watched: trainer.watchedStates() };
+    const trained = {
+      table: trainer.exportTable(),
+      spent: { episodes: trainer.episodes, steps: trainer.steps },
+      kept: trainer.keptStates(),
+      watched: trainer.watchedStates(),
+    };
     const parts: MeasuredPart[] = splitEpisodes(90, 3).map((range) => {
       const learner = new Learner(new CompiledSampler(model), options, trained.table);
       const path = range.first === 0 ? { keys: [], actions: [], truncated: false } : undefined;

@@ -36,8 +36,13 @@ describe('learning in the pipeline', () => {
     expect(validate(JSON.parse(JSON.stringify(json))), JSON.stringify(validate.errors)).toBe(true);
     expect(json.files[0].rollouts?.learning?.method).toBe('q-learning');
     // The pull-request comment puts the learned policy's -13 beside the random policy's estimate.
-    const row = markdownReport(json).split('\n').find((line) => line.startsWith('| `') && line.includes('cliff-walking'));
-    const cells = row!.slice(1, -1).split('|').map((c) => c.trim());
+    const row = markdownReport(json)
+      .split('\n')
+      .find((line) => line.startsWith('| `') && line.includes('cliff-walking'));
+    const cells = row!
+      .slice(1, -1)
+      .split('|')
+      .map((c) => c.trim());
     expect(cells[1]).toMatch(/^-\d+(\.\d+)? \(-\d+(\.\d+)? \.\. -\d+(\.\d+)?\), 200 episodes$/);
     expect(cells[2]).toBe('-13 (-13 .. -13), 200 episodes');
     expect(cells[3]).toBe(`${learning.spent.episodes} episodes, ${learning.spent.steps} steps`);
@@ -50,7 +55,9 @@ describe('learning in the pipeline', () => {
     const b = await analyzeFile(CLIFF, text, { config });
     expect(b.rollouts?.learning).toEqual(a.rollouts?.learning);
     expect(b.rollouts?.learned).toEqual(a.rollouts?.learned);
-    const off = await analyzeFile(CLIFF, text, { config: resolveConfig({ rollouts: 50, learning: { method: 'off' } }) });
+    const off = await analyzeFile(CLIFF, text, {
+      config: resolveConfig({ rollouts: 50, learning: { method: 'off' } }),
+    });
     expect(off.rollouts?.learned).toBeUndefined();
     expect(off.rollouts?.random).toBeDefined();
   });

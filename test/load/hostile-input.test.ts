@@ -12,17 +12,21 @@ const SANITY_LIMIT_MS = 120_000;
 
 describe('hostile input is bounded', () => {
   for (const count of [20_000, 200_000]) {
-    it(`${count} wrong-typed transitions: the first problems described, the rest counted`, { timeout: SANITY_LIMIT_MS }, () => {
-      const report = analyzeJsonText('/specs/hostile.mdp.json', wrongTypedTransitionsText(count));
-      const schema = report.findings.filter((f) => f.rule === 'schema');
-      // 200 described, one note for the rest (every transition has exactly one problem: its `from`).
-      expect(schema).toHaveLength(201);
-      expect(schema[0].message).toMatch(/^transitions\[0\]\.from must be a string or a list, not 0/);
-      expect(schema[200].message).toBe(`${count - 200} more schema problems are not shown; fix the ones above first`);
-      expect(report.findings.length).toBeLessThan(260);
-      expect(report.notAnalysed).toMatch(/could not be read/);
-      expect(report.internalErrors).toEqual([]);
-    });
+    it(
+      `${count} wrong-typed transitions: the first problems described, the rest counted`,
+      { timeout: SANITY_LIMIT_MS },
+      () => {
+        const report = analyzeJsonText('/specs/hostile.mdp.json', wrongTypedTransitionsText(count));
+        const schema = report.findings.filter((f) => f.rule === 'schema');
+        // 200 described, one note for the rest (every transition has exactly one problem: its `from`).
+        expect(schema).toHaveLength(201);
+        expect(schema[0].message).toMatch(/^transitions\[0\]\.from must be a string or a list, not 0/);
+        expect(schema[200].message).toBe(`${count - 200} more schema problems are not shown; fix the ones above first`);
+        expect(report.findings.length).toBeLessThan(260);
+        expect(report.notAnalysed).toMatch(/could not be read/);
+        expect(report.internalErrors).toEqual([]);
+      },
+    );
   }
 
   it('15 MB of blanks around a valid spec loads and is analysed', { timeout: SANITY_LIMIT_MS }, () => {

@@ -34,7 +34,11 @@ function rows(tree: JsonTree): string[] {
   const out: string[] = [];
   const visit = (node: number, depth: number): void => {
     const value =
-      tree.kinds[node] === 4 ? JSON.stringify(tree.str(node)) : tree.kinds[node] === 5 || tree.kinds[node] === 6 ? String(tree.numbers[node]) : '';
+      tree.kinds[node] === 4
+        ? JSON.stringify(tree.str(node))
+        : tree.kinds[node] === 5 || tree.kinds[node] === 6
+          ? String(tree.numbers[node])
+          : '';
     out.push(`${depth} kind=${tree.kinds[node]} ${tree.starts[node]}-${tree.ends[node]} ${value}`);
     for (let child = tree.firstChildren[node]; child !== NONE; child = tree.nextSiblings[child]) {
       expect(tree.parents[child]).toBe(node);
@@ -97,20 +101,52 @@ describe('readJsonTree against jsonc-parser', () => {
       return JSON.stringify(value);
     };
     fc.assert(
-      fc.property(fc.jsonValue({ maxDepth: 5 }), fc.infiniteStream(blank), fc.infiniteStream(fc.boolean()), (value, blanks, commas) => {
-        const text = layout(value, () => blanks.next().value, () => commas.next().value);
-        const fast = readJsonTree(text, DEPTH);
-        expect(fast, text).toBeDefined();
-        expectSameAsReference(text);
-        // -0 and 0 are one number to JSON; compare through JSON text.
-        expect(JSON.stringify(fast!.toValue())).toBe(JSON.stringify(JSON.parse(JSON.stringify(value))));
-      }),
+      fc.property(
+        fc.jsonValue({ maxDepth: 5 }),
+        fc.infiniteStream(blank),
+        fc.infiniteStream(fc.boolean()),
+        (value, blanks, commas) => {
+          const text = layout(
+            value,
+            () => blanks.next().value,
+            () => commas.next().value,
+          );
+          const fast = readJsonTree(text, DEPTH);
+          expect(fast, text).toBeDefined();
+          expectSameAsReference(text);
+          // -0 and 0 are one number to JSON; compare through JSON text.
+          expect(JSON.stringify(fast!.toValue())).toBe(JSON.stringify(JSON.parse(JSON.stringify(value))));
+        },
+      ),
       { numRuns: 300 },
     );
   });
 
   it('accepts a mutated text only when jsonc-parser reads it without errors, and then agrees with it', () => {
-    const pieces = ['{', '}', '[', ']', ',', ':', '"', '\\', '/', '*', '-', '0', '1e', '.', ' ', '\u00a0', '\u2028', 'tru', 'null', 'x', '"\\u00', '\n'];
+    const pieces = [
+      '{',
+      '}',
+      '[',
+      ']',
+      ',',
+      ':',
+      '"',
+      '\\',
+      '/',
+      '*',
+      '-',
+      '0',
+      '1e',
+      '.',
+      ' ',
+      '\u00a0',
+      '\u2028',
+      'tru',
+      'null',
+      'x',
+      '"\\u00',
+      '\n',
+    ];
     fc.assert(
       fc.property(
         fc.jsonValue({ maxDepth: 4 }),
@@ -129,7 +165,17 @@ describe('readJsonTree against jsonc-parser', () => {
   });
 
   it('declines what it does not read itself: syntax errors, deep nesting, unusual blanks', () => {
-    for (const text of ['{"a": }', '[1 2]', '{"a": 1', `${'['.repeat(70)}${']'.repeat(70)}`, '{\u00a0"a": 1}', '// x\u2028\n{}', '', '01', '"\t"'])
+    for (const text of [
+      '{"a": }',
+      '[1 2]',
+      '{"a": 1',
+      `${'['.repeat(70)}${']'.repeat(70)}`,
+      '{\u00a0"a": 1}',
+      '// x\u2028\n{}',
+      '',
+      '01',
+      '"\t"',
+    ])
       expect(readJsonTree(text, DEPTH), JSON.stringify(text)).toBeUndefined();
   });
 

@@ -80,8 +80,10 @@ describe('the three forms of "to"', () => {
 
 describe('lists in "from" and "action"', () => {
   it('expands into one transition per combination, sharing sourceIndex and outcomes', () => {
-    const r = load(base(`{ "from": "a", "action": "go", "to": "b" },
-    { "from": ["a", "b"], "action": ["go", "stay"], "to": "goal", "reward": 1 }`));
+    const r = load(
+      base(`{ "from": "a", "action": "go", "to": "b" },
+    { "from": ["a", "b"], "action": ["go", "stay"], "to": "goal", "reward": 1 }`),
+    );
     expect(r.findings).toEqual([]);
     const expanded = r.spec.transitions.filter((t) => t.sourceIndex === 1);
     expect(expanded.map((t) => `${t.from}/${t.action}`)).toEqual(['a/go', 'a/stay', 'b/go', 'b/stay']);
@@ -216,7 +218,9 @@ describe('bad input: never a throw, always a positioned schema finding', () => {
     { "from": "b", "action": "go", "to": `).replace(/\s*\]\s*\}$/, '');
     const r = load(text);
     expect(r.findings.length).toBeGreaterThan(0);
-    expect(r.findings.every((f) => f.span.start >= 0 && f.span.end <= text.length && f.span.end > f.span.start)).toBe(true);
+    expect(r.findings.every((f) => f.span.start >= 0 && f.span.end <= text.length && f.span.end > f.span.start)).toBe(
+      true,
+    );
     expect(r.spec.states.map((s) => s.id)).toEqual(['a', 'b', 'goal']);
     expect(r.spec.transitions.map((t) => [t.from, Boolean(t.incomplete)])).toEqual([
       ['a', false],
@@ -239,7 +243,9 @@ describe('bad input: never a throw, always a positioned schema finding', () => {
 
   it('reports wrong types at the value, with the path and what was expected', () => {
     const r = load(base(`{ "from": "a", "action": "go", "to": 7 }`).replace('"discount": 0.9', '"discount": "0.9"'));
-    expect(r.messages).toContain('"0.9" | discount must be a number, not the string "0.9" (The discount factor, from 0 to 1)');
+    expect(r.messages).toContain(
+      '"0.9" | discount must be a number, not the string "0.9" (The discount factor, from 0 to 1)',
+    );
     const to = r.findings.find((f) => f.message.startsWith('transitions[0].to'));
     expect(to && r.at(to.span)).toBe('7');
     expect(to?.message).toContain('must be a string, an object or a list, not 7');
@@ -249,7 +255,9 @@ describe('bad input: never a throw, always a positioned schema finding', () => {
     const r = load(base(`{ "from": "a", "action": "go", "too": "b" }`));
     const unknown = r.findings.find((f) => f.message.includes('unknown property'));
     expect(unknown && r.at(unknown.span)).toBe('"too"');
-    expect(unknown?.message).toMatch(/^unknown property "too" in transitions\[0\]; did you mean "to"\? It is required \(the outcomes: /);
+    expect(unknown?.message).toMatch(
+      /^unknown property "too" in transitions\[0\]; did you mean "to"\? It is required \(the outcomes: /,
+    );
     // One misnamed property is one mistake: the missing "to" is part of the same finding.
     expect(r.findings).toHaveLength(1);
   });
@@ -281,16 +289,22 @@ describe('bad input: never a throw, always a positioned schema finding', () => {
 
   it('reports a probability that is not a number', () => {
     const r = load(base(`{ "from": "a", "action": "go", "to": { "b": "0.5", "goal": 0.5 } }`));
-    expect(r.messages).toEqual(['"0.5" | transitions[0].to.b must be a number, not the string "0.5" (A probability, from 0 to 1)']);
+    expect(r.messages).toEqual([
+      '"0.5" | transitions[0].to.b must be a number, not the string "0.5" (A probability, from 0 to 1)',
+    ]);
   });
 
   it('keeps the state and action a transition without a readable from or action seems to be about', () => {
     const typo = load(base(`{ "form": "a", "action": "go", "to": "b" }`));
     expect(typo.spec.transitions).toEqual([]);
     expect(typo.spec.unreadTransitions).toEqual([{ from: ['a'], action: ['go'], span: expect.anything() }]);
-    expect(load(base(`{ "from": "b", "acton": "stay", "to": "b" }`)).spec.unreadTransitions).toEqual([{ from: ['b'], action: ['stay'], span: expect.anything() }]);
+    expect(load(base(`{ "from": "b", "acton": "stay", "to": "b" }`)).spec.unreadTransitions).toEqual([
+      { from: ['b'], action: ['stay'], span: expect.anything() },
+    ]);
     // The from value names no declared state: any state with that action may be the one meant.
-    expect(load(base(`{ "form": "nowhere", "action": "go", "to": "b" }`)).spec.unreadTransitions).toEqual([{ from: undefined, action: ['go'], span: expect.anything() }]);
+    expect(load(base(`{ "form": "nowhere", "action": "go", "to": "b" }`)).spec.unreadTransitions).toEqual([
+      { from: undefined, action: ['go'], span: expect.anything() },
+    ]);
     // Nothing at all tells the pair.
     expect(load(base(`{ "to": "b" }`)).spec.unreadTransitions).toBeUndefined();
   });
@@ -306,7 +320,9 @@ describe('bad input: never a throw, always a positioned schema finding', () => {
 
   it('reports a value outside its allowed set, suggesting the closest', () => {
     const r = load(base('').replace('"terminal": "goal"', '"terminal": "gaol"'));
-    expect(r.messages).toEqual(['"gaol" | states.goal.terminal must be "goal", "failure" or "neutral", not the string "gaol"; did you mean "goal"?']);
+    expect(r.messages).toEqual([
+      '"gaol" | states.goal.terminal must be "goal", "failure" or "neutral", not the string "gaol"; did you mean "goal"?',
+    ]);
     // A misspelt kind leaves the state non-terminal.
     expect(r.spec.states.find((s) => s.id === 'goal')?.terminal).toBeUndefined();
   });
@@ -316,7 +332,9 @@ describe('bad input: never a throw, always a positioned schema finding', () => {
     expect(over.messages).toEqual(['1.5 | discount is 1.5; it must be at most 1 (The discount factor, from 0 to 1)']);
     const huge = load(base('').replace('"discount": 0.9', '"discount": 1e400'));
     expect(huge.messages).toHaveLength(1);
-    expect(huge.messages[0]).toMatch(/^1e400 \| discount is infinity \(the number is too large to represent\); it must be at most 1/);
+    expect(huge.messages[0]).toMatch(
+      /^1e400 \| discount is infinity \(the number is too large to represent\); it must be at most 1/,
+    );
   });
 
   it('leaves a huge reward to non-finite-reward: no schema finding, the value is Infinity', () => {
@@ -343,7 +361,8 @@ describe('bad input: never a throw, always a positioned schema finding', () => {
   });
 
   it('reports a repeated key at the one that is ignored (the last counts, as in JSON.parse)', () => {
-    const text = '{ "discount": 0.9, "start": "a", "states": { "a": {}, "a": { "terminal": "goal" } }, "transitions": [] }';
+    const text =
+      '{ "discount": 0.9, "start": "a", "states": { "a": {}, "a": { "terminal": "goal" } }, "transitions": [] }';
     const r = load(text);
     expect(r.findings).toHaveLength(1);
     expect(r.findings[0].span).toEqual({ start: text.indexOf('"a": {}'), end: text.indexOf('"a": {}') + 3 });
@@ -358,7 +377,9 @@ describe('bad input: never a throw, always a positioned schema finding', () => {
     const r = load(text);
     expect(r.findings).toHaveLength(1);
     expect(r.findings[0].span.start).toBe(text.indexOf('"s7"'));
-    expect(r.findings[0].message).toBe('states has the key "s7" more than once; only the last one counts, so this one is ignored');
+    expect(r.findings[0].message).toBe(
+      'states has the key "s7" more than once; only the last one counts, so this one is ignored',
+    );
   });
 
   it('reports empty ids at the key', () => {
@@ -368,8 +389,11 @@ describe('bad input: never a throw, always a positioned schema finding', () => {
 
   it('reports a reward term that rewardTerms does not declare', () => {
     const r = load(
-      base(`{ "from": "a", "action": "go", "to": "b", "reward": { "batery": -1 } }`, `
-  "rewardTerms": { "battery": { "direction": "penalty" } },`),
+      base(
+        `{ "from": "a", "action": "go", "to": "b", "reward": { "batery": -1 } }`,
+        `
+  "rewardTerms": { "battery": { "direction": "penalty" } },`,
+      ),
     );
     expect(r.messages).toEqual([
       '"batery" | reward term "batery" in transitions[0].reward is not declared in rewardTerms (did you mean "battery"?): its values count in the reward, but no term check (direction, shaping) applies to them',
@@ -377,8 +401,14 @@ describe('bad input: never a throw, always a positioned schema finding', () => {
   });
 
   it('marks a transition whose outcomes cannot all be read as incomplete', () => {
-    const r = load(base(`{ "from": "a", "action": "go", "to": [ { "state": "b" }, { "state": "goal", "probability": 1 } ] }`));
-    expect(r.messages).toEqual([expect.stringMatching(/^\{ "state": "b" \} \| transitions\[0\]\.to\[0\] is missing the required property "probability"/)]);
+    const r = load(
+      base(`{ "from": "a", "action": "go", "to": [ { "state": "b" }, { "state": "goal", "probability": 1 } ] }`),
+    );
+    expect(r.messages).toEqual([
+      expect.stringMatching(
+        /^\{ "state": "b" \} \| transitions\[0\]\.to\[0\] is missing the required property "probability"/,
+      ),
+    ]);
     expect(r.spec.transitions[0].incomplete).toBe(true);
     expect(r.spec.transitions[0].outcomes.map((o) => o.state)).toEqual(['goal']);
   });
@@ -396,7 +426,10 @@ describe('bad input: never a throw, always a positioned schema finding', () => {
   });
 
   it('is not fooled by brackets inside strings and comments when counting depth', () => {
-    const text = base('').replace('"discount": 0.9', `"discount": 0.9, "name": "${'['.repeat(200)}" /* ${'{'.repeat(200)} */`);
+    const text = base('').replace(
+      '"discount": 0.9',
+      `"discount": 0.9, "name": "${'['.repeat(200)}" /* ${'{'.repeat(200)} */`,
+    );
     expect(load(text).messages).toEqual([]);
   });
 
@@ -414,7 +447,9 @@ describe('bad input: never a throw, always a positioned schema finding', () => {
     const items = Array.from({ length: 400 }, () => '{ "from": 1, "action": "go", "to": "b" }').join(',\n');
     const r = load(base(items));
     expect(r.findings).toHaveLength(MAX_SCHEMA_FINDINGS + 1);
-    expect(r.findings[MAX_SCHEMA_FINDINGS].message).toBe('200 more schema problems are not shown; fix the ones above first');
+    expect(r.findings[MAX_SCHEMA_FINDINGS].message).toBe(
+      '200 more schema problems are not shown; fix the ones above first',
+    );
   });
 
   it('never throws and keeps every span inside the text, for arbitrary text', () => {
@@ -432,7 +467,9 @@ describe('bad input: never a throw, always a positioned schema finding', () => {
   });
 
   it('never throws for arbitrary JSON values, and reports every document that is not a valid spec', () => {
-    const validate = new Ajv2020({ allErrors: true, strictNumbers: false, allowUnionTypes: true }).compile(schemaDocument);
+    const validate = new Ajv2020({ allErrors: true, strictNumbers: false, allowUnionTypes: true }).compile(
+      schemaDocument,
+    );
     fc.assert(
       fc.property(fc.jsonValue({ maxDepth: 5 }), (value) => {
         const text = JSON.stringify(value);
@@ -447,11 +484,15 @@ describe('bad input: never a throw, always a positioned schema finding', () => {
     const text = base(`{ "from": "a", "action": "go", "to": { "b": 0.5, "goal": 0.5 }, "reward": { "x": 1 } },
     { "from": ["b"], "action": "go", "to": [ { "state": "goal", "probability": 1, "reward": 3 } ] }`);
     fc.assert(
-      fc.property(fc.nat(text.length - 1), fc.constantFrom('', '"', '{', '}', '[', ']', ',', ':', '1', '-', 'x', ' '), (at, replacement) => {
-        const mutated = text.slice(0, at) + replacement + text.slice(at + 1);
-        const r = parseJsonSpec(mutated);
-        for (const f of r.findings) expect(f.span.end).toBeLessThanOrEqual(mutated.length);
-      }),
+      fc.property(
+        fc.nat(text.length - 1),
+        fc.constantFrom('', '"', '{', '}', '[', ']', ',', ':', '1', '-', 'x', ' '),
+        (at, replacement) => {
+          const mutated = text.slice(0, at) + replacement + text.slice(at + 1);
+          const r = parseJsonSpec(mutated);
+          for (const f of r.findings) expect(f.span.end).toBeLessThanOrEqual(mutated.length);
+        },
+      ),
       { numRuns: 400 },
     );
   });
@@ -470,11 +511,13 @@ describe('the schema file', () => {
       for (const group of ['properties', '$defs'] as const) {
         const members = schema[group] as Record<string, Record<string, unknown>> | undefined;
         for (const [name, member] of Object.entries(members ?? {})) {
-          if (typeof member.description !== 'string' || member.description.length < 10) undocumented.push(`${path}/${group}/${name}`);
+          if (typeof member.description !== 'string' || member.description.length < 10)
+            undocumented.push(`${path}/${group}/${name}`);
           visit(member, `${path}/${group}/${name}`);
         }
       }
-      if (schema.additionalProperties && typeof schema.additionalProperties === 'object') visit(schema.additionalProperties, `${path}/additionalProperties`);
+      if (schema.additionalProperties && typeof schema.additionalProperties === 'object')
+        visit(schema.additionalProperties, `${path}/additionalProperties`);
     };
     visit(schemaDocument, '#');
     expect(undocumented).toEqual([]);
@@ -487,7 +530,8 @@ describe('the schema file', () => {
       const schema = node as Record<string, unknown>;
       if (schema.properties && schema.additionalProperties !== false) open.push(path);
       for (const group of ['properties', '$defs'] as const) {
-        for (const [name, member] of Object.entries((schema[group] as Record<string, unknown>) ?? {})) visit(member, `${path}/${group}/${name}`);
+        for (const [name, member] of Object.entries((schema[group] as Record<string, unknown>) ?? {}))
+          visit(member, `${path}/${group}/${name}`);
       }
     };
     visit(schemaDocument, '#');

@@ -4,12 +4,15 @@ import { closestName, editDistance, formatNumber, jsonPath } from '../../server/
 
 /** Textbook recurrence of the optimal string alignment distance, without cut-offs, as the reference. */
 function referenceDistance(a: string, b: string): number {
-  const d = Array.from({ length: a.length + 1 }, (_, i) => Array.from({ length: b.length + 1 }, (_, j) => (i === 0 ? j : j === 0 ? i : 0)));
+  const d = Array.from({ length: a.length + 1 }, (_, i) =>
+    Array.from({ length: b.length + 1 }, (_, j) => (i === 0 ? j : j === 0 ? i : 0)),
+  );
   for (let i = 1; i <= a.length; i++) {
     for (let j = 1; j <= b.length; j++) {
       const cost = a[i - 1] === b[j - 1] ? 0 : 1;
       d[i][j] = Math.min(d[i - 1][j] + 1, d[i][j - 1] + 1, d[i - 1][j - 1] + cost);
-      if (i > 1 && j > 1 && a[i - 1] === b[j - 2] && a[i - 2] === b[j - 1]) d[i][j] = Math.min(d[i][j], d[i - 2][j - 2] + 1);
+      if (i > 1 && j > 1 && a[i - 1] === b[j - 2] && a[i - 2] === b[j - 1])
+        d[i][j] = Math.min(d[i][j], d[i - 2][j - 2] + 1);
     }
   }
   return d[a.length][b.length];
@@ -29,11 +32,16 @@ describe('editDistance', () => {
 
   it('agrees with the plain recurrence, and its cut-off never undercuts it', () => {
     fc.assert(
-      fc.property(fc.string({ unit: fc.constantFrom('a', 'b', 'c'), maxLength: 9 }), fc.string({ unit: fc.constantFrom('a', 'b', 'c'), maxLength: 9 }), fc.nat(4), (a, b, limit) => {
-        const exact = referenceDistance(a, b);
-        expect(editDistance(a, b)).toBe(exact);
-        expect(editDistance(a, b, limit)).toBe(Math.min(exact, limit + 1));
-      }),
+      fc.property(
+        fc.string({ unit: fc.constantFrom('a', 'b', 'c'), maxLength: 9 }),
+        fc.string({ unit: fc.constantFrom('a', 'b', 'c'), maxLength: 9 }),
+        fc.nat(4),
+        (a, b, limit) => {
+          const exact = referenceDistance(a, b);
+          expect(editDistance(a, b)).toBe(exact);
+          expect(editDistance(a, b, limit)).toBe(Math.min(exact, limit + 1));
+        },
+      ),
       { numRuns: 2000 },
     );
   });

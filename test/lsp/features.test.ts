@@ -73,7 +73,14 @@ const HOVERS: HoverCase[] = [
     name: 'a state declaration: values under each policy, Q* per action, best action, lengths',
     text: chain,
     at: (t) => t.indexOf('"b": {}') + 1,
-    shows: [/\| optimal \| 1 \| 100% /, /\| random \| 0\.9091 \|/, /\| worst \| 0 \|/, /Best action: `go`/, /`go` 1 ✓ · `wait` 0\.9/, /optimal 1, random 2/],
+    shows: [
+      /\| optimal \| 1 \| 100% /,
+      /\| random \| 0\.9091 \|/,
+      /\| worst \| 0 \|/,
+      /Best action: `go`/,
+      /`go` 1 ✓ · `wait` 0\.9/,
+      /optimal 1, random 2/,
+    ],
   },
   {
     name: 'a state named as a target: the same state',
@@ -205,7 +212,11 @@ const FIXES: FixCase[] = [
   },
 ];
 
-function actionsFor(text: string, rule: string, documentChanges = false): { actions: CodeAction[]; document: TextDocument } {
+function actionsFor(
+  text: string,
+  rule: string,
+  documentChanges = false,
+): { actions: CodeAction[]; document: TextDocument } {
   const snapshot = snapshotOf(text);
   const document = TextDocument.create(URI, 'json', 1, text);
   const diagnostics = snapshot.diagnostics.filter((d) => d.code === rule);
@@ -225,7 +236,9 @@ function actionsFor(text: string, rule: string, documentChanges = false): { acti
 
 function applied(document: TextDocument, action: CodeAction): string {
   const inPlace = action.edit?.changes?.[URI];
-  const versioned = action.edit?.documentChanges?.flatMap((change) => ('textDocument' in change && change.textDocument.uri === URI ? change.edits : []));
+  const versioned = action.edit?.documentChanges?.flatMap((change) =>
+    'textDocument' in change && change.textDocument.uri === URI ? change.edits : [],
+  );
   const edits = (inPlace ?? versioned ?? []) as TextEdit[];
   expect(edits.length, `${action.title} edits the spec`).toBeGreaterThan(0);
   return TextDocument.applyEdits(document, edits);
@@ -252,9 +265,13 @@ describe('code actions (in-process)', () => {
     const titles = actions.map((a) => a.title);
     expect(titles.filter((t) => t.startsWith('Ignore probability-sum on this line'))).toHaveLength(1);
     expect(titles.filter((t) => t.startsWith('Show the documentation of rule probability-sum'))).toHaveLength(1);
-    const entry = actions.find((a) => a.edit?.documentChanges?.some((change) => 'kind' in change && change.kind === 'create'));
+    const entry = actions.find((a) =>
+      a.edit?.documentChanges?.some((change) => 'kind' in change && change.kind === 'create'),
+    );
     expect(entry, `offered: ${titles.join(' | ')}`).toBeDefined();
-    expect(entry!.title).toBe('Ignore probability-sum in specs/feature.mdp.json (create episcope.config.json; then write the reason)');
+    expect(entry!.title).toBe(
+      'Ignore probability-sum in specs/feature.mdp.json (create episcope.config.json; then write the reason)',
+    );
     // The comment goes on its own line above the finding; the rule still fires until a reason is written.
     const comment = actions.find((a) => a.title.startsWith('Ignore probability-sum on this line'))!;
     const commented = applied(document, comment);
@@ -266,7 +283,14 @@ describe('code actions (in-process)', () => {
     const actions = codeActions({
       document,
       path: PATH,
-      diagnostics: [{ range: { start: { line: 0, character: 0 }, end: { line: 0, character: 1 } }, message: 'x', source: 'json', code: 'probability-sum' }],
+      diagnostics: [
+        {
+          range: { start: { line: 0, character: 0 }, end: { line: 0, character: 1 } },
+          message: 'x',
+          source: 'json',
+          code: 'probability-sum',
+        },
+      ],
       mapOffset: (offset) => offset,
       documentChanges: false,
       createFiles: false,
@@ -279,7 +303,10 @@ describe('code actions (in-process)', () => {
 describe('snapshot (in-process)', () => {
   it('summarises the start in the lens with the hand-derived values', () => {
     const snapshot = snapshotOf(chain);
-    expect(snapshot.lens).toEqual(['Return from the start: optimal 0.9 · random 0.7438 · worst 0', 'Goal reach: optimal 100% · random 100% · best possible 100%']);
+    expect(snapshot.lens).toEqual([
+      'Return from the start: optimal 0.9 · random 0.7438 · worst 0',
+      'Goal reach: optimal 100% · random 100% · best possible 100%',
+    ]);
     expect(snapshot.diagnostics).toEqual([]);
     expect(snapshot.status).toMatch(/^3 states · 4 state-action pairs/);
   });
@@ -303,17 +330,23 @@ describe('snapshot of a sampled model (in-process)', () => {
   const geometric = `export default { name: 'coin', discount: 1, start: 0, actions: () => ['flip'],
   sample: (s, a, rng) => ({ state: s + 1, reward: 1, terminal: rng() < 0.25 ? 'goal' : undefined }) };`;
 
-  it('shows the estimates in the lens, labelled as sampled, with intervals and episodes', { timeout: 60_000 }, async () => {
-    const report = await analyzeTs(geometric, { rollouts: 1000 });
-    const snapshot = buildSnapshot({ uri: 'file:///work/specs/coin.mdp.ts', version: 1, report, durationMs: 1 });
-    expect(snapshot.lens[0]).toMatch(/^Estimated return from the start \(sampled\): random [\d.]+ \(95% [\d.]+ \.\. [\d.]+, 1,000 episodes\)/);
-    const [, lower, upper] = /random [\d.]+ \(95% ([\d.]+) \.\. ([\d.]+)/.exec(snapshot.lens[0])!;
-    expect(Number(lower)).toBeLessThan(4);
-    expect(Number(upper)).toBeGreaterThan(4);
-    // Learning is on by default: its greedy policy and what it spent follow.
-    expect(report.rollouts?.learning).toBeDefined();
-    expect(snapshot.lens[0]).toContain('learned greedy');
-    expect(snapshot.lens[1]).toMatch(/^Learning \(q-learning\): [\d,]+ steps? in [\d,]+ episodes? spent$/);
-    for (const line of snapshot.lens) expect(line).not.toMatch(/NaN|undefined/);
-  });
+  it(
+    'shows the estimates in the lens, labelled as sampled, with intervals and episodes',
+    { timeout: 60_000 },
+    async () => {
+      const report = await analyzeTs(geometric, { rollouts: 1000 });
+      const snapshot = buildSnapshot({ uri: 'file:///work/specs/coin.mdp.ts', version: 1, report, durationMs: 1 });
+      expect(snapshot.lens[0]).toMatch(
+        /^Estimated return from the start \(sampled\): random [\d.]+ \(95% [\d.]+ \.\. [\d.]+, 1,000 episodes\)/,
+      );
+      const [, lower, upper] = /random [\d.]+ \(95% ([\d.]+) \.\. ([\d.]+)/.exec(snapshot.lens[0])!;
+      expect(Number(lower)).toBeLessThan(4);
+      expect(Number(upper)).toBeGreaterThan(4);
+      // Learning is on by default: its greedy policy and what it spent follow.
+      expect(report.rollouts?.learning).toBeDefined();
+      expect(snapshot.lens[0]).toContain('learned greedy');
+      expect(snapshot.lens[1]).toMatch(/^Learning \(q-learning\): [\d,]+ steps? in [\d,]+ episodes? spent$/);
+      for (const line of snapshot.lens) expect(line).not.toMatch(/NaN|undefined/);
+    },
+  );
 });

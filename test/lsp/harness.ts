@@ -25,7 +25,10 @@ export const DIST = join(ROOT, 'dist');
 export function ensureBuilt(): void {
   const outputs = ['server.js', 'analysis-worker.js', 'cli.js', 'docs/rules/README.md'].map((f) => join(DIST, f));
   const built = Math.min(...outputs.map((f) => (existsSync(f) ? statSync(f).mtimeMs : 0)));
-  const newest = Math.max(...['server/src', 'client/src', 'schemas'].map((d) => newestMtime(join(ROOT, d))), statSync(join(ROOT, 'scripts/bundle.mjs')).mtimeMs);
+  const newest = Math.max(
+    ...['server/src', 'client/src', 'schemas'].map((d) => newestMtime(join(ROOT, d))),
+    statSync(join(ROOT, 'scripts/bundle.mjs')).mtimeMs,
+  );
   if (built < newest) execFileSync(process.execPath, ['scripts/bundle.mjs'], { cwd: ROOT, stdio: 'inherit' });
 }
 
@@ -70,7 +73,10 @@ export class TestClient {
     const args = options.viaCli ? [join(dist, 'cli.js'), 'server', '--stdio'] : [join(dist, 'server.js'), '--stdio'];
     this.process = spawn(process.execPath, [...args, ...(options.extraArgs ?? [])], { cwd: join(dist, '..') });
     this.process.stderr.on('data', (chunk: Buffer) => (this.stderr += chunk.toString()));
-    this.connection = createProtocolConnection(new StreamMessageReader(this.process.stdout), new StreamMessageWriter(this.process.stdin));
+    this.connection = createProtocolConnection(
+      new StreamMessageReader(this.process.stdout),
+      new StreamMessageWriter(this.process.stdin),
+    );
     this.connection.onNotification('textDocument/publishDiagnostics', (params: PublishDiagnosticsParams) => {
       this.diagnostics.push(params);
       this.changed();
@@ -84,7 +90,9 @@ export class TestClient {
       this.changed();
     });
     this.connection.onNotification('$/progress', () => undefined);
-    this.connection.onRequest('workspace/configuration', (params: { items: unknown[] }) => params.items.map(() => this.settings));
+    this.connection.onRequest('workspace/configuration', (params: { items: unknown[] }) =>
+      params.items.map(() => this.settings),
+    );
     this.connection.onRequest('client/registerCapability', () => null);
     this.connection.onRequest('window/workDoneProgress/create', (params: { token: unknown }) => {
       this.progressTokens.push(params.token);
@@ -115,7 +123,12 @@ export class TestClient {
         synchronization: { dynamicRegistration: false },
         hover: { contentFormat: ['markdown'] },
         codeAction: { codeActionLiteralSupport: { codeActionKind: { valueSet: ['quickfix'] } } },
-        publishDiagnostics: { relatedInformation: true, versionSupport: true, codeDescriptionSupport: true, dataSupport: true },
+        publishDiagnostics: {
+          relatedInformation: true,
+          versionSupport: true,
+          codeDescriptionSupport: true,
+          dataSupport: true,
+        },
         diagnostic: this.options.pull ? { dynamicRegistration: false, relatedDocumentSupport: false } : undefined,
       },
       window: { workDoneProgress: true, showDocument: { support: true } },
@@ -133,7 +146,9 @@ export class TestClient {
   }
 
   open(uri: string, text: string, version = 1): Promise<void> {
-    return this.connection.sendNotification('textDocument/didOpen', { textDocument: { uri, languageId: 'json', version, text } });
+    return this.connection.sendNotification('textDocument/didOpen', {
+      textDocument: { uri, languageId: 'json', version, text },
+    });
   }
 
   /** Replaces the whole text (one incremental change covering everything). */
@@ -143,7 +158,10 @@ export class TestClient {
   }
 
   change(uri: string, version: number, contentChanges: unknown[]): Promise<void> {
-    return this.connection.sendNotification('textDocument/didChange', { textDocument: { uri, version }, contentChanges });
+    return this.connection.sendNotification('textDocument/didChange', {
+      textDocument: { uri, version },
+      contentChanges,
+    });
   }
 
   /** Resolves once `predicate` holds for what the server has sent (checked after every notification). */
@@ -161,7 +179,11 @@ export class TestClient {
       };
       const timer = setTimeout(() => {
         this.listeners = this.listeners.filter((l) => l !== check);
-        reject(new Error(`timed out waiting for ${what}; server stderr: ${this.stderr.slice(-2000)}; logs: ${this.logs.slice(-10).join(' | ')}`));
+        reject(
+          new Error(
+            `timed out waiting for ${what}; server stderr: ${this.stderr.slice(-2000)}; logs: ${this.logs.slice(-10).join(' | ')}`,
+          ),
+        );
       }, timeoutMs);
       this.listeners.push(check);
       check();
@@ -171,7 +193,8 @@ export class TestClient {
   /** The first push of diagnostics for `uri` at `version` (after the push numbered `after`, if given). */
   pushed(uri: string, version?: number, after = 0, timeoutMs?: number): Promise<PublishDiagnosticsParams> {
     return this.waitFor(
-      () => this.diagnostics.slice(after).find((d) => d.uri === uri && (version === undefined || d.version === version)),
+      () =>
+        this.diagnostics.slice(after).find((d) => d.uri === uri && (version === undefined || d.version === version)),
       `diagnostics of ${uri}${version === undefined ? '' : ` v${version}`}`,
       timeoutMs,
     );
@@ -184,10 +207,16 @@ export class TestClient {
 
   /** Resolves when the server reports an analysis of `uri` as done (after the status numbered `after`). */
   analysed(uri: string, after = 0): Promise<StatusParams> {
-    return this.waitFor(() => this.statuses.slice(after).find((s) => s.uri === uri && (s.state === 'done' || s.state === 'failed')), `analysis of ${uri}`);
+    return this.waitFor(
+      () => this.statuses.slice(after).find((s) => s.uri === uri && (s.state === 'done' || s.state === 'failed')),
+      `analysis of ${uri}`,
+    );
   }
 
-  hover(uri: string, position: { line: number; character: number }): Promise<{ contents: { value: string }; range?: unknown } | null> {
+  hover(
+    uri: string,
+    position: { line: number; character: number },
+  ): Promise<{ contents: { value: string }; range?: unknown } | null> {
     return this.connection.sendRequest('textDocument/hover', { textDocument: { uri }, position });
   }
 
@@ -221,7 +250,12 @@ export function positionAt(text: string, offset: number): { line: number; charac
 }
 
 /** The position of the n-th (0-based) occurrence of `needle`, plus `shift` characters. */
-export function positionOf(text: string, needle: string, occurrence = 0, shift = 1): { line: number; character: number } {
+export function positionOf(
+  text: string,
+  needle: string,
+  occurrence = 0,
+  shift = 1,
+): { line: number; character: number } {
   let index = -1;
   for (let i = 0; i <= occurrence; i++) {
     index = text.indexOf(needle, index + 1);
@@ -247,7 +281,11 @@ export interface LspTextEdit {
 
 /** Applies text edits (as an editor does: all ranges refer to the text before any edit). */
 export function applyTextEdits(text: string, edits: readonly LspTextEdit[]): string {
-  const located = edits.map((e) => ({ start: offsetAt(text, e.range.start), end: offsetAt(text, e.range.end), newText: e.newText }));
+  const located = edits.map((e) => ({
+    start: offsetAt(text, e.range.start),
+    end: offsetAt(text, e.range.end),
+    newText: e.newText,
+  }));
   located.sort((a, b) => b.start - a.start || b.end - a.end);
   let out = text;
   for (const e of located) out = out.slice(0, e.start) + e.newText + out.slice(e.end);

@@ -37,7 +37,10 @@ const CHAIN = `{
 `;
 
 /** A planted bug: the outcomes of b --go add up to 0.9. */
-const LEAKY = CHAIN.replace('{ "from": "b", "action": ["go", "stay"], "to": "g", "reward": 10 }', '{ "from": "b", "action": ["go", "stay"], "to": { "g": 0.5, "a": 0.4 }, "reward": 10 }');
+const LEAKY = CHAIN.replace(
+  '{ "from": "b", "action": ["go", "stay"], "to": "g", "reward": 10 }',
+  '{ "from": "b", "action": ["go", "stay"], "to": { "g": 0.5, "a": 0.4 }, "reward": 10 }',
+);
 
 let folder: string;
 
@@ -62,16 +65,35 @@ function byRule(diagnostics: Diagnostic[], rule: string): Diagnostic[] {
 }
 
 /** Sends a code action's edits for `uri` as one didChange (in descending order, so each range is still valid). */
-async function applyToDocument(client: TestClient, uri: string, text: string, edits: LspTextEdit[], version: number): Promise<string> {
-  const sorted = [...edits].sort((a, b) => b.range.start.line - a.range.start.line || b.range.start.character - a.range.start.character);
-  await client.change(uri, version, sorted.map((e) => ({ range: e.range, text: e.newText })));
+async function applyToDocument(
+  client: TestClient,
+  uri: string,
+  text: string,
+  edits: LspTextEdit[],
+  version: number,
+): Promise<string> {
+  const sorted = [...edits].sort(
+    (a, b) => b.range.start.line - a.range.start.line || b.range.start.character - a.range.start.character,
+  );
+  await client.change(
+    uri,
+    version,
+    sorted.map((e) => ({ range: e.range, text: e.newText })),
+  );
   return applyTextEdits(text, edits);
 }
 
 interface CodeActionLike {
   title: string;
   kind?: string;
-  edit?: { documentChanges?: Array<{ kind?: string; uri?: string; textDocument?: { uri: string; version: number | null }; edits?: LspTextEdit[] }> };
+  edit?: {
+    documentChanges?: Array<{
+      kind?: string;
+      uri?: string;
+      textDocument?: { uri: string; version: number | null };
+      edits?: LspTextEdit[];
+    }>;
+  };
   command?: { command: string; arguments?: unknown[] };
 }
 
@@ -172,7 +194,9 @@ describe('a push client (no pull diagnostics)', () => {
 
   it('shows a code lens above the spec with the start’s return ranges and goal reach', async () => {
     const uri = pathUri(join(folder, 'chain.mdp.json'));
-    const lenses = await client.connection.sendRequest<Array<{ range: { start: { line: number } }; command: { title: string } }>>('textDocument/codeLens', {
+    const lenses = await client.connection.sendRequest<
+      Array<{ range: { start: { line: number } }; command: { title: string } }>
+    >('textDocument/codeLens', {
       textDocument: { uri },
     });
     expect(lenses.map((l) => l.command.title)).toEqual([
@@ -189,7 +213,9 @@ describe('a push client (no pull diagnostics)', () => {
     const [loop] = byRule((await client.pushed(uri, 1)).diagnostics, 'reward-loop');
     expect(loop.relatedInformation?.length).toBeGreaterThan(0);
     expect(loop.relatedInformation!.every((r) => r.location.uri === uri)).toBe(true);
-    expect(loop.relatedInformation!.map((r) => r.message)).toEqual(expect.arrayContaining([expect.stringContaining('hall --dock--> dock')]));
+    expect(loop.relatedInformation!.map((r) => r.message)).toEqual(
+      expect.arrayContaining([expect.stringContaining('hall --dock--> dock')]),
+    );
   });
 
   it('ignores a rule through episcope.config.json once a reason is written', async () => {
@@ -207,29 +233,50 @@ describe('a push client (no pull diagnostics)', () => {
     const configPath = join(folder, 'episcope.config.json');
     expect(create).toEqual({ kind: 'create', uri: pathUri(configPath), options: { ignoreIfExists: true } });
     const written = applyTextEdits('', insert.edits!);
-    expect(JSON.parse(written)).toEqual({ ignore: [{ rule: 'probability-sum', path: 'specs/ignored.mdp.json', reason: '' }] });
+    expect(JSON.parse(written)).toEqual({
+      ignore: [{ rule: 'probability-sum', path: 'specs/ignored.mdp.json', reason: '' }],
+    });
 
     // The command after the edit puts the cursor inside the empty reason.
-    await client.connection.sendRequest('workspace/executeCommand', { command: ignore!.command!.command, arguments: ignore!.command!.arguments });
-    const shown = client.shownDocuments.at(-1) as { uri: string; selection: { start: { line: number; character: number } } };
+    await client.connection.sendRequest('workspace/executeCommand', {
+      command: ignore!.command!.command,
+      arguments: ignore!.command!.arguments,
+    });
+    const shown = client.shownDocuments.at(-1) as {
+      uri: string;
+      selection: { start: { line: number; character: number } };
+    };
     expect(shown.uri).toBe(pathUri(configPath));
-    expect(written.split('\n')[shown.selection.start.line].slice(shown.selection.start.character - 1, shown.selection.start.character + 1)).toBe('""');
+    expect(
+      written
+        .split('\n')
+        [shown.selection.start.line].slice(shown.selection.start.character - 1, shown.selection.start.character + 1),
+    ).toBe('""');
 
     // Without a reason the entry does not apply (the config file gets a finding saying so).
     writeFileSync(configPath, written);
     let mark = client.mark();
-    await client.connection.sendNotification('workspace/didChangeWatchedFiles', { changes: [{ uri: pathUri(configPath), type: 1 }] });
+    await client.connection.sendNotification('workspace/didChangeWatchedFiles', {
+      changes: [{ uri: pathUri(configPath), type: 1 }],
+    });
     const configProblems = await client.pushed(pathUri(configPath), undefined, mark);
     expect(configProblems.diagnostics.map((d) => d.message).join('\n')).toMatch(/reason/);
     expect(byRule((await client.pushed(uri, 1, mark)).diagnostics, 'probability-sum')).toHaveLength(1);
 
     mark = client.mark();
-    writeFileSync(configPath, written.replace('"reason": ""', '"reason": "the missing 0.1 is modelled elsewhere (test)"'));
-    await client.connection.sendNotification('workspace/didChangeWatchedFiles', { changes: [{ uri: pathUri(configPath), type: 2 }] });
+    writeFileSync(
+      configPath,
+      written.replace('"reason": ""', '"reason": "the missing 0.1 is modelled elsewhere (test)"'),
+    );
+    await client.connection.sendNotification('workspace/didChangeWatchedFiles', {
+      changes: [{ uri: pathUri(configPath), type: 2 }],
+    });
     const after = await client.pushed(uri, 1, mark);
     expect(byRule(after.diagnostics, 'probability-sum')).toEqual([]);
     rmSync(configPath);
-    await client.connection.sendNotification('workspace/didChangeWatchedFiles', { changes: [{ uri: pathUri(configPath), type: 3 }] });
+    await client.connection.sendNotification('workspace/didChangeWatchedFiles', {
+      changes: [{ uri: pathUri(configPath), type: 3 }],
+    });
   });
 
   it('ignores a rule on one line with an episcope-ignore comment', async () => {
@@ -264,7 +311,9 @@ describe('a push client (no pull diagnostics)', () => {
 
   it('answers a malformed request with an error or nothing, and keeps serving', async () => {
     const uri = pathUri(join(folder, 'chain.mdp.json'));
-    const bad = await client.connection.sendRequest('textDocument/hover', { textDocument: { uri } }).catch((e: Error) => e);
+    const bad = await client.connection
+      .sendRequest('textDocument/hover', { textDocument: { uri } })
+      .catch((e: Error) => e);
     expect(bad === null || bad instanceof Error).toBe(true);
     const unknown = await client.hover('file:///nowhere/none.mdp.json', { line: 0, character: 0 });
     expect(unknown).toBeNull();
@@ -290,17 +339,27 @@ describe('a pull client', () => {
 
   it('registers a diagnostic provider and answers textDocument/diagnostic, unchanged until an edit', async () => {
     const result = await client.initialize();
-    expect(result.capabilities.diagnosticProvider).toEqual({ identifier: 'episcope', interFileDependencies: false, workspaceDiagnostics: false });
+    expect(result.capabilities.diagnosticProvider).toEqual({
+      identifier: 'episcope',
+      interFileDependencies: false,
+      workspaceDiagnostics: false,
+    });
     const uri = writeSpec('pulled.mdp.json', LEAKY);
     await client.open(uri, LEAKY);
     type Report = { kind: 'full' | 'unchanged'; resultId?: string; items?: Diagnostic[] };
     const first = await client.connection.sendRequest<Report>('textDocument/diagnostic', { textDocument: { uri } });
     expect(first.kind).toBe('full');
     expect(byRule(first.items!, 'probability-sum')).toHaveLength(1);
-    const again = await client.connection.sendRequest<Report>('textDocument/diagnostic', { textDocument: { uri }, previousResultId: first.resultId });
+    const again = await client.connection.sendRequest<Report>('textDocument/diagnostic', {
+      textDocument: { uri },
+      previousResultId: first.resultId,
+    });
     expect(again).toEqual({ kind: 'unchanged', resultId: first.resultId });
     await client.replace(uri, LEAKY, CHAIN, 2);
-    const fresh = await client.connection.sendRequest<Report>('textDocument/diagnostic', { textDocument: { uri }, previousResultId: first.resultId });
+    const fresh = await client.connection.sendRequest<Report>('textDocument/diagnostic', {
+      textDocument: { uri },
+      previousResultId: first.resultId,
+    });
     expect(fresh.kind).toBe('full');
     expect(fresh.items).toEqual([]);
     // Nothing is pushed to a pull client for an open spec.
@@ -329,7 +388,10 @@ describe('responsiveness and stale work', () => {
 
     const large = pathUri(join(folder, 'large.mdp.json'));
     await client.open(large, big);
-    await client.waitFor(() => client.statuses.find((s) => s.uri === large && s.state === 'analysing'), 'the large analysis to start');
+    await client.waitFor(
+      () => client.statuses.find((s) => s.uri === large && s.state === 'analysing'),
+      'the large analysis to start',
+    );
     const hover = await client.hover(small, positionOf(CHAIN, '"a": {}'));
     expect(hover!.contents.value).toContain('| optimal | 10 |');
     // The hover was answered while the large spec was still being analysed.
@@ -373,7 +435,10 @@ describe('commands', () => {
       await client.initialize();
       const open = pathUri(join(workspace, 'chain.mdp.json'));
       await client.open(open, CHAIN);
-      const summary = await client.connection.sendRequest('workspace/executeCommand', { command: 'episcope.server.analyzeWorkspace', arguments: [] });
+      const summary = await client.connection.sendRequest('workspace/executeCommand', {
+        command: 'episcope.server.analyzeWorkspace',
+        arguments: [],
+      });
       expect(summary).toEqual({ files: 2, errors: 1, warnings: 0, infos: 0, failed: 0 });
       const closed = pathUri(join(workspace, 'specs', 'leaky.mdp.json'));
       expect(byRule((await client.pushed(closed)).diagnostics, 'probability-sum')).toHaveLength(1);
@@ -388,7 +453,10 @@ describe('commands', () => {
   it('shows a rule’s documentation page', async () => {
     const client = new TestClient({ pull: false });
     await client.initialize();
-    const shown = await client.connection.sendRequest('workspace/executeCommand', { command: 'episcope.server.showRuleDocumentation', arguments: ['reward-loop'] });
+    const shown = await client.connection.sendRequest('workspace/executeCommand', {
+      command: 'episcope.server.showRuleDocumentation',
+      arguments: ['reward-loop'],
+    });
     expect(shown).toBe(true);
     const { uri } = client.shownDocuments.at(-1) as { uri: string };
     expect(readFileSync(fileURLToPath(uri), 'utf8')).toMatch(/^# reward-loop\n/);
@@ -437,7 +505,13 @@ describe('episcope server --stdio and workspace trust', () => {
     expect(existsSync(join(folder, 'episcope.config.json'))).toBe(false);
 
     // `episcope server --no-exec` never runs model code, whatever the client says.
-    const noExec = new TestClient({ pull: false, workspaceFolder: folder, viaCli: true, extraArgs: ['--no-exec'], initializationOptions: { trusted: true } });
+    const noExec = new TestClient({
+      pull: false,
+      workspaceFolder: folder,
+      viaCli: true,
+      extraArgs: ['--no-exec'],
+      initializationOptions: { trusted: true },
+    });
     await noExec.initialize();
     await noExec.open(uri, model);
     await noExec.pushed(uri, 1);

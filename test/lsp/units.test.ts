@@ -64,7 +64,11 @@ describe('DocumentStore offset mapping', () => {
             const end = Math.min(tagged.length, start + length);
             version++;
             store.change(uri, version, [{ range: { start: at(0, start), end: at(0, end) }, text: clean }]);
-            tagged = [...tagged.slice(0, start), ...[...clean].map((ch) => ({ ch, origin: undefined })), ...tagged.slice(end)];
+            tagged = [
+              ...tagged.slice(0, start),
+              ...[...clean].map((ch) => ({ ch, origin: undefined })),
+              ...tagged.slice(end),
+            ];
           }
           tagged.forEach((entry, now) => {
             expect(store.toVersion(uri, now, 1)).toBe(entry.origin);
@@ -79,16 +83,20 @@ describe('DocumentStore offset mapping', () => {
 describe('interval and probability display', () => {
   it('shows one number only when it lies inside the interval (property)', () => {
     fc.assert(
-      fc.property(fc.double({ min: -1e6, max: 1e6, noNaN: true }), fc.double({ min: 0, max: 1e-3, noNaN: true }), (lower, width) => {
-        const upper = lower + width;
-        const shown = formatInterval(lower, upper);
-        if (shown.startsWith('[')) return;
-        const value = Number(shown);
-        // Four significant digits: the shown number is within half a unit of its last digit of a point inside.
-        const tolerance = Math.max(Math.abs(value) * 5e-4, 5e-4 * Math.max(1, Math.abs(lower)));
-        expect(value).toBeGreaterThanOrEqual(lower - tolerance);
-        expect(value).toBeLessThanOrEqual(upper + tolerance);
-      }),
+      fc.property(
+        fc.double({ min: -1e6, max: 1e6, noNaN: true }),
+        fc.double({ min: 0, max: 1e-3, noNaN: true }),
+        (lower, width) => {
+          const upper = lower + width;
+          const shown = formatInterval(lower, upper);
+          if (shown.startsWith('[')) return;
+          const value = Number(shown);
+          // Four significant digits: the shown number is within half a unit of its last digit of a point inside.
+          const tolerance = Math.max(Math.abs(value) * 5e-4, 5e-4 * Math.max(1, Math.abs(lower)));
+          expect(value).toBeGreaterThanOrEqual(lower - tolerance);
+          expect(value).toBeLessThanOrEqual(upper + tolerance);
+        },
+      ),
     );
   });
 
@@ -127,10 +135,12 @@ describe('"ignore this rule here" edits', () => {
   );
 
   it('appends to an existing ignore list, keeping comments and other entries', () => {
-    const config = '{\n  // severities agreed in review\n  "rules": { "reward-scale": "off" },\n  "ignore": [\n    { "rule": "tiny-probability", "path": "a.mdp.json", "reason": "intended" }\n  ]\n}\n';
+    const config =
+      '{\n  // severities agreed in review\n  "rules": { "reward-scale": "off" },\n  "ignore": [\n    { "rule": "tiny-probability", "path": "a.mdp.json", "reason": "intended" }\n  ]\n}\n';
     const result = ignoreEntryEdit(config, 'probability-sum', 'specs/leaky.mdp.json')!;
     let text = config;
-    for (const edit of [...result.edits].sort((a, b) => b.start - a.start)) text = text.slice(0, edit.start) + edit.newText + text.slice(edit.end);
+    for (const edit of [...result.edits].sort((a, b) => b.start - a.start))
+      text = text.slice(0, edit.start) + edit.newText + text.slice(edit.end);
     expect(text).toContain('// severities agreed in review');
     const parsed = parseConfigText('/p/episcope.config.json', text);
     expect(parsed.config.rules).toEqual({ 'reward-scale': 'off' });
@@ -138,9 +148,14 @@ describe('"ignore this rule here" edits', () => {
     expect(parsed.findings.map((f) => f.message).join('\n')).toMatch(/reason/);
     expect(parsed.config.ignore.map((e) => e.rule)).toEqual(['tiny-probability']);
     const lines = text.split('\n');
-    expect(lines[result.reasonPosition.line].slice(result.reasonPosition.character - 1, result.reasonPosition.character + 1)).toBe('""');
+    expect(
+      lines[result.reasonPosition.line].slice(result.reasonPosition.character - 1, result.reasonPosition.character + 1),
+    ).toBe('""');
     // Once the reason is written, the command line's suppression hides the finding.
-    const reasoned = parseConfigText('/p/episcope.config.json', text.replace('"reason": ""', '"reason": "modelled elsewhere"'));
+    const reasoned = parseConfigText(
+      '/p/episcope.config.json',
+      text.replace('"reason": ""', '"reason": "modelled elsewhere"'),
+    );
     expect(reasoned.findings).toEqual([]);
     const report = analyzeJsonText('/p/specs/leaky.mdp.json', leaky, { config: reasoned.config });
     expect(report.findings.filter((f) => f.rule === 'probability-sum')).toEqual([]);
@@ -149,7 +164,13 @@ describe('"ignore this rule here" edits', () => {
 
   it('offers nothing for a config file that is not valid JSON or already ignores the rule there', () => {
     expect(ignoreEntryEdit('{ "ignore": [ ', 'probability-sum', 'x.mdp.json')).toBeUndefined();
-    expect(ignoreEntryEdit('{ "ignore": [{ "rule": "*", "path": "x.mdp.json", "reason": "r" }] }', 'probability-sum', 'x.mdp.json')).toBeUndefined();
+    expect(
+      ignoreEntryEdit(
+        '{ "ignore": [{ "rule": "*", "path": "x.mdp.json", "reason": "r" }] }',
+        'probability-sum',
+        'x.mdp.json',
+      ),
+    ).toBeUndefined();
   });
 
   it('inserts an indented comment line above the finding', () => {
@@ -164,7 +185,12 @@ describe('"ignore this rule here" edits', () => {
 
 describe('settings over the config file', () => {
   it('keeps well-typed settings only and lets set ones override the config file', () => {
-    const settings = readSettings({ rules: { 'reward-loop': 'off', x: 'loud' }, seed: 7, stateCap: -1, executeModelCode: 'yes' });
+    const settings = readSettings({
+      rules: { 'reward-loop': 'off', x: 'loud' },
+      seed: 7,
+      stateCap: -1,
+      executeModelCode: 'yes',
+    });
     expect(settings.rules).toEqual({ 'reward-loop': 'off' });
     expect(settings.stateCap).toBeNull();
     expect(settings.executeModelCode).toBe(true);
@@ -181,7 +207,11 @@ describe('warm start through the scheduler', () => {
     const pool = {
       run(job: JobInput): JobHandle {
         jobs.push(job);
-        const report = analyzeJsonText(job.path, job.text, { analysis: true, startFrom: job.startFrom, keepSolution: true });
+        const report = analyzeJsonText(job.path, job.text, {
+          analysis: true,
+          startFrom: job.startFrom,
+          keepSolution: true,
+        });
         const snapshot = buildSnapshot({ uri: job.uri, version: job.version, report, durationMs: 1 });
         snapshot.solution = report.analysis?.solution;
         return { promise: Promise.resolve(snapshot), cancel: () => undefined };
@@ -195,7 +225,15 @@ describe('warm start through the scheduler', () => {
     const texts = new Map<string, string>();
     const snapshots: AnalysisSnapshot[] = [];
     const scheduler = new AnalysisScheduler(inProcessPool(jobs), {
-      prepare: async (uri) => ({ uri, version: jobs.length + 1, path: `${uri}.mdp.json`, text: texts.get(uri)!, settings: DEFAULT_SETTINGS, openConfigTexts: {}, exec: false }),
+      prepare: async (uri) => ({
+        uri,
+        version: jobs.length + 1,
+        path: `${uri}.mdp.json`,
+        text: texts.get(uri)!,
+        settings: DEFAULT_SETTINGS,
+        openConfigTexts: {},
+        exec: false,
+      }),
       started: () => () => undefined,
       completed: (snapshot) => snapshots.push(snapshot),
       failed: () => undefined,
@@ -215,13 +253,22 @@ describe('warm start through the scheduler', () => {
     expect(jobs[2].startFrom!.discount).toBe(0.95);
     // The scheduler keeps the solution; the snapshots that serve hovers no longer carry it.
     expect(snapshots.every((s) => s.solution === undefined)).toBe(true);
-    const cold = buildSnapshot({ uri: 'a', version: 3, report: analyzeJsonText('a.mdp.json', texts.get('a')!, { analysis: true }), durationMs: 1 });
+    const cold = buildSnapshot({
+      uri: 'a',
+      version: 3,
+      report: analyzeJsonText('a.mdp.json', texts.get('a')!, { analysis: true }),
+      durationMs: 1,
+    });
     expect(warm!.diagnostics).toEqual(cold.diagnostics);
     expect(warm!.lens).toEqual(cold.lens);
     const [w, c] = [warm!.values!, cold.values!];
     for (let s = 0; s < c.stateCount; s++) {
-      expect(Math.abs(w.optimalLower[s] - c.optimalLower[s])).toBeLessThanOrEqual(2e-6 * Math.max(1, Math.abs(c.optimalLower[s]) / 1000));
-      expect(Math.abs(w.randomUpper[s] - c.randomUpper[s])).toBeLessThanOrEqual(2e-6 * Math.max(1, Math.abs(c.randomUpper[s]) / 1000));
+      expect(Math.abs(w.optimalLower[s] - c.optimalLower[s])).toBeLessThanOrEqual(
+        2e-6 * Math.max(1, Math.abs(c.optimalLower[s]) / 1000),
+      );
+      expect(Math.abs(w.randomUpper[s] - c.randomUpper[s])).toBeLessThanOrEqual(
+        2e-6 * Math.max(1, Math.abs(c.randomUpper[s]) / 1000),
+      );
     }
     scheduler.forget('a');
     scheduler.dispose();

@@ -16,7 +16,14 @@ export function warehouseSpecText(count: number, seed = 7): string {
     return state % bound;
   };
   const name = (i: number): string => (i === count - 1 ? 'desk' : i % 97 === 50 ? `fault${i}` : `b${i}`);
-  const lines: string[] = ['{', '  "name": "warehouse-bays",', '  "discount": 0.95,', '  "start": "b0",', '  "actions": ["go", "hop"],', '  "states": {'];
+  const lines: string[] = [
+    '{',
+    '  "name": "warehouse-bays",',
+    '  "discount": 0.95,',
+    '  "start": "b0",',
+    '  "actions": ["go", "hop"],',
+    '  "states": {',
+  ];
   for (let i = 0; i < count; i++) {
     const id = name(i);
     const kind = id === 'desk' ? 'goal' : id.startsWith('fault') ? 'failure' : undefined;

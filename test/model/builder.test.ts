@@ -37,7 +37,14 @@ function randomChoices(states: number, seed: number, withShaping: boolean): Plai
         const reward = Math.round(random() * 100) / 10;
         const outcome: PlainOutcome = { target: Math.floor(random() * states), probability: 1 / count, reward };
         // "speed" appears on some outcomes, twice on a few (the builder adds the parts); "unused" never.
-        if (random() < 0.3) outcome.terms = random() < 0.2 ? [['speed', 1], ['speed', 0.5]] : [['speed', reward]];
+        if (random() < 0.3)
+          outcome.terms =
+            random() < 0.2
+              ? [
+                  ['speed', 1],
+                  ['speed', 0.5],
+                ]
+              : [['speed', reward]];
         if (withShaping) outcome.shaping = (i - 1) / 4;
         outcomes.push(outcome);
       }
@@ -49,9 +56,13 @@ function randomChoices(states: number, seed: number, withShaping: boolean): Plai
 
 function build(states: number, choices: readonly PlainChoice[], reserve?: BuilderReserve): CompiledModel {
   const builder = new ModelBuilder({ discount: 0.9, maximize: true, terms: ['speed', 'unused'], reserve });
-  for (let s = 0; s < states; s++) builder.addState(`s${s}`, s % 5 === 4 ? 'goal' : undefined, NOWHERE, s === 2 ? 'the third' : undefined);
+  for (let s = 0; s < states; s++)
+    builder.addState(`s${s}`, s % 5 === 4 ? 'goal' : undefined, NOWHERE, s === 2 ? 'the third' : undefined);
   for (const c of choices) builder.addChoice(c.state, c.action, c.transition, c.outcomes);
-  return builder.finish([{ state: 0, probability: 0.25 }, { state: 1, probability: 0.75 }]);
+  return builder.finish([
+    { state: 0, probability: 0.25 },
+    { state: 1, probability: 0.75 },
+  ]);
 }
 
 /** The model as per-state lists of [action, transition, outcomes as [target, probability, reward, speed, shaping]]. */
@@ -62,7 +73,13 @@ function listsOf(model: CompiledModel): unknown[] {
     for (let c = model.choiceStart[s]; c < model.choiceStart[s + 1]; c++) {
       const outcomes: number[][] = [];
       for (let k = model.outcomeStart[c]; k < model.outcomeStart[c + 1]; k++) {
-        outcomes.push([model.outcomeTarget[k], model.outcomeProb[k], model.outcomeReward[k], model.outcomeTermReward[0][k], model.outcomePotentialReward?.[k] ?? 0]);
+        outcomes.push([
+          model.outcomeTarget[k],
+          model.outcomeProb[k],
+          model.outcomeReward[k],
+          model.outcomeTermReward[0][k],
+          model.outcomePotentialReward?.[k] ?? 0,
+        ]);
       }
       choices.push([model.actionNames[model.choiceAction[c]], model.choiceTransition[c], outcomes]);
     }
@@ -78,7 +95,13 @@ function expectedLists(states: number, choices: readonly PlainChoice[]): unknown
     out[c.state].push([
       c.action,
       c.transition,
-      c.outcomes.map((o) => [o.target, o.probability, o.reward, (o.terms ?? []).reduce((sum, [, v]) => sum + v, 0), o.shaping ?? 0]),
+      c.outcomes.map((o) => [
+        o.target,
+        o.probability,
+        o.reward,
+        (o.terms ?? []).reduce((sum, [, v]) => sum + v, 0),
+        o.shaping ?? 0,
+      ]),
     ]);
   }
   return out;
@@ -103,8 +126,16 @@ describe('ModelBuilder', () => {
 
   const cases: Array<[string, readonly PlainChoice[], BuilderReserve | undefined]> = [
     ['in state order, no room reserved (the columns double many times)', choices, undefined],
-    ['in state order, exactly the room needed', choices, { states: STATES, choices: choices.length, outcomes: outcomeTotal }],
-    ['in state order, far more room than needed', choices, { states: 4 * STATES, choices: 4 * choices.length, outcomes: 4 * outcomeTotal }],
+    [
+      'in state order, exactly the room needed',
+      choices,
+      { states: STATES, choices: choices.length, outcomes: outcomeTotal },
+    ],
+    [
+      'in state order, far more room than needed',
+      choices,
+      { states: 4 * STATES, choices: 4 * choices.length, outcomes: 4 * outcomeTotal },
+    ],
     ['shuffled, too little room reserved', shuffled(choices, 3), { states: 10, choices: 10, outcomes: 10 }],
     ['shuffled, no room reserved', shuffled(choices, 4), undefined],
   ];
@@ -117,7 +148,8 @@ describe('ModelBuilder', () => {
     const actual = listsOf(model);
     if (order === choices) expect(actual).toEqual(expected);
     else {
-      const key = (lists: unknown[]) => lists.map((choicesOfState) => (choicesOfState as unknown[]).map((c) => JSON.stringify(c)).sort());
+      const key = (lists: unknown[]) =>
+        lists.map((choicesOfState) => (choicesOfState as unknown[]).map((c) => JSON.stringify(c)).sort());
       expect(key(actual)).toEqual(key(expected));
     }
     // Exact lengths: the model keeps no unused tail that a reader could mistake for data.
@@ -126,7 +158,8 @@ describe('ModelBuilder', () => {
     expect(model.choiceTransition.length).toBe(choices.length);
     expect(model.outcomeStart.length).toBe(choices.length + 1);
     expect(model.outcomeStart[choices.length]).toBe(outcomeTotal);
-    for (const column of [model.outcomeTarget, model.outcomeProb, model.outcomeReward, ...model.outcomeTermReward]) expect(column.length).toBe(outcomeTotal);
+    for (const column of [model.outcomeTarget, model.outcomeProb, model.outcomeReward, ...model.outcomeTermReward])
+      expect(column.length).toBe(outcomeTotal);
     // A term no outcome uses still has its (all-zero) column; no shaping was given, so there is no shaping column.
     expect(model.termNames).toEqual(['speed', 'unused']);
     expect(model.outcomeTermReward[1].every((v) => v === 0)).toBe(true);
@@ -144,7 +177,8 @@ describe('ModelBuilder', () => {
     expect(listsOf(build(120, shaped))).toEqual(want);
     const model = build(120, shuffled(shaped, 5));
     expect(model.outcomePotentialReward?.length).toBe(model.outcomeCount);
-    const key = (lists: unknown[]) => lists.map((choicesOfState) => (choicesOfState as unknown[]).map((c) => JSON.stringify(c)).sort());
+    const key = (lists: unknown[]) =>
+      lists.map((choicesOfState) => (choicesOfState as unknown[]).map((c) => JSON.stringify(c)).sort());
     expect(key(listsOf(model))).toEqual(key(want));
   });
 

@@ -126,7 +126,14 @@ describe('compileSpec on well-defined specs', () => {
   });
 
   it('tracks the terms a spec uses when it declares none', () => {
-    const model = compiled(chainSpec({ transitions: [{ from: 'a', action: 'go', to: 'b', reward: { fuel: -2 } }, { from: 'b', action: 'go', to: 'goal', reward: 3 }] }));
+    const model = compiled(
+      chainSpec({
+        transitions: [
+          { from: 'a', action: 'go', to: 'b', reward: { fuel: -2 } },
+          { from: 'b', action: 'go', to: 'goal', reward: 3 },
+        ],
+      }),
+    );
     expect(model.termNames).toEqual(['fuel']);
     expect([...model.outcomeTermReward[0]]).toEqual([-2, 0]);
   });
@@ -177,24 +184,95 @@ describe('compileSpec refuses specs that are not well-defined MDPs', () => {
   const cases: Array<[string, SpecObject | string, RegExp]> = [
     ['no discount', chainSpec({ discount: undefined }), /no discount/],
     ['a discount above 1', chainSpec({ discount: 1.5 }), /discount 1\.5 is not between 0 and 1/],
-    ['an infinite discount', JSON.stringify(chainSpec()).replace('"discount":0.9', '"discount":1e400'), /discount infinity/],
+    [
+      'an infinite discount',
+      JSON.stringify(chainSpec()).replace('"discount":0.9', '"discount":1e400'),
+      /discount infinity/,
+    ],
     ['a fractional horizon', chainSpec({ horizon: 2.5 }), /horizon 2\.5 is not a whole number/],
     ['no states', chainSpec({ states: {} }), /declares no states/],
     ['no start', chainSpec({ start: undefined }), /no start state/],
     ['an undeclared start', chainSpec({ start: 'nowhere' }), /start names 'nowhere'/],
-    ['start probabilities not adding to 1', chainSpec({ start: { a: 0.5, b: 0.4 } }), /start probabilities add up to 0\.9/],
+    [
+      'start probabilities not adding to 1',
+      chainSpec({ start: { a: 0.5, b: 0.4 } }),
+      /start probabilities add up to 0\.9/,
+    ],
     ['an undeclared potential state', chainSpec({ shaping: { potential: { zz: 1 } } }), /potential names 'zz'/],
-    ['a transition from an undeclared state', chainSpec({ transitions: [...chainSpec().transitions as object[], { from: 'zz', action: 'go', to: 'a' }] }), /transitions\[2\] leaves 'zz'/],
-    ['an undeclared target', chainSpec({ transitions: [{ from: 'a', action: 'go', to: 'bb' }, { from: 'b', action: 'go', to: 'goal' }] }), /leads to 'bb'/],
-    ['an action the state does not offer', chainSpec({ transitions: [...chainSpec().transitions as object[], { from: 'a', action: 'fly', to: 'goal' }] }), /takes 'fly' in 'a'/],
-    ['probabilities not adding to 1', chainSpec({ transitions: [{ from: 'a', action: 'go', to: { b: 0.5, goal: 0.4 } }, { from: 'b', action: 'go', to: 'goal' }] }), /add up to 0\.9, not 1/],
-    ['a probability above 1', chainSpec({ transitions: [{ from: 'a', action: 'go', to: { b: 1.5, goal: -0.5 } }, { from: 'b', action: 'go', to: 'goal' }] }), /probability 1\.5, not between 0 and 1/],
-    ['an infinite reward', JSON.stringify(chainSpec()).replace('"reward":10', '"reward":-1e400'), /reward -infinity toward 'goal'/],
-    ['an infinite potential', JSON.stringify(chainSpec({ shaping: { potential: { a: 7 } } })).replace('"a":7', '"a":1e400'), /potential of 'a' is infinity/],
-    ['a dead end', chainSpec({ states: { a: {}, b: { actions: [] }, goal: { terminal: 'goal' } }, transitions: [{ from: 'a', action: 'go', to: 'b' }] }), /non-terminal state 'b' offers no action/],
+    [
+      'a transition from an undeclared state',
+      chainSpec({ transitions: [...(chainSpec().transitions as object[]), { from: 'zz', action: 'go', to: 'a' }] }),
+      /transitions\[2\] leaves 'zz'/,
+    ],
+    [
+      'an undeclared target',
+      chainSpec({
+        transitions: [
+          { from: 'a', action: 'go', to: 'bb' },
+          { from: 'b', action: 'go', to: 'goal' },
+        ],
+      }),
+      /leads to 'bb'/,
+    ],
+    [
+      'an action the state does not offer',
+      chainSpec({ transitions: [...(chainSpec().transitions as object[]), { from: 'a', action: 'fly', to: 'goal' }] }),
+      /takes 'fly' in 'a'/,
+    ],
+    [
+      'probabilities not adding to 1',
+      chainSpec({
+        transitions: [
+          { from: 'a', action: 'go', to: { b: 0.5, goal: 0.4 } },
+          { from: 'b', action: 'go', to: 'goal' },
+        ],
+      }),
+      /add up to 0\.9, not 1/,
+    ],
+    [
+      'a probability above 1',
+      chainSpec({
+        transitions: [
+          { from: 'a', action: 'go', to: { b: 1.5, goal: -0.5 } },
+          { from: 'b', action: 'go', to: 'goal' },
+        ],
+      }),
+      /probability 1\.5, not between 0 and 1/,
+    ],
+    [
+      'an infinite reward',
+      JSON.stringify(chainSpec()).replace('"reward":10', '"reward":-1e400'),
+      /reward -infinity toward 'goal'/,
+    ],
+    [
+      'an infinite potential',
+      JSON.stringify(chainSpec({ shaping: { potential: { a: 7 } } })).replace('"a":7', '"a":1e400'),
+      /potential of 'a' is infinity/,
+    ],
+    [
+      'a dead end',
+      chainSpec({
+        states: { a: {}, b: { actions: [] }, goal: { terminal: 'goal' } },
+        transitions: [{ from: 'a', action: 'go', to: 'b' }],
+      }),
+      /non-terminal state 'b' offers no action/,
+    ],
     ['no action set at all', chainSpec({ actions: undefined }), /'a' offers no action/],
-    ['a missing outcome', chainSpec({ transitions: [{ from: 'a', action: 'go', to: 'b' }] }), /'b' offers 'go', but no transition says what it does/],
-    ['an unreadable transition', chainSpec({ transitions: [{ from: 'a', action: 'go', to: [{ state: 'b' }] }, { from: 'b', action: 'go', to: 'goal' }] }), /transitions\[0\] \('a' --go-->\) could not be read completely/],
+    [
+      'a missing outcome',
+      chainSpec({ transitions: [{ from: 'a', action: 'go', to: 'b' }] }),
+      /'b' offers 'go', but no transition says what it does/,
+    ],
+    [
+      'an unreadable transition',
+      chainSpec({
+        transitions: [
+          { from: 'a', action: 'go', to: [{ state: 'b' }] },
+          { from: 'b', action: 'go', to: 'goal' },
+        ],
+      }),
+      /transitions\[0\] \('a' --go-->\) could not be read completely/,
+    ],
   ];
 
   it.each(cases)('%s', (_name, spec, reason) => {
@@ -229,7 +307,14 @@ describe('compiled models keep the CSR invariants', () => {
             // Two outcomes with weights from the seed, written as exact fractions of their sum.
             const w1 = next();
             const w2 = next();
-            transitions.push({ from: ids[s], action, to: [{ state: ids[next() % ids.length], probability: w1 / (w1 + w2), reward: next() - 5 }, { state: ids[next() % ids.length], probability: w2 / (w1 + w2) }] });
+            transitions.push({
+              from: ids[s],
+              action,
+              to: [
+                { state: ids[next() % ids.length], probability: w1 / (w1 + w2), reward: next() - 5 },
+                { state: ids[next() % ids.length], probability: w2 / (w1 + w2) },
+              ],
+            });
           }
         }
         const model = compiled({ discount, start: 's0', actions: actionNames, states: declared, transitions });

@@ -176,7 +176,9 @@ describe('internal failures land in internalErrors', () => {
   it('a failure between the stages (outside every stage of its own) still gives a report', async () => {
     planted.samplingCost = true;
     try {
-      const report = await analyzeFile('bug.mdp.json', markedSpec('between'), { config: resolveConfig({ rollouts: 50 }) });
+      const report = await analyzeFile('bug.mdp.json', markedSpec('between'), {
+        config: resolveConfig({ rollouts: 50 }),
+      });
       expect(report.internalErrors).toEqual(['the analysis of the spec failed: planted failure between the stages']);
       expect(report.notAnalysed).toBe(report.internalErrors[0]);
       expect(report.path).toBe('bug.mdp.json');
@@ -186,9 +188,14 @@ describe('internal failures land in internalErrors', () => {
   });
 
   it('a failure of the TypeScript reader (the static fields)', async () => {
-    const text = counterSpec(`    return [{ state: { n: s.n + 1 }, probability: 1, reward: -1 }];`).replace("name: 'counter'", `name: '${READER_BOMB}'`);
+    const text = counterSpec(`    return [{ state: { n: s.n + 1 }, probability: 1, reward: -1 }];`).replace(
+      "name: 'counter'",
+      `name: '${READER_BOMB}'`,
+    );
     const report = await analyzeFile('bug.mdp.ts', text);
-    expect(report.internalErrors).toEqual(['the spec could not be read because of an internal error of Episcope (planted reader failure); please report it']);
+    expect(report.internalErrors).toEqual([
+      'the spec could not be read because of an internal error of Episcope (planted reader failure); please report it',
+    ]);
     expect(report.model).toBeUndefined();
     expect(report.findings.map((f) => f.message).join('\n')).not.toContain('planted');
   });

@@ -26,8 +26,11 @@ export const cell = (row: number, column: number): string => `r${row}c${column}`
 export function example41(): CompiledModel {
   const b = new ModelBuilder({ discount: 1, maximize: true });
   const terminal = b.addState('T', 'neutral', NOWHERE);
-  const id = (r: number, c: number): number => ((r === 0 && c === 0) || (r === 3 && c === 3) ? terminal : b.indexOf(cell(r, c))!);
-  for (let r = 0; r < 4; r++) for (let c = 0; c < 4; c++) if (!((r === 0 && c === 0) || (r === 3 && c === 3))) b.addState(cell(r, c), undefined, NOWHERE);
+  const id = (r: number, c: number): number =>
+    (r === 0 && c === 0) || (r === 3 && c === 3) ? terminal : b.indexOf(cell(r, c))!;
+  for (let r = 0; r < 4; r++)
+    for (let c = 0; c < 4; c++)
+      if (!((r === 0 && c === 0) || (r === 3 && c === 3))) b.addState(cell(r, c), undefined, NOWHERE);
   for (let r = 0; r < 4; r++) {
     for (let c = 0; c < 4; c++) {
       if ((r === 0 && c === 0) || (r === 3 && c === 3)) continue;
@@ -120,7 +123,15 @@ export function seededRandom(seed: number): () => number {
  * A random MDP of our own: `states` states (the last `terminals` of them terminal goals), each
  * non-terminal with `actions` choices of up to `outcomes` distinct targets, rewards in [-1, 1].
  */
-export function randomModel(seed: number, states: number, actions: number, outcomes: number, discount: number, terminals = 0, maximize = true): CompiledModel {
+export function randomModel(
+  seed: number,
+  states: number,
+  actions: number,
+  outcomes: number,
+  discount: number,
+  terminals = 0,
+  maximize = true,
+): CompiledModel {
   const random = seededRandom(seed);
   const b = new ModelBuilder({ discount, maximize });
   for (let s = 0; s < states; s++) b.addState(`s${s}`, s >= states - terminals ? 'goal' : undefined, NOWHERE);
@@ -135,7 +146,11 @@ export function randomModel(seed: number, states: number, actions: number, outco
         s,
         `a${a}`,
         -1,
-        [...targets].map((target, i) => ({ target, probability: weights[i] / total, reward: Math.round((random() * 2 - 1) * 100) / 100 })),
+        [...targets].map((target, i) => ({
+          target,
+          probability: weights[i] / total,
+          reward: Math.round((random() * 2 - 1) * 100) / 100,
+        })),
       );
     }
   }

@@ -19,7 +19,9 @@ function expectInside(values: { lower: Float64Array; upper: Float64Array }, exac
     const slack = 1e-9 * Math.max(1, Math.abs(exact[s]));
     expect(values.lower[s], `${label}: lower bound of state ${s}`).toBeLessThanOrEqual(exact[s] + slack);
     expect(values.upper[s], `${label}: upper bound of state ${s}`).toBeGreaterThanOrEqual(exact[s] - slack);
-    expect(values.upper[s] - values.lower[s], `${label}: width at state ${s}`).toBeLessThanOrEqual(1e-6 * Math.max(1, Math.abs(exact[s]) / 1000));
+    expect(values.upper[s] - values.lower[s], `${label}: width at state ${s}`).toBeLessThanOrEqual(
+      1e-6 * Math.max(1, Math.abs(exact[s]) / 1000),
+    );
   }
 }
 
@@ -66,7 +68,8 @@ describe('optimal values against brute force over every deterministic policy (ma
       const best = new Array(model.stateCount).fill(model.maximize ? -Infinity : Infinity);
       for (const policy of allPolicies(model)) {
         const values = evaluate(model, following(policy));
-        for (let s = 0; s < values.length; s++) best[s] = model.maximize ? Math.max(best[s], values[s]) : Math.min(best[s], values[s]);
+        for (let s = 0; s < values.length; s++)
+          best[s] = model.maximize ? Math.max(best[s], values[s]) : Math.min(best[s], values[s]);
       }
       expectInside(analysis.optimal.values, best, 'optimal value');
     });
@@ -106,7 +109,10 @@ function costlyModel(seed: number, states: number, actions: number, asCosts = fa
       const first = trap ? states - 2 + Math.floor(random() * 2) : Math.floor(random() * (states + 1));
       const second = trap ? states - 2 + Math.floor(random() * 2) : Math.floor(random() * (states + 1));
       const split = first === second ? 1 : 0.3 + 0.4 * random();
-      for (const [target, probability] of [[first, split], [second, 1 - split]] as const) {
+      for (const [target, probability] of [
+        [first, split],
+        [second, 1 - split],
+      ] as const) {
         if (probability <= 0) continue;
         const toGoal = target === states;
         const reward = toGoal ? Math.round(random() * 50) / 10 : -Math.round((0.1 + random() * 2) * 10) / 10;
@@ -124,7 +130,7 @@ function evaluateTotal(model: CompiledModel, policy: Int32Array): number[] {
   // States that can reach a state from which no terminal is reachable never end surely.
   const endsFrom = new Uint8Array(n);
   for (let s = 0; s < n; s++) if (model.terminal[s] !== 0) endsFrom[s] = 1;
-  for (let changed = true; changed; ) {
+  for (let changed = true; changed;) {
     changed = false;
     for (let s = 0; s < n; s++) {
       if (endsFrom[s]) continue;
@@ -138,13 +144,14 @@ function evaluateTotal(model: CompiledModel, policy: Int32Array): number[] {
     }
   }
   const proper = new Uint8Array(n).fill(1);
-  for (let changed = true; changed; ) {
+  for (let changed = true; changed;) {
     changed = false;
     for (let s = 0; s < n; s++) {
       if (!proper[s] || model.terminal[s] !== 0) continue;
       const c = policy[s];
       let bad = !endsFrom[s];
-      for (let k = model.outcomeStart[c]; k < model.outcomeStart[c + 1]; k++) if (!proper[model.outcomeTarget[k]]) bad = true;
+      for (let k = model.outcomeStart[c]; k < model.outcomeStart[c + 1]; k++)
+        if (!proper[model.outcomeTarget[k]]) bad = true;
       if (bad) {
         proper[s] = 0;
         changed = true;

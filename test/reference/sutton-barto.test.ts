@@ -15,7 +15,13 @@ import type { CompiledModel } from '../../server/src/model/compiled';
 import { cell, example35, example41 } from './gridworlds';
 
 /** Asserts that [lower, upper] of every cell holds a value within half a printed unit of the table. */
-function expectTable(model: CompiledModel, values: Bounds, table: number[][], halfUnit: number, stateOf: (r: number, c: number) => number): void {
+function expectTable(
+  model: CompiledModel,
+  values: Bounds,
+  table: number[][],
+  halfUnit: number,
+  stateOf: (r: number, c: number) => number,
+): void {
   for (let r = 0; r < table.length; r++) {
     for (let c = 0; c < table[r].length; c++) {
       const s = stateOf(r, c);

@@ -29,7 +29,11 @@ function randomMdp(seed: number, size: number, discount: number): CompiledModel 
         s,
         action,
         -1,
-        weights.map((w, i) => ({ target: targets[i], probability: w / total, reward: Math.round((random.nextFloat() * 4 - 2) * 100) / 100 })),
+        weights.map((w, i) => ({
+          target: targets[i],
+          probability: w / total,
+          reward: Math.round((random.nextFloat() * 4 - 2) * 100) / 100,
+        })),
       );
     }
   }
@@ -42,7 +46,9 @@ function randomMdp(seed: number, size: number, discount: number): CompiledModel 
  */
 function policyValue(model: CompiledModel, weight: (s: number, c: number) => number): number[] {
   const n = model.stateCount;
-  const matrix: number[][] = Array.from({ length: n }, (_, i) => Array.from({ length: n }, (_, j) => (i === j ? 1 : 0)));
+  const matrix: number[][] = Array.from({ length: n }, (_, i) =>
+    Array.from({ length: n }, (_, j) => (i === j ? 1 : 0)),
+  );
   const rhs: number[] = new Array(n).fill(0);
   for (let s = 0; s < n; s++) {
     for (let c = model.choiceStart[s]; c < model.choiceStart[s + 1]; c++) {
@@ -79,7 +85,9 @@ describe('Monte Carlo mean against the exact value (coverage of the 1.96-standar
   });
 
   test('a fixed stationary policy: same coverage', () => {
-    const choice = Int32Array.from({ length: model.stateCount }, (_, s) => (model.terminal[s] ? -1 : model.choiceStart[s] + (s % 2)));
+    const choice = Int32Array.from({ length: model.stateCount }, (_, s) =>
+      model.terminal[s] ? -1 : model.choiceStart[s] + (s % 2),
+    );
     const exact = policyValue(model, (s, c) => (c === choice[s] ? 1 : 0))[0];
     expect(coverage(model, { kind: 'stationary', choice }, exact, 400)).toBeGreaterThanOrEqual(0.93);
   });
@@ -97,19 +105,27 @@ describe('rollouts of compiled models', () => {
     const builder = new ModelBuilder({ discount: 1, maximize: true });
     const names = ['left', 'A', 'B', 'C', 'D', 'E', 'right'];
     names.forEach((name, i) => builder.addState(name, i === 0 ? 'failure' : i === 6 ? 'goal' : undefined, span));
-    for (let i = 1; i <= 5; i++) builder.addChoice(i, 'move', -1, [
-      { target: i - 1, probability: 0.5, reward: 0 },
-      { target: i + 1, probability: 0.5, reward: i + 1 === 6 ? 1 : 0 },
-    ]);
+    for (let i = 1; i <= 5; i++)
+      builder.addChoice(i, 'move', -1, [
+        { target: i - 1, probability: 0.5, reward: 0 },
+        { target: i + 1, probability: 0.5, reward: i + 1 === 6 ? 1 : 0 },
+      ]);
     const walk = builder.finish([{ state: 3, probability: 1 }]);
-    const stats = summarizeEpisodes(rolloutCompiledModel(walk, { kind: 'random' }, { episodes: 20_000, seed: 5, stepCap: 10_000 }), { policy: 'random', seed: 5, stepCap: 10_000 });
+    const stats = summarizeEpisodes(
+      rolloutCompiledModel(walk, { kind: 'random' }, { episodes: 20_000, seed: 5, stepCap: 10_000 }),
+      { policy: 'random', seed: 5, stepCap: 10_000 },
+    );
     expect(stats.return.ci95.lower).toBeLessThanOrEqual(3 / 6);
     expect(stats.return.ci95.upper).toBeGreaterThanOrEqual(3 / 6);
     expect(stats.reach.goal).toBeCloseTo(stats.return.mean, 12);
     // Expected episode length of the symmetric walk from the middle of 5 states: 3 * 3 = 9 steps (gambler's ruin, k(N-k)).
     expect(Math.abs(stats.length.mean - 9)).toBeLessThan(0.3);
 
-    const cut = rolloutCompiledModel({ ...walk, horizon: 2 }, { kind: 'random' }, { episodes: 1000, seed: 1, stepCap: 10_000 });
+    const cut = rolloutCompiledModel(
+      { ...walk, horizon: 2 },
+      { kind: 'random' },
+      { episodes: 1000, seed: 1, stepCap: 10_000 },
+    );
     expect(Math.max(...cut.lengths)).toBe(2);
     expect(cut.ends.every((end) => end === END_NONE || end === END_GOAL || end === 2)).toBe(true);
     expect(cut.ends.filter((end) => end === END_NONE).length).toBeGreaterThan(0);

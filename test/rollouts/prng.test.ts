@@ -55,7 +55,9 @@ describe('xoshiro128** seeded by SplitMix64 (against the C program in reference/
 describe('statistics', () => {
   test('quantiles follow Hyndman and Fan definition 7 (R quantile(1:10, c(.05,.25,.5,.75,.95)) = 1.45 3.25 5.5 7.75 9.55)', () => {
     const data = Float64Array.from({ length: 10 }, (_, i) => i + 1);
-    expect([0.05, 0.25, 0.5, 0.75, 0.95].map((p) => quantileSorted(data, p))).toEqual([1.45, 3.25, 5.5, 7.75, 9.55].map((x) => expect.closeTo(x, 12)));
+    expect([0.05, 0.25, 0.5, 0.75, 0.95].map((p) => quantileSorted(data, p))).toEqual(
+      [1.45, 3.25, 5.5, 7.75, 9.55].map((x) => expect.closeTo(x, 12)),
+    );
   });
 
   test('mean, standard error and the 1.96-standard-error interval', () => {

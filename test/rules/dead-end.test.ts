@@ -6,12 +6,21 @@ import { expect } from 'vitest';
 import { testRule } from '../helpers/rule-tester';
 import { chainSpec } from '../helpers/specs';
 
-const emptyB = chainSpec({ states: { a: {}, b: { actions: [] }, goal: { terminal: 'goal' } }, transitions: [{ from: 'a', action: 'go', to: 'b' }] });
+const emptyB = chainSpec({
+  states: { a: {}, b: { actions: [] }, goal: { terminal: 'goal' } },
+  transitions: [{ from: 'a', action: 'go', to: 'b' }],
+});
 
 testRule('dead-end', {
   valid: [
     { name: 'the chain: every non-terminal state has the default actions', spec: chainSpec() },
-    { name: 'each state declares its own actions', spec: chainSpec({ actions: undefined, states: { a: { actions: ['go'] }, b: { actions: ['go'] }, goal: { terminal: 'goal' } } }) },
+    {
+      name: 'each state declares its own actions',
+      spec: chainSpec({
+        actions: undefined,
+        states: { a: { actions: ['go'] }, b: { actions: ['go'] }, goal: { terminal: 'goal' } },
+      }),
+    },
   ],
   invalid: [
     {

@@ -47,7 +47,11 @@ describe('graph rules on a spec that does not compile', () => {
     );
     // yard --drive--> is written twice: the first (to ramp) is used, so pit is reached only by the duplicate.
     expect(findingsOf(report, 'duplicate-transition')).toHaveLength(1);
-    expect(findingsOf(report, 'unreachable-state').map((f) => spanText(report, f)).sort()).toEqual(['"attic"', '"pit"']);
+    expect(
+      findingsOf(report, 'unreachable-state')
+        .map((f) => spanText(report, f))
+        .sort(),
+    ).toEqual(['"attic"', '"pit"']);
     // 'ramp' lost its only transition, so whether it leads out is unknown: no trap there.
     expect(findingsOf(report, 'trap-state')).toEqual([]);
   });
@@ -70,7 +74,13 @@ describe('graph rules on a spec that does not compile', () => {
   });
 
   it('a spec that compiles gets no declared-part note', () => {
-    const report = checkSpec({ ...cart({ shelf: { terminal: 'goal' } }), transitions: [{ from: 'yard', action: 'drive', to: 'ramp' }, { from: 'ramp', action: 'drive', to: 'dock' }] });
+    const report = checkSpec({
+      ...cart({ shelf: { terminal: 'goal' } }),
+      transitions: [
+        { from: 'yard', action: 'drive', to: 'ramp' },
+        { from: 'ramp', action: 'drive', to: 'dock' },
+      ],
+    });
     expect(report.analysis).toBeDefined();
     const [found] = findingsOf(report, 'unreachable-terminal');
     expect(spanText(report, found)).toBe('"shelf"');

@@ -11,7 +11,10 @@ testRule('duplicate-transition', {
     { name: 'distinct pairs', spec: chainSpec() },
     {
       name: 'transitions out of a terminal (another rule reports them)',
-      spec: chainWith([{ from: 'goal', action: 'go', to: 'a' }, { from: 'goal', action: 'go', to: 'b' }]),
+      spec: chainWith([
+        { from: 'goal', action: 'go', to: 'a' },
+        { from: 'goal', action: 'go', to: 'b' },
+      ]),
     },
   ],
   invalid: [
@@ -27,7 +30,12 @@ testRule('duplicate-transition', {
       check: (report, [finding]) => {
         expect(JSON.parse(spanText(report, finding))).toEqual({ from: 'a', action: 'go', to: 'goal', reward: 100 });
         expect(finding.tags).toEqual(['unnecessary']);
-        expect(JSON.parse(spanText(report, finding.related![0].span))).toEqual({ from: 'a', action: 'go', to: 'b', reward: -1 });
+        expect(JSON.parse(spanText(report, finding.related![0].span))).toEqual({
+          from: 'a',
+          action: 'go',
+          to: 'b',
+          reward: -1,
+        });
         // The first definition wins in the model: a --go--> b with reward -1.
         const model = report.model!;
         const a = model.stateIndex.get('a')!;
@@ -44,10 +52,18 @@ testRule('duplicate-transition', {
     },
     {
       name: 'a list transition whose pairs are partly defined already, neither tagged nor deleted',
-      spec: chainSpec({ actions: ['go', 'wait'], transitions: [{ from: 'a', action: 'go', to: 'b' }, { from: 'b', action: 'go', to: 'goal' }, { from: ['a', 'b'], action: ['wait', 'go'], to: 'a' }] }),
+      spec: chainSpec({
+        actions: ['go', 'wait'],
+        transitions: [
+          { from: 'a', action: 'go', to: 'b' },
+          { from: 'b', action: 'go', to: 'goal' },
+          { from: ['a', 'b'], action: ['wait', 'go'], to: 'a' },
+        ],
+      }),
       findings: [
         {
-          message: /^transitions\[2\] defines 'a' --go--> \(first defined by transitions\[0\], line \d+\) and 'b' --go--> \(first defined by transitions\[1\], line \d+\) again: for these pairs this transition is never used/,
+          message:
+            /^transitions\[2\] defines 'a' --go--> \(first defined by transitions\[0\], line \d+\) and 'b' --go--> \(first defined by transitions\[1\], line \d+\) again: for these pairs this transition is never used/,
           fixes: [],
         },
       ],

@@ -55,7 +55,9 @@ testRule('empirical-model', {
       name: 'a drifting lift without a stateKey: more keys than the cap, and no empirical model',
       spec: drifting(),
       config: { thresholds: { 'empirical-model.keyCap': 500 } },
-      findings: [{ severity: 'info', says: ['was not built: more than 500 distinct state keys were sampled (the cap)'] }],
+      findings: [
+        { severity: 'info', says: ['was not built: more than 500 distinct state keys were sampled (the cap)'] },
+      ],
       // Nothing is reported as if it had been learned from samples.
       check: (report) => expect(report.findings.filter((f) => f.fromSamples)).toEqual([]),
     },
@@ -70,7 +72,14 @@ testRule('empirical-model', {
       name: 'an exploration budget of 10 samples runs out before every floor was tried',
       spec: lift(),
       config: { rollouts: 1, thresholds: { 'empirical-model.exploreBudget': 10, 'empirical-model.tries': 5 } },
-      findings: [{ says: ['the exploration budget (10 samples) ran out before every state key was tried 5 times with every action', 'raise exploreBudget or keyCap'] }],
+      findings: [
+        {
+          says: [
+            'the exploration budget (10 samples) ran out before every state key was tried 5 times with every action',
+            'raise exploreBudget or keyCap',
+          ],
+        },
+      ],
       check: (report) => expect(report.empirical?.model.samples?.complete).toBe(false),
     },
   ],

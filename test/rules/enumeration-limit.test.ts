@@ -26,6 +26,11 @@ testRule('enumeration-limit', {
         expect(report.rollouts?.random?.return.mean).toBeCloseTo(10, 9);
       },
     },
-    { name: 'ten states over a cap of 9', spec: { typescript: ten }, config: { stateCap: 9 }, findings: [{ at: 'outcomes', message: /state cap of 9 states/ }] },
+    {
+      name: 'ten states over a cap of 9',
+      spec: { typescript: ten },
+      config: { stateCap: 9 },
+      findings: [{ at: 'outcomes', message: /state cap of 9 states/ }],
+    },
   ],
 });

@@ -14,9 +14,17 @@ const config = { rollouts: 200, thresholds: { 'episode-never-ends.stepCap': 100 
 
 testRule('episode-never-ends', {
   valid: [
-    { name: 'the same model with a horizon of 50', spec: { typescript: sticky.replace('discount: 1,', 'discount: 1, horizon: 50,') }, config },
+    {
+      name: 'the same model with a horizon of 50',
+      spec: { typescript: sticky.replace('discount: 1,', 'discount: 1, horizon: 50,') },
+      config,
+    },
     { name: 'episodes of five steps', spec: { typescript: quick }, config },
-    { name: 'discount below 1 (returns stay bounded)', spec: { typescript: sticky.replace('discount: 1,', 'discount: 0.99,') }, config },
+    {
+      name: 'discount below 1 (returns stay bounded)',
+      spec: { typescript: sticky.replace('discount: 1,', 'discount: 0.99,') },
+      config,
+    },
   ],
   invalid: [
     {

@@ -18,7 +18,13 @@ function facade(floors: number, fall: number, slip = 0): SpecObject {
     transitions.push({
       from: `floor${i}`,
       action: 'descend',
-      to: slip > 0 ? [{ state: next, probability: 1 - slip, reward: -1 }, { state: 'fallen', probability: slip, reward: -1 }] : next,
+      to:
+        slip > 0
+          ? [
+              { state: next, probability: 1 - slip, reward: -1 },
+              { state: 'fallen', probability: slip, reward: -1 },
+            ]
+          : next,
       reward: -1,
     });
   }
@@ -39,7 +45,12 @@ testRule('failure-preferred', {
       findings: [
         {
           at: '"fallen"',
-          says: ['ends in failure with probability 100%', 'reaches a goal with 0%', 'failing returns -2.0 from the start', 'route to a goal returns -10.0'],
+          says: [
+            'ends in failure with probability 100%',
+            'reaches a goal with 0%',
+            'failing returns -2.0 from the start',
+            'route to a goal returns -10.0',
+          ],
           trace: ['floor10', 'fallen'],
         },
       ],

@@ -21,14 +21,25 @@ testRule('goal-discounted-away', {
     { name: 'a goal 30 steps away at discount 0.9 (0.9^29 = 0.047)', spec: corridor(30, 0.9), analysed: true },
     { name: 'discount 1 never discounts the goal away', spec: corridor(500, 1), analysed: true },
     { name: 'a goal without a reward on entry has no size to lose', spec: corridor(80, 0.9, 0, -1), analysed: true },
-    { name: 'a smaller configured share', spec: corridor(80, 0.9), config: { thresholds: { 'goal-discounted-away.share': 1e-5 } }, analysed: true },
+    {
+      name: 'a smaller configured share',
+      spec: corridor(80, 0.9),
+      config: { thresholds: { 'goal-discounted-away.share': 1e-5 } },
+      analysed: true,
+    },
   ],
   invalid: [
     {
       name: 'a goal 80 steps away at discount 0.9 keeps 0.9^79 = 2.4e-4 of its reward',
       spec: corridor(80, 0.9),
       // The finding sits on the discount and gives the distance, the surviving share and the effective horizon.
-      findings: [{ at: '0.9', says: ['80 steps', (0.9 ** 79).toExponential(2).replace('e+', 'e'), '1/(1-0.9) = 10.0 steps'], trace: 81 }],
+      findings: [
+        {
+          at: '0.9',
+          says: ['80 steps', (0.9 ** 79).toExponential(2).replace('e+', 'e'), '1/(1-0.9) = 10.0 steps'],
+          trace: 81,
+        },
+      ],
     },
     {
       name: 'under minimize, a goal that pays (a negative cost) counts the same way',

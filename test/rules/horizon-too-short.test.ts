@@ -15,14 +15,27 @@ function field(rows: number, horizon?: number, overrides: SpecObject = {}): Spec
     transitions.push({ from: `row${i}`, action: 'fly', to: next, reward: next === 'collect' ? 10 : -1 });
     transitions.push({ from: `row${i}`, action: 'hover', to: `row${i}`, reward: -1 });
   }
-  return { name: 'field', discount: 1, ...(horizon !== undefined ? { horizon } : {}), start: 'row0', actions: ['fly', 'hover'], states, transitions, ...overrides };
+  return {
+    name: 'field',
+    discount: 1,
+    ...(horizon !== undefined ? { horizon } : {}),
+    start: 'row0',
+    actions: ['fly', 'hover'],
+    states,
+    transitions,
+    ...overrides,
+  };
 }
 
 testRule('horizon-too-short', {
   valid: [
     { name: 'a horizon exactly as long as the route', spec: field(10, 10), analysed: true },
     { name: 'no horizon', spec: field(10), analysed: true },
-    { name: 'no goal at all', spec: field(3, 1, { states: { row0: {}, row1: {}, row2: {}, collect: { terminal: 'neutral' } } }), analysed: true },
+    {
+      name: 'no goal at all',
+      spec: field(3, 1, { states: { row0: {}, row1: {}, row2: {}, collect: { terminal: 'neutral' } } }),
+      analysed: true,
+    },
   ],
   invalid: [
     {

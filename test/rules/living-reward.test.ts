@@ -23,7 +23,11 @@ function patrol(discount: number, alive: [number, number], land: number, horizon
 
 testRule('living-reward', {
   valid: [
-    { name: 'a small alive bonus that the goal outweighs (0.1/(1-0.9) = 1 < 10)', spec: patrol(0.9, [0.1, 0.1], 10), analysed: true },
+    {
+      name: 'a small alive bonus that the goal outweighs (0.1/(1-0.9) = 1 < 10)',
+      spec: patrol(0.9, [0.1, 0.1], 10),
+      analysed: true,
+    },
     { name: 'not every step of the loop pays', spec: patrol(0.95, [1, 0], 10), analysed: true },
     { name: 'steps cost', spec: patrol(0.95, [-1, -1], 10), analysed: true },
     { name: 'a short horizon caps the alive bonus (5 < 10)', spec: patrol(1, [1, 1], 10, 5), analysed: true },

@@ -14,12 +14,20 @@ testRule('missing-outcomes', {
     { name: 'terminals and complete states', spec: chainSpec() },
     {
       name: 'a transition of a from list or action list defines the pair',
-      spec: chainSpec({ actions: ['go', 'wait'], transitions: [{ from: ['a', 'b'], action: ['go', 'wait'], to: 'goal' }] }),
+      spec: chainSpec({
+        actions: ['go', 'wait'],
+        transitions: [{ from: ['a', 'b'], action: ['go', 'wait'], to: 'goal' }],
+      }),
       check: (report) => expect(report.model).toBeDefined(),
     },
     {
       name: 'a transition whose from or action is misspelt: the schema finding is not repeated',
-      spec: chainSpec({ transitions: [{ form: 'a', action: 'go', to: 'b' }, { from: 'b', acton: 'go', to: 'goal' }] }),
+      spec: chainSpec({
+        transitions: [
+          { form: 'a', action: 'go', to: 'b' },
+          { from: 'b', acton: 'go', to: 'goal' },
+        ],
+      }),
       check: (report) => {
         expect(messagesOf(report, 'schema')).toEqual([
           'unknown property "form" in transitions[0]; did you mean "from"? It is required (the state (or list of states) the transition leaves)',
@@ -33,13 +41,18 @@ testRule('missing-outcomes', {
       spec: chainSpec({ states: { a: {}, b: {}, goal: { terminal: 'gaol' } } }),
       check: (report) => {
         expect(findingsOf(report, 'dead-end')).toEqual([]);
-        expect(messagesOf(report, 'schema')).toEqual(['states.goal.terminal must be "goal", "failure" or "neutral", not the string "gaol"; did you mean "goal"?']);
+        expect(messagesOf(report, 'schema')).toEqual([
+          'states.goal.terminal must be "goal", "failure" or "neutral", not the string "gaol"; did you mean "goal"?',
+        ]);
         expect(report.notAnalysed).toBe("the terminal kind of 'goal' could not be read");
       },
     },
     {
       name: 'a state without actions (dead-end reports it)',
-      spec: chainSpec({ states: { a: {}, b: { actions: [] }, goal: { terminal: 'goal' } }, transitions: [{ from: 'a', action: 'go', to: 'b' }] }),
+      spec: chainSpec({
+        states: { a: {}, b: { actions: [] }, goal: { terminal: 'goal' } },
+        transitions: [{ from: 'a', action: 'go', to: 'b' }],
+      }),
       check: (report) => expect(findingsOf(report, 'dead-end')).toHaveLength(1),
     },
   ],
@@ -59,8 +72,17 @@ testRule('missing-outcomes', {
     },
     {
       name: 'its fix narrows the action set, after which the spec compiles',
-      spec: chainSpec({ actions: ['go', 'wait'], states: { a: {}, b: { actions: ['go'] }, goal: { terminal: 'goal' } } }),
-      findings: [{ at: '"a"', message: /^'a' offers 'wait', but no transition says what it does there: a policy may take it/, fixes: [`Narrow the actions of 'a' to 'go'`] }],
+      spec: chainSpec({
+        actions: ['go', 'wait'],
+        states: { a: {}, b: { actions: ['go'] }, goal: { terminal: 'goal' } },
+      }),
+      findings: [
+        {
+          at: '"a"',
+          message: /^'a' offers 'wait', but no transition says what it does there: a policy may take it/,
+          fixes: [`Narrow the actions of 'a' to 'go'`],
+        },
+      ],
       afterFix: (fixed) => {
         expect(JSON.parse(fixed.text).states.a).toEqual({ actions: ['go'] });
         expect(fixed.model).toBeDefined();
@@ -68,7 +90,13 @@ testRule('missing-outcomes', {
     },
     {
       name: 'a pair that no transition is about, beside a misspelt transition',
-      spec: chainSpec({ actions: ['go', 'wait'], transitions: [{ form: 'a', action: 'go', to: 'b' }, { from: 'b', action: ['go', 'wait'], to: 'goal' }] }),
+      spec: chainSpec({
+        actions: ['go', 'wait'],
+        transitions: [
+          { form: 'a', action: 'go', to: 'b' },
+          { from: 'b', action: ['go', 'wait'], to: 'goal' },
+        ],
+      }),
       findings: [{ at: '"a"', message: /^'a' offers 'wait', but/ }],
     },
   ],

@@ -9,7 +9,13 @@ import { counterSpec, FAST_LIMITS, TEST_CALL_TIMEOUT_MS } from '../typescript/ts
 const ok = `    return [{ state: { n: s.n + 1 }, probability: 1, reward: -1 }];`;
 
 testRule('model-error', {
-  valid: [{ name: 'a model whose calls all return well-formed outcomes', spec: { typescript: counterSpec(ok) }, config: FAST_LIMITS }],
+  valid: [
+    {
+      name: 'a model whose calls all return well-formed outcomes',
+      spec: { typescript: counterSpec(ok) },
+      config: FAST_LIMITS,
+    },
+  ],
   invalid: [
     {
       name: 'outcomes throws an Error',
@@ -26,7 +32,9 @@ testRule('model-error', {
     },
     {
       name: 'a sampled model that returns no state',
-      spec: { typescript: `export default { discount: 0.9, start: 0, actions: () => ['go'], sample: () => ({ reward: 1 }) };` },
+      spec: {
+        typescript: `export default { discount: 0.9, start: 0, actions: () => ['go'], sample: () => ({ reward: 1 }) };`,
+      },
       config: { rollouts: 10 },
       findings: [{ message: /the result is \{"reward":1\}; expected \{ state, reward, terminal\? \}/ }],
     },

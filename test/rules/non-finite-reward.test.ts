@@ -8,8 +8,11 @@ import { chainSpec, specText } from '../helpers/specs';
 
 testRule('non-finite-reward', {
   valid: [
-    { name: 'the chain\'s finite rewards', spec: chainSpec() },
-    { name: 'a finite reward, however large (1.7e308)', spec: specText(chainSpec()).replace('"reward": 10', '"reward": 1.7e308') },
+    { name: "the chain's finite rewards", spec: chainSpec() },
+    {
+      name: 'a finite reward, however large (1.7e308)',
+      spec: specText(chainSpec()).replace('"reward": 10', '"reward": 1.7e308'),
+    },
   ],
   invalid: [
     {
@@ -31,14 +34,29 @@ testRule('non-finite-reward', {
     {
       name: 'the term is named, an outcome reward with a from list is reported once, and costs under minimize',
       spec: specText(
-        chainSpec({ objective: 'minimize', transitions: [{ from: ['a', 'b'], action: 'go', to: [{ state: 'goal', probability: 1, reward: { fuel: 7 } }] }] }),
+        chainSpec({
+          objective: 'minimize',
+          transitions: [
+            { from: ['a', 'b'], action: 'go', to: [{ state: 'goal', probability: 1, reward: { fuel: 7 } }] },
+          ],
+        }),
       ).replace('"fuel": 7', '"fuel": 2e308'),
-      findings: [{ message: /^the cost \(term 'fuel'\) of transitions\[0\] \('a' --go--> and 1 more pair\) toward 'goal' is infinity/ }],
+      findings: [
+        {
+          message:
+            /^the cost \(term 'fuel'\) of transitions\[0\] \('a' --go--> and 1 more pair\) toward 'goal' is infinity/,
+        },
+      ],
     },
     {
       name: 'an infinite shaping potential',
       spec: specText(chainSpec({ shaping: { potential: { b: 3 } } })).replace('"b": 3', '"b": 1e999'),
-      findings: [{ at: '1e999', message: /^the shaping potential of 'b' is infinity .*every shaping reward into or out of 'b' is undefined/ }],
+      findings: [
+        {
+          at: '1e999',
+          message: /^the shaping potential of 'b' is infinity .*every shaping reward into or out of 'b' is undefined/,
+        },
+      ],
     },
   ],
 });

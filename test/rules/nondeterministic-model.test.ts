@@ -19,7 +19,11 @@ const seeded = `export default { discount: 0.9, start: 0, actions: () => ['go'],
 testRule('nondeterministic-model', {
   valid: [
     { name: 'outcomes that depend on the state only', spec: { typescript: steady } },
-    { name: 'a sampled model that draws only from the seeded rng', spec: { typescript: seeded }, config: { rollouts: 200 } },
+    {
+      name: 'a sampled model that draws only from the seeded rng',
+      spec: { typescript: seeded },
+      config: { rollouts: 200 },
+    },
   ],
   invalid: [
     {
@@ -27,7 +31,9 @@ testRule('nondeterministic-model', {
       spec: { typescript: drifting },
       // Every rechecked state answers differently (states 0, 1 and 2; 3 is terminal).
       findings: [0, 1, 2].map((s) => ({
-        message: new RegExp(`^outcomes\\(${s}, "go"\\) answered differently when called again with the same arguments: first ${s + 1} p=1 r=\\d+, then ${s + 1} p=1 r=\\d+`),
+        message: new RegExp(
+          `^outcomes\\(${s}, "go"\\) answered differently when called again with the same arguments: first ${s + 1} p=1 r=\\d+, then ${s + 1} p=1 r=\\d+`,
+        ),
       })),
       check: (report) => expect(report.analysis).toBeUndefined(),
     },

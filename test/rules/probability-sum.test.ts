@@ -50,7 +50,10 @@ testRule('probability-sum', {
     },
     {
       name: 'they add up to more than 1 (list form)',
-      spec: withRoof([{ state: 'b', probability: 0.7 }, { state: 'goal', probability: 0.7 }]),
+      spec: withRoof([
+        { state: 'b', probability: 0.7 },
+        { state: 'goal', probability: 0.7 },
+      ]),
       findings: [{ message: /add up to 1\.4, not 1: they claim 0\.4 more than certainty/ }],
     },
     {
@@ -65,8 +68,14 @@ testRule('probability-sum', {
     {
       name: 'a start map',
       spec: chainSpec({ start: { a: 0.2, b: 0.2 } }),
-      findings: [{ message: 'the start probabilities add up to 0.4, not 1: 0.6 of the episodes have no start state, so the spec is not compiled' }],
-      check: (report, [finding]) => expect(spanText(report, finding).replace(/\s+/g, ' ')).toBe('{ "a": 0.2, "b": 0.2 }'),
+      findings: [
+        {
+          message:
+            'the start probabilities add up to 0.4, not 1: 0.6 of the episodes have no start state, so the spec is not compiled',
+        },
+      ],
+      check: (report, [finding]) =>
+        expect(spanText(report, finding).replace(/\s+/g, ' ')).toBe('{ "a": 0.2, "b": 0.2 }'),
     },
     {
       name: 'rounding beyond 1e-9, with a near-1 sum shown in full',

@@ -73,24 +73,30 @@ describe('rule registry', () => {
     for (const id of Object.keys(CATALOG)) expect(ids.has(id), id).toBe(true);
   });
 
-  it.each(RULES.map((rule) => [rule.id, rule] as const))('%s is documented: summary, when it fires, how to fix', (_id, rule) => {
-    expect(rule.summary.trim().length).toBeGreaterThan(10);
-    expect(rule.summary.includes('\n')).toBe(false);
-    expect(rule.documentation.trim().length).toBeGreaterThan(300);
-    // What triggers it: "When it fires" or "What it finds".
-    expect(rule.documentation).toMatch(/fires|finds/i);
-    expect(rule.documentation).toMatch(/fix/i);
-    for (const [name, threshold] of Object.entries(rule.thresholds ?? {})) {
-      expect(Number.isFinite(threshold.default), `${rule.id}.${name}`).toBe(true);
-      expect(threshold.description.length, `${rule.id}.${name}`).toBeGreaterThan(40);
-    }
-  });
+  it.each(RULES.map((rule) => [rule.id, rule] as const))(
+    '%s is documented: summary, when it fires, how to fix',
+    (_id, rule) => {
+      expect(rule.summary.trim().length).toBeGreaterThan(10);
+      expect(rule.summary.includes('\n')).toBe(false);
+      expect(rule.documentation.trim().length).toBeGreaterThan(300);
+      // What triggers it: "When it fires" or "What it finds".
+      expect(rule.documentation).toMatch(/fires|finds/i);
+      expect(rule.documentation).toMatch(/fix/i);
+      for (const [name, threshold] of Object.entries(rule.thresholds ?? {})) {
+        expect(Number.isFinite(threshold.default), `${rule.id}.${name}`).toBe(true);
+        expect(threshold.description.length, `${rule.id}.${name}`).toBeGreaterThan(40);
+      }
+    },
+  );
 
-  it.each(RULES.map((rule) => [rule.id] as const))('%s has a table file under test/rules that runs it through the rule tester', (id) => {
-    const file = join(__dirname, `${id}.test.ts`);
-    expect(existsSync(file), `${id}.test.ts`).toBe(true);
-    const text = readFileSync(file, 'utf8');
-    expect(text).toMatch(/^testRule\(/m);
-    expect(text).toContain(`'${id}'`);
-  });
+  it.each(RULES.map((rule) => [rule.id] as const))(
+    '%s has a table file under test/rules that runs it through the rule tester',
+    (id) => {
+      const file = join(__dirname, `${id}.test.ts`);
+      expect(existsSync(file), `${id}.test.ts`).toBe(true);
+      const text = readFileSync(file, 'utf8');
+      expect(text).toMatch(/^testRule\(/m);
+      expect(text).toContain(`'${id}'`);
+    },
+  );
 });

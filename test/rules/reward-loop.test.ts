@@ -14,7 +14,11 @@ function museum(discount: number, pad: number, exit: number, overrides: SpecObje
     discount,
     start: 'hallway',
     actions: ['to-pad', 'to-hallway', 'to-exit'],
-    states: { hallway: { actions: ['to-pad', 'to-exit'] }, pad: { actions: ['to-hallway'] }, exit: { terminal: 'goal' } },
+    states: {
+      hallway: { actions: ['to-pad', 'to-exit'] },
+      pad: { actions: ['to-hallway'] },
+      exit: { terminal: 'goal' },
+    },
     transitions: [
       { from: 'hallway', action: 'to-pad', to: 'pad', reward: pad },
       { from: 'pad', action: 'to-hallway', to: 'hallway', reward: pad },
@@ -26,7 +30,12 @@ function museum(discount: number, pad: number, exit: number, overrides: SpecObje
 
 const partlyEntered = museum(0.9, 2, 7, {
   start: { hallway: 0.1, lobby: 0.9 },
-  states: { lobby: { actions: ['to-exit'] }, hallway: { actions: ['to-pad', 'to-exit'] }, pad: { actions: ['to-hallway'] }, exit: { terminal: 'goal' } },
+  states: {
+    lobby: { actions: ['to-exit'] },
+    hallway: { actions: ['to-pad', 'to-exit'] },
+    pad: { actions: ['to-hallway'] },
+    exit: { terminal: 'goal' },
+  },
   transitions: [
     { from: 'lobby', action: 'to-exit', to: 'exit', reward: 7 },
     { from: 'hallway', action: 'to-pad', to: 'pad', reward: 2 },
@@ -49,7 +58,14 @@ testRule('reward-loop', {
       spec: museum(0.9, 2, 7),
       findings: [
         {
-          says: ['hallway -> pad -> hallway', '+4.0 per lap', 'ends with probability 0%', 'reached with 100%', 'earns 20.0 from the start', 'route to a goal earns 7.0'],
+          says: [
+            'hallway -> pad -> hallway',
+            '+4.0 per lap',
+            'ends with probability 0%',
+            'reached with 100%',
+            'earns 20.0 from the start',
+            'route to a goal earns 7.0',
+          ],
           trace: ['hallway', 'pad', 'hallway'],
           related: ['"pad"', '"hallway"'],
         },

@@ -8,7 +8,13 @@ import { testRule } from '../helpers/rule-tester';
 import { chainSpec, findingsOf } from '../helpers/specs';
 
 const rewards = (first: unknown, second: unknown, objective = 'maximize') =>
-  chainSpec({ objective, transitions: [{ from: 'a', action: 'go', to: 'b', reward: first }, { from: 'b', action: 'go', to: 'goal', reward: second }] });
+  chainSpec({
+    objective,
+    transitions: [
+      { from: 'a', action: 'go', to: 'b', reward: first },
+      { from: 'b', action: 'go', to: 'goal', reward: second },
+    ],
+  });
 
 testRule('reward-scale', {
   valid: [
@@ -45,7 +51,8 @@ testRule('reward-scale', {
       findings: [
         {
           at: '500',
-          message: /^rewards span a factor of 500000 in magnitude, from -0\.001 \(transitions\[0\] \('a' --go-->\) term 'time'\) to 500, more than 10000: /,
+          message:
+            /^rewards span a factor of 500000 in magnitude, from -0\.001 \(transitions\[0\] \('a' --go-->\) term 'time'\) to 500, more than 10000: /,
           related: ['-0.001'],
         },
       ],
@@ -55,6 +62,11 @@ testRule('reward-scale', {
       spec: rewards(0.01, 2000, 'minimize'),
       findings: [{ message: /^the cost 2000 of .* exceeds 1000 in magnitude; costs span a factor of 200000/ }],
     },
-    { name: 'a configured lower magnitude', spec: rewards(-1, 5000), config: { thresholds: { 'reward-scale.maxMagnitude': 100 } }, findings: 1 },
+    {
+      name: 'a configured lower magnitude',
+      spec: rewards(-1, 5000),
+      config: { thresholds: { 'reward-scale.maxMagnitude': 100 } },
+      findings: 1,
+    },
   ],
 });

@@ -11,7 +11,12 @@ import { spanText, type SpecObject } from '../helpers/specs';
  * A sorting arm at the belt: `pick` takes a parcel to the bin (goal, +4), `skip` lets it pass (neutral,
  * 0), via the scanner for `pick`. Shaping is added through `potential` or a `progress` term.
  */
-function belt(options: { potential?: Record<string, number>; progress?: [number, number, number]; horizon?: number; discount?: number }): SpecObject {
+function belt(options: {
+  potential?: Record<string, number>;
+  progress?: [number, number, number];
+  horizon?: number;
+  discount?: number;
+}): SpecObject {
   const progress = options.progress;
   const reward = (task: number, i: number) => (progress ? { task, progress: progress[i] } : { task });
   return {
@@ -21,7 +26,12 @@ function belt(options: { potential?: Record<string, number>; progress?: [number,
     start: 'belt',
     actions: ['pick', 'skip', 'drop'],
     rewardTerms: { task: { direction: 'either' }, progress: { direction: 'either', shaping: true } },
-    states: { belt: { actions: ['pick', 'skip'] }, scanner: { actions: ['drop'] }, bin: { terminal: 'goal' }, passed: { terminal: 'neutral' } },
+    states: {
+      belt: { actions: ['pick', 'skip'] },
+      scanner: { actions: ['drop'] },
+      bin: { terminal: 'goal' },
+      passed: { terminal: 'neutral' },
+    },
     ...(options.potential ? { shaping: { potential: options.potential } } : {}),
     transitions: [
       { from: 'belt', action: 'pick', to: 'scanner', reward: reward(-1, 0) },
@@ -39,16 +49,46 @@ function belt(options: { potential?: Record<string, number>; progress?: [number,
  * (hand-derived). Which action is best there without shaping is then not known.
  */
 const driftless = {
-  objective: 'minimize', discount: 1, start: 's0', actions: ['a0', 'a1', 'a2'],
+  objective: 'minimize',
+  discount: 1,
+  start: 's0',
+  actions: ['a0', 'a1', 'a2'],
   rewardTerms: { task: { direction: 'either' }, progress: { direction: 'either', shaping: true } },
-  states: { t0: { terminal: 'neutral' }, t1: { terminal: 'failure' }, s0: { actions: ['a0'] }, s1: { actions: ['a0'] }, s2: { actions: ['a0', 'a1', 'a2'] } },
+  states: {
+    t0: { terminal: 'neutral' },
+    t1: { terminal: 'failure' },
+    s0: { actions: ['a0'] },
+    s1: { actions: ['a0'] },
+    s2: { actions: ['a0', 'a1', 'a2'] },
+  },
   shaping: { potential: { s0: 1, s1: 0, s2: -3, t0: -2, t1: 3 } },
   transitions: [
     { from: 's0', action: 'a0', to: [{ state: 's1', probability: 1, reward: { task: -1, progress: 0 } }] },
     { from: 's1', action: 'a0', to: [{ state: 's2', probability: 1, reward: { task: -3, progress: 0 } }] },
-    { from: 's2', action: 'a0', to: [{ state: 's1', probability: 2 / 3, reward: { task: 4, progress: 2 } }, { state: 't0', probability: 1 / 3, reward: { task: 3, progress: -2 } }] },
-    { from: 's2', action: 'a1', to: [{ state: 's0', probability: 0.5, reward: { task: 5, progress: 1 } }, { state: 's2', probability: 0.5, reward: { task: -1, progress: 2 } }] },
-    { from: 's2', action: 'a2', to: [{ state: 's0', probability: 0.25, reward: { task: -1, progress: 1 } }, { state: 't1', probability: 0.75, reward: { task: -4, progress: 0 } }] },
+    {
+      from: 's2',
+      action: 'a0',
+      to: [
+        { state: 's1', probability: 2 / 3, reward: { task: 4, progress: 2 } },
+        { state: 't0', probability: 1 / 3, reward: { task: 3, progress: -2 } },
+      ],
+    },
+    {
+      from: 's2',
+      action: 'a1',
+      to: [
+        { state: 's0', probability: 0.5, reward: { task: 5, progress: 1 } },
+        { state: 's2', probability: 0.5, reward: { task: -1, progress: 2 } },
+      ],
+    },
+    {
+      from: 's2',
+      action: 'a2',
+      to: [
+        { state: 's0', probability: 0.25, reward: { task: -1, progress: 1 } },
+        { state: 't1', probability: 0.75, reward: { task: -4, progress: 0 } },
+      ],
+    },
   ],
 };
 
@@ -77,15 +117,28 @@ testRule('shaping-changes-policy', {
       name: 'a shaping term that is not potential-based and pays for skipping',
       spec: belt({ progress: [0, 0, 5] }),
       findings: 1,
-      check: (_report, [finding]) => expect(finding.related?.some((r) => r.message === "'progress' is marked as shaping")).toBe(true),
+      check: (_report, [finding]) =>
+        expect(finding.related?.some((r) => r.message === "'progress' is marked as shaping")).toBe(true),
     },
   ],
   valid: [
     { name: 'no shaping', spec: belt({}), analysed: true },
-    { name: 'a potential with Phi = 0 on terminals (Ng, Harada and Russell 1999)', spec: belt({ potential: { belt: 7, scanner: -3 } }), analysed: true },
+    {
+      name: 'a potential with Phi = 0 on terminals (Ng, Harada and Russell 1999)',
+      spec: belt({ potential: { belt: 7, scanner: -3 } }),
+      analysed: true,
+    },
     // progress = 0.9*Phi(next) - Phi(state) for Phi(belt) = 2, Phi(scanner) = 1, Phi(terminals) = 0.
-    { name: 'a shaping term that is potential-based', spec: belt({ progress: [0.9 * 1 - 2, 0 - 1, 0 - 2] }), analysed: true },
-    { name: 'a potential on a terminal too small to change the best action', spec: belt({ potential: { passed: 1 } }), analysed: true },
+    {
+      name: 'a shaping term that is potential-based',
+      spec: belt({ progress: [0.9 * 1 - 2, 0 - 1, 0 - 2] }),
+      analysed: true,
+    },
+    {
+      name: 'a potential on a terminal too small to change the best action',
+      spec: belt({ potential: { passed: 1 } }),
+      analysed: true,
+    },
     {
       name: 'claims no unshaped optimum where the unshaped value is undefined, and prints no NaN anywhere',
       spec: driftless,

@@ -33,17 +33,29 @@ function corridor(discount: number, forward: number, back: number, leave: number
  */
 function isWalk(spec: SpecObject, trace: ReadonlyArray<{ state: string; action?: string }>): boolean {
   const transitions = spec.transitions as Array<{ from: string; action: string; to: string | Record<string, number> }>;
-  return trace.slice(0, -1).every(
-    (step, i) =>
-      !step.action ||
-      transitions.some((t) => t.from === step.state && t.action === step.action && (typeof t.to === 'string' ? [t.to] : Object.keys(t.to)).includes(trace[i + 1].state)),
-  );
+  return trace
+    .slice(0, -1)
+    .every(
+      (step, i) =>
+        !step.action ||
+        transitions.some(
+          (t) =>
+            t.from === step.state &&
+            t.action === step.action &&
+            (typeof t.to === 'string' ? [t.to] : Object.keys(t.to)).includes(trace[i + 1].state),
+        ),
+    );
 }
 
-const traceText = (trace: ReadonlyArray<{ state: string; action?: string }>) => trace.map((t) => (t.action ? `${t.state} --${t.action}-->` : t.state));
+const traceText = (trace: ReadonlyArray<{ state: string; action?: string }>) =>
+  trace.map((t) => (t.action ? `${t.state} --${t.action}-->` : t.state));
 
 /** The (state/action) pairs of a trace's moves, sorted, for a cycle whose first state is not fixed. */
-const movesOf = (trace: readonly TraceStep[]) => trace.filter((t) => t.action).map((t) => `${t.state}/${t.action}`).sort();
+const movesOf = (trace: readonly TraceStep[]) =>
+  trace
+    .filter((t) => t.action)
+    .map((t) => `${t.state}/${t.action}`)
+    .sort();
 
 /** A courier on a line a -> b -> c -> depot; `progress` pays +1 forward and 0 back (not a potential). */
 const line = (discount: number): SpecObject => ({
@@ -142,7 +154,9 @@ testRule('shaping-not-potential', {
       spec: line(0.9),
       findings: [
         {
-          says: ['gives Phi(c) = 0, but c --back--> b (0), b --fwd--> c (+1.0), c --fwd--> depot (0) gives Phi(c) = -0.9'],
+          says: [
+            'gives Phi(c) = 0, but c --back--> b (0), b --fwd--> c (+1.0), c --fwd--> depot (0) gives Phi(c) = -0.9',
+          ],
           steps: [
             ['c', 'back'],
             ['b', 'fwd'],
@@ -189,9 +203,25 @@ testRule('shaping-not-potential', {
     { name: 'hand-rounded amounts at the default tolerance', spec: rounded, findings: 1 },
   ],
   valid: [
-    { name: 'amounts derived from a potential (discount 1)', spec: corridor(1, f(1, 'hall', 'pad'), f(1, 'pad', 'hall'), f(1, 'pad', 'exit')), analysed: true },
-    { name: 'amounts derived from a potential (discount 0.9)', spec: corridor(0.9, f(0.9, 'hall', 'pad'), f(0.9, 'pad', 'hall'), f(0.9, 'pad', 'exit')), analysed: true },
-    { name: 'the same non-potential amounts in a term not marked shaping', spec: corridor(1, 1, 0, 0, false), analysed: true },
-    { name: 'honours a configured tolerance for hand-rounded amounts', spec: rounded, config: { thresholds: { 'shaping-not-potential.tolerance': 1e-3 } } },
+    {
+      name: 'amounts derived from a potential (discount 1)',
+      spec: corridor(1, f(1, 'hall', 'pad'), f(1, 'pad', 'hall'), f(1, 'pad', 'exit')),
+      analysed: true,
+    },
+    {
+      name: 'amounts derived from a potential (discount 0.9)',
+      spec: corridor(0.9, f(0.9, 'hall', 'pad'), f(0.9, 'pad', 'hall'), f(0.9, 'pad', 'exit')),
+      analysed: true,
+    },
+    {
+      name: 'the same non-potential amounts in a term not marked shaping',
+      spec: corridor(1, 1, 0, 0, false),
+      analysed: true,
+    },
+    {
+      name: 'honours a configured tolerance for hand-rounded amounts',
+      spec: rounded,
+      config: { thresholds: { 'shaping-not-potential.tolerance': 1e-3 } },
+    },
   ],
 });

@@ -40,14 +40,20 @@ function firedRules(report: FileReport): string[] {
 function enumerableTwin(report: FileReport): string {
   const model = report.model!;
   const spec = report.spec;
-  const table: Record<string, Record<string, Array<{ state: string; probability: number; reward: number | Record<string, number> }>>> = {};
+  const table: Record<
+    string,
+    Record<string, Array<{ state: string; probability: number; reward: number | Record<string, number> }>>
+  > = {};
   const terminal: Record<string, string> = {};
   let needsRest = false;
   for (let s = 0; s < model.stateCount; s++) {
     const id = model.stateIds[s];
     const kind = TERMINAL_OF_CODE[model.terminal[s]];
     if (kind) terminal[id] = kind;
-    const actions: Record<string, Array<{ state: string; probability: number; reward: number | Record<string, number> }>> = {};
+    const actions: Record<
+      string,
+      Array<{ state: string; probability: number; reward: number | Record<string, number> }>
+    > = {};
     for (let c = model.choiceStart[s]; c < model.choiceStart[s + 1]; c++) {
       actions[model.actionNames[model.choiceAction[c]]] = [];
       for (let k = model.outcomeStart[c]; k < model.outcomeStart[c + 1]; k++) {
@@ -66,13 +72,18 @@ function enumerableTwin(report: FileReport): string {
           }
           reward = parts;
         }
-        actions[model.actionNames[model.choiceAction[c]]].push({ state: model.stateIds[model.outcomeTarget[k]], probability: model.outcomeProb[k], reward });
+        actions[model.actionNames[model.choiceAction[c]]].push({
+          state: model.stateIds[model.outcomeTarget[k]],
+          probability: model.outcomeProb[k],
+          reward,
+        });
       }
     }
     table[id] = actions;
   }
   const terms: Record<string, { direction: string; shaping?: boolean }> = {};
-  for (const term of spec.rewardTerms) terms[term.name] = term.shaping ? { direction: term.direction, shaping: true } : { direction: term.direction };
+  for (const term of spec.rewardTerms)
+    terms[term.name] = term.shaping ? { direction: term.direction, shaping: true } : { direction: term.direction };
   if (needsRest && spec.rewardTerms.length > 0) terms.rest = { direction: 'either' };
   const start = Array.from(model.startState, (s, i) => ({ state: model.stateIds[s], probability: model.startProb[i] }));
   const fields = [
@@ -81,7 +92,9 @@ function enumerableTwin(report: FileReport): string {
     `  discount: ${model.discount},`,
     model.horizon !== undefined ? `  horizon: ${model.horizon},` : '',
     spec.rewardTerms.length > 0 ? `  rewardTerms: ${JSON.stringify(terms)},` : '',
-    start.length === 1 ? `  start: ${JSON.stringify(start[0].state)},` : `  startDistribution: ${JSON.stringify(start)},`,
+    start.length === 1
+      ? `  start: ${JSON.stringify(start[0].state)},`
+      : `  startDistribution: ${JSON.stringify(start)},`,
   ].filter((line) => line !== '');
   return `import { defineMdp } from 'episcope';
 const TABLE: Record<string, Record<string, Array<{ state: string; probability: number; reward: number | Record<string, number> }>>> = ${JSON.stringify(table)};
@@ -187,21 +200,50 @@ export default defineMdp({
 }
 
 const LIMITS: EpiscopeConfig = { thresholds: { 'model-error.callTimeoutMs': 2000 }, rollouts: 40 };
-const ts = (text: string, config: EpiscopeConfig = {}) => () => analyzeTs(text, { ...LIMITS, ...config });
+const ts =
+  (text: string, config: EpiscopeConfig = {}) =>
+  () =>
+    analyzeTs(text, { ...LIMITS, ...config });
 
 const CASES: MatrixCase[] = [
   {
     name: 'broken cart (JSON, does not compile)',
     source: 'json',
     fires: [
-      'dead-end', 'duplicate-transition', 'missing-outcomes', 'negative-probability', 'non-finite-reward', 'probability-sum', 'reward-scale',
-      'schema', 'term-direction', 'terminal-has-transitions', 'terminal-potential', 'tiny-probability', 'trap-state', 'undeclared-action',
-      'undeclared-state', 'unreachable-state', 'unreachable-terminal',
+      'dead-end',
+      'duplicate-transition',
+      'missing-outcomes',
+      'negative-probability',
+      'non-finite-reward',
+      'probability-sum',
+      'reward-scale',
+      'schema',
+      'term-direction',
+      'terminal-has-transitions',
+      'terminal-potential',
+      'tiny-probability',
+      'trap-state',
+      'undeclared-action',
+      'undeclared-state',
+      'unreachable-state',
+      'unreachable-terminal',
     ],
     run: () => checkSpec(brokenCart),
   },
-  { name: 'scales (JSON)', source: 'json', fires: ['reward-scale', 'term-direction', 'tiny-probability'], twin: true, run: () => checkSpec(scales) },
-  { name: 'loafer (JSON)', source: 'json', fires: ['living-reward', 'reward-loop'], twin: true, run: () => checkSpec(loafer) },
+  {
+    name: 'scales (JSON)',
+    source: 'json',
+    fires: ['reward-scale', 'term-direction', 'tiny-probability'],
+    twin: true,
+    run: () => checkSpec(scales),
+  },
+  {
+    name: 'loafer (JSON)',
+    source: 'json',
+    fires: ['living-reward', 'reward-loop'],
+    twin: true,
+    run: () => checkSpec(loafer),
+  },
   example('warehouse-picking.mdp.json', []),
   example('irrigation-valves.mdp.json', []),
   example('npc-patrol.mdp.json', ['unbounded-return']),
@@ -215,31 +257,110 @@ const CASES: MatrixCase[] = [
   example('kiosk-robot-shift.mdp.json', ['time-dependent-optimum']),
   example('airport-shuttle-horizon.mdp.json', ['horizon-too-short']),
 
-  { name: 'enumerable: a state without actions', source: 'enumerable', fires: ['dead-end'], run: ts(counter('return [{ state: n + 1, probability: 1, reward: -1 }];', '', "(n: number) => (n === 2 ? [] : ['up'])")) },
-  { name: 'enumerable: outcomes adding up to 0.5', source: 'enumerable', fires: ['probability-sum'], run: ts(counter('return [{ state: n + 1, probability: n === 1 ? 0.5 : 1, reward: -1 }];')) },
-  { name: 'enumerable: outcomes throws', source: 'enumerable', fires: ['model-error'], run: ts(counter("if (n === 1) throw new Error('no'); return [{ state: n + 1, probability: 1, reward: -1 }];")) },
-  { name: 'enumerable: a NaN reward', source: 'enumerable', fires: ['non-finite-reward'], run: ts(counter('return [{ state: n + 1, probability: 1, reward: n === 1 ? 0 / 0 : -1 }];')) },
-  { name: 'enumerable: Math.random in outcomes', source: 'enumerable', fires: ['nondeterministic-model', 'unseeded-randomness'], run: ts(counter('return [{ state: n + 1, probability: 1, reward: Math.random() }];')) },
+  {
+    name: 'enumerable: a state without actions',
+    source: 'enumerable',
+    fires: ['dead-end'],
+    run: ts(
+      counter('return [{ state: n + 1, probability: 1, reward: -1 }];', '', "(n: number) => (n === 2 ? [] : ['up'])"),
+    ),
+  },
+  {
+    name: 'enumerable: outcomes adding up to 0.5',
+    source: 'enumerable',
+    fires: ['probability-sum'],
+    run: ts(counter('return [{ state: n + 1, probability: n === 1 ? 0.5 : 1, reward: -1 }];')),
+  },
+  {
+    name: 'enumerable: outcomes throws',
+    source: 'enumerable',
+    fires: ['model-error'],
+    run: ts(counter("if (n === 1) throw new Error('no'); return [{ state: n + 1, probability: 1, reward: -1 }];")),
+  },
+  {
+    name: 'enumerable: a NaN reward',
+    source: 'enumerable',
+    fires: ['non-finite-reward'],
+    run: ts(counter('return [{ state: n + 1, probability: 1, reward: n === 1 ? 0 / 0 : -1 }];')),
+  },
+  {
+    name: 'enumerable: Math.random in outcomes',
+    source: 'enumerable',
+    fires: ['nondeterministic-model', 'unseeded-randomness'],
+    run: ts(counter('return [{ state: n + 1, probability: 1, reward: Math.random() }];')),
+  },
   {
     name: 'enumerable: an endless counter past the state cap, discount 1',
     source: 'enumerable',
     fires: ['enumeration-limit', 'episode-never-ends'],
-    run: ts(counter('return [{ state: n + 1, probability: 1, reward: -1 }];').replace('discount: 0.9', 'discount: 1').replace("(n >= 3 ? 'goal' : undefined)", 'undefined'), { stateCap: 20, thresholds: { 'episode-never-ends.stepCap': 50 } }),
+    run: ts(
+      counter('return [{ state: n + 1, probability: 1, reward: -1 }];')
+        .replace('discount: 0.9', 'discount: 1')
+        .replace("(n >= 3 ? 'goal' : undefined)", 'undefined'),
+      { stateCap: 20, thresholds: { 'episode-never-ends.stepCap': 50 } },
+    ),
   },
-  { name: 'enumerable: a missing bracket', source: 'enumerable', fires: ['syntax'], run: ts(counter('return [{ state: n + 1, probability: 1, reward: -1 ];')) },
-  { name: 'enumerable: a discount of 2', source: 'enumerable', fires: ['schema'], run: ts(counter('return [{ state: n + 1, probability: 1, reward: -1 }];').replace('discount: 0.9', 'discount: 2')) },
+  {
+    name: 'enumerable: a missing bracket',
+    source: 'enumerable',
+    fires: ['syntax'],
+    run: ts(counter('return [{ state: n + 1, probability: 1, reward: -1 ];')),
+  },
+  {
+    name: 'enumerable: a discount of 2',
+    source: 'enumerable',
+    fires: ['schema'],
+    run: ts(counter('return [{ state: n + 1, probability: 1, reward: -1 }];').replace('discount: 0.9', 'discount: 2')),
+  },
 
-  { name: 'sampled: a state without actions', source: 'sampled', fires: ['dead-end'], run: ts(walk("return { state: n + 1, reward: -1, terminal: n >= 3 ? 'goal' : undefined };", '', "(n: number) => (n === 2 ? [] : ['up'])")) },
-  { name: 'sampled: a missing bracket', source: 'sampled', fires: ['syntax'], run: ts(walk("return { state: n + 1, reward: -1, terminal: n >= 3 ? 'goal' : undefined ;")) },
-  { name: 'sampled: sample throws', source: 'sampled', fires: ['model-error'], run: ts(walk("if (n === 1) throw new Error('no'); return { state: n + 1, reward: -1, terminal: n >= 3 ? 'goal' : undefined };")) },
-  { name: 'sampled: an infinite reward', source: 'sampled', fires: ['empirical-model', 'non-finite-reward'], run: ts(walk("return { state: n + 1, reward: n === 1 ? Infinity : -1, terminal: n >= 3 ? 'goal' : undefined };")) },
-  { name: 'sampled: Math.random in sample', source: 'sampled', fires: ['empirical-model', 'nondeterministic-model', 'unseeded-randomness'], run: ts(walk("return { state: n + 1, reward: -1, terminal: Math.random() < 0.5 ? 'goal' : undefined };")) },
+  {
+    name: 'sampled: a state without actions',
+    source: 'sampled',
+    fires: ['dead-end'],
+    run: ts(
+      walk(
+        "return { state: n + 1, reward: -1, terminal: n >= 3 ? 'goal' : undefined };",
+        '',
+        "(n: number) => (n === 2 ? [] : ['up'])",
+      ),
+    ),
+  },
+  {
+    name: 'sampled: a missing bracket',
+    source: 'sampled',
+    fires: ['syntax'],
+    run: ts(walk("return { state: n + 1, reward: -1, terminal: n >= 3 ? 'goal' : undefined ;")),
+  },
+  {
+    name: 'sampled: sample throws',
+    source: 'sampled',
+    fires: ['model-error'],
+    run: ts(
+      walk(
+        "if (n === 1) throw new Error('no'); return { state: n + 1, reward: -1, terminal: n >= 3 ? 'goal' : undefined };",
+      ),
+    ),
+  },
+  {
+    name: 'sampled: an infinite reward',
+    source: 'sampled',
+    fires: ['empirical-model', 'non-finite-reward'],
+    run: ts(walk("return { state: n + 1, reward: n === 1 ? Infinity : -1, terminal: n >= 3 ? 'goal' : undefined };")),
+  },
+  {
+    name: 'sampled: Math.random in sample',
+    source: 'sampled',
+    fires: ['empirical-model', 'nondeterministic-model', 'unseeded-randomness'],
+    run: ts(walk("return { state: n + 1, reward: -1, terminal: Math.random() < 0.5 ? 'goal' : undefined };")),
+  },
   {
     name: 'sampled: discount 1, never ends',
     source: 'sampled',
     // The walk grows without bound: exploring it stops at the key cap (empirical-model, info).
     fires: ['empirical-model', 'episode-never-ends'],
-    run: ts(walk('return { state: n + 1, reward: -1 };').replace('discount: 0.9', 'discount: 1'), { thresholds: { 'episode-never-ends.stepCap': 50 } }),
+    run: ts(walk('return { state: n + 1, reward: -1 };').replace('discount: 0.9', 'discount: 1'), {
+      thresholds: { 'episode-never-ends.stepCap': 50 },
+    }),
   },
   // The sampled examples: their planted bugs, found on the model built from the samples.
   ...(
@@ -252,8 +373,23 @@ const CASES: MatrixCase[] = [
       ['orchard-frost-sign.mdp.ts', ['failure-preferred', 'objective-sign', 'term-direction']],
       ['rover-progress-shaping.mdp.ts', ['shaping-not-potential']],
     ] as const
-  ).map(([file, fires]): MatrixCase => ({ name: `sampled: ${file}`, source: 'sampled', fires: [...fires], run: ts(readFileSync(join(EXAMPLES, file), 'utf8')) })),
-  { name: 'sampled: a discount of 2', source: 'sampled', fires: ['schema'], run: ts(walk("return { state: n + 1, reward: -1, terminal: n >= 3 ? 'goal' : undefined };").replace('discount: 0.9', 'discount: 2')) },
+  ).map(([file, fires]): MatrixCase => ({
+    name: `sampled: ${file}`,
+    source: 'sampled',
+    fires: [...fires],
+    run: ts(readFileSync(join(EXAMPLES, file), 'utf8')),
+  })),
+  {
+    name: 'sampled: a discount of 2',
+    source: 'sampled',
+    fires: ['schema'],
+    run: ts(
+      walk("return { state: n + 1, reward: -1, terminal: n >= 3 ? 'goal' : undefined };").replace(
+        'discount: 0.9',
+        'discount: 2',
+      ),
+    ),
+  },
 ];
 
 const declares = (rule: string, source: RuleSource) => RULES.find((r) => r.id === rule)!.sources.includes(source);
@@ -271,20 +407,26 @@ describe('rule x source matrix', () => {
   });
 
   const twins = CASES.filter((c) => c.twin);
-  it.each(twins.map((c) => [c.name, c] as const))('the enumerable TypeScript twin of %s gets the same model findings', async (_name, matrixCase) => {
-    const json = await matrixCase.run();
-    expect(json.model).toBeDefined();
-    const twin = await analyzeTs(enumerableTwin(json));
-    expect(twin.internalErrors).toEqual([]);
-    expect(twin.model?.stateCount).toBeGreaterThan(0);
-    const expected = firedRules(json).filter((rule) => declares(rule, 'enumerable'));
-    expect(firedRules(twin)).toEqual(expected);
-    // Same MDP, same optimal value at the start (both are sound bounds of one number).
-    const a = json.analysis!.start.optimal;
-    const b = twin.analysis!.start.optimal;
-    expect(Math.max(a.lower, b.lower)).toBeLessThanOrEqual(Math.min(a.upper, b.upper) + 1e-9);
-    fired.set({ name: `twin of ${matrixCase.name}`, source: 'enumerable', fires: expected, run: () => twin }, firedRules(twin));
-  });
+  it.each(twins.map((c) => [c.name, c] as const))(
+    'the enumerable TypeScript twin of %s gets the same model findings',
+    async (_name, matrixCase) => {
+      const json = await matrixCase.run();
+      expect(json.model).toBeDefined();
+      const twin = await analyzeTs(enumerableTwin(json));
+      expect(twin.internalErrors).toEqual([]);
+      expect(twin.model?.stateCount).toBeGreaterThan(0);
+      const expected = firedRules(json).filter((rule) => declares(rule, 'enumerable'));
+      expect(firedRules(twin)).toEqual(expected);
+      // Same MDP, same optimal value at the start (both are sound bounds of one number).
+      const a = json.analysis!.start.optimal;
+      const b = twin.analysis!.start.optimal;
+      expect(Math.max(a.lower, b.lower)).toBeLessThanOrEqual(Math.min(a.upper, b.upper) + 1e-9);
+      fired.set(
+        { name: `twin of ${matrixCase.name}`, source: 'enumerable', fires: expected, run: () => twin },
+        firedRules(twin),
+      );
+    },
+  );
 
   it('every rule fires on every kind of spec it declares (coverage of the matrix)', () => {
     expect(fired.size).toBe(CASES.length + twins.length);

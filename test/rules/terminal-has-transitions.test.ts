@@ -30,12 +30,18 @@ testRule(RULE, {
     },
     {
       name: 'two of them: each fix deletes its transition, and fixing both leaves no finding',
-      spec: chainWith([{ from: 'goal', action: 'go', to: 'a' }, { from: 'goal', action: 'go', to: 'b' }]),
+      spec: chainWith([
+        { from: 'goal', action: 'go', to: 'a' },
+        { from: 'goal', action: 'go', to: 'b' },
+      ]),
       findings: [{ fixes: [/./] }, { fixes: [/./] }],
       afterFix: (fixed) => {
         const transitions = JSON.parse(fixed.text).transitions as { to: string }[];
         expect(transitions).toHaveLength(3);
-        expect([['b', 'goal', 'b'], ['b', 'goal', 'a']]).toContainEqual(transitions.map((t) => t.to));
+        expect([
+          ['b', 'goal', 'b'],
+          ['b', 'goal', 'a'],
+        ]).toContainEqual(transitions.map((t) => t.to));
         const again = checkSpec(applyFix(fixed, findingsOf(fixed, RULE)[0].fixes![0].edits));
         expect(findingsOf(again, RULE)).toEqual([]);
       },
@@ -44,7 +50,11 @@ testRule(RULE, {
       name: 'the terminal entries of a from list that also names live states',
       spec: chainWith([{ from: ['a', 'goal'], action: 'go', to: 'b' }]),
       findings: [
-        { at: '"goal"', message: `'goal' is a goal terminal: entering it ends the episode, so transitions[2] is never taken from it (it still applies to 'a')`, fixes: [] },
+        {
+          at: '"goal"',
+          message: `'goal' is a goal terminal: entering it ends the episode, so transitions[2] is never taken from it (it still applies to 'a')`,
+          fixes: [],
+        },
       ],
     },
   ],

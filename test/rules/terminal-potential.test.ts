@@ -24,7 +24,8 @@ function parking(potential: Record<string, number>): SpecObject {
   };
 }
 
-const namesTerminal = (_report: unknown, [finding]: Finding[]) => expect(finding.related?.[0].message).toContain('declared terminal');
+const namesTerminal = (_report: unknown, [finding]: Finding[]) =>
+  expect(finding.related?.[0].message).toContain('declared terminal');
 
 testRule('terminal-potential', {
   valid: [
@@ -41,6 +42,11 @@ testRule('terminal-potential', {
       afterFix: (fixed) => expect(fixed.text).toContain('"bay": 0'),
     },
     // 0.9 * -2 = -1.8.
-    { name: 'a negative potential on the failure', spec: parking({ lane: 1, wall: -2 }), findings: [{ at: '"wall"', says: ['-1.8'] }], check: namesTerminal },
+    {
+      name: 'a negative potential on the failure',
+      spec: parking({ lane: 1, wall: -2 }),
+      findings: [{ at: '"wall"', says: ['-1.8'] }],
+      check: namesTerminal,
+    },
   ],
 });

@@ -107,7 +107,10 @@ function lobbyWithSideRooms(): SpecObject {
   for (const room of rooms) spec.states[room] = { actions: ['a', 'b'] };
   spec.transitions.push(
     { from: 'lobby', action: 'detour', to: Object.fromEntries(rooms.map((r) => [r, 1 / 12])), reward: -100 },
-    ...rooms.flatMap((r) => [{ from: r, action: 'a', to: 'lobby', reward: 0 }, { from: r, action: 'b', to: 'lobby', reward: 0 }]),
+    ...rooms.flatMap((r) => [
+      { from: r, action: 'a', to: 'lobby', reward: 0 },
+      { from: r, action: 'b', to: 'lobby', reward: 0 },
+    ]),
   );
   return spec as unknown as SpecObject;
 }
@@ -150,7 +153,10 @@ testRule('time-dependent-optimum', {
         },
       ],
       check: (_report, [finding]) =>
-        expect(finding.related?.map((r) => r.message).slice(0, 2)).toEqual(["'climb': best with 3 steps left", "'descend': best with 1 step left"]),
+        expect(finding.related?.map((r) => r.message).slice(0, 2)).toEqual([
+          "'climb': best with 3 steps left",
+          "'descend': best with 1 step left",
+        ]),
     },
     {
       name: 'fires at a state only exploration reaches; the time-blind loss from the start is 0 (brute force)',
@@ -194,7 +200,13 @@ testRule('time-dependent-optimum', {
       // The detour never pays, so by hand the best time-blind policy is still "always wait" (10) against 14; the
       // policies tried include it (the best action with k >= 2 steps left), so the bound is tight here.
       spec: lobbyWithSideRooms(),
-      findings: [{ says: ['from the start a time-blind (stationary, deterministic) policy gives up at most 4.0 of the optimal 14.0 (the best of 10 such policies tried)'] }],
+      findings: [
+        {
+          says: [
+            'from the start a time-blind (stationary, deterministic) policy gives up at most 4.0 of the optimal 14.0 (the best of 10 such policies tried)',
+          ],
+        },
+      ],
     },
   ],
   valid: [

@@ -34,7 +34,9 @@ function stocktake(discount: number, scan: number, back: number, overrides: Spec
 /** The stocktake whose entrance leads straight to the goal, so the dock-shelf loop is never entered. */
 function stocktakeWithoutEntry(): SpecObject {
   const spec = stocktake(1, 1, 0);
-  const transitions = (spec.transitions as Array<{ from: string; to: unknown }>).map((t) => (t.from === 'entrance' ? { ...t, to: 'shipped' } : t));
+  const transitions = (spec.transitions as Array<{ from: string; to: unknown }>).map((t) =>
+    t.from === 'entrance' ? { ...t, to: 'shipped' } : t,
+  );
   return { ...spec, transitions };
 }
 
@@ -47,7 +49,10 @@ testRule('unbounded-return', {
         {
           at: '"shelf"',
           severity: 'error',
-          says: ["the loop 'dock' --scan--> 'shelf' --back--> 'dock' earns +1.0 per round (2 steps)", 'the optimal return from the start is +infinity'],
+          says: [
+            "the loop 'dock' --scan--> 'shelf' --back--> 'dock' earns +1.0 per round (2 steps)",
+            'the optimal return from the start is +infinity',
+          ],
           steps: [
             ['entrance', 'enter'],
             ['dock', 'scan'],
@@ -87,7 +92,10 @@ testRule('unbounded-return', {
     { name: 'the same loop with a horizon', spec: stocktake(1, 1, 0, { horizon: 50 }) },
     { name: 'a round that costs more than it pays (+1 then -2)', spec: stocktake(1, 1, -2) },
     { name: 'a zero-reward round (waiting is not earning)', spec: stocktake(1, 0, 0) },
-    { name: 'minimize: a loop of positive cost is simply avoided', spec: stocktake(1, 1, 0, { objective: 'minimize' }) },
+    {
+      name: 'minimize: a loop of positive cost is simply avoided',
+      spec: stocktake(1, 1, 0, { objective: 'minimize' }),
+    },
     { name: 'a paying loop that no policy can reach from the start', spec: stocktakeWithoutEntry() },
     { name: 'the base chain spec at discount 1', spec: chainSpec({ discount: 1 }) },
   ],

@@ -12,9 +12,16 @@ testRule('undeclared-action', {
     {
       // Out of a terminal: terminal-has-transitions; undeclared from: undeclared-state; no actions: dead-end.
       name: 'terminal or undeclared from states, or states without actions',
-      spec: chainWith([{ from: 'goal', action: 'fly', to: 'a' }, { from: 'nowhere', action: 'fly', to: 'a' }, { from: 'c', action: 'fly', to: 'a' }], {
-        states: { a: {}, b: {}, c: { actions: [] }, goal: { terminal: 'goal' } },
-      }),
+      spec: chainWith(
+        [
+          { from: 'goal', action: 'fly', to: 'a' },
+          { from: 'nowhere', action: 'fly', to: 'a' },
+          { from: 'c', action: 'fly', to: 'a' },
+        ],
+        {
+          states: { a: {}, b: {}, c: { actions: [] }, goal: { terminal: 'goal' } },
+        },
+      ),
       check: (report) => {
         expect(findingsOf(report, 'terminal-has-transitions')).toHaveLength(1);
         expect(findingsOf(report, 'undeclared-state')).toHaveLength(1);
@@ -25,7 +32,15 @@ testRule('undeclared-action', {
   invalid: [
     {
       name: 'a misspelt action, suggesting the offered one; renaming removes it',
-      spec: chainSpec({ actions: ['go', 'wait'], transitions: [{ from: 'a', action: 'og', to: 'b' }, { from: 'a', action: 'wait', to: 'a' }, { from: 'b', action: 'go', to: 'goal' }, { from: 'b', action: 'wait', to: 'b' }] }),
+      spec: chainSpec({
+        actions: ['go', 'wait'],
+        transitions: [
+          { from: 'a', action: 'og', to: 'b' },
+          { from: 'a', action: 'wait', to: 'a' },
+          { from: 'b', action: 'go', to: 'goal' },
+          { from: 'b', action: 'wait', to: 'b' },
+        ],
+      }),
       findings: [
         {
           at: '"og"',
@@ -44,10 +59,21 @@ testRule('undeclared-action', {
       spec: chainSpec({
         actions: ['go', 'wait'],
         states: { a: { actions: ['go'] }, b: { actions: ['go'] }, goal: { terminal: 'goal' } },
-        transitions: [{ from: 'a', action: 'go', to: 'b' }, { from: 'a', action: 'wait', to: 'a' }, { from: 'b', action: 'go', to: 'goal' }],
+        transitions: [
+          { from: 'a', action: 'go', to: 'b' },
+          { from: 'a', action: 'wait', to: 'a' },
+          { from: 'b', action: 'go', to: 'goal' },
+        ],
       }),
-      findings: [{ at: '"wait"', message: /^'wait' is not an action of 'a' \(it offers 'go'\): /, related: [JSON.stringify(['go'], null, 2).replace(/\n/g, '\n      ')] }],
-      check: (_report, [finding]) => expect(finding.fixes?.map((f) => f.title)).toContain(`Add 'wait' to the actions of 'a'`),
+      findings: [
+        {
+          at: '"wait"',
+          message: /^'wait' is not an action of 'a' \(it offers 'go'\): /,
+          related: [JSON.stringify(['go'], null, 2).replace(/\n/g, '\n      ')],
+        },
+      ],
+      check: (_report, [finding]) =>
+        expect(finding.fixes?.map((f) => f.title)).toContain(`Add 'wait' to the actions of 'a'`),
       afterFix: (fixed, title) => {
         if (title !== `Add 'wait' to the actions of 'a'`) return;
         expect(JSON.parse(fixed.text).states.a.actions).toEqual(['go', 'wait']);

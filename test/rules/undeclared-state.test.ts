@@ -8,15 +8,26 @@ import { chainSpec, chainWith, findingsOf } from '../helpers/specs';
 
 const RULE = 'undeclared-state';
 
-const misspelt = chainSpec({ transitions: [{ from: 'a', action: 'go', to: 'bb', reward: -1 }, { from: 'b', action: 'go', to: 'goal' }] });
+const misspelt = chainSpec({
+  transitions: [
+    { from: 'a', action: 'go', to: 'bb', reward: -1 },
+    { from: 'b', action: 'go', to: 'goal' },
+  ],
+});
 
 testRule(RULE, {
   valid: [
-    { name: 'a spec whose names are all declared', spec: chainSpec({ start: ['a', 'b'], shaping: { potential: { a: 1 } } }) },
+    {
+      name: 'a spec whose names are all declared',
+      spec: chainSpec({ start: ['a', 'b'], shaping: { potential: { a: 1 } } }),
+    },
     {
       name: 'no state could be read at all (the schema finding covers it)',
       spec: chainSpec({ states: [] }),
-      check: (report) => expect(findingsOf(report, 'schema').map((f) => f.message)).toContain('states must be an object, not a list (Every state, keyed by its id)'),
+      check: (report) =>
+        expect(findingsOf(report, 'schema').map((f) => f.message)).toContain(
+          'states must be an object, not a list (Every state, keyed by its id)',
+        ),
     },
     {
       name: 'switched off by the config',
@@ -45,7 +56,10 @@ testRule(RULE, {
     },
     {
       name: 'an undeclared from, start and potential key, each at its own text',
-      spec: chainWith([{ from: 'c', action: 'go', to: 'goal' }], { start: { a: 0.5, z: 0.5 }, shaping: { potential: { qq: 1 } } }),
+      spec: chainWith([{ from: 'c', action: 'go', to: 'goal' }], {
+        start: { a: 0.5, z: 0.5 },
+        shaping: { potential: { qq: 1 } },
+      }),
       // In document order: start, transitions, then shaping (JSON.stringify appends the new key).
       findings: [
         { at: '"z"', message: /^the start names 'z', which is not declared/ },

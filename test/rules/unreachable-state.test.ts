@@ -7,7 +7,11 @@ import { testRule } from '../helpers/rule-tester';
 import { chainSpec, findingsOf, type SpecObject } from '../helpers/specs';
 
 /** A warehouse picker of our own: aisle -> shelf -> packed (goal), plus extra states per case. */
-function picker(extraStates: Record<string, object>, extraTransitions: object[], overrides: SpecObject = {}): SpecObject {
+function picker(
+  extraStates: Record<string, object>,
+  extraTransitions: object[],
+  overrides: SpecObject = {},
+): SpecObject {
   return {
     name: 'picker',
     discount: 0.95,
@@ -73,7 +77,8 @@ testRule('unreachable-state', {
       name: 'many unreachable states: one finding each for the first 499, then one that counts the rest',
       spec: manyBins(),
       findings: 500,
-      check: (_report, findings) => expect(findings[499].message).toContain('101 more states are never reached from the start'),
+      check: (_report, findings) =>
+        expect(findings[499].message).toContain('101 more states are never reached from the start'),
     },
   ],
   valid: [
@@ -90,7 +95,9 @@ testRule('unreachable-state', {
     },
     {
       name: 'a state that is a start state of its own',
-      spec: picker({ annex: {} }, [{ from: 'annex', action: 'walk', to: 'packed', reward: 0 }], { start: ['aisle', 'annex'] }),
+      spec: picker({ annex: {} }, [{ from: 'annex', action: 'walk', to: 'packed', reward: 0 }], {
+        start: ['aisle', 'annex'],
+      }),
     },
     {
       name: 'an unreachable terminal (unreachable-terminal reports those)',

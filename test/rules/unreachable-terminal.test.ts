@@ -20,8 +20,14 @@ function courier(transitions: object[], overrides: SpecObject = {}): SpecObject 
 
 testRule('unreachable-terminal', {
   valid: [
-    { name: 'every terminal is entered on some route', spec: courier([{ from: 'door', action: 'move', to: { room: 0.9, stairwell: 0.1 }, reward: 5 }]) },
-    { name: 'a terminal entered only with a tiny probability is still reachable', spec: courier([{ from: 'door', action: 'move', to: { room: 0.999, stairwell: 0.001 }, reward: 5 }]) },
+    {
+      name: 'every terminal is entered on some route',
+      spec: courier([{ from: 'door', action: 'move', to: { room: 0.9, stairwell: 0.1 }, reward: 5 }]),
+    },
+    {
+      name: 'a terminal entered only with a tiny probability is still reachable',
+      spec: courier([{ from: 'door', action: 'move', to: { room: 0.999, stairwell: 0.001 }, reward: 5 }]),
+    },
     { name: 'the base chain spec', spec: chainSpec() },
   ],
   invalid: [
@@ -32,7 +38,11 @@ testRule('unreachable-terminal', {
         {
           at: '"stairwell"',
           severity: 'warning',
-          says: ["terminal 'stairwell' (failure) is never reached from the start", 'no transition leads into it', 'the hazard it stands for has no effect'],
+          says: [
+            "terminal 'stairwell' (failure) is never reached from the start",
+            'no transition leads into it',
+            'the hazard it stands for has no effect',
+          ],
         },
       ],
     },
@@ -44,9 +54,16 @@ testRule('unreachable-terminal', {
           { from: 'door', action: 'move', to: 'stairwell', reward: -50 },
           { from: 'vault', action: 'move', to: 'room', reward: 20 },
         ],
-        { states: { corridor: {}, door: {}, vault: {}, room: { terminal: 'goal' }, stairwell: { terminal: 'failure' } } },
+        {
+          states: { corridor: {}, door: {}, vault: {}, room: { terminal: 'goal' }, stairwell: { terminal: 'failure' } },
+        },
       ),
-      findings: [{ says: ["terminal 'room' (goal)", 'the +20.0 for entering it never counts', 'no goal is reachable at all'], related: ['"room"'] }],
+      findings: [
+        {
+          says: ["terminal 'room' (goal)", 'the +20.0 for entering it never counts', 'no goal is reachable at all'],
+          related: ['"room"'],
+        },
+      ],
     },
   ],
 });

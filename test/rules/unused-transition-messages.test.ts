@@ -7,14 +7,18 @@
 import { describe, expect, it } from 'vitest';
 import { chainWith, checkSpec, findingsOf, specText } from '../helpers/specs';
 
-const NEVER_TAKEN = 'the transition is never used (it leaves a terminal state, so it is never taken), so no value depends on it';
-const OVERRIDDEN = 'the transition is never used (an earlier transition defines the same state and action and wins), so no value depends on it';
+const NEVER_TAKEN =
+  'the transition is never used (it leaves a terminal state, so it is never taken), so no value depends on it';
+const OVERRIDDEN =
+  'the transition is never used (an earlier transition defines the same state and action and wins), so no value depends on it';
 
 describe('findings on transitions the compiler never uses', () => {
   it('probability-sum out of a terminal: the spec compiles and the message says the transition is never taken', () => {
     const report = checkSpec(chainWith([{ from: 'goal', action: 'go', to: { a: 0.5, b: 0.4 } }]));
     const [finding] = findingsOf(report, 'probability-sum');
-    expect(finding.message).toContain('add up to 0.9, not 1: 0.1 of the episodes that take it have no defined next state; ' + NEVER_TAKEN);
+    expect(finding.message).toContain(
+      'add up to 0.9, not 1: 0.1 of the episodes that take it have no defined next state; ' + NEVER_TAKEN,
+    );
     expect(finding.message).not.toContain('not compiled');
     expect(report.model).toBeDefined();
     // The chain's own values are unaffected: -1 + 0.9 * 10 from the start.
@@ -24,7 +28,18 @@ describe('findings on transitions the compiler never uses', () => {
 
   it('negative-probability and non-finite-reward in a later definition of a pair say it is overridden', () => {
     // JSON.stringify writes Infinity as null, so the literal 1e400 goes into the text by hand.
-    const text = specText(chainWith([{ from: 'a', action: 'go', to: [{ state: 'b', probability: 1.5, reward: 'HUGE' }, { state: 'a', probability: -0.5, reward: 0 }] }]));
+    const text = specText(
+      chainWith([
+        {
+          from: 'a',
+          action: 'go',
+          to: [
+            { state: 'b', probability: 1.5, reward: 'HUGE' },
+            { state: 'a', probability: -0.5, reward: 0 },
+          ],
+        },
+      ]),
+    );
     const report = checkSpec(text.replace('"HUGE"', '1e400'));
     const negatives = findingsOf(report, 'negative-probability');
     expect(negatives).toHaveLength(2);
@@ -38,7 +53,9 @@ describe('findings on transitions the compiler never uses', () => {
   it('undeclared-state in a transition out of a terminal keeps its suggestion and drops the compile claim', () => {
     const report = checkSpec(chainWith([{ from: 'goal', action: 'go', to: 'bb' }]));
     const [finding] = findingsOf(report, 'undeclared-state');
-    expect(finding.message).toContain("leads to 'bb', which is not declared in \"states\" (did you mean 'b'?): " + NEVER_TAKEN);
+    expect(finding.message).toContain(
+      "leads to 'bb', which is not declared in \"states\" (did you mean 'b'?): " + NEVER_TAKEN,
+    );
     expect(report.model).toBeDefined();
   });
 

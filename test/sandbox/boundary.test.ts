@@ -25,7 +25,11 @@ function allText(report: Awaited<ReturnType<typeof analyzeTs>>): string {
 }
 
 /** Runs the built CLI on one spec and returns its status and streams. */
-function runCli(folder: string, spec: string, format = 'json'): { status: number | null; stdout: string; stderr: string } {
+function runCli(
+  folder: string,
+  spec: string,
+  format = 'json',
+): { status: number | null; stdout: string; stderr: string } {
   const result = spawnSync(process.execPath, [join(DIST, 'cli.js'), 'check', join(folder, spec), '--format', format], {
     cwd: folder,
     encoding: 'utf8',
@@ -48,14 +52,17 @@ describe('what model code cannot do from inside the sandbox', () => {
     const elsewhere = mkdtempSync(join(tmpdir(), 'episcope-boundary-'));
     const folder = writeFolder({});
     const markers = [join(folder, 'written.txt'), join(elsewhere, 'written.txt')];
-    const text = counterSpec(ok, `import { writeFileSync, appendFileSync, mkdirSync } from 'node:fs';
+    const text = counterSpec(
+      ok,
+      `import { writeFileSync, appendFileSync, mkdirSync } from 'node:fs';
 const refused: string[] = [];
 for (const path of ${JSON.stringify(markers)}) {
   try { writeFileSync(path, 'x'); } catch (e) { refused.push('write'); }
   try { appendFileSync(path, 'x'); } catch (e) { refused.push('append'); }
   try { mkdirSync(path + '.d'); } catch (e) { refused.push('mkdir'); }
 }
-console.log('refused: ' + refused.length);`);
+console.log('refused: ' + refused.length);`,
+    );
     const path = join(folder, 'spec.mdp.ts');
     writeFileSync(path, text);
     const { analyzeFile } = await import('../../server/src/analyze');
@@ -71,12 +78,15 @@ console.log('refused: ' + refused.length);`);
   });
 
   test('it cannot read files outside its folder, nor load a native addon', async () => {
-    const text = counterSpec(ok, `import { readFileSync } from 'node:fs';
+    const text = counterSpec(
+      ok,
+      `import { readFileSync } from 'node:fs';
 let outside = 'read';
 try { readFileSync('/etc/passwd', 'utf8'); } catch (e) { outside = 'refused'; }
 let addon = 'loaded';
 try { process.dlopen({ exports: {} }, '/nonexistent/addon.node'); } catch (e) { addon = 'refused'; }
-console.log('outside ' + outside + ', addon ' + addon);`);
+console.log('outside ' + outside + ', addon ' + addon);`,
+    );
     const report = await analyzeTs(text, FAST_LIMITS);
     expect(report.modelOutput).toContain('outside refused, addon refused');
     expect(report.modelOutput).not.toContain('root:');
@@ -87,7 +97,9 @@ console.log('outside ' + outside + ', addon ' + addon);`);
     const token = `episcope-detached-${process.pid}-${Date.now()}`;
     const marker = join(folder, 'spawned.txt');
     const script = `sleep 5; echo ${token} > ${marker}`;
-    const text = counterSpec(ok, `import * as cp from 'node:child_process';
+    const text = counterSpec(
+      ok,
+      `import * as cp from 'node:child_process';
 const tries: Array<() => unknown> = [
   () => cp.spawn('/bin/sh', ['-c', ${JSON.stringify(script)}], { detached: true, stdio: 'ignore' }).unref(),
   () => cp.execSync(${JSON.stringify(script)}),
@@ -96,7 +108,8 @@ const tries: Array<() => unknown> = [
 ];
 let refused = 0;
 for (const t of tries) { try { t(); } catch (e) { refused++; } }
-console.log('refused ' + refused);`);
+console.log('refused ' + refused);`,
+    );
     const path = join(folder, 'spec.mdp.ts');
     writeFileSync(path, text);
     const { analyzeFile } = await import('../../server/src/analyze');
@@ -123,7 +136,9 @@ console.log('refused ' + refused);`);
     afterAll(() => new Promise<void>((resolve) => server.close(() => resolve())));
 
     test('it cannot connect to a local listener by any network module, fetch, or the stdout stream class', async () => {
-      const text = counterSpec(ok, `const port = ${port};
+      const text = counterSpec(
+        ok,
+        `const port = ${port};
 const tries: Array<[string, () => unknown]> = [
   ['net', () => require('node:net').connect(port, '127.0.0.1')],
   ['net.Socket', () => new (require('node:net').Socket)().connect(port, '127.0.0.1')],
@@ -139,17 +154,22 @@ const tries: Array<[string, () => unknown]> = [
 ];
 const refused: string[] = [];
 for (const [name, t] of tries) { try { t(); } catch (e) { refused.push(name); } }
-console.log('refused: ' + refused.join(','));`);
+console.log('refused: ' + refused.join(','));`,
+      );
       const report = await analyzeTs(text, FAST_LIMITS);
       // Give any connection that slipped through time to arrive.
       await new Promise((resolve) => setTimeout(resolve, 1000));
-      expect(report.modelOutput).toContain('refused: net,net.Socket,http,https,tls,http2,dgram,dns,fetch,stdout class,module loader');
+      expect(report.modelOutput).toContain(
+        'refused: net,net.Socket,http,https,tls,http2,dgram,dns,fetch,stdout class,module loader',
+      );
       expect(connections).toBe(0);
     });
   });
 
   test("it cannot see the host's environment: a secret is in no finding and no output", async () => {
-    const text = counterSpec(`    console.log(JSON.stringify(process.env));\n    throw new Error('env: ' + JSON.stringify(process.env) + ' ' + Object.keys(process.env).length);`);
+    const text = counterSpec(
+      `    console.log(JSON.stringify(process.env));\n    throw new Error('env: ' + JSON.stringify(process.env) + ' ' + Object.keys(process.env).length);`,
+    );
     const report = await analyzeTs(text, FAST_LIMITS);
     const [finding] = findingsOf(report, 'model-error');
     expect(finding.message).toContain('threw Error: env: {');
@@ -173,13 +193,28 @@ console.log('refused: ' + refused.join(','));`);
     for (let run = 0; run < 6; run++) {
       const report = await analyzeTs(counterSpec(body), FAST_LIMITS);
       const [finding] = findingsOf(report, 'model-error');
-      expect(finding?.message, `run ${run}`).toContain('outcomes({"n":0}, "up") threw Error (its message could not be read)');
+      expect(finding?.message, `run ${run}`).toContain(
+        'outcomes({"n":0}, "up") threw Error (its message could not be read)',
+      );
       expect(report.internalErrors).toEqual([]);
     }
     // Thrown at load, outside any call (an unhandled rejection), and as a thrown object without Error.
-    const atLoad = await analyzeTs(counterSpec(ok, `const bad = new Error('x'); Object.defineProperty(bad, 'message', { get() { throw bad; } }); Promise.reject(bad);`), FAST_LIMITS);
-    expect(findingsOf(atLoad, 'model-error')[0].message).toContain('failed outside a model call: Error (its message could not be read)');
-    const proxy = await analyzeTs(counterSpec(`    throw new Proxy({}, { get() { throw new Error('trap'); }, getPrototypeOf() { throw new Error('trap'); } });`), FAST_LIMITS);
+    const atLoad = await analyzeTs(
+      counterSpec(
+        ok,
+        `const bad = new Error('x'); Object.defineProperty(bad, 'message', { get() { throw bad; } }); Promise.reject(bad);`,
+      ),
+      FAST_LIMITS,
+    );
+    expect(findingsOf(atLoad, 'model-error')[0].message).toContain(
+      'failed outside a model call: Error (its message could not be read)',
+    );
+    const proxy = await analyzeTs(
+      counterSpec(
+        `    throw new Proxy({}, { get() { throw new Error('trap'); }, getPrototypeOf() { throw new Error('trap'); } });`,
+      ),
+      FAST_LIMITS,
+    );
     expect(findingsOf(proxy, 'model-error')).toHaveLength(1);
   });
 
@@ -192,7 +227,9 @@ console.log('refused: ' + refused.join(','));`);
     }`;
     const jobTimeoutMs = 4000;
     const began = Date.now();
-    const report = await analyzeTs(counterSpec(body), { thresholds: { ...FAST_LIMITS.thresholds, 'model-error.jobTimeoutMs': jobTimeoutMs } });
+    const report = await analyzeTs(counterSpec(body), {
+      thresholds: { ...FAST_LIMITS.thresholds, 'model-error.jobTimeoutMs': jobTimeoutMs },
+    });
     const elapsed = Date.now() - began;
     const [finding] = findingsOf(report, 'model-error');
     expect(finding.message).toContain("was still running when the job's time limit of 4 s ran out");
@@ -207,7 +244,9 @@ console.log('refused: ' + refused.join(','));`);
     const body = `    const held = [];
     try { for (let i = 0; i < 200; i++) held.push(Buffer.alloc(32 * 1024 * 1024, 1)); } catch (e) {}
     throw new Error('held ' + held.length * 32 + ' MB, rss ' + Math.round(process.memoryUsage().rss / 1048576) + ' MB');`;
-    const report = await analyzeTs(counterSpec(body), { thresholds: { 'model-error.callTimeoutMs': 30_000, 'model-error.memoryMb': memoryMb } });
+    const report = await analyzeTs(counterSpec(body), {
+      thresholds: { 'model-error.callTimeoutMs': 30_000, 'model-error.memoryMb': memoryMb },
+    });
     const message = findingsOf(report, 'model-error')[0].message;
     const match = /held (\d+) MB, rss (\d+) MB/.exec(message);
     expect(match, message).not.toBeNull();
@@ -241,11 +280,18 @@ ${ok}`,
   test('the stdio server keeps answering after hostile model code, and logs its output', async () => {
     const folder = writeFolder({ 'spec.mdp.ts': hostile });
     const uri = pathUri(join(folder, 'spec.mdp.ts'));
-    const client = new TestClient({ pull: false, workspaceFolder: folder, viaCli: true, initializationOptions: { trusted: true } });
+    const client = new TestClient({
+      pull: false,
+      workspaceFolder: folder,
+      viaCli: true,
+      initializationOptions: { trusted: true },
+    });
     await client.initialize();
     await client.open(uri, hostile);
     await client.pushed(uri, 1);
-    const lenses = await client.connection.sendRequest<Array<{ command: { title: string } }>>('textDocument/codeLens', { textDocument: { uri } });
+    const lenses = await client.connection.sendRequest<Array<{ command: { title: string } }>>('textDocument/codeLens', {
+      textDocument: { uri },
+    });
     expect(lenses[0].command.title).toMatch(/^Return from the start/);
     expect(client.logs.join('\n')).toContain('model output:');
     expect(await client.stop()).toBe(0);
@@ -268,7 +314,12 @@ ${ok}`,
     expect(await plain.stop()).toBe(0);
 
     // The explicit start flag runs it.
-    const flagged = new TestClient({ pull: false, workspaceFolder: folder, viaCli: true, extraArgs: ['--run-model-code'] });
+    const flagged = new TestClient({
+      pull: false,
+      workspaceFolder: folder,
+      viaCli: true,
+      extraArgs: ['--run-model-code'],
+    });
     await flagged.initialize();
     await flagged.open(uri, model);
     await flagged.pushed(uri, 1);

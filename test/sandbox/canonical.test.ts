@@ -7,7 +7,11 @@ function reversed(value: unknown): unknown {
   if (Array.isArray(value)) return value.map(reversed);
   if (value && typeof value === 'object') {
     // fromEntries defines own properties, so a key named __proto__ stays a key (assignment would drop it).
-    return Object.fromEntries(Object.keys(value).reverse().map((key) => [key, reversed((value as Record<string, unknown>)[key])]));
+    return Object.fromEntries(
+      Object.keys(value)
+        .reverse()
+        .map((key) => [key, reversed((value as Record<string, unknown>)[key])]),
+    );
   }
   return value;
 }

@@ -66,13 +66,24 @@ function reference(model: ModelFunctions) {
 }
 
 function listed(model: ModelFunctions, terms: string[]) {
-  const e = enumerateModel(model, { stateCap: 1e6, declaredTerms: terms, recheckChoices: 10, progress: new Int32Array(4) });
+  const e = enumerateModel(model, {
+    stateCap: 1e6,
+    declaredTerms: terms,
+    recheckChoices: 10,
+    progress: new Int32Array(4),
+  });
   expect(e.problem).toBeUndefined();
   const rows: Array<{ state: number; action: string; target: number; p: number; r: number }> = [];
   for (let s = 0; s < e.stateKeys.length; s++) {
     for (let c = e.choiceStart[s]; c < e.choiceStart[s + 1]; c++) {
       for (let k = e.outcomeStart[c]; k < e.outcomeStart[c + 1]; k++) {
-        rows.push({ state: s, action: e.actionNames[e.choiceAction[c]], target: e.outcomeTarget[k], p: e.outcomeProb[k], r: e.outcomeReward[k] });
+        rows.push({
+          state: s,
+          action: e.actionNames[e.choiceAction[c]],
+          target: e.outcomeTarget[k],
+          p: e.outcomeProb[k],
+          r: e.outcomeReward[k],
+        });
       }
     }
   }
@@ -98,6 +109,7 @@ describe('enumeration into typed columns', () => {
     const { e, rows: got } = listed(model, ['cost', 'bonus']);
     expect(got).toEqual(rows);
     expect(e.termNames).toEqual(['cost', 'bonus']);
-    for (let k = 0; k < e.outcomesListed; k++) expect(e.termRewards[0][k] + e.termRewards[1][k]).toBeCloseTo(e.outcomeReward[k], 12);
+    for (let k = 0; k < e.outcomesListed; k++)
+      expect(e.termRewards[0][k] + e.termRewards[1][k]).toBeCloseTo(e.outcomeReward[k], 12);
   });
 });

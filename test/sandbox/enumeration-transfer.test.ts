@@ -25,7 +25,9 @@ import { analyzeTs, findingsOf, writeFolder } from '../typescript/ts-specs';
 /** JSON with object keys sorted at every level: what "the same state" means in the spec API. */
 function sortedJson(value: unknown): string {
   return JSON.stringify(value, (_key, v: unknown) =>
-    v && typeof v === 'object' && !Array.isArray(v) ? Object.fromEntries(Object.entries(v as Record<string, unknown>).sort(([a], [b]) => (a < b ? -1 : 1))) : v,
+    v && typeof v === 'object' && !Array.isArray(v)
+      ? Object.fromEntries(Object.entries(v as Record<string, unknown>).sort(([a], [b]) => (a < b ? -1 : 1)))
+      : v,
   );
 }
 
@@ -57,7 +59,11 @@ async function independentListing(path: string, text: string) {
     terminal[key] = kind ? TERMINAL_CODE[kind] : 0;
     if (kind) continue;
     for (const action of model.actions(state) as string[]) {
-      for (const o of model.outcomes(state, action) as Array<{ state: unknown; probability: number; reward: number | Record<string, number> }>) {
+      for (const o of model.outcomes(state, action) as Array<{
+        state: unknown;
+        probability: number;
+        reward: number | Record<string, number>;
+      }>) {
         if (o.probability === 0) continue;
         const target = sortedJson(o.state);
         if (!seen.has(target)) {
@@ -98,14 +104,18 @@ function rowsOf(model: CompiledModel): Row[] {
 }
 
 async function expectSameModel(path: string, text: string): Promise<CompiledModel> {
-  const loaded = await loadTypeScriptSpec(path, text, { exec: true, config: resolveConfig({ thresholds: { 'model-error.callTimeoutMs': 10_000 } }) });
+  const loaded = await loadTypeScriptSpec(path, text, {
+    exec: true,
+    config: resolveConfig({ thresholds: { 'model-error.callTimeoutMs': 10_000 } }),
+  });
   const model = loaded.enumerated?.model;
   expect(model, loaded.enumerated?.reason).toBeDefined();
   const reference = await independentListing(path, text);
   expect(model!.stateIds).toEqual(reference.keys);
   expect(Array.from(model!.terminal)).toEqual(reference.keys.map((key) => reference.terminal[key]));
   // Zero term parts are left out on both sides: a term the outcome does not name is 0.
-  const dropZeros = (rows: Row[]) => rows.map((r) => ({ ...r, terms: Object.fromEntries(Object.entries(r.terms).filter(([, v]) => v !== 0)) }));
+  const dropZeros = (rows: Row[]) =>
+    rows.map((r) => ({ ...r, terms: Object.fromEntries(Object.entries(r.terms).filter(([, v]) => v !== 0)) }));
   expect(rowsOf(model!)).toEqual(dropZeros(reference.rows));
   expect(model!.outcomeCount).toBe(reference.rows.length);
   expect(Array.from(model!.startState)).toEqual([0]);
@@ -158,20 +168,44 @@ export default defineMdp({
 });
 `);
     const errors = findingsOf(report, 'model-error');
-    expect(errors.map((f) => f.message).join('\n')).toMatch(/does not fit together: the column file holds \d+ bytes, not the \d+ of 3 outcomes and 4 state keys/);
+    expect(errors.map((f) => f.message).join('\n')).toMatch(
+      /does not fit together: the column file holds \d+ bytes, not the \d+ of 3 outcomes and 4 state keys/,
+    );
     expect(report.internalErrors).toEqual([]);
     expect(report.model).toBeUndefined();
   }, 60_000);
 
   /** A real enumeration's head and key listing, and a file holding its columns. */
   function writtenEnumeration() {
-    const model = { start: 0, actions: () => ['a', 'b'], terminal: (s: unknown) => ((s as number) >= 5 ? 'goal' : undefined), outcomes: (s: unknown, a: unknown) => [{ state: (s as number) + (a === 'a' ? 1 : 2), probability: 1, reward: 0.5 }] };
-    const chunks = enumerateInChunks(model as ModelFunctions, { stateCap: 100, declaredTerms: [], recheckChoices: 0, progress: new Int32Array(5) });
+    const model = {
+      start: 0,
+      actions: () => ['a', 'b'],
+      terminal: (s: unknown) => ((s as number) >= 5 ? 'goal' : undefined),
+      outcomes: (s: unknown, a: unknown) => [
+        { state: (s as number) + (a === 'a' ? 1 : 2), probability: 1, reward: 0.5 },
+      ],
+    };
+    const chunks = enumerateInChunks(model as ModelFunctions, {
+      stateCap: 100,
+      declaredTerms: [],
+      recheckChoices: 0,
+      progress: new Int32Array(5),
+    });
     const path = join(tmpdir(), `episcope-columns-test-${process.pid}-${Math.random()}`);
     const fd = openSync(path, 'w+');
     rmSync(path);
     const keys = writeColumns(fd, chunks, chunks.head.stateKeys);
-    return { fd, keys, head: { ...chunks.head, stateKeys: [] as string[] }, expected: enumerateModel(model as ModelFunctions, { stateCap: 100, declaredTerms: [], recheckChoices: 0, progress: new Int32Array(5) }) };
+    return {
+      fd,
+      keys,
+      head: { ...chunks.head, stateKeys: [] as string[] },
+      expected: enumerateModel(model as ModelFunctions, {
+        stateCap: 100,
+        declaredTerms: [],
+        recheckChoices: 0,
+        progress: new Int32Array(5),
+      }),
+    };
   }
 
   it('is read back whole when it fits, and the file is emptied', () => {
@@ -234,14 +268,28 @@ export default defineMdp({
 describe('state lookup by value', () => {
   it('keys numbers (small, large, negative, -0, fractions) and strings as their JSON does', () => {
     // Targets jump past the flat table's reach first, so states met early are moved in when it grows.
-    const next = (s: number): unknown[] => [s + 1, (s * 7_919_993) % 5_000_000, -s, s === 0 ? -0 : s / 4, String(s), 2 ** 26 + s];
+    const next = (s: number): unknown[] => [
+      s + 1,
+      (s * 7_919_993) % 5_000_000,
+      -s,
+      s === 0 ? -0 : s / 4,
+      String(s),
+      2 ** 26 + s,
+    ];
     const model = {
       start: 0,
       actions: () => ['go'],
-      terminal: (s: unknown) => (typeof s !== 'number' || s >= 400 || s < 0 || !Number.isInteger(s) || s >= 2 ** 26 ? 'goal' : undefined),
-      outcomes: (s: unknown) => next(s as number).map((state, _i, all) => ({ state, probability: 1 / all.length, reward: 0 })),
+      terminal: (s: unknown) =>
+        typeof s !== 'number' || s >= 400 || s < 0 || !Number.isInteger(s) || s >= 2 ** 26 ? 'goal' : undefined,
+      outcomes: (s: unknown) =>
+        next(s as number).map((state, _i, all) => ({ state, probability: 1 / all.length, reward: 0 })),
     } as unknown as ModelFunctions;
-    const listed = enumerateModel(model, { stateCap: 1e5, declaredTerms: [], recheckChoices: 0, progress: new Int32Array(5) });
+    const listed = enumerateModel(model, {
+      stateCap: 1e5,
+      declaredTerms: [],
+      recheckChoices: 0,
+      progress: new Int32Array(5),
+    });
     const order: unknown[] = [0];
     const index = new Map<string, number>([['0', 0]]);
     const targets: number[] = [];

@@ -20,7 +20,11 @@ function folderWith(files: Record<string, (path: string) => void>): string {
 
 describe('the Node that runs model code', () => {
   test('a plain Node host runs it with its own binary', () => {
-    expect(chooseSandboxNode({ execPath: '/usr/bin/node', versions: { node: '22.3.0' }, path: '' })).toEqual({ path: '/usr/bin/node', major: 22, electron: false });
+    expect(chooseSandboxNode({ execPath: '/usr/bin/node', versions: { node: '22.3.0' }, path: '' })).toEqual({
+      path: '/usr/bin/node',
+      major: 22,
+      electron: false,
+    });
   });
 
   test('an Electron host takes the first working node on PATH', () => {
@@ -39,7 +43,11 @@ describe('the Node that runs model code', () => {
 
   test('an Electron host without a node on PATH falls back to Electron run as Node', () => {
     const empty = folderWith({});
-    expect(chooseSandboxNode({ ...ELECTRON_HOST, path: empty })).toEqual({ path: '/opt/editor/electron', major: 20, electron: true });
+    expect(chooseSandboxNode({ ...ELECTRON_HOST, path: empty })).toEqual({
+      path: '/opt/editor/electron',
+      major: 20,
+      electron: true,
+    });
   });
 });
 

@@ -17,9 +17,25 @@ describe('the sandbox started from a worker thread', () => {
     const cache = join(root, 'node_modules', '.cache');
     mkdirSync(cache, { recursive: true });
     const out = mkdtempSync(join(cache, 'episcope-nested-'));
-    const common: BuildOptions = { bundle: true, platform: 'node', format: 'cjs', target: 'node20', external: ['esbuild'], mainFields: ['module', 'main'], logLevel: 'silent' };
-    buildSync({ ...common, entryPoints: [join(root, 'server/src/analyze.ts')], outfile: join(out, 'typescript-analysis.js') });
-    buildSync({ ...common, entryPoints: [join(root, 'server/src/sandbox/worker.ts')], outfile: join(out, 'sandbox-worker.js') });
+    const common: BuildOptions = {
+      bundle: true,
+      platform: 'node',
+      format: 'cjs',
+      target: 'node20',
+      external: ['esbuild'],
+      mainFields: ['module', 'main'],
+      logLevel: 'silent',
+    };
+    buildSync({
+      ...common,
+      entryPoints: [join(root, 'server/src/analyze.ts')],
+      outfile: join(out, 'typescript-analysis.js'),
+    });
+    buildSync({
+      ...common,
+      entryPoints: [join(root, 'server/src/sandbox/worker.ts')],
+      outfile: join(out, 'sandbox-worker.js'),
+    });
     const specPath = join(out, 'spin.mdp.ts');
     const text = `export default { discount: 0.9, start: 0, actions: () => ['a'], outcomes(s) {\n  let i = 0;\n  while (true) { i++; }\n} };\n`;
     writeFileSync(specPath, text);
@@ -30,7 +46,15 @@ describe('the sandbox started from a worker thread', () => {
          const config = { rules: {}, thresholds: { 'model-error.callTimeoutMs': workerData.callTimeoutMs }, ignore: [], stateCap: 100, rollouts: 0, seed: 1, precision: 1e-6 };
          analyzeFile(workerData.path, workerData.text, { config }).then((r) =>
            parentPort.postMessage(r.findings.map((f) => [f.rule, r.lines.position(f.span.start).line + 1])));`,
-        { eval: true, workerData: { module: join(out, 'typescript-analysis.js'), path: specPath, text, callTimeoutMs: TEST_CALL_TIMEOUT_MS } },
+        {
+          eval: true,
+          workerData: {
+            module: join(out, 'typescript-analysis.js'),
+            path: specPath,
+            text,
+            callTimeoutMs: TEST_CALL_TIMEOUT_MS,
+          },
+        },
       );
       worker.once('message', (message) => {
         resolve(message);

@@ -16,7 +16,10 @@ describe('end-of-job marks in the output streams', () => {
     for (let cut = 0; cut <= stream.length; cut++) {
       for (let second = cut; second <= stream.length; second += 7) {
         const marks = new MarkCounter();
-        const text = [stream.slice(0, cut), stream.slice(cut, second), stream.slice(second)].map((chunk) => marks.strip(chunk)).join('') + marks.rest();
+        const text =
+          [stream.slice(0, cut), stream.slice(cut, second), stream.slice(second)]
+            .map((chunk) => marks.strip(chunk))
+            .join('') + marks.rest();
         expect(text, `cut at ${cut} and ${second}`).toBe(`${output}after\n`);
         expect(marks.seen).toBe(2);
       }
@@ -41,7 +44,10 @@ describe('the output of a job comes with its result', () => {
     let printed = 0;
     for (let i = 0; i < 1000; i++) printed += `out ${i}\n`.length + `err ${i}\n`.length;
     for (let run = 0; run < 3; run++) {
-      const report = await analyzeTs(counterSpec(`    return [{ state: { n: s.n + 1 }, probability: 1, reward: -1 }];`, extra), FAST_LIMITS);
+      const report = await analyzeTs(
+        counterSpec(`    return [{ state: { n: s.n + 1 }, probability: 1, reward: -1 }];`, extra),
+        FAST_LIMITS,
+      );
       const output = report.modelOutput ?? '';
       expect(output).toContain('out 0\n');
       expect(output).toContain(`(${printed - 4000} more characters not shown)`);
@@ -52,7 +58,10 @@ describe('the output of a job comes with its result', () => {
   test('a short output printed at the end of loading is there on every run', async () => {
     const extra = `console.log('loaded and ready'); console.error('warned once');`;
     for (let run = 0; run < 5; run++) {
-      const report = await analyzeTs(counterSpec(`    return [{ state: { n: s.n + 1 }, probability: 1, reward: -1 }];`, extra), FAST_LIMITS);
+      const report = await analyzeTs(
+        counterSpec(`    return [{ state: { n: s.n + 1 }, probability: 1, reward: -1 }];`, extra),
+        FAST_LIMITS,
+      );
       expect(report.modelOutput).toContain('loaded and ready');
       expect(report.modelOutput).toContain('warned once');
     }

@@ -35,7 +35,10 @@ beforeAll(() => {
 describe('dist/cli.js on a TypeScript model whose dynamics never return', () => {
   const folder = tempFolder('spinner');
   const spec = join(folder, 'spinner.mdp.ts');
-  writeFileSync(spec, `export default { discount: 0.9, start: 0, actions: () => ['spin'], outcomes(s) {\n  while (true) {}\n} };\n`);
+  writeFileSync(
+    spec,
+    `export default { discount: 0.9, start: 0, actions: () => ['spin'], outcomes(s) {\n  while (true) {}\n} };\n`,
+  );
 
   for (const format of ['text', 'json']) {
     test(`prints the model-error and exits with status 1 within ${EXIT_LIMIT_MS / 1000} s (--format ${format})`, () => {
@@ -55,7 +58,9 @@ describe('dist/cli.js on a TypeScript model whose dynamics never return', () => 
         const findings = JSON.parse(result.stdout).files[0].findings;
         expect(findings.map((f: { rule: string; line: number }) => [f.rule, f.line])).toEqual([['model-error', 2]]);
       } else {
-        expect(result.stdout).toContain('spinner.mdp.ts:2:3 error model-error outcomes(0, "spin") did not return within 2000 ms');
+        expect(result.stdout).toContain(
+          'spinner.mdp.ts:2:3 error model-error outcomes(0, "spin") did not return within 2000 ms',
+        );
       }
     });
   }

@@ -15,13 +15,17 @@ describe('episcope check on a folder of JSON and TypeScript specs', () => {
   );
 
   test('exact values for the enumerable model, intervals for the sampled one, a model-error for the hostile one', async () => {
-    const result = await cli(['check', folder, '--format', 'json', '--rollouts', '500', '--seed', '3'], { cwd: folder });
+    const result = await cli(['check', folder, '--format', 'json', '--rollouts', '500', '--seed', '3'], {
+      cwd: folder,
+    });
     expect(result.code).toBe(1);
     const output = JSON.parse(result.stdout);
     expectContract(output, false);
     const byPath = new Map<string, any>(output.files.map((f: any) => [f.path, f]));
     const shelf = byPath.get('shelf-restocking.mdp.ts');
-    expect(shelf.analysis.exact === true || shelf.analysis.start.optimal.upper - shelf.analysis.start.optimal.lower <= 1e-5).toBe(true);
+    expect(
+      shelf.analysis.exact === true || shelf.analysis.start.optimal.upper - shelf.analysis.start.optimal.lower <= 1e-5,
+    ).toBe(true);
     expect(shelf.analysis.states).toBe(61);
     // --rollouts on an exact model adds the optimal and the random policy's return distribution.
     expect(shelf.rollouts.optimal.episodes).toBe(500);
@@ -48,7 +52,9 @@ describe('episcope check on a folder of JSON and TypeScript specs', () => {
   test('the text output prints the sampled figures', async () => {
     const result = await cli(['check', join(folder, 'battery-courier.mdp.ts'), '--seed', '5'], { cwd: folder });
     expect(result.code).toBe(0);
-    expect(result.stdout).toMatch(/rollouts \(random policy, 1000 episodes, seed 5\): return -?\d+(\.\d+)? \(95% interval -?\d/);
+    expect(result.stdout).toMatch(
+      /rollouts \(random policy, 1000 episodes, seed 5\): return -?\d+(\.\d+)? \(95% interval -?\d/,
+    );
     expect(result.stdout).toMatch(/percentiles 5\/25\/50\/75\/95: /);
   });
 });

@@ -30,7 +30,12 @@ function typeErrors(files: string[], extra: Record<string, string> = {}): string
 
 describe('the authoring types (defineMdp)', () => {
   test('defineMdp is the identity', () => {
-    const definition = { discount: 0.9, start: 0, actions: () => ['a'], outcomes: () => [{ state: 0, probability: 1, reward: 0 }] };
+    const definition = {
+      discount: 0.9,
+      start: 0,
+      actions: () => ['a'],
+      outcomes: () => [{ state: 0, probability: 1, reward: 0 }],
+    };
     expect(defineMdp(definition)).toBe(definition);
   });
 

@@ -63,7 +63,20 @@ describe('enumerable TypeScript models: exact analysis like JSON specs', () => {
     expect(report.model?.stateIndex.has('{"stock":8,"weekday":0}')).toBe(false);
     // Independent transcription of the example's dynamics (same invented numbers), solved by value
     // iteration to a residual of 1e-13 (Bellman, 1957; the contraction bound gives the error).
-    const demand = (d: number) => (d >= 5 ? [[1, 0.2], [2, 0.3], [3, 0.3], [4, 0.2]] : [[0, 0.3], [1, 0.4], [2, 0.2], [3, 0.1]]);
+    const demand = (d: number) =>
+      d >= 5
+        ? [
+            [1, 0.2],
+            [2, 0.3],
+            [3, 0.3],
+            [4, 0.2],
+          ]
+        : [
+            [0, 0.3],
+            [1, 0.4],
+            [2, 0.2],
+            [3, 0.1],
+          ];
     let v = Array.from({ length: 9 }, () => new Array<number>(7).fill(0));
     for (let iteration = 0; iteration < 5000; iteration++) {
       let change = 0;
@@ -87,7 +100,7 @@ describe('enumerable TypeScript models: exact analysis like JSON specs', () => {
         }
       }
       v = next;
-      if (change * 0.95 / 0.05 < 1e-10) break;
+      if ((change * 0.95) / 0.05 < 1e-10) break;
     }
     expectContains([report.analysis!.start.optimal.lower, report.analysis!.start.optimal.upper], v[4][0]);
     // Reward terms keep their parts: sales are a bonus, the rest penalties, and no term-direction finding fires.
@@ -143,9 +156,15 @@ describe('enumerable TypeScript models: exact analysis like JSON specs', () => {
       const [finding] = findingsOf(report, rule);
       expect(report.text.slice(finding.span.start, finding.span.end), rule).toBe('outcomes');
       // Every move of the loop, the one out of the start state included, was produced by outcomes().
-      expect(finding.related!.map((r) => report.text.slice(r.span.start, r.span.end)), rule).toEqual(['outcomes', 'outcomes', 'outcomes']);
+      expect(
+        finding.related!.map((r) => report.text.slice(r.span.start, r.span.end)),
+        rule,
+      ).toEqual(['outcomes', 'outcomes', 'outcomes']);
       const moves = finding.trace!.filter((step) => step.action);
-      expect(moves.map((step) => report.text.slice(step.span!.start, step.span!.end)), rule).toEqual(['outcomes', 'outcomes', 'outcomes']);
+      expect(
+        moves.map((step) => report.text.slice(step.span!.start, step.span!.end)),
+        rule,
+      ).toEqual(['outcomes', 'outcomes', 'outcomes']);
     }
   });
 });
@@ -169,14 +188,18 @@ export default { discount: 0.9, start: 0, actions: () => ['go'], terminal: (s) =
   outcomes: (s) => [{ state: s + 1, probability: 1, reward: calls++ }] };`;
     const report = await analyzeTs(enumerable);
     const [finding] = findingsOf(report, 'nondeterministic-model');
-    expect(finding.message).toMatch(/^outcomes\(0, "go"\) answered differently when called again with the same arguments: first 1 p=1 r=0, then 1 p=1 r=\d+/);
+    expect(finding.message).toMatch(
+      /^outcomes\(0, "go"\) answered differently when called again with the same arguments: first 1 p=1 r=0, then 1 p=1 r=\d+/,
+    );
     expect(report.analysis).toBeUndefined();
 
     const sampled = `let episodes = 0;
 export default { discount: 0.9, start: (rng) => { episodes++; return 0; }, actions: () => ['go'],
   sample: (s, a, rng) => ({ state: s + 1, reward: episodes > 1000 ? 2 : 1, terminal: s >= 2 ? 'goal' : undefined }) };`;
     const replay = await analyzeTs(sampled, { rollouts: 1000 });
-    expect(findingsOf(replay, 'nondeterministic-model')[0]?.message).toMatch(/^episode 0 of seed 1 took a different trajectory when replayed with the same seed/);
+    expect(findingsOf(replay, 'nondeterministic-model')[0]?.message).toMatch(
+      /^episode 0 of seed 1 took a different trajectory when replayed with the same seed/,
+    );
   });
 
   test('episode-never-ends: discount 1, no horizon, rollouts that hit the step cap', async () => {
@@ -187,7 +210,10 @@ export default { discount: 0.9, start: (rng) => { episodes++; return 0; }, actio
     expect(finding.message).toMatch(/^\d+ of 200 rollouts \(\d+\.\d%\) ran 100 steps without ending/);
     expect(report.text.slice(finding.span.start, finding.span.end)).toBe('1');
     // The same model with a horizon is fine.
-    const capped = await analyzeTs(text.replace('discount: 1,', 'discount: 1, horizon: 50,'), { rollouts: 200, thresholds: { 'episode-never-ends.stepCap': 100 } });
+    const capped = await analyzeTs(text.replace('discount: 1,', 'discount: 1, horizon: 50,'), {
+      rollouts: 200,
+      thresholds: { 'episode-never-ends.stepCap': 100 },
+    });
     expect(findingsOf(capped, 'episode-never-ends')).toEqual([]);
   });
 });

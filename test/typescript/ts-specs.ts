@@ -65,4 +65,6 @@ ${body}
 export const TEST_CALL_TIMEOUT_MS = 3000;
 
 /** Limits for hostile cases: a hang ends after TEST_CALL_TIMEOUT_MS, a memory bomb at 64 MB. */
-export const FAST_LIMITS: EpiscopeConfig = { thresholds: { 'model-error.callTimeoutMs': TEST_CALL_TIMEOUT_MS, 'model-error.memoryMb': 64 } };
+export const FAST_LIMITS: EpiscopeConfig = {
+  thresholds: { 'model-error.callTimeoutMs': TEST_CALL_TIMEOUT_MS, 'model-error.memoryMb': 64 },
+};

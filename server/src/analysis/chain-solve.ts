@@ -18,7 +18,13 @@ import type { ModelGraph } from './graph';
 import { scaledWidth } from './interval-iteration';
 import { guessAt } from './warm-start';
 import { dissectionRank } from './sparse-lu';
-import { BlockSolver, newSolverCounters, sortRowByColumn, type SolverCounters, type SparseMatrix } from './sparse-linear';
+import {
+  BlockSolver,
+  newSolverCounters,
+  sortRowByColumn,
+  type SolverCounters,
+  type SparseMatrix,
+} from './sparse-linear';
 
 /**
  * How the rows of a system map to the model: rowOf[s] is the row of state s (several states may
@@ -121,7 +127,9 @@ export function buildLinearSystem(
   }
   const matrix: SparseMatrix = { n: rows, rowStart, column, value };
   let rowRank: Int32Array | undefined | null = null;
-  const ranks = graph ? () => (rowRank === null ? (rowRank = rowRanks(layout, eliminationRankOf(graph))) : rowRank) : undefined;
+  const ranks = graph
+    ? () => (rowRank === null ? (rowRank = rowRanks(layout, eliminationRankOf(graph))) : rowRank)
+    : undefined;
   return { model, layout, matrix, solver: new BlockSolver(matrix, counters, ranks), discount };
 }
 
@@ -172,7 +180,8 @@ function eliminationRankOf(graph: ModelGraph): Int32Array | undefined {
     rowStart[v + 1] = fill;
   }
   column = column.slice(0, fill);
-  const vertexRank = vertices > 0 ? dissectionRank({ n: vertices, rowStart, column, value: new Float64Array(0) }) : undefined;
+  const vertexRank =
+    vertices > 0 ? dissectionRank({ n: vertices, rowStart, column, value: new Float64Array(0) }) : undefined;
   let rank: Int32Array | undefined;
   if (vertexRank) {
     rank = new Int32Array(n).fill(0x7fffffff);
@@ -186,7 +195,13 @@ function eliminationRankOf(graph: ModelGraph): Int32Array | undefined {
  * The system of a policy (its choice per state) or, without one, of the uniformly random policy
  * over every choice; one row per non-absorbing state.
  */
-export function buildChainSystem(model: CompiledModel, graph: ModelGraph, policy: Int32Array | undefined, discount: number, counters?: SolverCounters): ChainSystem {
+export function buildChainSystem(
+  model: CompiledModel,
+  graph: ModelGraph,
+  policy: Int32Array | undefined,
+  discount: number,
+  counters?: SolverCounters,
+): ChainSystem {
   const n = model.stateCount;
   const { choiceStart } = model;
   const rowOf = new Int32Array(n).fill(-1);
@@ -322,7 +337,14 @@ export function certifiedSolve(
  * With a precision, the system's error direction is tried first (no solve once it is known), and
  * kept when its radius is within a quarter of the precision.
  */
-function certifiedRadius(system: LinearSystem, x: Float64Array, residual: Float64Array, residualError: Float64Array, want: Uint8Array, precision?: number): Float64Array | undefined {
+function certifiedRadius(
+  system: LinearSystem,
+  x: Float64Array,
+  residual: Float64Array,
+  residualError: Float64Array,
+  want: Uint8Array,
+  precision?: number,
+): Float64Array | undefined {
   if (precision !== undefined) {
     const direction = errorDirectionOf(system, want);
     const covering = direction && coveringBound(system, direction, residual, residualError, want);
@@ -362,10 +384,17 @@ function errorDirectionOf(system: LinearSystem, want: Uint8Array): Float64Array 
  * (m A) D >= 1 was checked row by row with rounding. Berman and Plemmons' M-matrix argument of
  * errorBound applies to E unchanged. Undefined when the residual is not finite.
  */
-function coveringBound(system: LinearSystem, direction: Float64Array, residual: Float64Array, residualError: Float64Array, want: Uint8Array): Float64Array | undefined {
+function coveringBound(
+  system: LinearSystem,
+  direction: Float64Array,
+  residual: Float64Array,
+  residualError: Float64Array,
+  want: Uint8Array,
+): Float64Array | undefined {
   const { blockOf } = system.solver;
   let largest = 0;
-  for (let i = 0; i < residual.length; i++) if (want[blockOf[i]]) largest = Math.max(largest, Math.abs(residual[i]) + residualError[i]);
+  for (let i = 0; i < residual.length; i++)
+    if (want[blockOf[i]]) largest = Math.max(largest, Math.abs(residual[i]) + residualError[i]);
   if (!Number.isFinite(largest)) return undefined;
   // The product rounds; a relative 1e-12 more covers it.
   const scale = Math.max(largest, Number.MIN_VALUE) * (1 + 1e-12);
@@ -374,7 +403,13 @@ function coveringBound(system: LinearSystem, direction: Float64Array, residual: 
   return bound;
 }
 
-function withinPrecision(x: Float64Array, radius: Float64Array, want: Uint8Array, blockOf: Int32Array, precision: number): boolean {
+function withinPrecision(
+  x: Float64Array,
+  radius: Float64Array,
+  want: Uint8Array,
+  blockOf: Int32Array,
+  precision: number,
+): boolean {
   for (let i = 0; i < x.length; i++) {
     if (want[blockOf[i]] && !(scaledWidth(x[i] - radius[i], x[i] + radius[i]) <= precision)) return false;
   }
@@ -443,7 +478,15 @@ function productError(a: number, b: number, p: number): number {
  * Comput. 26(6), 2005, algorithm Dot2). Writes the residual and a bound on its computing error
  * (their Proposition 5.5, with room to spare); returns the largest |residual| + error.
  */
-function modelResidual(system: LinearSystem, reward: Float64Array, emptyRowValue: number, x: Float64Array, wanted: Uint8Array, residual: Float64Array, error: Float64Array): number {
+function modelResidual(
+  system: LinearSystem,
+  reward: Float64Array,
+  emptyRowValue: number,
+  x: Float64Array,
+  wanted: Uint8Array,
+  residual: Float64Array,
+  error: Float64Array,
+): number {
   const { model, solver, discount, layout } = system;
   const { rowOf } = layout;
   const { outcomeStart, outcomeTarget, outcomeProb } = model;
@@ -511,11 +554,17 @@ function modelResidual(system: LinearSystem, reward: Float64Array, emptyRowValue
  * with A E > 0 makes A a nonsingular M-matrix, so |v - x| = |A^-1 res / m| <= E row by row.
  * Undefined when the check fails.
  */
-function errorBound(system: LinearSystem, residual: Float64Array, residualError: Float64Array, wanted: Uint8Array): Float64Array | undefined {
+function errorBound(
+  system: LinearSystem,
+  residual: Float64Array,
+  residualError: Float64Array,
+  wanted: Uint8Array,
+): Float64Array | undefined {
   const { layout, solver } = system;
   const n = layout.rows;
   let largest = 0;
-  for (let i = 0; i < n; i++) if (wanted[solver.blockOf[i]]) largest = Math.max(largest, Math.abs(residual[i]) + residualError[i]);
+  for (let i = 0; i < n; i++)
+    if (wanted[solver.blockOf[i]]) largest = Math.max(largest, Math.abs(residual[i]) + residualError[i]);
   // A floor keeps every entry of the target positive, as the M-matrix test needs. Where A E is a
   // small difference of large entries of E the check cannot see it through rounding; a higher
   // floor (still far below the values' precision) then makes every row's A E clearly positive.

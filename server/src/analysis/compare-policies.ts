@@ -35,7 +35,12 @@ export interface ShapingComparison {
 const plainAnalyses = new WeakMap<Analysis, Analysis>();
 
 /** The analysis of the same MDP with `plainReward`, computed once per shaped analysis. */
-export function plainAnalysisOf(model: CompiledModel, shaped: Analysis, plainReward: Float64Array, precision: number): Analysis {
+export function plainAnalysisOf(
+  model: CompiledModel,
+  shaped: Analysis,
+  plainReward: Float64Array,
+  precision: number,
+): Analysis {
   let plain = plainAnalyses.get(shaped);
   if (!plain) {
     plain = analyzeModel(withReward(model, plainReward), { precision });
@@ -55,7 +60,16 @@ export function compareShapedPolicies(
   const plainModel = plain.model;
   const result: ShapingComparison = { plain, differences: [], differingStates: 0 };
   if (shaped.horizon && plain.horizon) {
-    compareFiniteHorizon(model, plainModel, shaped.horizon, plain.horizon, shaped.reachable, precision, maxDifferences, result);
+    compareFiniteHorizon(
+      model,
+      plainModel,
+      shaped.horizon,
+      plain.horizon,
+      shaped.reachable,
+      precision,
+      maxDifferences,
+      result,
+    );
     result.plainOptimalReturn = point(startValue(plainModel, plain.horizon, plain.horizon.horizon));
     result.shapedPolicyPlainReturn = point(evaluateFiniteHorizon(plainModel, shaped.horizon));
     return result;
@@ -86,7 +100,13 @@ function point(x: number): Interval {
  * difference the bounds prove, never a near-tie. States whose value is undefined under either reward
  * are not compared.
  */
-function stationaryDifference(model: CompiledModel, shaped: Analysis, plain: Analysis, s: number, precision: number): PolicyDifference | undefined {
+function stationaryDifference(
+  model: CompiledModel,
+  shaped: Analysis,
+  plain: Analysis,
+  s: number,
+  precision: number,
+): PolicyDifference | undefined {
   // Where either value is undefined (bounds -inf to inf), neither reward says which action is best.
   for (const analysis of [shaped, plain]) {
     const { lower, upper } = analysis.optimal.values;
@@ -120,7 +140,10 @@ function stationaryDifference(model: CompiledModel, shaped: Analysis, plain: Ana
       state: s,
       shapedChoice,
       plainChoice,
-      plainQ: { shaped: { lower: plain.q.lower[shapedChoice], upper: plain.q.upper[shapedChoice] }, plain: { lower: plain.q.lower[plainChoice], upper: plain.q.upper[plainChoice] } },
+      plainQ: {
+        shaped: { lower: plain.q.lower[shapedChoice], upper: plain.q.upper[shapedChoice] },
+        plain: { lower: plain.q.lower[plainChoice], upper: plain.q.upper[plainChoice] },
+      },
     };
   }
   return undefined;
@@ -185,14 +208,19 @@ function compareFiniteHorizon(
         for (let c = first; c < last; c++) if (isBest(c)) return c;
         return first;
       };
-      if (shapedChoice < 0) shapedChoice = pick((c) => sign * qValue(shapedModel, shaped, c, k) >= bestShaped - shapedTolerance);
-      if (plainChoice < 0) plainChoice = pick((c) => sign * qValue(plainModel, plain, c, k) >= bestPlain - plainTolerance);
+      if (shapedChoice < 0)
+        shapedChoice = pick((c) => sign * qValue(shapedModel, shaped, c, k) >= bestShaped - shapedTolerance);
+      if (plainChoice < 0)
+        plainChoice = pick((c) => sign * qValue(plainModel, plain, c, k) >= bestPlain - plainTolerance);
       result.differences.push({
         state: s,
         stepsLeft: k,
         shapedChoice,
         plainChoice,
-        plainQ: { shaped: point(qValue(plainModel, plain, shapedChoice, k)), plain: point(qValue(plainModel, plain, plainChoice, k)) },
+        plainQ: {
+          shaped: point(qValue(plainModel, plain, shapedChoice, k)),
+          plain: point(qValue(plainModel, plain, plainChoice, k)),
+        },
       });
     }
     current = next;
@@ -224,13 +252,16 @@ function evaluateFiniteHorizon(plainModel: CompiledModel, shaped: FiniteHorizonS
       let total = 0;
       for (let o = plainModel.outcomeStart[c]; o < plainModel.outcomeStart[c + 1]; o++) {
         const t = plainModel.outcomeTarget[o];
-        total += plainModel.outcomeProb[o] * (plainModel.outcomeReward[o] + plainModel.discount * (plainModel.terminal[t] !== 0 ? 0 : later[t]));
+        total +=
+          plainModel.outcomeProb[o] *
+          (plainModel.outcomeReward[o] + plainModel.discount * (plainModel.terminal[t] !== 0 ? 0 : later[t]));
       }
       now[s] = total;
     }
     later = now;
   }
   let total = 0;
-  for (let i = 0; i < plainModel.startState.length; i++) total += plainModel.startProb[i] * later[plainModel.startState[i]];
+  for (let i = 0; i < plainModel.startState.length; i++)
+    total += plainModel.startProb[i] * later[plainModel.startState[i]];
   return total;
 }

@@ -142,7 +142,8 @@ export function solveFiniteHorizon(graph: ModelGraph, horizon: number, inputs: H
           if (bestChoice < 0) bestChoice = c;
           if (k === steps) isBest[c] = 1;
         }
-        if (worstChoice < 0 && -sigma * (inputs.reward[c] + discount * expect(c, worstValue.prev)) >= worstQ - worstTol) worstChoice = c;
+        if (worstChoice < 0 && -sigma * (inputs.reward[c] + discount * expect(c, worstValue.prev)) >= worstQ - worstTol)
+          worstChoice = c;
       }
       optimalValue.cur[s] = inputs.reward[bestChoice] + discount * expect(bestChoice, optimalValue.prev);
       worstValue.cur[s] = inputs.reward[worstChoice] + discount * expect(worstChoice, worstValue.prev);
@@ -198,7 +199,8 @@ export function solveFiniteHorizon(graph: ModelGraph, horizon: number, inputs: H
       rmax = Math.max(rmax, inputs.reward[c]);
     }
     const remaining = horizon - steps;
-    const geometric = discount === 1 ? remaining : (Math.pow(discount, steps) * (1 - Math.pow(discount, remaining))) / (1 - discount);
+    const geometric =
+      discount === 1 ? remaining : (Math.pow(discount, steps) * (1 - Math.pow(discount, remaining))) / (1 - discount);
     tailLower = rmin * geometric;
     tailUpper = rmax * geometric;
   }

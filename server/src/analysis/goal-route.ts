@@ -78,7 +78,12 @@ export function goalRoute(model: CompiledModel, analysis: Analysis, precision: n
   const chain = policyChain(model, policy);
   // The route's chain is analysed like the model: from the last route's solution, kept for the next
   // one. Its expected lengths are not solved: the rules read its values and reach probabilities only.
-  const evaluation = analyzeModel(chain.model, { precision, startFrom: analysis.derivedStart?.[ROUTE], keepSolution: analysis.solution !== undefined, expectedLengths: false });
+  const evaluation = analyzeModel(chain.model, {
+    precision,
+    startFrom: analysis.derivedStart?.[ROUTE],
+    keepSolution: analysis.solution !== undefined,
+    expectedLengths: false,
+  });
   if (analysis.solution && evaluation.solution) (analysis.solution.derived ??= {})[ROUTE] = evaluation.solution;
   return { policy, evaluation };
 }

@@ -38,7 +38,8 @@ export function graphWithin(graph: ModelGraph, allowed: Uint8Array): ModelGraph 
   }
   const choices = new Int32Array(kept);
   let fill = 0;
-  for (let t = 0; t < n; t++) for (let i = predStart[t]; i < predStart[t + 1]; i++) if (allowed[predChoice[i]]) choices[fill++] = predChoice[i];
+  for (let t = 0; t < n; t++)
+    for (let i = predStart[t]; i < predStart[t + 1]; i++) if (allowed[predChoice[i]]) choices[fill++] = predChoice[i];
   return { ...graph, predStart: start, predChoice: choices };
 }
 

@@ -13,13 +13,27 @@
 import { TERMINAL_CODE, type CompiledModel } from '../model/compiled';
 import { maximalEndComponents, type EndComponentDecomposition } from './end-components';
 import { solveFiniteHorizon } from './finite-horizon';
-import { expectedChoiceValues, graphOf, graphWithin, expectedRewards, terminalEntryProbabilities, type ModelGraph } from './graph';
+import {
+  expectedChoiceValues,
+  graphOf,
+  graphWithin,
+  expectedRewards,
+  terminalEntryProbabilities,
+  type ModelGraph,
+} from './graph';
 import { COMBINE_AVERAGE, COMBINE_MAX, COMBINE_MIN, COMBINE_POLICY, scaledWidth } from './interval-iteration';
 import { classifyMdpGains, GAIN_NEGATIVE, GAIN_POSITIVE, GAIN_ZERO, type MdpGainClasses } from './mean-payoff';
 import { attainingPolicy, bestChoices, choiceBounds } from './policy';
 import { almostSureReach, canReach, reachableFromStart } from './reachability';
 import { stronglyConnectedComponents } from './scc';
-import { policyChoiceMask, singleChoiceModel, solveValues, sortWithinComponents, type AnalysisContext, type ValueSolution } from './total-reward';
+import {
+  policyChoiceMask,
+  singleChoiceModel,
+  solveValues,
+  sortWithinComponents,
+  type AnalysisContext,
+  type ValueSolution,
+} from './total-reward';
 import { guessesFor, UNDISCOUNTED_PREFIX, warmStartOf, type WarmStart } from './warm-start';
 import type {
   Analysis,
@@ -84,7 +98,11 @@ export function analyzeModel(model: CompiledModel, options: AnalyzeModelOptions)
     mecs,
     fullScc,
     precision,
-    maxSweeps: Math.min(options.maxSweeps ?? MAX_SWEEPS, MAX_SWEEPS, Math.max(1000, Math.floor(SWEEP_WORK_LIMIT / Math.max(1, model.outcomeCount)))),
+    maxSweeps: Math.min(
+      options.maxSweeps ?? MAX_SWEEPS,
+      MAX_SWEEPS,
+      Math.max(1000, Math.floor(SWEEP_WORK_LIMIT / Math.max(1, model.outcomeCount))),
+    ),
     directSolves: options.directSolves,
     gainBudget: GAIN_WORK_LIMIT,
     guesses: guessesFor(model, options.startFrom),
@@ -97,14 +115,20 @@ export function analyzeModel(model: CompiledModel, options: AnalyzeModelOptions)
   const terms = termRewards(model, reward);
   const sigma = model.maximize ? 1 : -1;
 
-  const base = model.horizon !== undefined
-    ? horizonAnalysis(graph, model.horizon, reward, entry, terms)
-    : stationaryAnalysis(ctx, reward, entry, terms, options.expectedLengths !== false);
+  const base =
+    model.horizon !== undefined
+      ? horizonAnalysis(graph, model.horizon, reward, entry, terms)
+      : stationaryAnalysis(ctx, reward, entry, terms, options.expectedLengths !== false);
 
   const gains = base.gains ?? classifyMdpGains(graph, mecs, reward, sigma, GAIN_WORK_LIMIT);
-  const endComponents: EndComponent[] = mecs.states.map((states, i) => endComponentOf(states, mecs.choices[i], gains, i, sigma));
+  const endComponents: EndComponent[] = mecs.states.map((states, i) =>
+    endComponentOf(states, mecs.choices[i], gains, i, sigma),
+  );
 
-  const termShares = shareOf(terms.map((t, i) => ({ term: t.name, value: startPoint(model, base.termValues[i]) })), precision);
+  const termShares = shareOf(
+    terms.map((t, i) => ({ term: t.name, value: startPoint(model, base.termValues[i]) })),
+    precision,
+  );
   const start: StartSummary = {
     optimal: startInterval(model, base.optimal.values),
     worst: startInterval(model, base.worst.values),
@@ -129,7 +153,12 @@ export function analyzeModel(model: CompiledModel, options: AnalyzeModelOptions)
     horizon: base.horizon,
     termShares,
     start,
-    precision: Math.max(widestBound(base.optimal.values), widestBound(base.worst.values), widestBound(base.random.values), ctx.widestFigure ?? 0),
+    precision: Math.max(
+      widestBound(base.optimal.values),
+      widestBound(base.worst.values),
+      widestBound(base.random.values),
+      ctx.widestFigure ?? 0,
+    ),
     solves: ctx.counters?.solves ?? 0,
     krylovIterations: ctx.counters?.krylovIterations ?? 0,
     exact: base.exact,
@@ -142,7 +171,10 @@ export function analyzeModel(model: CompiledModel, options: AnalyzeModelOptions)
 }
 
 /** What the stationary and the finite-horizon paths both produce. */
-type CoreResult = Pick<Analysis, 'optimal' | 'worst' | 'random' | 'q' | 'isBest' | 'maxGoalReach' | 'horizon' | 'exact' | 'iterations'> & {
+type CoreResult = Pick<
+  Analysis,
+  'optimal' | 'worst' | 'random' | 'q' | 'isBest' | 'maxGoalReach' | 'horizon' | 'exact' | 'iterations'
+> & {
   /** Per reward term (in termRewards order), its total under the optimal policy. */
   termValues: Bounds[];
   /** The end-component classification of the optimal solve, when it made one. */
@@ -159,7 +191,10 @@ interface TermReward {
  * potential-based shaping ("shaping"). Without named terms or shaping, the remainder is the reward.
  */
 function termRewards(model: CompiledModel, reward: Float64Array): TermReward[] {
-  const out: TermReward[] = model.termNames.map((name, j) => ({ name, perChoice: expectedChoiceValues(model, model.outcomeTermReward[j]) }));
+  const out: TermReward[] = model.termNames.map((name, j) => ({
+    name,
+    perChoice: expectedChoiceValues(model, model.outcomeTermReward[j]),
+  }));
   const shaping = model.outcomePotentialReward;
   if (out.length === 0 && !shaping) return [{ name: '', perChoice: reward }];
   const remainder = new Float64Array(model.outcomeCount);
@@ -191,7 +226,11 @@ function termRewards(model: CompiledModel, reward: Float64Array): TermReward[] {
  * would shift the return of a policy that stays by Phi (the unsound [-1, -1] for a state that can
  * stay forever at Phi = 1 for 0 per step). Undefined when that does not apply or changes nothing.
  */
-function shapingShift(model: CompiledModel, graph: ModelGraph, mecs: EndComponentDecomposition): { unshaped: Float64Array; shift: Float64Array; potentialShift: Float64Array } | undefined {
+function shapingShift(
+  model: CompiledModel,
+  graph: ModelGraph,
+  mecs: EndComponentDecomposition,
+): { unshaped: Float64Array; shift: Float64Array; potentialShift: Float64Array } | undefined {
   const { potential, outcomePotentialReward } = model;
   if (model.discount !== 1 || !potential || !outcomePotentialReward) return undefined;
   for (let s = 0; s < model.stateCount; s++) if (model.terminal[s] !== 0 && potential[s] !== 0) return undefined;
@@ -229,7 +268,13 @@ function shifted(bounds: Bounds, shift: Float64Array, owner?: Int32Array): Bound
   return { lower, upper };
 }
 
-function stationaryAnalysis(ctx: AnalysisContext, shapedReward: Float64Array, entry: (Float64Array | undefined)[], terms: TermReward[], lengths: boolean): CoreResult {
+function stationaryAnalysis(
+  ctx: AnalysisContext,
+  shapedReward: Float64Array,
+  entry: (Float64Array | undefined)[],
+  terms: TermReward[],
+  lengths: boolean,
+): CoreResult {
   const { model, graph } = ctx;
   const discount = model.discount;
   const transform = shapingShift(model, graph, ctx.mecs);
@@ -240,7 +285,9 @@ function stationaryAnalysis(ctx: AnalysisContext, shapedReward: Float64Array, en
   const chain = singleChoiceModel(graph);
   const maxSolution = solveValues(ctx, { combine: COMBINE_MAX, reward, discount, name: 'max' });
   const minSolution = chain ? maxSolution : solveValues(ctx, { combine: COMBINE_MIN, reward, discount, name: 'min' });
-  const randomSolution = chain ? maxSolution : solveValues(ctx, { combine: COMBINE_AVERAGE, reward, discount, name: 'random' });
+  const randomSolution = chain
+    ? maxSolution
+    : solveValues(ctx, { combine: COMBINE_AVERAGE, reward, discount, name: 'random' });
   const optimalSolution = model.maximize ? maxSolution : minSolution;
   const worstSolution = model.maximize ? minSolution : maxSolution;
   const sigma = model.maximize ? 1 : -1;
@@ -249,11 +296,27 @@ function stationaryAnalysis(ctx: AnalysisContext, shapedReward: Float64Array, en
   const isBest = bestChoices(graph, q, optimalSolution.lower, optimalSolution.upper, sigma);
   const optimalPolicy = attainingPolicy(graph, optimalSolution, q, isBest, sigma);
   const worstQ = choiceBounds(model, reward, discount, worstSolution.lower, worstSolution.upper);
-  const worstPolicy = attainingPolicy(graph, worstSolution, worstQ, bestChoices(graph, worstQ, worstSolution.lower, worstSolution.upper, -sigma), -sigma);
+  const worstPolicy = attainingPolicy(
+    graph,
+    worstSolution,
+    worstQ,
+    bestChoices(graph, worstQ, worstSolution.lower, worstSolution.upper, -sigma),
+    -sigma,
+  );
 
   // Each solve is named for warm starts; the reach and length problems are at discount 1 whatever the model's.
-  const underPolicy = (policy: Int32Array | undefined) => (name: string, perChoice: Float64Array, discountFactor: number, lowerBound?: number, upperBound?: number) =>
-    solveValues(ctx, { combine: policy ? COMBINE_POLICY : COMBINE_AVERAGE, policy, reward: perChoice, discount: discountFactor, lowerBound, upperBound, name });
+  const underPolicy =
+    (policy: Int32Array | undefined) =>
+    (name: string, perChoice: Float64Array, discountFactor: number, lowerBound?: number, upperBound?: number) =>
+      solveValues(ctx, {
+        combine: policy ? COMBINE_POLICY : COMBINE_AVERAGE,
+        policy,
+        reward: perChoice,
+        discount: discountFactor,
+        lowerBound,
+        upperBound,
+        name,
+      });
   const describe = (solution: ValueSolution, policy: Int32Array | undefined, label: string): PolicyAnalysis => {
     const solve = underPolicy(policy);
     // The graph searches of every terminal kind read only the policy's choices: one restricted
@@ -262,30 +325,55 @@ function stationaryAnalysis(ctx: AnalysisContext, shapedReward: Float64Array, en
     const reach = reachOf(
       model.stateCount,
       entry.map((e, i) =>
-        e ? withCertainties(chainGraph, () => pointValues(solve(`${UNDISCOUNTED_PREFIX}${label}:reach${i}`, e, 1, 0, 1), ctx), KIND_CODES[i], 'chain') : undefined,
+        e
+          ? withCertainties(
+              chainGraph,
+              () => pointValues(solve(`${UNDISCOUNTED_PREFIX}${label}:reach${i}`, e, 1, 0, 1), ctx),
+              KIND_CODES[i],
+              'chain',
+            )
+          : undefined,
       ),
     );
-    const expectedLength = lengths ? pointValues(solve(`${UNDISCOUNTED_PREFIX}${label}:length`, ones, 1, 0), ctx) : new Float64Array(model.stateCount).fill(NaN);
+    const expectedLength = lengths
+      ? pointValues(solve(`${UNDISCOUNTED_PREFIX}${label}:length`, ones, 1, 0), ctx)
+      : new Float64Array(model.stateCount).fill(NaN);
     return { values: { lower: solution.lower, upper: solution.upper }, reach, expectedLength, policy };
   };
   const ones = new Float64Array(model.choiceCount).fill(1);
   const optimal = describe(optimalSolution, optimalPolicy, 'optimal');
-  const sameChain = (solution: ValueSolution, policy: Int32Array | undefined): PolicyAnalysis => ({ ...optimal, values: { lower: solution.lower, upper: solution.upper }, policy });
+  const sameChain = (solution: ValueSolution, policy: Int32Array | undefined): PolicyAnalysis => ({
+    ...optimal,
+    values: { lower: solution.lower, upper: solution.upper },
+    policy,
+  });
   const worst = chain ? sameChain(worstSolution, worstPolicy) : describe(worstSolution, worstPolicy, 'worst');
   const random = chain ? sameChain(randomSolution, undefined) : describe(randomSolution, undefined, 'random');
 
   const goal = entry[0];
   // In a chain the most probable way to a goal is the only way.
-  const maxGoalReach = chain && goal
-    ? optimal.reach.goal
-    : goal
-    ? withCertainties(
-        graph,
-        () => pointValues(solveValues(ctx, { combine: COMBINE_MAX, reward: goal, discount: 1, lowerBound: 0, upperBound: 1, name: `${UNDISCOUNTED_PREFIX}max-goal` }), ctx),
-        TERMINAL_CODE.goal,
-        'max',
-      )
-    : new Float64Array(model.stateCount);
+  const maxGoalReach =
+    chain && goal
+      ? optimal.reach.goal
+      : goal
+        ? withCertainties(
+            graph,
+            () =>
+              pointValues(
+                solveValues(ctx, {
+                  combine: COMBINE_MAX,
+                  reward: goal,
+                  discount: 1,
+                  lowerBound: 0,
+                  upperBound: 1,
+                  name: `${UNDISCOUNTED_PREFIX}max-goal`,
+                }),
+                ctx,
+              ),
+            TERMINAL_CODE.goal,
+            'max',
+          )
+        : new Float64Array(model.stateCount);
 
   // Each term's total under the optimal policy; a lone remainder is the optimal value itself.
   const termValues: Bounds[] = terms.map((t) => {
@@ -324,7 +412,13 @@ function shapingTotal(shift: Float64Array, neverEnds: Float64Array): Bounds {
   return { lower, upper };
 }
 
-function horizonAnalysis(graph: ModelGraph, horizon: number, reward: Float64Array, entry: (Float64Array | undefined)[], terms: TermReward[]): CoreResult {
+function horizonAnalysis(
+  graph: ModelGraph,
+  horizon: number,
+  reward: Float64Array,
+  entry: (Float64Array | undefined)[],
+  terms: TermReward[],
+): CoreResult {
   const model = graph.model;
   const solved = solveFiniteHorizon(graph, horizon, {
     reward,
@@ -377,7 +471,13 @@ function horizonAnalysis(graph: ModelGraph, horizon: number, reward: Float64Arra
  * policy reaches it almost surely. `solve` gives the estimate, and is not called when the graph
  * decides every state.
  */
-function withCertainties(graph: ModelGraph, solve: () => Float64Array, kindCode: number, how: 'max' | 'chain', chain?: Uint8Array): Float64Array {
+function withCertainties(
+  graph: ModelGraph,
+  solve: () => Float64Array,
+  kindCode: number,
+  how: 'max' | 'chain',
+  chain?: Uint8Array,
+): Float64Array {
   const { model } = graph;
   const kind = new Uint8Array(model.stateCount);
   for (let s = 0; s < kind.length; s++) kind[s] = model.terminal[s] === kindCode ? 1 : 0;
@@ -495,14 +595,21 @@ function widestBound(values: Bounds): number {
   return widest;
 }
 
-function endComponentOf(states: Int32Array, choices: Int32Array, gains: MdpGainClasses, i: number, sigma: number): EndComponent {
+function endComponentOf(
+  states: Int32Array,
+  choices: Int32Array,
+  gains: MdpGainClasses,
+  i: number,
+  sigma: number,
+): EndComponent {
   const component: EndComponent = { states, choices };
   const sign = gains.sign[i];
   if (sign === GAIN_POSITIVE || sign === GAIN_NEGATIVE || sign === GAIN_ZERO) {
     component.gainSign = (sigma * sign || 0) as 1 | 0 | -1;
   }
   if (!Number.isNaN(gains.lower[i])) {
-    component.gain = sigma > 0 ? { lower: gains.lower[i], upper: gains.upper[i] } : { lower: -gains.upper[i], upper: -gains.lower[i] };
+    component.gain =
+      sigma > 0 ? { lower: gains.lower[i], upper: gains.upper[i] } : { lower: -gains.upper[i], upper: -gains.lower[i] };
   }
   if (sign === GAIN_POSITIVE) component.gainPolicy = Int32Array.from(states, (s) => gains.positivePolicy[s]);
   return component;

@@ -28,7 +28,10 @@ export type Combine = typeof COMBINE_MAX | typeof COMBINE_MIN | typeof COMBINE_A
 
 /** The Bellman operator of one value problem. */
 /** What the sweeps read of a model: its CSR arrays (sweep-layout.ts hands them a renumbered copy). */
-export type SweepModel = Pick<CompiledModel, 'stateCount' | 'choiceStart' | 'outcomeStart' | 'outcomeTarget' | 'outcomeProb'>;
+export type SweepModel = Pick<
+  CompiledModel,
+  'stateCount' | 'choiceStart' | 'outcomeStart' | 'outcomeTarget' | 'outcomeProb'
+>;
 
 export interface Operator {
   model: SweepModel;
@@ -105,7 +108,14 @@ export interface SweepStats {
  * 2s, upper at 2s+1, so one cache line serves both). Clamping keeps each side monotone once it
  * is known to be sound. Allocation-free.
  */
-export function sweepBounds(op: Operator, nodes: Nodes, bounds: Float64Array, clampLower: boolean, clampUpper: boolean, stats: SweepStats): void {
+export function sweepBounds(
+  op: Operator,
+  nodes: Nodes,
+  bounds: Float64Array,
+  clampLower: boolean,
+  clampUpper: boolean,
+  stats: SweepStats,
+): void {
   const { choiceStart, outcomeStart, outcomeTarget, outcomeProb } = op.model;
   const { combine, reward, discount, allowed, policy } = op;
   const { start, members, stay } = nodes;
@@ -241,7 +251,13 @@ export interface EstimateStats {
  * through the contraction arguments of contractionBounds). Gauss-Seidel in place by default; with
  * a separate `out`, a Jacobi sweep that reads `value` and writes `out`. Allocation-free.
  */
-export function sweepEstimate(op: Operator, nodes: Nodes, value: Float64Array, stats?: EstimateStats, out: Float64Array = value): void {
+export function sweepEstimate(
+  op: Operator,
+  nodes: Nodes,
+  value: Float64Array,
+  stats?: EstimateStats,
+  out: Float64Array = value,
+): void {
   const { choiceStart, outcomeStart, outcomeTarget, outcomeProb } = op.model;
   const { combine, reward, discount, allowed, policy } = op;
   const { start, members, stay } = nodes;
@@ -394,7 +410,10 @@ export function solveBounds(op: Operator, nodes: Nodes, bounds: Float64Array, op
     sweeps += found.sweeps;
     if (!found.lowerSound) setInitial(0, options.lowerBound ?? -Infinity);
     if (!found.upperSound) setInitial(1, options.upperBound ?? Infinity);
-    if ((!found.lowerSound && options.lowerBound === undefined) || (!found.upperSound && options.upperBound === undefined)) {
+    if (
+      (!found.lowerSound && options.lowerBound === undefined) ||
+      (!found.upperSound && options.upperBound === undefined)
+    ) {
       // One side has no sound bound: report the other, sound one, and an infinite width.
       return { sweeps, exact: false, relativeWidth: Infinity };
     }
@@ -464,7 +483,12 @@ export function measureWidth(nodes: Nodes, bounds: Float64Array): number {
  *    its size when the chain mixes.
  * Writes the bounds, intersected with the a-priori ones, once they are narrow enough.
  */
-function contractionBounds(op: Operator, nodes: Nodes, bounds: Float64Array, options: SolveOptions): { sweeps: number; sound: boolean } {
+function contractionBounds(
+  op: Operator,
+  nodes: Nodes,
+  bounds: Float64Array,
+  options: SolveOptions,
+): { sweeps: number; sound: boolean } {
   const { members } = nodes;
   const n = op.model.stateCount;
   const discount = op.discount;
@@ -472,8 +496,15 @@ function contractionBounds(op: Operator, nodes: Nodes, bounds: Float64Array, opt
   for (let s = 0; s < n; s++) value[s] = bounds[2 * s];
   const floor = options.lowerBound ?? -Infinity;
   const ceiling = options.upperBound ?? Infinity;
-  for (let m = 0; m < members.length; m++) value[members[m]] = Math.min(ceiling, Math.max(floor, guessAt(options.guess, members[m], 0)));
-  const stats: EstimateStats = { change: Infinity, absoluteChange: Infinity, minMagnitude: 0, minChange: 0, maxChange: 0 };
+  for (let m = 0; m < members.length; m++)
+    value[members[m]] = Math.min(ceiling, Math.max(floor, guessAt(options.guess, members[m], 0)));
+  const stats: EstimateStats = {
+    change: Infinity,
+    absoluteChange: Infinity,
+    minMagnitude: 0,
+    minChange: 0,
+    maxChange: 0,
+  };
   // The certificate: D (largest change of the last sweep) times discount / (1 - discount).
   const factor = discount / (1 - discount);
   const staying = leastStayingProbability(op, nodes);
@@ -540,7 +571,8 @@ function leastStayingProbability(op: Operator, nodes: Nodes): number {
     for (let c = c0; c < c1; c++) {
       if (op.allowed && !op.allowed[c]) continue;
       let stay = 0;
-      for (let k = model.outcomeStart[c]; k < model.outcomeStart[c + 1]; k++) if (updated[model.outcomeTarget[k]]) stay += model.outcomeProb[k];
+      for (let k = model.outcomeStart[c]; k < model.outcomeStart[c + 1]; k++)
+        if (updated[model.outcomeTarget[k]]) stay += model.outcomeProb[k];
       if (stay < least) least = stay;
     }
   }
@@ -556,9 +588,23 @@ function leastStayingProbability(op: Operator, nodes: Nodes): number {
  * only a guess for optimisticBounds, which proves or rejects it, so a poor jump costs sweeps, never
  * soundness. Returns the sweeps spent.
  */
-function refineEstimate(op: Operator, nodes: Nodes, estimate: Float64Array, tolerance: number, maxSweeps: number, floor: number, ceiling: number): number {
+function refineEstimate(
+  op: Operator,
+  nodes: Nodes,
+  estimate: Float64Array,
+  tolerance: number,
+  maxSweeps: number,
+  floor: number,
+  ceiling: number,
+): number {
   const { members } = nodes;
-  const stats: EstimateStats = { change: Infinity, absoluteChange: Infinity, minMagnitude: 0, minChange: 0, maxChange: 0 };
+  const stats: EstimateStats = {
+    change: Infinity,
+    absoluteChange: Infinity,
+    minMagnitude: 0,
+    minChange: 0,
+    maxChange: 0,
+  };
   let previous: Float64Array | undefined;
   let lastChange = Infinity;
   let lastRatio = NaN;
@@ -609,7 +655,12 @@ function refineEstimate(op: Operator, nodes: Nodes, estimate: Float64Array, tole
  * Finds inductive lower and upper vectors around a value-iteration estimate (optimistic value
  * iteration). Leaves sound vectors in `bounds` for the sides it reports as sound.
  */
-function optimisticBounds(op: Operator, nodes: Nodes, bounds: Float64Array, options: SolveOptions): { sweeps: number; lowerSound: boolean; upperSound: boolean } {
+function optimisticBounds(
+  op: Operator,
+  nodes: Nodes,
+  bounds: Float64Array,
+  options: SolveOptions,
+): { sweeps: number; lowerSound: boolean; upperSound: boolean } {
   const { members } = nodes;
   const n = op.model.stateCount;
   const stats: SweepStats = { relativeWidth: Infinity, lowerViolations: 0, upperViolations: 0, crossed: false };
@@ -617,7 +668,8 @@ function optimisticBounds(op: Operator, nodes: Nodes, bounds: Float64Array, opti
   for (let s = 0; s < n; s++) estimate[s] = bounds[2 * s];
   const floor = options.lowerBound ?? -Infinity;
   const ceiling = options.upperBound ?? Infinity;
-  for (let m = 0; m < members.length; m++) estimate[members[m]] = Math.min(ceiling, Math.max(floor, guessAt(options.guess, members[m], 0)));
+  for (let m = 0; m < members.length; m++)
+    estimate[members[m]] = Math.min(ceiling, Math.max(floor, guessAt(options.guess, members[m], 0)));
   let lowerKnown = false;
   let upperKnown = false;
   let sweeps = 0;

@@ -17,7 +17,8 @@ export function routeFromStart(graph: ModelGraph, targets: Uint8Array): PathStep
   let best = -1;
   for (let i = 0; i < model.startState.length; i++) {
     const s = model.startState[i];
-    if (model.startProb[i] > 0 && layering.layer[s] >= 0 && (best < 0 || layering.layer[s] < layering.layer[best])) best = s;
+    if (model.startProb[i] > 0 && layering.layer[s] >= 0 && (best < 0 || layering.layer[s] < layering.layer[best]))
+      best = s;
   }
   return best < 0 ? [] : routeFrom(model, layering, best);
 }
@@ -48,7 +49,12 @@ export function loopOf(
       if (!(model.outcomeProb[k] > 0) || !inside[t]) continue;
       const fresh = !position.has(t);
       const chosenFresh = chosen >= 0 && !position.has(model.outcomeTarget[chosen]);
-      if (chosen < 0 || (fresh && !chosenFresh) || (fresh === chosenFresh && model.outcomeProb[k] > model.outcomeProb[chosen])) chosen = k;
+      if (
+        chosen < 0 ||
+        (fresh && !chosenFresh) ||
+        (fresh === chosenFresh && model.outcomeProb[k] > model.outcomeProb[chosen])
+      )
+        chosen = k;
     }
     if (chosen < 0) return undefined;
     steps.push({ state: s, choice: c, outcome: chosen });

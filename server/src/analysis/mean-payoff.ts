@@ -260,7 +260,8 @@ export function gainBounds(
     if (!Number.isFinite(lo) || !Number.isFinite(hi)) break;
     lower = Math.max(lower, lo);
     upper = Math.min(upper, hi);
-    if (lower > 0 || upper < 0 || upper - lower <= 1e-12 * Math.max(1, scale) || ++iterations >= MAX_GAIN_ITERATIONS) break;
+    if (lower > 0 || upper < 0 || upper - lower <= 1e-12 * Math.max(1, scale) || ++iterations >= MAX_GAIN_ITERATIONS)
+      break;
     const anchor = v[0] + tau * (next[0] - v[0]);
     for (let i = 0; i < m; i++) v[i] = v[i] + tau * (next[i] - v[i]) - anchor;
   }

@@ -16,7 +16,11 @@ export interface PathStep {
 }
 
 /** Fewest steps from every state to one of `targets` (0 on targets, -1 where no path exists). */
-export function stepsTo(model: CompiledModel, targets: Uint8Array, graph: ModelGraph = buildModelGraph(model)): Layering {
+export function stepsTo(
+  model: CompiledModel,
+  targets: Uint8Array,
+  graph: ModelGraph = buildModelGraph(model),
+): Layering {
   return backwardLayering(graph, targets);
 }
 
@@ -57,7 +61,8 @@ export function startEntries(model: CompiledModel): Array<{ state: number; proba
 /** The start states with positive probability that are not terminal, each once. */
 export function liveStartStates(model: CompiledModel): number[] {
   const states: number[] = [];
-  for (const { state } of startEntries(model)) if (model.terminal[state] === 0 && !states.includes(state)) states.push(state);
+  for (const { state } of startEntries(model))
+    if (model.terminal[state] === 0 && !states.includes(state)) states.push(state);
   return states;
 }
 
@@ -65,7 +70,13 @@ export function liveStartStates(model: CompiledModel): number[] {
  * For walks forward in time: appends the non-terminal states a choice can lead to onto `next`, the
  * layer of time `time`, each state once per layer (`queued` remembers the last layer of each state).
  */
-export function pushSuccessors(model: CompiledModel, choice: number, time: number, queued: Int32Array, next: number[]): void {
+export function pushSuccessors(
+  model: CompiledModel,
+  choice: number,
+  time: number,
+  queued: Int32Array,
+  next: number[],
+): void {
   for (let o = model.outcomeStart[choice]; o < model.outcomeStart[choice + 1]; o++) {
     const target = model.outcomeTarget[o];
     if (model.outcomeProb[o] > 0 && model.terminal[target] === 0 && queued[target] !== time) {

@@ -63,7 +63,8 @@ export function policyIterationBounds(
   const sigma = op.combine === COMBINE_MAX ? 1 : -1;
   const reward = sigma === 1 ? op.reward : op.reward.map((r) => -r);
   const nodeOf = new Int32Array(model.stateCount).fill(-1);
-  for (let i = 0; i < nodes.count; i++) for (let m = nodes.start[i]; m < nodes.start[i + 1]; m++) nodeOf[nodes.members[m]] = i;
+  for (let i = 0; i < nodes.count; i++)
+    for (let m = nodes.start[i]; m < nodes.start[i + 1]; m++) nodeOf[nodes.members[m]] = i;
   const allowed = (c: number): boolean => op.allowed === undefined || op.allowed[c] === 1;
 
   const attractor = attractorPolicy(graph, nodes, nodeOf, allowed, op.discount);
@@ -183,7 +184,16 @@ function nodeGuess(nodes: Nodes, guess: Float64Array | undefined, sigma: number)
 }
 
 /** Per node, a choice (or staying) of the largest value under x; ties keep the choice of `fallback`. */
-function greedyPolicy(model: CompiledModel, nodes: Nodes, nodeOf: Int32Array, allowed: (c: number) => boolean, reward: Float64Array, discount: number, x: Float64Array, fallback: Int32Array): Int32Array {
+function greedyPolicy(
+  model: CompiledModel,
+  nodes: Nodes,
+  nodeOf: Int32Array,
+  allowed: (c: number) => boolean,
+  reward: Float64Array,
+  discount: number,
+  x: Float64Array,
+  fallback: Int32Array,
+): Int32Array {
   const policy = Int32Array.from(fallback);
   for (let i = 0; i < nodes.count; i++) {
     let best = policy[i] < 0 ? 0 : choiceValue(model, nodeOf, reward, discount, x, policy[i]);
@@ -256,7 +266,13 @@ function layoutOf(nodes: Nodes, nodeOf: Int32Array, policy: Int32Array): RowLayo
  * already covered. At discount < 1 any choice will do for a node the search misses; at discount 1
  * such a node has no proper policy and undefined is returned.
  */
-function attractorPolicy(graph: ModelGraph, nodes: Nodes, nodeOf: Int32Array, allowed: (c: number) => boolean, discount: number): Int32Array | undefined {
+function attractorPolicy(
+  graph: ModelGraph,
+  nodes: Nodes,
+  nodeOf: Int32Array,
+  allowed: (c: number) => boolean,
+  discount: number,
+): Int32Array | undefined {
   const model = graph.model;
   const policy = new Int32Array(nodes.count).fill(-2);
   const queue = new Int32Array(model.stateCount);
@@ -281,14 +297,22 @@ function attractorPolicy(graph: ModelGraph, nodes: Nodes, nodeOf: Int32Array, al
     if (policy[i] !== -2) continue;
     if (discount === 1) return undefined;
     const s = nodes.members[nodes.start[i]];
-    for (let c = model.choiceStart[s]; c < model.choiceStart[s + 1] && policy[i] === -2; c++) if (allowed(c)) policy[i] = c;
+    for (let c = model.choiceStart[s]; c < model.choiceStart[s + 1] && policy[i] === -2; c++)
+      if (allowed(c)) policy[i] = c;
     if (policy[i] === -2) return undefined;
   }
   return policy;
 }
 
 /** Q of choice c under node values x (states outside the nodes hold 0). */
-function choiceValue(model: CompiledModel, nodeOf: Int32Array, reward: Float64Array, discount: number, x: Float64Array, c: number): number {
+function choiceValue(
+  model: CompiledModel,
+  nodeOf: Int32Array,
+  reward: Float64Array,
+  discount: number,
+  x: Float64Array,
+  c: number,
+): number {
   let acc = 0;
   for (let k = model.outcomeStart[c]; k < model.outcomeStart[c + 1]; k++) {
     const j = nodeOf[model.outcomeTarget[k]];
@@ -394,7 +418,9 @@ function upperCertificate(
     let length: Float64Array | undefined;
     for (let step = 0; step < 30; step++) {
       // The final policy's system serves while the longest policy is that policy.
-      const system = samePolicy(longest, policy) ? policySystem : buildLinearSystem(model, layoutOf(nodes, nodeOf, longest), discount, counters, graph);
+      const system = samePolicy(longest, policy)
+        ? policySystem
+        : buildLinearSystem(model, layoutOf(nodes, nodeOf, longest), discount, counters, graph);
       // A node that stays counts one step for it, as the choice "stay" does in T. The lengths need
       // no certificate: the checks below read W's property off the model's coefficients.
       length = approximateSolve(system, lengthReward, new Uint8Array(system.solver.blockCount).fill(1), 1);
@@ -430,7 +456,10 @@ function upperCertificate(
         const s = nodes.members[m];
         for (let c = choiceStart[s]; c < choiceStart[s + 1]; c++) {
           if (!tying[c]) continue;
-          const room = length[i] - (choiceValue(model, nodeOf, lengthReward, discount, length, c) - 1) - 64 * Number.EPSILON * length[i];
+          const room =
+            length[i] -
+            (choiceValue(model, nodeOf, lengthReward, discount, length, c) - 1) -
+            64 * Number.EPSILON * length[i];
           if (!(room > 0)) return undefined;
           if (1 / room > scale) scale = 1 / room;
         }
@@ -466,7 +495,15 @@ function samePolicy(a: Int32Array, b: Int32Array): boolean {
 }
 
 /** T(u) <= u on every node, each choice's value computed with a bound on its rounding. */
-function checkUpper(model: CompiledModel, nodes: Nodes, nodeOf: Int32Array, allowed: (c: number) => boolean, reward: Float64Array, discount: number, u: Float64Array): boolean {
+function checkUpper(
+  model: CompiledModel,
+  nodes: Nodes,
+  nodeOf: Int32Array,
+  allowed: (c: number) => boolean,
+  reward: Float64Array,
+  discount: number,
+  u: Float64Array,
+): boolean {
   const { choiceStart, outcomeStart, outcomeTarget, outcomeProb } = model;
   for (let i = 0; i < nodes.count; i++) {
     if (nodes.stay[i] && !(u[i] >= 0)) return false;

@@ -18,7 +18,13 @@ import { backwardLayering } from './reachability';
 import { STATUS_FINITE, type ValueSolution } from './total-reward';
 
 /** Sound bounds on r(c) + discount * sum p V(t) for every choice; an undefined sum gives [-inf, inf]. */
-export function choiceBounds(model: CompiledModel, reward: Float64Array, discount: number, lower: Float64Array, upper: Float64Array): Bounds {
+export function choiceBounds(
+  model: CompiledModel,
+  reward: Float64Array,
+  discount: number,
+  lower: Float64Array,
+  upper: Float64Array,
+): Bounds {
   const { outcomeStart, outcomeTarget, outcomeProb } = model;
   const qLower = new Float64Array(model.choiceCount);
   const qUpper = new Float64Array(model.choiceCount);
@@ -45,7 +51,13 @@ export function choiceBounds(model: CompiledModel, reward: Float64Array, discoun
  * 1 for choices that cannot be proven worse than the best (sigma = 1: maximise; -1: minimise):
  * their Q bounds overlap the state's value bounds on the good side.
  */
-export function bestChoices(graph: ModelGraph, q: Bounds, lower: Float64Array, upper: Float64Array, sigma: number): Uint8Array {
+export function bestChoices(
+  graph: ModelGraph,
+  q: Bounds,
+  lower: Float64Array,
+  upper: Float64Array,
+  sigma: number,
+): Uint8Array {
   const { choiceState } = graph;
   const out = new Uint8Array(graph.model.choiceCount);
   for (let c = 0; c < out.length; c++) {
@@ -59,7 +71,13 @@ export function bestChoices(graph: ModelGraph, q: Bounds, lower: Float64Array, u
  * A deterministic policy attaining the solution's values (sigma = 1 for the maximum, -1 for the
  * minimum); -1 on absorbing states.
  */
-export function attainingPolicy(graph: ModelGraph, solution: ValueSolution, q: Bounds, best: Uint8Array, sigma: number): Int32Array {
+export function attainingPolicy(
+  graph: ModelGraph,
+  solution: ValueSolution,
+  q: Bounds,
+  best: Uint8Array,
+  sigma: number,
+): Int32Array {
   const { model, absorbing, choiceState } = graph;
   const n = model.stateCount;
   const { choiceStart } = model;

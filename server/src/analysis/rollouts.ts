@@ -53,7 +53,9 @@ export class Xoshiro128 {
 
   /** Stream 0 is the model's, stream 1 the policy's: two independent generators per episode. */
   seedEpisode(seed: number, episode: number, stream = 0): void {
-    const state = { value: (BigInt.asUintN(32, BigInt(Math.trunc(seed))) << 32n) | BigInt.asUintN(32, BigInt(episode)) };
+    const state = {
+      value: (BigInt.asUintN(32, BigInt(Math.trunc(seed))) << 32n) | BigInt.asUintN(32, BigInt(episode)),
+    };
     for (let i = 0; i < stream; i++) {
       splitMix64(state);
       splitMix64(state);
@@ -161,7 +163,12 @@ export function histogramOf(sorted: ArrayLike<number>, bins = 20): Histogram {
  * Mean with a 95% interval from the normal approximation (mean +- 1.96 standard errors, standard
  * error from the sample standard deviation with n - 1), the usual Monte Carlo interval.
  */
-export function meanWithInterval(values: ArrayLike<number>): { mean: number; standardError: number; lower: number; upper: number } {
+export function meanWithInterval(values: ArrayLike<number>): {
+  mean: number;
+  standardError: number;
+  lower: number;
+  upper: number;
+} {
   const n = values.length;
   if (n === 0) return { mean: NaN, standardError: NaN, lower: NaN, upper: NaN };
   let sum = 0;
@@ -232,7 +239,12 @@ export function samplingCost(stats: RolloutStats, halfWidth?: number): SamplingC
   const sd = stats.return.standardError * Math.sqrt(n);
   const h = halfWidth ?? 0.01 * Math.max(1, Math.abs(stats.return.mean));
   const needed = Number.isFinite(sd) && h > 0 ? Math.ceil(((1.96 * sd) / h) ** 2) : NaN;
-  return { halfWidth: h, defaultHalfWidth: halfWidth === undefined, episodesNeeded: needed, moreEpisodes: Number.isNaN(needed) ? NaN : Math.max(0, needed - n) };
+  return {
+    halfWidth: h,
+    defaultHalfWidth: halfWidth === undefined,
+    episodesNeeded: needed,
+    moreEpisodes: Number.isNaN(needed) ? NaN : Math.max(0, needed - n),
+  };
 }
 
 /**
@@ -262,7 +274,8 @@ export function rolloutCompiledModel(
   const ends = new Uint8Array(episodes);
   const world = new Xoshiro128();
   const chooser = new Xoshiro128();
-  const { choiceStart, outcomeStart, outcomeTarget, outcomeProb, outcomeReward, terminal, startState, startProb } = model;
+  const { choiceStart, outcomeStart, outcomeTarget, outcomeProb, outcomeReward, terminal, startState, startProb } =
+    model;
   const stateCount = model.stateCount;
   for (let e = 0; e < episodes; e++) {
     world.seedEpisode(seed, e, 0);
@@ -318,14 +331,20 @@ function pickIndex(probability: ArrayLike<number>, first: number, end: number, u
  * distribution under the optimal policy (by steps left when there is a horizon) and under the
  * uniformly random policy.
  */
-export function exactModelRollouts(model: CompiledModel, analysis: Analysis, options: { episodes: number; seed: number; stepCap: number }): RolloutReport {
+export function exactModelRollouts(
+  model: CompiledModel,
+  analysis: Analysis,
+  options: { episodes: number; seed: number; stepCap: number },
+): RolloutReport {
   const meta = { seed: options.seed, stepCap: effectiveStepCap(model.discount, options.stepCap) };
   const report: RolloutReport = {
     random: summarizeEpisodes(rolloutCompiledModel(model, { kind: 'random' }, options), { policy: 'random', ...meta }),
   };
   let policy: CompiledPolicy | undefined;
-  if (model.horizon !== undefined && analysis.horizon) policy = { kind: 'by-steps-left', choiceByStepsLeft: analysis.horizon.bestChoice };
-  else if (model.horizon === undefined && analysis.optimal.policy) policy = { kind: 'stationary', choice: analysis.optimal.policy };
+  if (model.horizon !== undefined && analysis.horizon)
+    policy = { kind: 'by-steps-left', choiceByStepsLeft: analysis.horizon.bestChoice };
+  else if (model.horizon === undefined && analysis.optimal.policy)
+    policy = { kind: 'stationary', choice: analysis.optimal.policy };
   if (policy && followsEverywhere(model, policy)) {
     report.optimal = summarizeEpisodes(rolloutCompiledModel(model, policy, options), { policy: 'optimal', ...meta });
   }

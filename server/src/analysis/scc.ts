@@ -119,7 +119,12 @@ export function stronglyConnectedComponents(
  * Whether component i has a cycle: more than one state, or a state with an allowed choice that
  * can return to it in one step.
  */
-export function isCyclicComponent(model: CompiledModel, scc: SccDecomposition, i: number, choiceMask?: Uint8Array): boolean {
+export function isCyclicComponent(
+  model: CompiledModel,
+  scc: SccDecomposition,
+  i: number,
+  choiceMask?: Uint8Array,
+): boolean {
   if (scc.start[i + 1] - scc.start[i] > 1) return true;
   const s = scc.order[scc.start[i]];
   const { choiceStart, outcomeStart, outcomeTarget, outcomeProb } = model;

@@ -131,7 +131,8 @@ export class BlockSolver {
     this.blockStart = blocks.start;
     this.localIndex = new Int32Array(matrix.n);
     for (let b = 0; b < blocks.count; b++) {
-      for (let j = blocks.start[b]; j < blocks.start[b + 1]; j++) this.localIndex[blocks.order[j]] = j - blocks.start[b];
+      for (let j = blocks.start[b]; j < blocks.start[b + 1]; j++)
+        this.localIndex[blocks.order[j]] = j - blocks.start[b];
     }
     this.factors = new Array(blocks.count);
     this.spent = new Float64Array(blocks.count);
@@ -155,7 +156,13 @@ export class BlockSolver {
    * given, is a starting point for the iterative blocks (a nearby system's solution);
    * `tolerance`, a residual relative to |b| at which they may stop early (for a loose solve).
    */
-  solve(b: Float64Array, x: Float64Array, wantedBlocks?: Uint8Array, guess?: Float64Array, tolerance?: number): boolean {
+  solve(
+    b: Float64Array,
+    x: Float64Array,
+    wantedBlocks?: Uint8Array,
+    guess?: Float64Array,
+    tolerance?: number,
+  ): boolean {
     this.counters.solves++;
     const { rowStart, column, value } = this.matrix;
     x.fill(0);
@@ -178,7 +185,11 @@ export class BlockSolver {
       }
       let factor = this.factorOf(blk);
       if (!factor) return false;
-      if (factor.kind === 'krylov' && this.spent[blk] >= (this.factorFirst ? SPARSE_LU_AFTER_ITERATIONS_MANY : SPARSE_LU_AFTER_ITERATIONS)) factor = this.refactored(blk, factor);
+      if (
+        factor.kind === 'krylov' &&
+        this.spent[blk] >= (this.factorFirst ? SPARSE_LU_AFTER_ITERATIONS_MANY : SPARSE_LU_AFTER_ITERATIONS)
+      )
+        factor = this.refactored(blk, factor);
       if (factor.kind === 'scalar') {
         x[this.order[first]] = rhs[0] / factor.diagonal;
       } else if (factor.kind === 'dense') {
@@ -218,7 +229,10 @@ export class BlockSolver {
   /** The block's sparse LU factors in place of its Krylov solve, when they fit (tried once per block). */
   private refactored(blk: number, krylov: KrylovFactor): BlockFactor {
     this.spent[blk] = -1;
-    const factors = krylov.local.rowStart[krylov.local.n] <= SPARSE_LU_ENTRY_LIMIT ? sparseFactors(krylov.local, this.localRank(blk)) : undefined;
+    const factors =
+      krylov.local.rowStart[krylov.local.n] <= SPARSE_LU_ENTRY_LIMIT
+        ? sparseFactors(krylov.local, this.localRank(blk))
+        : undefined;
     if (!factors) return krylov;
     this.counters.sparse++;
     const factor: SparseLuFactor = { kind: 'sparse', factors };
@@ -253,7 +267,8 @@ export class BlockSolver {
     const local = this.localBlock(blk);
     if (this.factorFirst) {
       this.spent[blk] = -1;
-      const factors = local.rowStart[local.n] <= SPARSE_LU_ENTRY_LIMIT ? sparseFactors(local, this.localRank(blk)) : undefined;
+      const factors =
+        local.rowStart[local.n] <= SPARSE_LU_ENTRY_LIMIT ? sparseFactors(local, this.localRank(blk)) : undefined;
       if (factors) {
         this.counters.sparse++;
         return { kind: 'sparse', factors };
@@ -332,7 +347,12 @@ export function multiply(matrix: SparseMatrix, x: Float64Array, y: Float64Array)
  * off-diagonal entry), by Tarjan's algorithm written with explicit stacks, in the order Tarjan
  * completes them: each block after every block it depends on.
  */
-export function stronglyConnectedBlocks(matrix: SparseMatrix): { count: number; blockOf: Int32Array; order: Int32Array; start: Int32Array } {
+export function stronglyConnectedBlocks(matrix: SparseMatrix): {
+  count: number;
+  blockOf: Int32Array;
+  order: Int32Array;
+  start: Int32Array;
+} {
   const { n, rowStart, column } = matrix;
   const index = new Int32Array(n).fill(-1);
   const low = new Int32Array(n);
@@ -477,7 +497,8 @@ function iluZero(matrix: SparseMatrix): { ilu: Float64Array; diagonalAt: Int32Ar
       }
     }
     for (let e = rowStart[i]; e < rowStart[i + 1]; e++) position[column[e]] = -1;
-    if (diagonalAt[i] < 0 || !(Math.abs(ilu[diagonalAt[i]]) > 0) || !Number.isFinite(ilu[diagonalAt[i]])) return undefined;
+    if (diagonalAt[i] < 0 || !(Math.abs(ilu[diagonalAt[i]]) > 0) || !Number.isFinite(ilu[diagonalAt[i]]))
+      return undefined;
   }
   return { ilu, diagonalAt };
 }

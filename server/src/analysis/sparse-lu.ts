@@ -256,7 +256,8 @@ function dissectionOrder(matrix: SparseMatrix): Int32Array | undefined {
       const v = queue[q];
       // A vertex with no neighbour in the next level separates nothing: it stays with the lower side.
       let needed = false;
-      for (let e = start[v]; e < start[v + 1] && !needed; e++) if (owner[adjacent[e]] === id && level[adjacent[e]] === middle + 1) needed = true;
+      for (let e = start[v]; e < start[v + 1] && !needed; e++)
+        if (owner[adjacent[e]] === id && level[adjacent[e]] === middle + 1) needed = true;
       if (needed) {
         inSeparator[v] = 1;
         separatorSize++;
@@ -265,7 +266,8 @@ function dissectionOrder(matrix: SparseMatrix): Int32Array | undefined {
     if (separatorSize > SEPARATOR_LIMIT) return undefined;
     const separator = new Int32Array(separatorSize);
     let fill = 0;
-    for (let q = levelStart[middle]; q < levelStart[middle + 1]; q++) if (inSeparator[queue[q]]) separator[fill++] = queue[q];
+    for (let q = levelStart[middle]; q < levelStart[middle + 1]; q++)
+      if (inSeparator[queue[q]]) separator[fill++] = queue[q];
     perm.set(separator, at + size - separatorSize);
     for (let q = 0; q < separatorSize; q++) owner[separator[q]] = -1;
     // The rest splits into connected parts, each a new task with its own range.

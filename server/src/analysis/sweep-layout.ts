@@ -22,14 +22,25 @@ const COPY_FROM_OUTCOMES = 500_000;
 const COPY_UP_TO_OUTCOMES = 8_000_000;
 
 /** solveBounds on a copy of the operator laid out in sweep order, when the model is large enough for it to pay. */
-export function solveBoundsInOrder(op: Operator, nodes: Nodes, bounds: Float64Array, options: SolveOptions): SolveResult {
+export function solveBoundsInOrder(
+  op: Operator,
+  nodes: Nodes,
+  bounds: Float64Array,
+  options: SolveOptions,
+): SolveResult {
   const outcomes = sweptOutcomes(op, nodes);
-  if (outcomes < COPY_FROM_OUTCOMES || outcomes > COPY_UP_TO_OUTCOMES || options.acyclic) return solveBounds(op, nodes, bounds, options);
+  if (outcomes < COPY_FROM_OUTCOMES || outcomes > COPY_UP_TO_OUTCOMES || options.acyclic)
+    return solveBounds(op, nodes, bounds, options);
   return solveBoundsOnCopy(op, nodes, bounds, options);
 }
 
 /** solveBounds on the copy of packInSweepOrder, with the bounds (and the estimate) mapped back to the model's states. */
-export function solveBoundsOnCopy(op: Operator, nodes: Nodes, bounds: Float64Array, options: SolveOptions): SolveResult {
+export function solveBoundsOnCopy(
+  op: Operator,
+  nodes: Nodes,
+  bounds: Float64Array,
+  options: SolveOptions,
+): SolveResult {
   const packed = packInSweepOrder(op, nodes);
   const { stateOf } = packed;
   const n = stateOf.length;
@@ -121,7 +132,13 @@ export function packInSweepOrder(op: Operator, nodes: Nodes): { op: Operator; no
   for (let t = 0; t < swept; t++) members[t] = t;
   return {
     op: {
-      model: { stateCount: n, choiceStart: packedChoiceStart, outcomeStart: packedOutcomeStart, outcomeTarget: packedTarget, outcomeProb: packedProb },
+      model: {
+        stateCount: n,
+        choiceStart: packedChoiceStart,
+        outcomeStart: packedOutcomeStart,
+        outcomeTarget: packedTarget,
+        outcomeProb: packedProb,
+      },
       combine: op.combine,
       policy,
       reward,

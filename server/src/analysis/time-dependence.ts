@@ -137,7 +137,13 @@ export function qValue(model: CompiledModel, solution: FiniteHorizonSolution, ch
   return total;
 }
 
-function bestOf(model: CompiledModel, solution: FiniteHorizonSolution, state: number, k: number, among?: (c: number) => boolean): number {
+function bestOf(
+  model: CompiledModel,
+  solution: FiniteHorizonSolution,
+  state: number,
+  k: number,
+  among?: (c: number) => boolean,
+): number {
   let best = -1;
   let bestValue = -Infinity;
   for (let c = model.choiceStart[state]; c < model.choiceStart[state + 1]; c++) {
@@ -180,7 +186,10 @@ function describeFlip(
     earlierChoice,
     bestChoice: bestNow,
     qNow: { earlier: qValue(model, solution, earlierChoice, k), best: qValue(model, solution, bestNow, k) },
-    qEarlier: { earlier: qValue(model, solution, earlierChoice, earlierK), best: qValue(model, solution, bestNow, earlierK) },
+    qEarlier: {
+      earlier: qValue(model, solution, earlierChoice, earlierK),
+      best: qValue(model, solution, bestNow, earlierK),
+    },
     path: pathBack(model, solution, state, t, layers, tolerance),
   };
 }
@@ -264,7 +273,8 @@ export function timeBlindLoss(model: CompiledModel, solution: FiniteHorizonSolut
     const next: number[] = [];
     for (const s of current) {
       seen[s] = 1;
-      for (let c = model.choiceStart[s]; c < model.choiceStart[s + 1]; c++) pushSuccessors(model, c, t + 1, queued, next);
+      for (let c = model.choiceStart[s]; c < model.choiceStart[s + 1]; c++)
+        pushSuccessors(model, c, t + 1, queued, next);
     }
     current = next;
   }
@@ -302,7 +312,8 @@ export function timeBlindLoss(model: CompiledModel, solution: FiniteHorizonSolut
   const count = Math.max(1, Math.min(horizon, CANDIDATE_LIMIT, Math.floor(EVALUATION_BUDGET / cost)));
   for (let j = 0; j < count; j++) {
     const k = count === 1 ? horizon : 1 + Math.round((j * (horizon - 1)) / (count - 1));
-    for (const s of deciding) policy[s] = solution.bestChoice[k * n + s] >= 0 ? solution.bestChoice[k * n + s] : model.choiceStart[s];
+    for (const s of deciding)
+      policy[s] = solution.bestChoice[k * n + s] >= 0 ? solution.bestChoice[k * n + s] : model.choiceStart[s];
     consider();
   }
   return { optimal, timeBlind: sigma * timeBlind, exact: false, tried };
@@ -323,7 +334,8 @@ function evaluateStationary(model: CompiledModel, policy: Int32Array, horizon: n
       let total = 0;
       for (let o = model.outcomeStart[c]; o < model.outcomeStart[c + 1]; o++) {
         const t = model.outcomeTarget[o];
-        total += model.outcomeProb[o] * (model.outcomeReward[o] + model.discount * (model.terminal[t] !== 0 ? 0 : later[t]));
+        total +=
+          model.outcomeProb[o] * (model.outcomeReward[o] + model.discount * (model.terminal[t] !== 0 ? 0 : later[t]));
       }
       now[s] = total;
     }

@@ -46,7 +46,15 @@ import {
   type Nodes,
   type Operator,
 } from './interval-iteration';
-import { classifyMdpGains, gainBounds, GAIN_NEGATIVE, GAIN_POSITIVE, GAIN_UNDECIDED, GAIN_ZERO, type MdpGainClasses } from './mean-payoff';
+import {
+  classifyMdpGains,
+  gainBounds,
+  GAIN_NEGATIVE,
+  GAIN_POSITIVE,
+  GAIN_UNDECIDED,
+  GAIN_ZERO,
+  type MdpGainClasses,
+} from './mean-payoff';
 import { almostSureReach, backwardLayering, canReach } from './reachability';
 import { reshapeZeroGains } from './zero-gain';
 import { isCyclicComponent, stronglyConnectedComponents, type SccDecomposition } from './scc';
@@ -118,7 +126,8 @@ export function singleChoiceModel(graph: ModelGraph): boolean {
   if (known === undefined) {
     const { choiceStart, stateCount } = graph.model;
     known = true;
-    for (let s = 0; s < stateCount && known; s++) if (!graph.absorbing[s] && choiceStart[s + 1] - choiceStart[s] !== 1) known = false;
+    for (let s = 0; s < stateCount && known; s++)
+      if (!graph.absorbing[s] && choiceStart[s + 1] - choiceStart[s] !== 1) known = false;
     singleChoice.set(graph, known);
   }
   return known;
@@ -197,7 +206,12 @@ export function sortWithinComponents(scc: SccDecomposition, graph: ModelGraph): 
  * a cyclic component that the iterated states only partly cover is taken as cyclic (sound: the
  * solve is then iterative).
  */
-function sweepOrder(ctx: AnalysisContext, iterate: Uint8Array, policy: Int32Array | undefined, mask: Uint8Array | undefined): { order: Int32Array; acyclic: boolean } {
+function sweepOrder(
+  ctx: AnalysisContext,
+  iterate: Uint8Array,
+  policy: Int32Array | undefined,
+  mask: Uint8Array | undefined,
+): { order: Int32Array; acyclic: boolean } {
   const scc = liveComponents(ctx, policy, mask);
   const order = new Int32Array(scc.order.length);
   let fill = 0;
@@ -216,7 +230,11 @@ function sweepOrder(ctx: AnalysisContext, iterate: Uint8Array, policy: Int32Arra
 }
 
 /** The sweep order over the finite region at discount 1, where collapsed groups must stay together. */
-function groupSweepOrder(ctx: AnalysisContext, iterate: Uint8Array, choices: Uint8Array | undefined): { order: Int32Array; acyclic: boolean } {
+function groupSweepOrder(
+  ctx: AnalysisContext,
+  iterate: Uint8Array,
+  choices: Uint8Array | undefined,
+): { order: Int32Array; acyclic: boolean } {
   const scc = stronglyConnectedComponents(ctx.model, iterate, choices);
   sortWithinComponents(scc, ctx.graph);
   let acyclic = true;
@@ -298,22 +316,42 @@ export function solveValues(ctx: AnalysisContext, problem: ValueProblem): ValueS
   } else {
     const decided = classifyChainTotal(ctx, problem, chainMask);
     status = decided.status;
-    for (let s = 0; s < n; s++) iterate[s] = status[s] === STATUS_FINITE && !graph.absorbing[s] && !decided.zeroBottom[s] ? 1 : 0;
+    for (let s = 0; s < n; s++)
+      iterate[s] = status[s] === STATUS_FINITE && !graph.absorbing[s] && !decided.zeroBottom[s] ? 1 : 0;
   }
 
   // Sweep order: successors first (reverse topological order of SCCs), collapsed groups as one node.
-  const { order, acyclic } = groups ? groupSweepOrder(ctx, iterate, unionMask(allowed, groups.choiceIn)) : sweepOrder(ctx, iterate, problem.policy, chainMask);
+  const { order, acyclic } = groups
+    ? groupSweepOrder(ctx, iterate, unionMask(allowed, groups.choiceIn))
+    : sweepOrder(ctx, iterate, problem.policy, chainMask);
   const nodes = groups && groups.count > 0 ? groupedNodes(order, groups) : singletonNodes(order);
 
-  const op: Operator = { model, combine: problem.combine, policy: problem.policy, reward, discount: problem.discount, allowed };
+  const op: Operator = {
+    model,
+    combine: problem.combine,
+    policy: problem.policy,
+    reward,
+    discount: problem.discount,
+    allowed,
+  };
   const solved = bias ? { ...problem, reward, lowerBound: undefined, upperBound: undefined } : problem;
   const apriori = aprioriBounds(model, solved, iterate, allowed);
   const guess = problem.name !== undefined ? ctx.guesses?.get(problem.name) : undefined;
   if (guess && !acyclic) ctx.warmStarts = (ctx.warmStarts ?? 0) + 1;
-  const solveOptions = { precision: ctx.precision, lowerBound: apriori.lower, upperBound: apriori.upper, acyclic, maxSweeps: ctx.maxSweeps, guess };
-  const result = (!acyclic && directSolve(ctx, op, solved, nodes, iterate, solveOptions, bounds)) || solveBoundsInOrder(op, nodes, bounds, solveOptions);
+  const solveOptions = {
+    precision: ctx.precision,
+    lowerBound: apriori.lower,
+    upperBound: apriori.upper,
+    acyclic,
+    maxSweeps: ctx.maxSweeps,
+    guess,
+  };
+  const result =
+    (!acyclic && directSolve(ctx, op, solved, nodes, iterate, solveOptions, bounds)) ||
+    solveBoundsInOrder(op, nodes, bounds, solveOptions);
   ctx.sweepTotal = (ctx.sweepTotal ?? 0) + result.sweeps;
-  if (problem.name !== undefined && ctx.solved) ctx.solved.set(problem.name, solvedEstimate(iterate, bounds, result.estimate));
+  if (problem.name !== undefined && ctx.solved)
+    ctx.solved.set(problem.name, solvedEstimate(iterate, bounds, result.estimate));
 
   const lower = new Float64Array(n);
   const upper = new Float64Array(n);
@@ -378,20 +416,29 @@ function directSolve(
 ): SolveResult | undefined {
   // The assembled systems hold about 12 bytes per outcome (more with ILU(0)); past this size the
   // sweeps, which need no extra memory, are kept.
-  if (ctx.directSolves === false || nodes.count === 0 || ctx.model.outcomeCount > DIRECT_OUTCOME_LIMIT) return undefined;
+  if (ctx.directSolves === false || nodes.count === 0 || ctx.model.outcomeCount > DIRECT_OUTCOME_LIMIT)
+    return undefined;
   // With one choice per state and no collapsed component, the best, the worst and every policy's
   // values are those of the one chain: solve it once.
   const oneChain = singleChoiceModel(ctx.graph) && nodes.count === nodes.members.length && !nodes.stay.includes(1);
   if (problem.combine === COMBINE_POLICY || problem.combine === COMBINE_AVERAGE || oneChain) {
     const system = chainSystemOf(ctx, problem.policy, problem.discount);
     const estimate = new Float64Array(ctx.model.stateCount);
-    if (!certifiedChainSolve(system, problem.reward, iterate, options, bounds, options.guess, estimate)) return undefined;
+    if (!certifiedChainSolve(system, problem.reward, iterate, options, bounds, options.guess, estimate))
+      return undefined;
     return { sweeps: 0, exact: false, relativeWidth: measureWidth(nodes, bounds), estimate };
   }
   // Best or worst values: policy iteration where value iteration would need many sweeps (long
   // effective horizons); short ones converge in a few sweeps anyway.
   if (problem.discount < DIRECT_FROM_DISCOUNT) return undefined;
-  const solved = policyIterationBounds(ctx.graph, op, nodes, options.precision, (ctx.counters ??= newSolverCounters()), options.guess);
+  const solved = policyIterationBounds(
+    ctx.graph,
+    op,
+    nodes,
+    options.precision,
+    (ctx.counters ??= newSolverCounters()),
+    options.guess,
+  );
   if (!solved) return undefined;
   const estimate = new Float64Array(ctx.model.stateCount);
   const floor = options.lowerBound ?? -Infinity;
@@ -414,7 +461,12 @@ const DIRECT_OUTCOME_LIMIT = 8_000_000;
 const DIRECT_FROM_DISCOUNT = 0.99;
 
 /** A priori bounds on the iterated states' values, or undefined sides. */
-function aprioriBounds(model: CompiledModel, problem: ValueProblem, iterate: Uint8Array, allowed: Uint8Array | undefined): { lower?: number; upper?: number } {
+function aprioriBounds(
+  model: CompiledModel,
+  problem: ValueProblem,
+  iterate: Uint8Array,
+  allowed: Uint8Array | undefined,
+): { lower?: number; upper?: number } {
   let rmin = 0;
   let rmax = 0;
   const { choiceStart } = model;
@@ -437,8 +489,10 @@ function aprioriBounds(model: CompiledModel, problem: ValueProblem, iterate: Uin
     if (rmin >= 0) lower = 0;
     if (rmax <= 0) upper = 0;
   }
-  if (problem.lowerBound !== undefined) lower = lower === undefined ? problem.lowerBound : Math.max(lower, problem.lowerBound);
-  if (problem.upperBound !== undefined) upper = upper === undefined ? problem.upperBound : Math.min(upper, problem.upperBound);
+  if (problem.lowerBound !== undefined)
+    lower = lower === undefined ? problem.lowerBound : Math.max(lower, problem.lowerBound);
+  if (problem.upperBound !== undefined)
+    upper = upper === undefined ? problem.upperBound : Math.min(upper, problem.upperBound);
   return { lower, upper };
 }
 
@@ -593,7 +647,14 @@ function classifyChainTotal(
       const b = gainBounds(graph, Int32Array.from(members), chainMask, problem.reward, 1, local, ctx.gainBudget, true);
       sign = b.lower > 0 ? GAIN_POSITIVE : b.upper < 0 ? GAIN_NEGATIVE : GAIN_UNDECIDED;
     }
-    const mark = sign === GAIN_ZERO ? zeroBottom : sign === GAIN_POSITIVE ? positive : sign === GAIN_NEGATIVE ? negative : undecided;
+    const mark =
+      sign === GAIN_ZERO
+        ? zeroBottom
+        : sign === GAIN_POSITIVE
+          ? positive
+          : sign === GAIN_NEGATIVE
+            ? negative
+            : undecided;
     for (let j = 0; j < members.length; j++) mark[members[j]] = 1;
   }
   const reachesPositive = canReach(graph, positive, chainMask);

@@ -28,7 +28,10 @@ export const UNDISCOUNTED_PREFIX = 'undiscounted:';
  * previous model did not have), or undefined when nothing carries over. States are matched by id,
  * so renamed states start cold and removed ones are ignored.
  */
-export function guessesFor(model: CompiledModel, previous: WarmStart | undefined): Map<string, Float64Array> | undefined {
+export function guessesFor(
+  model: CompiledModel,
+  previous: WarmStart | undefined,
+): Map<string, Float64Array> | undefined {
   if (!previous || !(previous.idStart instanceof Int32Array) || typeof previous.ids !== 'string') return undefined;
   const previousCount = previous.idStart.length - 1;
   if (previousCount <= 0) return undefined;

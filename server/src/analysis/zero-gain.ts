@@ -31,7 +31,12 @@ export interface ZeroGainReshaping {
 }
 
 /** Reshapes every undecided end component of best mean 0 that passes the checks; undefined when none does. */
-export function reshapeZeroGains(ctx: AnalysisContext, gains: MdpGainClasses, reward: Float64Array, sigma: number): ZeroGainReshaping | undefined {
+export function reshapeZeroGains(
+  ctx: AnalysisContext,
+  gains: MdpGainClasses,
+  reward: Float64Array,
+  sigma: number,
+): ZeroGainReshaping | undefined {
   const { model, graph, mecs } = ctx;
   const { choiceStart, outcomeStart, outcomeTarget, outcomeProb } = model;
   const n = model.stateCount;

@@ -48,7 +48,8 @@ export const OPTIONS: readonly OptionSpec[] = [
     choices: ['text', 'json', 'sarif', 'markdown'],
     valueName: 'FORMAT',
     defaultValue: 'text',
-    description: 'output format: text (for people), json (version 1 contract), sarif (SARIF 2.1.0 for code scanning) or markdown (a pull-request comment)',
+    description:
+      'output format: text (for people), json (version 1 contract), sarif (SARIF 2.1.0 for code scanning) or markdown (a pull-request comment)',
   },
   {
     name: 'values',
@@ -73,7 +74,8 @@ export const OPTIONS: readonly OptionSpec[] = [
     name: 'report',
     kind: 'string',
     valueName: 'FILE.html',
-    description: 'also write a self-contained HTML report with plots of the return ranges, reach probabilities and state values',
+    description:
+      'also write a self-contained HTML report with plots of the return ranges, reach probabilities and state values',
   },
   {
     name: 'config',
@@ -82,36 +84,80 @@ export const OPTIONS: readonly OptionSpec[] = [
     description: 'the config file to use for every spec (default: the nearest episcope.config.json above each spec)',
   },
   { name: 'stdio', kind: 'flag', description: 'talk the Language Server Protocol over standard input and output' },
-  { name: 'node-ipc', kind: 'flag', description: 'talk the Language Server Protocol over Node IPC (for clients that start it as a Node module)' },
-  { name: 'socket', kind: 'integer', range: [1, 65535], valueName: 'PORT', description: 'talk the Language Server Protocol over a TCP socket on this port' },
-  { name: 'clientProcessId', kind: 'integer', range: [1, 2 ** 31 - 1], valueName: 'PID', description: 'exit when this process (the editor) ends' },
-  { name: 'no-exec', kind: 'flag', description: 'never run TypeScript model code: static checks only (for untrusted files)' },
-  { name: 'run-model-code', kind: 'flag', description: 'server: run TypeScript model code unless the client says the workspace is not trusted (default: only when it says trusted)' },
+  {
+    name: 'node-ipc',
+    kind: 'flag',
+    description: 'talk the Language Server Protocol over Node IPC (for clients that start it as a Node module)',
+  },
+  {
+    name: 'socket',
+    kind: 'integer',
+    range: [1, 65535],
+    valueName: 'PORT',
+    description: 'talk the Language Server Protocol over a TCP socket on this port',
+  },
+  {
+    name: 'clientProcessId',
+    kind: 'integer',
+    range: [1, 2 ** 31 - 1],
+    valueName: 'PID',
+    description: 'exit when this process (the editor) ends',
+  },
+  {
+    name: 'no-exec',
+    kind: 'flag',
+    description: 'never run TypeScript model code: static checks only (for untrusted files)',
+  },
+  {
+    name: 'run-model-code',
+    kind: 'flag',
+    description:
+      'server: run TypeScript model code unless the client says the workspace is not trusted (default: only when it says trusted)',
+  },
   // The same range as the config file's seed: the rollouts use it as a 32-bit unsigned number.
-  { name: 'seed', kind: 'integer', range: [0, 2 ** 32 - 1], valueName: 'N', description: 'seed of the Monte Carlo rollouts (default: the config\'s seed, else 1)' },
+  {
+    name: 'seed',
+    kind: 'integer',
+    range: [0, 2 ** 32 - 1],
+    valueName: 'N',
+    description: "seed of the Monte Carlo rollouts (default: the config's seed, else 1)",
+  },
   {
     name: 'rollouts',
     kind: 'integer',
     // Every rollout's return, length and ending are kept in memory (13 bytes); ten million stay near 130 MB.
     range: [0, 10_000_000],
     valueName: 'N',
-    description: 'rollouts per spec: estimates for sampled TypeScript models (default 1000), and for exact models the return distribution under the optimal and the random policy',
+    description:
+      'rollouts per spec: estimates for sampled TypeScript models (default 1000), and for exact models the return distribution under the optimal and the random policy',
   },
   {
     name: 'learn',
     kind: 'choice',
     choices: ['q-learning', 'monte-carlo', 'off'],
     valueName: 'METHOD',
-    description: "how to learn action values from samples, for sampled models and exact ones with --rollouts (default: the config's learning.method, else q-learning)",
+    description:
+      "how to learn action values from samples, for sampled models and exact ones with --rollouts (default: the config's learning.method, else q-learning)",
   },
-  { name: 'learn-steps', kind: 'integer', valueName: 'N', description: "most training steps of learning (default: the config's learning.steps, else 200000)" },
-  { name: 'learn-episodes', kind: 'integer', valueName: 'N', description: "most training episodes of learning (default: the config's learning.episodes, else 20000)" },
+  {
+    name: 'learn-steps',
+    kind: 'integer',
+    valueName: 'N',
+    description: "most training steps of learning (default: the config's learning.steps, else 200000)",
+  },
+  {
+    name: 'learn-episodes',
+    kind: 'integer',
+    valueName: 'N',
+    description: "most training episodes of learning (default: the config's learning.episodes, else 20000)",
+  },
   {
     name: 'jobs',
     kind: 'integer',
     range: [1, MAX_JOBS],
     valueName: 'N',
-    description: "sandbox child processes for a sampled model's rollouts and learning; the figures do not depend on it (default: the config's jobs, else the machine's available parallelism)",
+    description:
+      "sandbox child processes for a sampled model's rollouts and learning; the figures do not depend on it (default: the config's jobs, else the machine's available parallelism)",
   },
 ];
 
@@ -148,7 +194,13 @@ export function parseArgs(argv: readonly string[], commands: readonly CommandSpe
     const arg = argv[i];
     if (optionsEnded || arg === '-' || !arg.startsWith('-')) {
       if (result.command === undefined) {
-        if (!commands.some((c) => c.name === arg)) throw new UsageError(`unknown command '${arg}'${didYouMean(arg, commands.map((c) => c.name))}`);
+        if (!commands.some((c) => c.name === arg))
+          throw new UsageError(
+            `unknown command '${arg}'${didYouMean(
+              arg,
+              commands.map((c) => c.name),
+            )}`,
+          );
         result.command = arg;
       } else {
         result.operands.push(arg);
@@ -180,7 +232,8 @@ export function parseArgs(argv: readonly string[], commands: readonly CommandSpe
     } else {
       let raw = inlineValue;
       if (raw === undefined) {
-        if (i + 1 >= argv.length) throw new UsageError(`option '--${option.name}' needs a value (${describeValue(option)})`);
+        if (i + 1 >= argv.length)
+          throw new UsageError(`option '--${option.name}' needs a value (${describeValue(option)})`);
         raw = argv[++i];
       }
       result.options[option.name] = convertValue(option, raw);
@@ -201,13 +254,16 @@ export function parseArgs(argv: readonly string[], commands: readonly CommandSpe
     const n = result.operands.length;
     if (n < command.minOperands) throw new UsageError(`'${command.name}' needs ${command.operands}`);
     if (n > command.maxOperands) {
-      throw new UsageError(`'${command.name}' takes at most ${command.maxOperands} operand${command.maxOperands === 1 ? '' : 's'}, got ${n}`);
+      throw new UsageError(
+        `'${command.name}' takes at most ${command.maxOperands} operand${command.maxOperands === 1 ? '' : 's'}, got ${n}`,
+      );
     }
   }
   if (command) {
     for (const name of command.options) {
       const option = optionByName.get(name);
-      if (option && !(name in result.options)) result.options[name] = option.defaultValue ?? (option.kind === 'flag' ? false : '');
+      if (option && !(name in result.options))
+        result.options[name] = option.defaultValue ?? (option.kind === 'flag' ? false : '');
     }
   }
   return result;
@@ -223,7 +279,9 @@ function convertValue(option: OptionSpec, raw: string): OptionValue {
   switch (option.kind) {
     case 'choice':
       if (!option.choices?.includes(raw)) {
-        throw new UsageError(`option '--${option.name}' must be one of ${option.choices?.join(', ')}; got '${raw}'${didYouMean(raw, option.choices ?? [])}`);
+        throw new UsageError(
+          `option '--${option.name}' must be one of ${option.choices?.join(', ')}; got '${raw}'${didYouMean(raw, option.choices ?? [])}`,
+        );
       }
       return raw;
     case 'integer': {
@@ -256,7 +314,10 @@ function describeValue(option: OptionSpec): string {
 export function usageText(tool: string, commands: readonly CommandSpec[], command?: CommandSpec): string {
   const lines: string[] = [];
   if (command) {
-    lines.push(`Usage: ${tool} ${command.name} ${command.operands}${command.options.length ? ' [options]' : ''}`.trimEnd(), '');
+    lines.push(
+      `Usage: ${tool} ${command.name} ${command.operands}${command.options.length ? ' [options]' : ''}`.trimEnd(),
+      '',
+    );
     lines.push(command.summary, '');
     const names = [...command.options, ...GLOBAL_OPTIONS];
     lines.push('Options:', ...optionLines(names));
@@ -278,7 +339,10 @@ function optionLines(names: readonly string[]): string[] {
     if (!o) throw new Error(`option table has no '${name}'`);
     const value = o.kind === 'flag' ? '' : ` ${o.choices ? o.choices.join('|') : (o.valueName ?? 'VALUE')}`;
     const left = `${o.short ? `-${o.short}, ` : '    '}--${o.name}${value}`;
-    const right = o.defaultValue !== undefined && o.kind !== 'flag' ? `${o.description} (default: ${o.defaultValue})` : o.description;
+    const right =
+      o.defaultValue !== undefined && o.kind !== 'flag'
+        ? `${o.description} (default: ${o.defaultValue})`
+        : o.description;
     return [left, right] as const;
   });
   const width = Math.max(...rows.map(([left]) => left.length));

@@ -19,7 +19,8 @@ export class BaselineError extends Error {}
 
 // Compiled on first use: compiling takes about 0.1 s, which every run without --baseline would pay.
 let outputValidator: ValidateFunction<JsonOutput> | undefined;
-const validateOutput = (value: unknown): value is JsonOutput => (outputValidator ??= new Ajv2020({ allErrors: false, strict: false }).compile<JsonOutput>(outputSchema))(value);
+const validateOutput = (value: unknown): value is JsonOutput =>
+  (outputValidator ??= new Ajv2020({ allErrors: false, strict: false }).compile<JsonOutput>(outputSchema))(value);
 
 /** Reads a baseline from the text of a `--format json` output; throws BaselineError with a one-line reason. */
 export function parseBaseline(text: string, name: string): JsonOutput {
@@ -28,15 +29,26 @@ export function parseBaseline(text: string, name: string): JsonOutput {
     value = JSON.parse(text);
   } catch (error) {
     const reason = error instanceof Error ? error.message.split('\n')[0] : String(error);
-    throw new BaselineError(`baseline '${name}' is not JSON (${reason}); give it the output of 'episcope check --format json'`);
+    throw new BaselineError(
+      `baseline '${name}' is not JSON (${reason}); give it the output of 'episcope check --format json'`,
+    );
   }
-  if (typeof value === 'object' && value !== null && 'version' in value && (value as { version: unknown }).version !== 1) {
-    throw new BaselineError(`baseline '${name}' is version ${JSON.stringify((value as { version: unknown }).version)} output; this episcope reads version 1`);
+  if (
+    typeof value === 'object' &&
+    value !== null &&
+    'version' in value &&
+    (value as { version: unknown }).version !== 1
+  ) {
+    throw new BaselineError(
+      `baseline '${name}' is version ${JSON.stringify((value as { version: unknown }).version)} output; this episcope reads version 1`,
+    );
   }
   if (!validateOutput(value)) {
     const error = outputValidator?.errors?.[0];
     const where = error?.instancePath ? readablePointer(error.instancePath) : 'the top level';
-    throw new BaselineError(`baseline '${name}' is not an 'episcope check --format json' output: ${where} ${error?.message ?? 'is invalid'}`);
+    throw new BaselineError(
+      `baseline '${name}' is not an 'episcope check --format json' output: ${where} ${error?.message ?? 'is invalid'}`,
+    );
   }
   return value;
 }
@@ -152,7 +164,10 @@ function groupByKey(files: readonly JsonFile[]): Map<string, FindingChange[]> {
 }
 
 /** Pairs findings of one key: identical messages first, then the rest in line order. */
-function pair(then: FindingChange[], now: FindingChange[]): { matched: number; unmatchedBefore: FindingChange[]; unmatchedAfter: FindingChange[] } {
+function pair(
+  then: FindingChange[],
+  now: FindingChange[],
+): { matched: number; unmatchedBefore: FindingChange[]; unmatchedAfter: FindingChange[] } {
   const restBefore = [...then];
   const restAfter: FindingChange[] = [];
   let matched = 0;
@@ -163,11 +178,16 @@ function pair(then: FindingChange[], now: FindingChange[]): { matched: number; u
       matched++;
     } else restAfter.push(change);
   }
-  const byLine = (a: FindingChange, b: FindingChange) => a.finding.line - b.finding.line || a.finding.column - b.finding.column;
+  const byLine = (a: FindingChange, b: FindingChange) =>
+    a.finding.line - b.finding.line || a.finding.column - b.finding.column;
   restBefore.sort(byLine);
   restAfter.sort(byLine);
   const common = Math.min(restBefore.length, restAfter.length);
-  return { matched: matched + common, unmatchedBefore: restBefore.slice(common), unmatchedAfter: restAfter.slice(common) };
+  return {
+    matched: matched + common,
+    unmatchedBefore: restBefore.slice(common),
+    unmatchedAfter: restAfter.slice(common),
+  };
 }
 
 function sortChanges(changes: FindingChange[]): FindingChange[] {

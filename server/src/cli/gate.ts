@@ -13,7 +13,15 @@ import { DEFAULT_CONFIG, type ResolvedConfig } from '../config';
 import { RULES } from '../rules/registry';
 import type { Severity } from '../rules/types';
 import { SUPPRESSION_RULE, isCompletelyChecked, unusedIgnoreFindings, type CheckedFile } from '../suppress';
-import { BaselineError, compareWithBaseline, newFindingsAtOrAbove, parseBaseline, type Comparison, type FindingChange, type SpecShift } from './baseline';
+import {
+  BaselineError,
+  compareWithBaseline,
+  newFindingsAtOrAbove,
+  parseBaseline,
+  type Comparison,
+  type FindingChange,
+  type SpecShift,
+} from './baseline';
 import { displayPath, type SpecFile } from './files';
 import { fileReportToJson, findingToJson, jsonOutput, type JsonFile, type JsonOutput } from './json-output';
 import { TEXT_SHIFT, hasMoved, intervalShift, markdownReport, probabilityShift } from './markdown';
@@ -30,7 +38,8 @@ function movedLine(spec: SpecShift): string {
     ['goal reach (random)', probabilityShift(spec.goalRandom, TEXT_SHIFT)],
   ];
   const shown = figures.filter(([, text]) => hasMoved(text, TEXT_SHIFT)).map(([label, text]) => `${label} ${text}`);
-  const name = spec.status === 'added' ? `${spec.path} (new)` : spec.status === 'removed' ? `${spec.path} (removed)` : spec.path;
+  const name =
+    spec.status === 'added' ? `${spec.path} (new)` : spec.status === 'removed' ? `${spec.path} (removed)` : spec.path;
   const none = spec.status === 'changed' ? 'moved by less than the digits shown' : 'not analysed';
   return `  moved ${name}: ${shown.length > 0 ? shown.join(', ') : none}`;
 }
@@ -71,7 +80,8 @@ export class CheckGate {
     private readonly options: GateOptions,
     files: readonly SpecFile[],
   ) {
-    if (options.baseline !== undefined) this.baseline = readBaseline(path.resolve(options.cwd, options.baseline), options.baseline);
+    if (options.baseline !== undefined)
+      this.baseline = readBaseline(path.resolve(options.cwd, options.baseline), options.baseline);
     if (options.config !== undefined) {
       const absolute = path.resolve(options.cwd, options.config);
       if (!isFile(absolute)) throw new GateError(`cannot read config '${options.config}': no such file`);
@@ -108,9 +118,17 @@ export class CheckGate {
     // The text format prints each file's findings as soon as they are known: make room for them.
     if (this.options.format === 'text') this.progress.clear();
     const loaded = this.loadedFor(path.resolve(this.options.cwd, report.path));
-    loaded?.checked.push({ path: report.path, suppressed: report.suppressed ?? [], complete: isCompletelyChecked(report) });
+    loaded?.checked.push({
+      path: report.path,
+      suppressed: report.suppressed ?? [],
+      complete: isCompletelyChecked(report),
+    });
     if (this.options.report !== undefined) {
-      this.reportFiles.push(json.analysis && !json.analysis.values ? fileReportToJson(report, { values: true, displayPath: json.path }) : json);
+      this.reportFiles.push(
+        json.analysis && !json.analysis.values
+          ? fileReportToJson(report, { values: true, displayPath: json.path })
+          : json,
+      );
     }
   }
 
@@ -133,7 +151,10 @@ export class CheckGate {
         .map((f) => (f.rule === CONFIG_RULE.id && severity && severity !== 'off' ? { ...f, severity } : f));
       if (shown.length === 0) continue;
       shown.sort((a, b) => a.span.start - b.span.start);
-      out.push({ path: displayPath(file.path, this.options.cwd), findings: shown.map((f) => findingToJson(f, file.lines)) });
+      out.push({
+        path: displayPath(file.path, this.options.cwd),
+        findings: shown.map((f) => findingToJson(f, file.lines)),
+      });
     }
     this.reportFiles.push(...out);
     return out;
@@ -152,7 +173,8 @@ export class CheckGate {
       });
       return `${JSON.stringify(log, null, 2)}\n`;
     }
-    if (this.options.format === 'markdown') return markdownReport(output, this.compare(output), { failOn: this.options.failOn });
+    if (this.options.format === 'markdown')
+      return markdownReport(output, this.compare(output), { failOn: this.options.failOn });
     return undefined;
   }
 
@@ -160,14 +182,17 @@ export class CheckGate {
   baselineText(results: JsonFile[]): string {
     const comparison = this.compare(jsonOutput(results));
     if (!comparison) return '';
-    const line = (label: string, c: FindingChange) => `  ${label} ${c.path}:${c.finding.line}:${c.finding.column} ${c.finding.severity} ${c.finding.rule} ${c.finding.message}`;
+    const line = (label: string, c: FindingChange) =>
+      `  ${label} ${c.path}:${c.finding.line}:${c.finding.column} ${c.finding.severity} ${c.finding.rule} ${c.finding.message}`;
     const moved = comparison.specs.filter((s) => s.status !== 'unchanged');
-    return [
-      `compared with the baseline: ${comparison.newFindings.length} new, ${comparison.fixedFindings.length} fixed, ${comparison.unchangedFindings} unchanged; start values moved in ${moved.length} spec${moved.length === 1 ? '' : 's'}`,
-      ...comparison.newFindings.map((c) => line('new  ', c)),
-      ...comparison.fixedFindings.map((c) => line('fixed', c)),
-      ...moved.map(movedLine),
-    ].join('\n') + '\n';
+    return (
+      [
+        `compared with the baseline: ${comparison.newFindings.length} new, ${comparison.fixedFindings.length} fixed, ${comparison.unchangedFindings} unchanged; start values moved in ${moved.length} spec${moved.length === 1 ? '' : 's'}`,
+        ...comparison.newFindings.map((c) => line('new  ', c)),
+        ...comparison.fixedFindings.map((c) => line('fixed', c)),
+        ...moved.map(movedLine),
+      ].join('\n') + '\n'
+    );
   }
 
   /** Writes the HTML report when --report was given. */
@@ -175,12 +200,18 @@ export class CheckGate {
     if (this.options.report === undefined) return;
     const html = htmlReport(
       { files: this.reportFiles },
-      { toolName: this.options.toolName, toolVersion: this.options.toolVersion, generatedAt: (this.options.now ?? (() => new Date()))() },
+      {
+        toolName: this.options.toolName,
+        toolVersion: this.options.toolVersion,
+        generatedAt: (this.options.now ?? (() => new Date()))(),
+      },
     );
     try {
       writeFileSync(path.resolve(this.options.cwd, this.options.report), html);
     } catch (error) {
-      throw new GateError(`cannot write the report '${this.options.report}': ${error instanceof Error ? error.message.split('\n')[0] : String(error)}`);
+      throw new GateError(
+        `cannot write the report '${this.options.report}': ${error instanceof Error ? error.message.split('\n')[0] : String(error)}`,
+      );
     }
   }
 
@@ -227,7 +258,9 @@ function readBaseline(absolute: string, name: string): JsonOutput {
     text = readFileSync(absolute, 'utf8');
   } catch (error) {
     const code = (error as NodeJS.ErrnoException).code;
-    throw new GateError(`cannot read baseline '${name}': ${code === 'ENOENT' ? 'no such file' : code ?? String(error)}`);
+    throw new GateError(
+      `cannot read baseline '${name}': ${code === 'ENOENT' ? 'no such file' : (code ?? String(error))}`,
+    );
   }
   try {
     return parseBaseline(text, name);

@@ -13,7 +13,16 @@ import { TERMINAL_OF_CODE } from '../model/compiled';
 import type { Finding, Severity } from '../rules/types';
 import type { Span } from '../load/types';
 import type { LineIndex } from '../load/lines';
-import { jsonLower, jsonPoint, jsonProbability, jsonShare, jsonUpper, roundNearest, type JsonNumber, type JsonProbability } from './numbers';
+import {
+  jsonLower,
+  jsonPoint,
+  jsonProbability,
+  jsonShare,
+  jsonUpper,
+  roundNearest,
+  type JsonNumber,
+  type JsonProbability,
+} from './numbers';
 
 export const JSON_OUTPUT_VERSION = 1;
 
@@ -129,9 +138,16 @@ export interface JsonFile {
 }
 
 /** Additive: what learning spent and learned (sandbox/learn.ts); a Q of an action never tried, and any figure not known, is null. */
-export interface JsonLearning
-  extends Pick<LearningSummary, 'method' | 'visits' | 'epsilon' | 'budget' | 'spent' | 'distinctKeys' | 'learningStates' | 'unlearnedSteps' | 'path'> {
-  states: Array<{ key: string; step?: number; visits: number; actions: Array<{ action: string; q: number | null; visits: number }> }>;
+export interface JsonLearning extends Pick<
+  LearningSummary,
+  'method' | 'visits' | 'epsilon' | 'budget' | 'spent' | 'distinctKeys' | 'learningStates' | 'unlearnedSteps' | 'path'
+> {
+  states: Array<{
+    key: string;
+    step?: number;
+    visits: number;
+    actions: Array<{ action: string; q: number | null; visits: number }>;
+  }>;
   decision?: {
     key: string;
     best: { action: string; mean: number | null; standardDeviation: number | null };
@@ -178,7 +194,8 @@ export function fileReportToJson(report: FileReport, options: JsonOptions = {}):
     path: options.displayPath ?? report.path,
     findings: report.findings.map((f) => findingToJson(f, report.lines)),
   };
-  if (report.analysis && report.model) file.analysis = analysisToJson(report.analysis, report.model, options.values ?? false);
+  if (report.analysis && report.model)
+    file.analysis = analysisToJson(report.analysis, report.model, options.values ?? false);
   if (!report.analysis && report.notAnalysed) file.notAnalysed = report.notAnalysed;
   if (report.internalErrors.length > 0) file.internalErrors = [...report.internalErrors];
   if (report.modelOutput) file.modelOutput = report.modelOutput;
@@ -201,7 +218,11 @@ export function rolloutsToJson(stats: RolloutStats): JsonRollouts {
     p75: roundNearest(p.p75),
     p95: roundNearest(p.p95),
   });
-  const histogram = (h: RolloutStats['return']['histogram']) => ({ lower: roundNearest(h.lower), upper: roundNearest(h.upper), counts: h.counts });
+  const histogram = (h: RolloutStats['return']['histogram']) => ({
+    lower: roundNearest(h.lower),
+    upper: roundNearest(h.upper),
+    counts: h.counts,
+  });
   return {
     episodes: stats.episodes,
     seed: stats.seed,
@@ -229,7 +250,16 @@ export function rolloutsToJson(stats: RolloutStats): JsonRollouts {
       none: jsonShare(stats.reach.none),
     },
     stepCapped: stats.stepCapped,
-    ...(stats.cost ? { cost: { halfWidth: roundNearest(stats.cost.halfWidth), defaultHalfWidth: stats.cost.defaultHalfWidth, episodesNeeded: known(stats.cost.episodesNeeded), moreEpisodes: known(stats.cost.moreEpisodes) } } : {}),
+    ...(stats.cost
+      ? {
+          cost: {
+            halfWidth: roundNearest(stats.cost.halfWidth),
+            defaultHalfWidth: stats.cost.defaultHalfWidth,
+            episodesNeeded: known(stats.cost.episodesNeeded),
+            moreEpisodes: known(stats.cost.moreEpisodes),
+          },
+        }
+      : {}),
   };
 }
 
@@ -266,8 +296,20 @@ export function learningToJson(learning: LearningSummary): JsonLearning {
   if (learning.visits) out.visits = learning.visits;
   const d = learning.decision;
   if (d) {
-    const side = (x: StartDecision['best']) => ({ action: x.action, mean: known(x.mean), standardDeviation: known(x.standardDeviation) });
-    out.decision = { key: d.key, best: side(d.best), runnerUp: side(d.runnerUp), episodes: d.episodes, z: knownOrInfinite(d.z), decided: d.decided, moreEpisodes: knownOrInfinite(d.moreEpisodes) };
+    const side = (x: StartDecision['best']) => ({
+      action: x.action,
+      mean: known(x.mean),
+      standardDeviation: known(x.standardDeviation),
+    });
+    out.decision = {
+      key: d.key,
+      best: side(d.best),
+      runnerUp: side(d.runnerUp),
+      episodes: d.episodes,
+      z: knownOrInfinite(d.z),
+      decided: d.decided,
+      moreEpisodes: knownOrInfinite(d.moreEpisodes),
+    };
   }
   if (learning.noDecision) out.noDecision = learning.noDecision;
   if (learning.exact) {
@@ -342,14 +384,21 @@ export function analysisToJson(analysis: Analysis, model: CompiledModel, withVal
       random: intervalToJson(start.random),
       reach: { optimal: reachToJson(start.reach.optimal), random: reachToJson(start.reach.random) },
       maxGoalReach: jsonProbability(start.maxGoalReach),
-      expectedLength: { optimal: jsonPoint(start.expectedLength.optimal), random: jsonPoint(start.expectedLength.random) },
+      expectedLength: {
+        optimal: jsonPoint(start.expectedLength.optimal),
+        random: jsonPoint(start.expectedLength.random),
+      },
     },
     outcomes: model.outcomeCount,
     objective: model.maximize ? 'maximize' : 'minimize',
     discount: model.discount,
     precision: jsonPoint(analysis.precision),
     solver: { sweeps: analysis.iterations, solves: analysis.solves, krylovIterations: analysis.krylovIterations },
-    terms: analysis.termShares.map((t) => ({ term: t.term, value: jsonPoint(t.value), share: Number.isNaN(t.share) ? 0 : roundNearest(t.share) })),
+    terms: analysis.termShares.map((t) => ({
+      term: t.term,
+      value: jsonPoint(t.value),
+      share: Number.isNaN(t.share) ? 0 : roundNearest(t.share),
+    })),
   };
   if (model.horizon !== undefined) out.horizon = model.horizon;
   if (withValues) out.values = stateValuesToJson(analysis, model);

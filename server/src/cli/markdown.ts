@@ -24,10 +24,20 @@ const ICON: Record<Severity, string> = { error: '🔴 error', warning: '🟠 war
 /** The markdown summary of a run, compared with a baseline when one is given. */
 export function markdownReport(current: JsonOutput, comparison?: Comparison, options: MarkdownOptions = {}): string {
   const maxRows = options.maxRows ?? 25;
-  return (comparison ? comparisonMarkdown(current, comparison, maxRows, options.failOn) : plainMarkdown(current, maxRows)).join('\n') + '\n';
+  return (
+    (comparison
+      ? comparisonMarkdown(current, comparison, maxRows, options.failOn)
+      : plainMarkdown(current, maxRows)
+    ).join('\n') + '\n'
+  );
 }
 
-function comparisonMarkdown(current: JsonOutput, comparison: Comparison, maxRows: number, failOn?: Severity | 'never'): string[] {
+function comparisonMarkdown(
+  current: JsonOutput,
+  comparison: Comparison,
+  maxRows: number,
+  failOn?: Severity | 'never',
+): string[] {
   const { newFindings, fixedFindings } = comparison;
   const moved = comparison.specs.filter((s) => s.status !== 'unchanged');
   const headline = [
@@ -37,30 +47,51 @@ function comparisonMarkdown(current: JsonOutput, comparison: Comparison, maxRows
   ].join(', ');
   const out = [`## Episcope: ${headline}`, ''];
   if (newFindings.length === 0 && fixedFindings.length === 0 && moved.length === 0) {
-    out.push(`No change against the baseline: ${comparison.unchangedFindings} finding${comparison.unchangedFindings === 1 ? '' : 's'} as before in ${current.files.length} file${current.files.length === 1 ? '' : 's'}.`, '');
+    out.push(
+      `No change against the baseline: ${comparison.unchangedFindings} finding${comparison.unchangedFindings === 1 ? '' : 's'} as before in ${current.files.length} file${current.files.length === 1 ? '' : 's'}.`,
+      '',
+    );
   }
   if (newFindings.length > 0) {
-    const failing = failOn && failOn !== 'never' ? newFindings.filter((c) => SEVERITY_ORDER[c.finding.severity] >= SEVERITY_ORDER[failOn]).length : 0;
+    const failing =
+      failOn && failOn !== 'never'
+        ? newFindings.filter((c) => SEVERITY_ORDER[c.finding.severity] >= SEVERITY_ORDER[failOn]).length
+        : 0;
     const note = failing > 0 ? ` (${failing} at or above \`--fail-on ${failOn}\`)` : '';
     out.push(`### New findings${note}`, '', ...findingTable(newFindings, maxRows), '');
   }
   if (fixedFindings.length > 0) out.push('### Fixed findings', '', ...findingTable(fixedFindings, maxRows), '');
   if (moved.length > 0) {
-    out.push('### Start values that moved', '', '| Spec | Optimal return | Random return | Goal reach (optimal) | Goal reach (random) |', '|---|---|---|---|---|');
+    out.push(
+      '### Start values that moved',
+      '',
+      '| Spec | Optimal return | Random return | Goal reach (optimal) | Goal reach (random) |',
+      '|---|---|---|---|---|',
+    );
     for (const spec of moved.slice(0, maxRows)) out.push(shiftRow(spec));
     if (moved.length > maxRows) out.push(`| _and ${moved.length - maxRows} more_ | | | | |`);
     out.push('');
   }
   if (comparison.unchangedFindings > 0 && (newFindings.length > 0 || fixedFindings.length > 0)) {
-    out.push(`${comparison.unchangedFindings} finding${comparison.unchangedFindings === 1 ? '' : 's'} unchanged from the baseline.`, '');
+    out.push(
+      `${comparison.unchangedFindings} finding${comparison.unchangedFindings === 1 ? '' : 's'} unchanged from the baseline.`,
+      '',
+    );
   }
   out.push(SAFETY);
   return out;
 }
 
 function plainMarkdown(current: JsonOutput, maxRows: number): string[] {
-  const all: FindingChange[] = current.files.flatMap((file) => file.findings.map((finding) => ({ path: file.path, finding })));
-  all.sort((a, b) => SEVERITY_ORDER[b.finding.severity] - SEVERITY_ORDER[a.finding.severity] || a.path.localeCompare(b.path) || a.finding.line - b.finding.line);
+  const all: FindingChange[] = current.files.flatMap((file) =>
+    file.findings.map((finding) => ({ path: file.path, finding })),
+  );
+  all.sort(
+    (a, b) =>
+      SEVERITY_ORDER[b.finding.severity] - SEVERITY_ORDER[a.finding.severity] ||
+      a.path.localeCompare(b.path) ||
+      a.finding.line - b.finding.line,
+  );
   const count = (severity: Severity) => all.filter((c) => c.finding.severity === severity).length;
   const plural = (n: number, word: string) => `${n} ${word}${n === 1 ? '' : 's'}`;
   const out = [
@@ -70,17 +101,28 @@ function plainMarkdown(current: JsonOutput, maxRows: number): string[] {
   if (all.length > 0) out.push(...findingTable(all, maxRows), '');
   const analysed = current.files.filter((f) => f.analysis);
   if (analysed.length > 0) {
-    out.push('### Returns from the start', '', '| Spec | Optimal return | Random return | Worst return | Goal reach (optimal) | Best goal reach |', '|---|---|---|---|---|---|');
+    out.push(
+      '### Returns from the start',
+      '',
+      '| Spec | Optimal return | Random return | Worst return | Goal reach (optimal) | Best goal reach |',
+      '|---|---|---|---|---|---|',
+    );
     for (const file of analysed.slice(0, maxRows)) {
       const s = file.analysis!.start;
-      out.push(`| ${code(file.path)} | ${interval(s.optimal)} | ${interval(s.random)} | ${interval(s.worst)} | ${textProbability(s.reach.optimal.goal)} | ${s.maxGoalReach !== undefined ? textProbability(s.maxGoalReach) : ''} |`);
+      out.push(
+        `| ${code(file.path)} | ${interval(s.optimal)} | ${interval(s.random)} | ${interval(s.worst)} | ${textProbability(s.reach.optimal.goal)} | ${s.maxGoalReach !== undefined ? textProbability(s.maxGoalReach) : ''} |`,
+      );
     }
     if (analysed.length > maxRows) out.push(`| _and ${analysed.length - maxRows} more_ | | | | | |`);
     out.push('');
   }
   out.push(...sampledTable(current, maxRows));
   const notAnalysed = current.files.filter((f) => !f.analysis && f.notAnalysed);
-  if (notAnalysed.length > 0) out.push(`Not analysed: ${notAnalysed.map((f) => `${code(f.path)} (${cell(f.notAnalysed ?? '')})`).join(', ')}.`, '');
+  if (notAnalysed.length > 0)
+    out.push(
+      `Not analysed: ${notAnalysed.map((f) => `${code(f.path)} (${cell(f.notAnalysed ?? '')})`).join(', ')}.`,
+      '',
+    );
   out.push(SAFETY);
   return out;
 }
@@ -89,7 +131,12 @@ function plainMarkdown(current: JsonOutput, maxRows: number): string[] {
 function sampledTable(current: JsonOutput, maxRows: number): string[] {
   const sampled = current.files.filter((f) => f.rollouts?.random || f.rollouts?.learned);
   if (sampled.length === 0) return [];
-  const out = ['### Estimated returns from rollouts (95% intervals)', '', '| Spec | Random policy | Learned greedy policy | Learning spent |', '|---|---|---|---|'];
+  const out = [
+    '### Estimated returns from rollouts (95% intervals)',
+    '',
+    '| Spec | Random policy | Learned greedy policy | Learning spent |',
+    '|---|---|---|---|',
+  ];
   for (const file of sampled.slice(0, maxRows)) {
     const r = file.rollouts!;
     const spent = r.learning ? `${r.learning.spent.episodes} episodes, ${r.learning.spent.steps} steps` : '';
@@ -111,14 +158,21 @@ function estimate(r: JsonRollouts | undefined): string {
 function findingTable(changes: FindingChange[], maxRows: number): string[] {
   const rows = ['| Severity | Rule | Where | Message |', '|---|---|---|---|'];
   for (const { path, finding } of changes.slice(0, maxRows)) {
-    rows.push(`| ${ICON[finding.severity]} | ${code(finding.rule)} | ${code(`${path}:${finding.line}:${finding.column}`)} | ${cell(finding.message)} |`);
+    rows.push(
+      `| ${ICON[finding.severity]} | ${code(finding.rule)} | ${code(`${path}:${finding.line}:${finding.column}`)} | ${cell(finding.message)} |`,
+    );
   }
   if (changes.length > maxRows) rows.push(`| | | | _and ${changes.length - maxRows} more_ |`);
   return rows;
 }
 
 function shiftRow(spec: SpecShift): string {
-  const name = spec.status === 'added' ? `${code(spec.path)} (new)` : spec.status === 'removed' ? `${code(spec.path)} (removed)` : code(spec.path);
+  const name =
+    spec.status === 'added'
+      ? `${code(spec.path)} (new)`
+      : spec.status === 'removed'
+        ? `${code(spec.path)} (removed)`
+        : code(spec.path);
   return `| ${name} | ${intervalShift(spec.optimal)} | ${intervalShift(spec.random)} | ${probabilityShift(spec.goalOptimal)} | ${probabilityShift(spec.goalRandom)} |`;
 }
 
@@ -152,7 +206,8 @@ export function probabilityShift(shift: ValueShift<number>, style: ShiftStyle = 
   if (before === undefined) return `${style.none} ${style.arrow} ${textProbability(after!)}`;
   if (after === undefined) return `${textProbability(before)} ${style.arrow} ${style.none}`;
   if (Number.isNaN(before) && Number.isNaN(after)) return textProbability(after);
-  if (Number.isNaN(before) || Number.isNaN(after)) return `${textProbability(before)} ${style.arrow} ${style.emphasis(textProbability(after))}`;
+  if (Number.isNaN(before) || Number.isNaN(after))
+    return `${textProbability(before)} ${style.arrow} ${style.emphasis(textProbability(after))}`;
   if (Math.abs(after - before) <= 1e-9) return textProbability(after);
   return `${textProbability(before)} ${style.arrow} ${style.emphasis(textProbability(after))} (${signed(after - before)})`;
 }
@@ -177,5 +232,11 @@ function code(text: string): string {
 
 /** Text for a table cell: one line, pipes escaped, HTML neutralised. */
 function cell(text: string): string {
-  return text.replace(/\s+/g, ' ').replace(/\\/g, '\\\\').replace(/\|/g, '\\|').replace(/</g, '&lt;').replace(/>/g, '&gt;').trim();
+  return text
+    .replace(/\s+/g, ' ')
+    .replace(/\\/g, '\\\\')
+    .replace(/\|/g, '\\|')
+    .replace(/</g, '&lt;')
+    .replace(/>/g, '&gt;')
+    .trim();
 }

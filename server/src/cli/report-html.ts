@@ -67,7 +67,12 @@ export function htmlReport(output: { files: ReportFile[] }, options: ReportOptio
 <body>
 <header>
 <h1>${esc(title)}</h1>
-<p class="meta">${esc(options.toolName)} ${esc(options.toolVersion)} · ${esc(options.generatedAt.toISOString().replace('T', ' ').replace(/\.\d+Z$/, ' UTC'))} · ${output.files.length} file${output.files.length === 1 ? '' : 's'} · <span class="sev-error">${counts.error} error${counts.error === 1 ? '' : 's'}</span>, <span class="sev-warning">${counts.warning} warning${counts.warning === 1 ? '' : 's'}</span>, <span class="sev-info">${counts.info} info</span></p>
+<p class="meta">${esc(options.toolName)} ${esc(options.toolVersion)} · ${esc(
+    options.generatedAt
+      .toISOString()
+      .replace('T', ' ')
+      .replace(/\.\d+Z$/, ' UTC'),
+  )} · ${output.files.length} file${output.files.length === 1 ? '' : 's'} · <span class="sev-error">${counts.error} error${counts.error === 1 ? '' : 's'}</span>, <span class="sev-warning">${counts.warning} warning${counts.warning === 1 ? '' : 's'}</span>, <span class="sev-info">${counts.info} info</span></p>
 <p class="caution" role="note"><strong>Safety.</strong> ${esc(SAFETY_CAUTION)}</p>
 <nav><ol>${toc}</ol></nav>
 </header>
@@ -92,7 +97,12 @@ function fileSection(file: ReportFile, index: number, options: ReportOptions): s
   const parts: string[] = [`<section id="spec-${index}" class="spec">`, `<h2>${esc(file.path)}</h2>`];
   const a = file.analysis;
   if (a) {
-    const facts = [`${a.states} states`, `${a.transitions} state-action pairs`, a.objective ?? 'maximize', `discount ${a.discount}`];
+    const facts = [
+      `${a.states} states`,
+      `${a.transitions} state-action pairs`,
+      a.objective ?? 'maximize',
+      `discount ${a.discount}`,
+    ];
     if (a.horizon !== undefined) facts.push(`horizon ${a.horizon}`);
     facts.push(a.exact ? 'exact values' : `bounds at most ${Number(a.precision).toPrecision(2)} wide`);
     parts.push(`<p class="meta">${esc(facts.join(' · '))}</p>`);
@@ -103,16 +113,29 @@ function fileSection(file: ReportFile, index: number, options: ReportOptions): s
   if (a) {
     const s = a.start;
     parts.push('<div class="plots">');
-    parts.push(figure('Return from the start', returnRangePlot([
-      { label: 'optimal', interval: s.optimal, color: COLORS.optimal },
-      { label: 'random', interval: s.random, color: COLORS.random },
-      { label: 'worst', interval: s.worst, color: COLORS.worst },
-    ]), 'plot-returns'));
-    parts.push(figure('How episodes end', reachPlot([
-      { label: 'optimal', reach: s.reach.optimal },
-      { label: 'random', reach: s.reach.random },
-    ]) + undeterminedReachNote([s.reach.optimal, s.reach.random]) +
-      `<p class="note">Best achievable goal probability: ${textProbability(s.maxGoalReach ?? s.reach.optimal.goal)}</p>`, 'plot-reach'));
+    parts.push(
+      figure(
+        'Return from the start',
+        returnRangePlot([
+          { label: 'optimal', interval: s.optimal, color: COLORS.optimal },
+          { label: 'random', interval: s.random, color: COLORS.random },
+          { label: 'worst', interval: s.worst, color: COLORS.worst },
+        ]),
+        'plot-returns',
+      ),
+    );
+    parts.push(
+      figure(
+        'How episodes end',
+        reachPlot([
+          { label: 'optimal', reach: s.reach.optimal },
+          { label: 'random', reach: s.reach.random },
+        ]) +
+          undeterminedReachNote([s.reach.optimal, s.reach.random]) +
+          `<p class="note">Best achievable goal probability: ${textProbability(s.maxGoalReach ?? s.reach.optimal.goal)}</p>`,
+        'plot-reach',
+      ),
+    );
     parts.push('</div>');
     if (a.values) parts.push(valuesSection(a.values, options));
   }
@@ -124,7 +147,8 @@ function fileSection(file: ReportFile, index: number, options: ReportOptions): s
 function findingList(file: JsonFile): string {
   if (file.findings.length === 0) return '<p class="clean">No findings.</p>';
   const items = file.findings.map(
-    (f) => `<li><span class="badge sev-${f.severity}">${f.severity}</span> <code>${esc(f.rule)}</code> <span class="where">${f.line}:${f.column}</span> ${esc(f.message)}</li>`,
+    (f) =>
+      `<li><span class="badge sev-${f.severity}">${f.severity}</span> <code>${esc(f.rule)}</code> <span class="where">${f.line}:${f.column}</span> ${esc(f.message)}</li>`,
   );
   return `<ul class="findings">${items.join('')}</ul>`;
 }
@@ -205,13 +229,17 @@ function returnRangePlot(rows: Array<{ label: string; interval: JsonInterval; co
     const x0 = r(scale(lower));
     const x1 = r(scale(upper));
     parts.push(`<text x="${left - 8}" y="${y + 4}" text-anchor="end" class="label">${esc(row.label)}</text>`);
-    parts.push(`<rect class="range" x="${x0}" y="${y - 7}" width="${Math.max(3, x1 - x0)}" height="14" rx="2" fill="${row.color}" opacity="0.85"><title>${esc(`${row.label}: ${textInterval(lower, upper)}`)}</title></rect>`);
+    parts.push(
+      `<rect class="range" x="${x0}" y="${y - 7}" width="${Math.max(3, x1 - x0)}" height="14" rx="2" fill="${row.color}" opacity="0.85"><title>${esc(`${row.label}: ${textInterval(lower, upper)}`)}</title></rect>`,
+    );
     if (lower === -Infinity) parts.push(arrow(x0, y, -1, row.color));
     if (upper === Infinity) parts.push(arrow(x1, y, 1, row.color));
     const labelX = Math.min(right - 2, x1 + 6);
     const anchor = x1 + 6 > right - 60 ? 'end' : 'start';
     const labelY = anchor === 'end' ? y - 10 : y + 4;
-    parts.push(`<text x="${anchor === 'end' ? labelX : x1 + 6}" y="${labelY}" text-anchor="${anchor}" class="value">${esc(textInterval(lower, upper))}</text>`);
+    parts.push(
+      `<text x="${anchor === 'end' ? labelX : x1 + 6}" y="${labelY}" text-anchor="${anchor}" class="value">${esc(textInterval(lower, upper))}</text>`,
+    );
   });
   return svg(width, height, 'Return ranges from the start under the optimal, random and worst policy', parts.join(''));
 }
@@ -231,8 +259,12 @@ const REACH_KINDS: Array<{ key: keyof JsonReach; label: string; color: string }>
 
 /** Says which bars are missing because their probability was not determined to the precision. */
 function undeterminedReachNote(reaches: JsonReach[]): string {
-  const missing = REACH_KINDS.filter((kind) => reaches.some((reach) => reach[kind.key] === 'undetermined')).map((kind) => kind.label);
-  return missing.length === 0 ? '' : `<p class="note">Undetermined (the solve stopped before the precision), so not drawn: ${esc(missing.join(', '))}</p>`;
+  const missing = REACH_KINDS.filter((kind) => reaches.some((reach) => reach[kind.key] === 'undetermined')).map(
+    (kind) => kind.label,
+  );
+  return missing.length === 0
+    ? ''
+    : `<p class="note">Undetermined (the solve stopped before the precision), so not drawn: ${esc(missing.join(', '))}</p>`;
 }
 
 /** Stacked bars: the probability of ending in each terminal kind, per policy. */
@@ -247,8 +279,12 @@ function reachPlot(rows: Array<{ label: string; reach: JsonReach }>): string {
   const x = (p: number) => left + p * (right - left);
   const parts: string[] = [];
   for (const t of [0, 0.25, 0.5, 0.75, 1]) {
-    parts.push(`<line x1="${r(x(t))}" y1="${top}" x2="${r(x(t))}" y2="${top + rows.length * rowHeight}" stroke="${COLORS.grid}"/>`);
-    parts.push(`<text x="${r(x(t))}" y="${top + rows.length * rowHeight + 14}" text-anchor="middle" class="tick">${t * 100}%</text>`);
+    parts.push(
+      `<line x1="${r(x(t))}" y1="${top}" x2="${r(x(t))}" y2="${top + rows.length * rowHeight}" stroke="${COLORS.grid}"/>`,
+    );
+    parts.push(
+      `<text x="${r(x(t))}" y="${top + rows.length * rowHeight + 14}" text-anchor="middle" class="tick">${t * 100}%</text>`,
+    );
   }
   rows.forEach((row, i) => {
     const y = top + i * rowHeight + 8;
@@ -262,17 +298,29 @@ function reachPlot(rows: Array<{ label: string; reach: JsonReach }>): string {
       if (p <= 0) continue;
       const x0 = x(cumulative);
       const w = Math.max(1, x(Math.min(1, cumulative + p)) - x0);
-      parts.push(`<rect class="reach" x="${r(x0)}" y="${y}" width="${r(w)}" height="16" fill="${kind.color}"><title>${esc(`${row.label}: ${kind.label} ${textProbability(p)}`)}</title></rect>`);
-      if (w > 34) parts.push(`<text x="${r(x0 + w / 2)}" y="${y + 12}" text-anchor="middle" class="inbar">${esc(percent(p))}</text>`);
+      parts.push(
+        `<rect class="reach" x="${r(x0)}" y="${y}" width="${r(w)}" height="16" fill="${kind.color}"><title>${esc(`${row.label}: ${kind.label} ${textProbability(p)}`)}</title></rect>`,
+      );
+      if (w > 34)
+        parts.push(
+          `<text x="${r(x0 + w / 2)}" y="${y + 12}" text-anchor="middle" class="inbar">${esc(percent(p))}</text>`,
+        );
       cumulative += p;
     }
   });
   let lx = left;
   for (const kind of REACH_KINDS) {
-    parts.push(`<rect x="${lx}" y="${legendY - 9}" width="10" height="10" fill="${kind.color}"/><text x="${lx + 14}" y="${legendY}" class="tick">${esc(kind.label)}</text>`);
+    parts.push(
+      `<rect x="${lx}" y="${legendY - 9}" width="10" height="10" fill="${kind.color}"/><text x="${lx + 14}" y="${legendY}" class="tick">${esc(kind.label)}</text>`,
+    );
     lx += 24 + kind.label.length * 6.5;
   }
-  return svg(width, height, 'Probability of ending in each terminal kind under the optimal and the random policy', parts.join(''));
+  return svg(
+    width,
+    height,
+    'Probability of ending in each terminal kind under the optimal and the random policy',
+    parts.join(''),
+  );
 }
 
 type StateValues = NonNullable<NonNullable<JsonFile['analysis']>['values']>;
@@ -282,10 +330,16 @@ function valuesSection(values: StateValues, options: ReportOptions): string {
   const maxTable = options.maxTableStates ?? 500;
   const ids = Object.keys(values);
   // Reachable states first: they are the ones a policy can see.
-  const ordered = [...ids.filter((id) => values[id].reachable !== false), ...ids.filter((id) => values[id].reachable === false)];
+  const ordered = [
+    ...ids.filter((id) => values[id].reachable !== false),
+    ...ids.filter((id) => values[id].reachable === false),
+  ];
   const plotted = ordered.slice(0, maxPlotted);
   const listed = Math.min(maxTable, ordered.length);
-  const note = ordered.length > plotted.length ? `<p class="note">The plot shows ${plotted.length} of ${ordered.length} states (reachable ones first); ${ordered.length - plotted.length} more are not plotted.</p>` : '';
+  const note =
+    ordered.length > plotted.length
+      ? `<p class="note">The plot shows ${plotted.length} of ${ordered.length} states (reachable ones first); ${ordered.length - plotted.length} more are not plotted.</p>`
+      : '';
   const rows = ordered.slice(0, maxTable).map((id) => {
     const v = values[id];
     const name = stateName(id, v.label);
@@ -294,10 +348,20 @@ function valuesSection(values: StateValues, options: ReportOptions): string {
     const raw = name === id ? '' : ` title="${esc(id)}"`;
     return `<tr><td${raw}>${esc(name)}${kind}${unreachable}</td><td>${esc(interval(v.optimal))}</td><td>${esc(interval(v.random))}</td><td>${esc(interval(v.worst))}</td><td>${esc(v.best.join(', '))}</td></tr>`;
   });
-  if (ordered.length > listed) rows.push(`<tr><td colspan="5" class="note">${ordered.length - listed} more row${ordered.length - listed === 1 ? '' : 's'} not shown</td></tr>`);
-  const summary = ordered.length > listed ? `Values of ${listed} of ${ordered.length} states` : `Values of ${listed} state${listed === 1 ? '' : 's'}`;
+  if (ordered.length > listed)
+    rows.push(
+      `<tr><td colspan="5" class="note">${ordered.length - listed} more row${ordered.length - listed === 1 ? '' : 's'} not shown</td></tr>`,
+    );
+  const summary =
+    ordered.length > listed
+      ? `Values of ${listed} of ${ordered.length} states`
+      : `Values of ${listed} state${listed === 1 ? '' : 's'}`;
   const table = `<details><summary>${summary}</summary><table class="values"><thead><tr><th>state</th><th>optimal</th><th>random</th><th>worst</th><th>best actions</th></tr></thead><tbody>${rows.join('')}</tbody></table></details>`;
-  return figure('Value of each state', statePlot(plotted.map((id) => ({ id: stateName(id, values[id].label), v: values[id] }))) + note + table, 'plot-values');
+  return figure(
+    'Value of each state',
+    statePlot(plotted.map((id) => ({ id: stateName(id, values[id].label), v: values[id] }))) + note + table,
+    'plot-values',
+  );
 }
 
 /**
@@ -331,29 +395,52 @@ function statePlot(rows: Array<{ id: string; v: StateValues[string] }>): string 
   const right = width - 20;
   const top = 24;
   const height = top + rows.length * rowHeight + 28;
-  const numbers = rows.flatMap(({ v }) => [v.optimal, v.random, v.worst].flatMap((i) => [parseJsonNumber(i.lower), parseJsonNumber(i.upper)]));
+  const numbers = rows.flatMap(({ v }) =>
+    [v.optimal, v.random, v.worst].flatMap((i) => [parseJsonNumber(i.lower), parseJsonNumber(i.upper)]),
+  );
   const scale = linearScale(numbers, left, right);
   const parts = [axis(scale, top + rows.length * rowHeight, top)];
-  const legend: Array<[string, string]> = [['optimal', COLORS.optimal], ['random', COLORS.random], ['worst', COLORS.worst]];
+  const legend: Array<[string, string]> = [
+    ['optimal', COLORS.optimal],
+    ['random', COLORS.random],
+    ['worst', COLORS.worst],
+  ];
   legend.forEach(([label, color], i) => {
     const lx = left + i * 90;
-    parts.push(`<circle cx="${lx + 5}" cy="10" r="4" fill="${color}"/><text x="${lx + 14}" y="14" class="tick">${label}</text>`);
+    parts.push(
+      `<circle cx="${lx + 5}" cy="10" r="4" fill="${color}"/><text x="${lx + 14}" y="14" class="tick">${label}</text>`,
+    );
   });
   rows.forEach(({ id, v }, i) => {
     const y = top + i * rowHeight + rowHeight / 2;
-    if (i % 2 === 0) parts.push(`<rect x="${left}" y="${y - rowHeight / 2}" width="${right - left}" height="${rowHeight}" fill="#f7f7f7"/>`);
-    parts.push(`<text x="${left - 8}" y="${y + 4}" text-anchor="end" class="label">${esc(truncate(id, Math.floor((labelWidth - 16) / 6.6)))}${v.terminal ? ' ◆' : ''}</text>`);
-    const marks: Array<[JsonInterval, string, string]> = [[v.worst, COLORS.worst, 'worst'], [v.random, COLORS.random, 'random'], [v.optimal, COLORS.optimal, 'optimal']];
+    if (i % 2 === 0)
+      parts.push(
+        `<rect x="${left}" y="${y - rowHeight / 2}" width="${right - left}" height="${rowHeight}" fill="#f7f7f7"/>`,
+      );
+    parts.push(
+      `<text x="${left - 8}" y="${y + 4}" text-anchor="end" class="label">${esc(truncate(id, Math.floor((labelWidth - 16) / 6.6)))}${v.terminal ? ' ◆' : ''}</text>`,
+    );
+    const marks: Array<[JsonInterval, string, string]> = [
+      [v.worst, COLORS.worst, 'worst'],
+      [v.random, COLORS.random, 'random'],
+      [v.optimal, COLORS.optimal, 'optimal'],
+    ];
     for (const [bounds, color, label] of marks) {
       const lower = parseJsonNumber(bounds.lower);
       const upper = parseJsonNumber(bounds.upper);
       const x0 = r(scale(lower));
       const x1 = r(scale(upper));
-      if (x1 - x0 >= 2) parts.push(`<line x1="${x0}" y1="${y}" x2="${x1}" y2="${y}" stroke="${color}" stroke-width="3" opacity="0.6"/>`);
+      if (x1 - x0 >= 2)
+        parts.push(
+          `<line x1="${x0}" y1="${y}" x2="${x1}" y2="${y}" stroke="${color}" stroke-width="3" opacity="0.6"/>`,
+        );
       if (lower === -Infinity) parts.push(arrow(x0, y, -1, color, 4));
       if (upper === Infinity) parts.push(arrow(x1, y, 1, color, 4));
-      const mid = Number.isFinite(lower) && Number.isFinite(upper) ? (lower + upper) / 2 : Number.isFinite(lower) ? lower : upper;
-      parts.push(`<circle class="state-value" cx="${r(scale(mid))}" cy="${y}" r="4" fill="${color}"><title>${esc(`${id} ${label}: ${textInterval(lower, upper)}`)}</title></circle>`);
+      const mid =
+        Number.isFinite(lower) && Number.isFinite(upper) ? (lower + upper) / 2 : Number.isFinite(lower) ? lower : upper;
+      parts.push(
+        `<circle class="state-value" cx="${r(scale(mid))}" cy="${y}" r="4" fill="${color}"><title>${esc(`${id} ${label}: ${textInterval(lower, upper)}`)}</title></circle>`,
+      );
     }
   });
   return svg(width, height, 'Optimal, random and worst value of each state', parts.join(''));
@@ -361,12 +448,21 @@ function statePlot(rows: Array<{ id: string; v: StateValues[string] }>): string 
 
 /** The rollouts' histograms; for a sampled model (no exact analysis) also how its episodes ended. */
 function rolloutSection(rollouts: NonNullable<JsonFile['rollouts']>, sampledOnly: boolean): string {
-  const entries = (['optimal', 'learned', 'random'] as const).flatMap((policy) => (rollouts[policy] ? [[policy, rollouts[policy]!] as const] : []));
+  const entries = (['optimal', 'learned', 'random'] as const).flatMap((policy) =>
+    rollouts[policy] ? [[policy, rollouts[policy]!] as const] : [],
+  );
   if (entries.length === 0) return '';
   const parts = ['<h3>Rollouts</h3>', '<div class="plots">'];
   if (sampledOnly) {
     const episodes = entries.map(([policy, stats]) => `${stats.episodes} ${policy}-policy episodes`).join(' and ');
-    parts.push(figure('How episodes ended', reachPlot(entries.map(([policy, stats]) => ({ label: policy, reach: stats.reach }))) + `<p class="note">Estimated from ${esc(episodes)}; "never ends / cut" counts episodes stopped at the step cap or by the horizon.</p>`, 'plot-rollout-reach'));
+    parts.push(
+      figure(
+        'How episodes ended',
+        reachPlot(entries.map(([policy, stats]) => ({ label: policy, reach: stats.reach }))) +
+          `<p class="note">Estimated from ${esc(episodes)}; "never ends / cut" counts episodes stopped at the step cap or by the horizon.</p>`,
+        'plot-rollout-reach',
+      ),
+    );
   }
   for (const [policy, stats] of entries) {
     const color = COLORS[policy];
@@ -376,8 +472,20 @@ function rolloutSection(rollouts: NonNullable<JsonFile['rollouts']>, sampledOnly
       `(95% interval ${short(parseJsonNumber(ci.lower))} to ${short(parseJsonNumber(ci.upper))}); ` +
       `mean length ${short(parseJsonNumber(stats.length.mean))} steps` +
       (stats.stepCapped > 0 ? `; ${stats.stepCapped} stopped at the ${stats.stepCap}-step cap` : '');
-    parts.push(figure(`Return per episode, ${policy} policy`, histogramPlot(stats.return.histogram, 'return', color, false) + `<p class="note">${esc(summary)}</p>`, 'plot-return-histogram'));
-    parts.push(figure(`Episode length, ${policy} policy`, histogramPlot(stats.length.histogram, 'steps', color, true), 'plot-length-histogram'));
+    parts.push(
+      figure(
+        `Return per episode, ${policy} policy`,
+        histogramPlot(stats.return.histogram, 'return', color, false) + `<p class="note">${esc(summary)}</p>`,
+        'plot-return-histogram',
+      ),
+    );
+    parts.push(
+      figure(
+        `Episode length, ${policy} policy`,
+        histogramPlot(stats.length.histogram, 'steps', color, true),
+        'plot-length-histogram',
+      ),
+    );
   }
   parts.push('</div>');
   if (rollouts.learning) parts.push(`<p class="note">${learningLines(rollouts.learning).map(esc).join('<br>')}</p>`);
@@ -400,7 +508,9 @@ function histogramPlot(histogram: ReportHistogram, unit: string, color: string, 
   const parts: string[] = [];
   for (const t of yScale.ticks) {
     const y = r(yScale(t));
-    parts.push(`<line x1="${left}" y1="${y}" x2="${right}" y2="${y}" stroke="${COLORS.grid}"/><text x="${left - 6}" y="${y + 4}" text-anchor="end" class="tick">${esc(short(t))}</text>`);
+    parts.push(
+      `<line x1="${left}" y1="${y}" x2="${right}" y2="${y}" stroke="${COLORS.grid}"/><text x="${left - 6}" y="${y + 4}" text-anchor="end" class="tick">${esc(short(t))}</text>`,
+    );
   }
   const fmt = (x: number) => (integer ? String(Math.round(x)) : short(x));
   const span = upper - lower;
@@ -410,9 +520,13 @@ function histogramPlot(histogram: ReportHistogram, unit: string, color: string, 
     const y = yScale(total);
     const barWidth = (right - left) / 5;
     const x = (left + right) / 2 - barWidth / 2;
-    parts.push(`<rect class="bin" x="${r(x)}" y="${r(y)}" width="${r(barWidth)}" height="${r(Math.max(0, bottom - y))}" fill="${color}"><title>${esc(`${fmt(lower)} ${unit}: ${total}`)}</title></rect>`);
+    parts.push(
+      `<rect class="bin" x="${r(x)}" y="${r(y)}" width="${r(barWidth)}" height="${r(Math.max(0, bottom - y))}" fill="${color}"><title>${esc(`${fmt(lower)} ${unit}: ${total}`)}</title></rect>`,
+    );
     parts.push(`<line x1="${left}" y1="${bottom}" x2="${right}" y2="${bottom}" stroke="${COLORS.axis}"/>`);
-    parts.push(`<text x="${r(x + barWidth / 2)}" y="${bottom + 16}" text-anchor="middle" class="tick">${esc(`all ${fmt(lower)}`)}</text>`);
+    parts.push(
+      `<text x="${r(x + barWidth / 2)}" y="${bottom + 16}" text-anchor="middle" class="tick">${esc(`all ${fmt(lower)}`)}</text>`,
+    );
   } else {
     const bins = Math.max(1, counts.length);
     const binWidth = (right - left) / bins;
@@ -420,15 +534,21 @@ function histogramPlot(histogram: ReportHistogram, unit: string, color: string, 
       const y = yScale(count);
       const from = lower + (span * i) / bins;
       const to = lower + (span * (i + 1)) / bins;
-      parts.push(`<rect class="bin" x="${r(left + i * binWidth + 1)}" y="${r(y)}" width="${r(Math.max(1, binWidth - 2))}" height="${r(Math.max(0, bottom - y))}" fill="${color}"><title>${esc(`${short(from)} to ${short(to)} ${unit}: ${count}`)}</title></rect>`);
+      parts.push(
+        `<rect class="bin" x="${r(left + i * binWidth + 1)}" y="${r(y)}" width="${r(Math.max(1, binWidth - 2))}" height="${r(Math.max(0, bottom - y))}" fill="${color}"><title>${esc(`${short(from)} to ${short(to)} ${unit}: ${count}`)}</title></rect>`,
+      );
     });
     parts.push(`<line x1="${left}" y1="${bottom}" x2="${right}" y2="${bottom}" stroke="${COLORS.axis}"/>`);
     for (const t of histogramTicks(lower, upper, integer)) {
       const x = r(left + ((t - lower) / span) * (right - left));
-      parts.push(`<line x1="${x}" y1="${bottom}" x2="${x}" y2="${bottom + 4}" stroke="${COLORS.axis}"/><text x="${x}" y="${bottom + 16}" text-anchor="middle" class="tick">${esc(fmt(t))}</text>`);
+      parts.push(
+        `<line x1="${x}" y1="${bottom}" x2="${x}" y2="${bottom + 4}" stroke="${COLORS.axis}"/><text x="${x}" y="${bottom + 16}" text-anchor="middle" class="tick">${esc(fmt(t))}</text>`,
+      );
     }
   }
-  parts.push(`<text x="${(left + right) / 2}" y="${bottom + 28}" text-anchor="middle" class="tick">${esc(unit)}</text>`);
+  parts.push(
+    `<text x="${(left + right) / 2}" y="${bottom + 28}" text-anchor="middle" class="tick">${esc(unit)}</text>`,
+  );
   return svg(width, height, `Histogram of ${unit}`, parts.join(''));
 }
 
@@ -437,7 +557,12 @@ function histogramPlot(histogram: ReportHistogram, unit: string, color: string, 
  * whole numbers for counts of steps); the two ends when fewer than two round values fall inside.
  */
 export function histogramTicks(lower: number, upper: number, integer: boolean): number[] {
-  const inside = niceTicks(lower, upper, 5).filter((t) => t >= lower - 1e-9 * Math.abs(upper - lower) && t <= upper + 1e-9 * Math.abs(upper - lower) && (!integer || Number.isInteger(t)));
+  const inside = niceTicks(lower, upper, 5).filter(
+    (t) =>
+      t >= lower - 1e-9 * Math.abs(upper - lower) &&
+      t <= upper + 1e-9 * Math.abs(upper - lower) &&
+      (!integer || Number.isInteger(t)),
+  );
   return inside.length >= 2 ? inside : [lower, upper];
 }
 

@@ -48,7 +48,21 @@ const COMMANDS: readonly Command[] = [
     name: 'check',
     operands: '[paths...]',
     summary: 'check spec files (*.mdp.json, *.mdp.ts) and folders of them; default: the current folder',
-    options: ['format', 'values', 'fail-on', 'baseline', 'report', 'config', 'no-exec', 'seed', 'rollouts', 'learn', 'learn-steps', 'learn-episodes', 'jobs'],
+    options: [
+      'format',
+      'values',
+      'fail-on',
+      'baseline',
+      'report',
+      'config',
+      'no-exec',
+      'seed',
+      'rollouts',
+      'learn',
+      'learn-steps',
+      'learn-episodes',
+      'jobs',
+    ],
     minOperands: 0,
     maxOperands: Infinity,
     run: runCheck,
@@ -133,7 +147,9 @@ async function runCheck(args: ParsedArgs, io: CliIo): Promise<number> {
 
   const files = await collectSpecFiles(operands, io.cwd);
   if (files.length === 0) {
-    io.stderr.write(`${TOOL_NAME}: no spec files (*.mdp.json, *.mdp.ts) found in ${operands.map((o) => `'${o}'`).join(', ')}\n`);
+    io.stderr.write(
+      `${TOOL_NAME}: no spec files (*.mdp.json, *.mdp.ts) found in ${operands.map((o) => `'${o}'`).join(', ')}\n`,
+    );
     return EXIT_ERROR;
   }
 
@@ -240,7 +256,10 @@ async function runExplain(args: ParsedArgs, io: CliIo): Promise<number> {
   const rule = rules.find((r) => r.id === id);
   if (!rule) {
     const near = suggestRules(id, rules);
-    const hint = near.length > 0 ? `; did you mean ${near.map((n) => `'${n}'`).join(' or ')}?` : `; run '${TOOL_NAME} explain' for the list`;
+    const hint =
+      near.length > 0
+        ? `; did you mean ${near.map((n) => `'${n}'`).join(' or ')}?`
+        : `; run '${TOOL_NAME} explain' for the list`;
     io.stderr.write(`${TOOL_NAME}: unknown rule '${id}'${hint}\n`);
     return EXIT_ERROR;
   }

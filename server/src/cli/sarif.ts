@@ -18,7 +18,8 @@ import type { FrontRule } from '../suppress';
 import { findingKey } from './baseline';
 import type { JsonFile, JsonFinding, JsonOutput, JsonRange } from './json-output';
 
-export const SARIF_SCHEMA_URI = 'https://docs.oasis-open.org/sarif/sarif/v2.1.0/errata01/os/schemas/sarif-schema-2.1.0.json';
+export const SARIF_SCHEMA_URI =
+  'https://docs.oasis-open.org/sarif/sarif/v2.1.0/errata01/os/schemas/sarif-schema-2.1.0.json';
 export const FINGERPRINT_NAME = 'episcopeFindingKey/v1';
 const SOURCE_ROOT = '%SRCROOT%';
 
@@ -131,7 +132,13 @@ export function toSarif(output: JsonOutput, options: SarifOptions): SarifLog {
   };
 }
 
-function resultOf(file: JsonFile, fileIndex: number, finding: JsonFinding, ruleIndex: number | undefined, print: string): SarifResult {
+function resultOf(
+  file: JsonFile,
+  fileIndex: number,
+  finding: JsonFinding,
+  ruleIndex: number | undefined,
+  print: string,
+): SarifResult {
   const location = (range: JsonRange | undefined): SarifPhysicalLocation => {
     const physical: SarifPhysicalLocation = { artifactLocation: { ...artifactLocation(file.path), index: fileIndex } };
     if (range) physical.region = regionOf(range);
@@ -146,18 +153,29 @@ function resultOf(file: JsonFile, fileIndex: number, finding: JsonFinding, ruleI
   };
   if (ruleIndex !== undefined) result.ruleIndex = ruleIndex;
   if (finding.related && finding.related.length > 0) {
-    result.relatedLocations = finding.related.map((related, i) => ({ id: i + 1, physicalLocation: location(related), message: { text: related.message } }));
+    result.relatedLocations = finding.related.map((related, i) => ({
+      id: i + 1,
+      physicalLocation: location(related),
+      message: { text: related.message },
+    }));
   }
   if (finding.trace.length > 0) {
     const steps = finding.trace.map((step) => {
       const text = step.action !== undefined ? `${step.state} --${step.action}-->` : step.state;
       const loc: SarifLocation = { message: { text } };
       if (step.line !== undefined && step.column !== undefined) {
-        loc.physicalLocation = location({ line: step.line, column: step.column, endLine: step.line, endColumn: step.column });
+        loc.physicalLocation = location({
+          line: step.line,
+          column: step.column,
+          endLine: step.line,
+          endColumn: step.column,
+        });
       }
       return { location: loc };
     });
-    result.codeFlows = [{ message: { text: 'the states and actions involved, in order' }, threadFlows: [{ locations: steps }] }];
+    result.codeFlows = [
+      { message: { text: 'the states and actions involved, in order' }, threadFlows: [{ locations: steps }] },
+    ];
   }
   return result;
 }

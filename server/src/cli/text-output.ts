@@ -40,7 +40,9 @@ export function chooseStyle(isTTY: boolean | undefined, env: Record<string, stri
 export function formatFileText(file: JsonFile, style: Style): string {
   const lines: string[] = [];
   for (const f of file.findings) {
-    lines.push(`${style.path(`${file.path}:${f.line}:${f.column}`)} ${style.severity(f.severity, f.severity)} ${f.rule} ${f.message}`);
+    lines.push(
+      `${style.path(`${file.path}:${f.line}:${f.column}`)} ${style.severity(f.severity, f.severity)} ${f.rule} ${f.message}`,
+    );
     if (f.trace.length > 0) {
       const width = Math.max(...f.trace.map((step) => step.state.length));
       for (const step of f.trace) {
@@ -88,7 +90,8 @@ function summariseRollouts(file: JsonFile): string[] {
 /** What a narrower interval would cost, in one sentence. */
 export function costSentence(cost: NonNullable<JsonRollouts['cost']>, short: (x: number | null) => string): string {
   const which = cost.defaultHalfWidth ? ' (1% of the mean; set halfWidth in the config)' : '';
-  if (cost.episodesNeeded === null) return `a 95% interval of half-width ${short(cost.halfWidth)} needs an unknown number of episodes (no spread observed)`;
+  if (cost.episodesNeeded === null)
+    return `a 95% interval of half-width ${short(cost.halfWidth)} needs an unknown number of episodes (no spread observed)`;
   const wanted = `a 95% interval of half-width +-${short(cost.halfWidth)}${which}`;
   if (cost.moreEpisodes === 0) return `${wanted} is reached (it needs ${cost.episodesNeeded} episodes)`;
   return `${wanted} needs ${cost.episodesNeeded} episodes: ${cost.moreEpisodes} more`;
@@ -97,11 +100,16 @@ export function costSentence(cost: NonNullable<JsonRollouts['cost']>, short: (x:
 /** The learning block in plain lines: method and budget spent, the start decision, the gap to the exact value. */
 export function learningLines(learning: JsonLearning): string[] {
   const short = (x: number | null) => (x === null ? 'not known' : String(Number(x.toPrecision(4))));
-  const method = learning.method === 'monte-carlo' ? `Monte Carlo control (${learning.visits}-visit, epsilon ${learning.epsilon})` : `Q-learning (epsilon ${learning.epsilon})`;
+  const method =
+    learning.method === 'monte-carlo'
+      ? `Monte Carlo control (${learning.visits}-visit, epsilon ${learning.epsilon})`
+      : `Q-learning (epsilon ${learning.epsilon})`;
   const lines = [
     `learning: ${method}, spent ${learning.spent.episodes} of ${learning.budget.episodes} episodes and ${learning.spent.steps} of ${learning.budget.steps} steps; ` +
       `${learning.distinctKeys} distinct state keys` +
-      (learning.unlearnedSteps > 0 ? `; ${learning.unlearnedSteps} measured steps met states with no action tried (random action there)` : ''),
+      (learning.unlearnedSteps > 0
+        ? `; ${learning.unlearnedSteps} measured steps met states with no action tried (random action there)`
+        : ''),
   ];
   const d = learning.decision;
   if (d) {
@@ -116,7 +124,9 @@ export function learningLines(learning: JsonLearning): string[] {
   }
   if (learning.exact) {
     const e = learning.exact;
-    lines.push(`  exact optimal value ${textInterval(parseJsonNumber(e.optimal.lower), parseJsonNumber(e.optimal.upper))}; the learned policy's estimate differs by ${short(e.gap)}${e.withinInterval ? ' (within its 95% interval)' : ' (outside its 95% interval)'}`);
+    lines.push(
+      `  exact optimal value ${textInterval(parseJsonNumber(e.optimal.lower), parseJsonNumber(e.optimal.upper))}; the learned policy's estimate differs by ${short(e.gap)}${e.withinInterval ? ' (within its 95% interval)' : ' (outside its 95% interval)'}`,
+    );
   }
   return lines;
 }
@@ -165,7 +175,8 @@ function summariseStart(file: JsonFile, style: Style): string[] {
   const tail = [`  best goal reach ${textProbability(a.start.maxGoalReach)}`];
   const length = a.start.expectedLength;
   tail.push(`  expected steps  optimal ${steps(length.optimal)}, random ${steps(length.random)}`);
-  if (!a.exact && typeof a.precision === 'number') tail.push(style.dim(`  bounds at most ${a.precision.toPrecision(2)} wide`));
+  if (!a.exact && typeof a.precision === 'number')
+    tail.push(style.dim(`  bounds at most ${a.precision.toPrecision(2)} wide`));
   return [header, ...table, ...tail];
 }
 

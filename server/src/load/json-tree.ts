@@ -129,13 +129,19 @@ export class JsonTree {
           const inner = key === NONE ? NONE : this.nextSiblings[key];
           if (inner === NONE) continue;
           // A "__proto__" key is an own property, as JSON.parse makes it.
-          Object.defineProperty(value, this.str(key), { value: this.toValue(inner), enumerable: true, writable: true, configurable: true });
+          Object.defineProperty(value, this.str(key), {
+            value: this.toValue(inner),
+            enumerable: true,
+            writable: true,
+            configurable: true,
+          });
         }
         return value;
       }
       case NodeKind.Array: {
         const items: unknown[] = [];
-        for (let item = this.firstChildren[node]; item !== NONE; item = this.nextSiblings[item]) items.push(this.toValue(item));
+        for (let item = this.firstChildren[node]; item !== NONE; item = this.nextSiblings[item])
+          items.push(this.toValue(item));
         return items;
       }
       case NodeKind.String:
@@ -386,7 +392,17 @@ class TextReader {
           continue;
         }
         // The other escapes: \" \\ \/ \b \f \n \r \t.
-        if (next !== QUOTE && next !== BACKSLASH && next !== SLASH && next !== 98 && next !== 102 && next !== 110 && next !== 114 && next !== 116) throw GIVE_UP;
+        if (
+          next !== QUOTE &&
+          next !== BACKSLASH &&
+          next !== SLASH &&
+          next !== 98 &&
+          next !== 102 &&
+          next !== 110 &&
+          next !== 114 &&
+          next !== 116
+        )
+          throw GIVE_UP;
         i += 2;
         continue;
       }
@@ -430,7 +446,12 @@ class TextReader {
   private numberValue(start: number, end: number): number {
     const text = this.text;
     const length = end - start;
-    const slot = (length * 977 + text.charCodeAt(start) * 131 + text.charCodeAt(end - 1) * 31 + text.charCodeAt(start + (length >> 1))) & (NUMBER_SLOTS - 1);
+    const slot =
+      (length * 977 +
+        text.charCodeAt(start) * 131 +
+        text.charCodeAt(end - 1) * 31 +
+        text.charCodeAt(start + (length >> 1))) &
+      (NUMBER_SLOTS - 1);
     const known = this.numberTexts[slot];
     if (known !== undefined && known.length === length && text.startsWith(known, start)) return this.numberValues[slot];
     const written = text.slice(start, end);
@@ -471,7 +492,17 @@ class TextReader {
   private expectDelimiter(i: number): void {
     if (i >= this.text.length) return;
     const ch = this.text.charCodeAt(i);
-    if (ch === 32 || ch === 10 || ch === 13 || ch === 9 || ch === COMMA || ch === CLOSE_BRACE || ch === CLOSE_BRACKET || ch === SLASH) return;
+    if (
+      ch === 32 ||
+      ch === 10 ||
+      ch === 13 ||
+      ch === 9 ||
+      ch === COMMA ||
+      ch === CLOSE_BRACE ||
+      ch === CLOSE_BRACKET ||
+      ch === SLASH
+    )
+      return;
     throw GIVE_UP;
   }
 }

@@ -73,7 +73,7 @@ const PARSE_ERROR_TEXT: Record<number, string> = {
   9: 'the document should end here (a spec is a single JSON object)',
   10: 'invalid comment',
   11: "the comment is not closed (missing '*/')",
-  12: 'the string is not closed (missing \'"\')',
+  12: "the string is not closed (missing '\"')",
   13: 'the number is incomplete',
   14: 'invalid \\u escape in a string',
   15: 'invalid escape in a string',
@@ -127,7 +127,11 @@ export function parseJsonSpec(text: string): JsonSpecResult {
   } catch (error) {
     // Nothing above is expected to throw; if it does, say so with a position rather than crash.
     const reason = error instanceof Error ? error.message : String(error);
-    return { spec: emptySpec('json', { start: 0, end: text.length }), findings: [], internalError: `the spec could not be read because of an internal error of Episcope (${reason}); please report it` };
+    return {
+      spec: emptySpec('json', { start: 0, end: text.length }),
+      findings: [],
+      internalError: `the spec could not be read because of an internal error of Episcope (${reason}); please report it`,
+    };
   }
 }
 
@@ -136,7 +140,12 @@ function parseUnchecked(text: string): JsonSpecResult {
   const wholeText: Span = { start: 0, end: text.length };
   if (text.length > MAX_DOCUMENT_LENGTH) {
     const megabytes = (text.length / 1024 / 1024).toFixed(1);
-    findings.push(schemaFinding(`the document is ${megabytes} MB, more than the ${MAX_DOCUMENT_LENGTH / 1024 / 1024} MB Episcope reads from a JSON spec; it was not analysed (generate MDPs this large with a TypeScript model, *.mdp.ts)`, firstCharacter(text)));
+    findings.push(
+      schemaFinding(
+        `the document is ${megabytes} MB, more than the ${MAX_DOCUMENT_LENGTH / 1024 / 1024} MB Episcope reads from a JSON spec; it was not analysed (generate MDPs this large with a TypeScript model, *.mdp.ts)`,
+        firstCharacter(text),
+      ),
+    );
     return { spec: emptySpec('json', wholeText), findings };
   }
   const parseErrors: ParseError[] = [];
@@ -159,12 +168,22 @@ function parseUnchecked(text: string): JsonSpecResult {
     const nodes = parseTree(scanned, parseErrors, JSONC_OPTIONS);
     for (const error of parseErrors) {
       const reason = PARSE_ERROR_TEXT[error.error] ?? 'invalid JSON';
-      findings.push(schemaFinding(`invalid JSON: ${reason}`, widen({ start: error.offset, end: error.offset + error.length }, text)));
+      findings.push(
+        schemaFinding(
+          `invalid JSON: ${reason}`,
+          widen({ start: error.offset, end: error.offset + error.length }, text),
+        ),
+      );
     }
     if (!nodes) {
       if (parseErrors.length === 0 || text.trim() === '') {
         findings.length = 0;
-        findings.push(schemaFinding('the document is empty: a spec is a JSON object with discount, start, states and transitions', firstCharacter(text)));
+        findings.push(
+          schemaFinding(
+            'the document is empty: a spec is a JSON object with discount, start, states and transitions',
+            firstCharacter(text),
+          ),
+        );
       }
       return { spec: emptySpec('json', wholeText), findings };
     }
@@ -179,14 +198,25 @@ function parseUnchecked(text: string): JsonSpecResult {
   reportDuplicateKeys(tree, schemaProblems);
   const kept = schemaProblems.filter((finding) => !explained.covers(finding));
   // Validation describes only the first problems by position, enough to fill the cap.
-  const undescribed = validateAgainstSchema(tree, parseErrors.length === 0 ? text : undefined, explained, MAX_SCHEMA_FINDINGS + 1, kept);
+  const undescribed = validateAgainstSchema(
+    tree,
+    parseErrors.length === 0 ? text : undefined,
+    explained,
+    MAX_SCHEMA_FINDINGS + 1,
+    kept,
+  );
 
   kept.sort((a, b) => a.span.start - b.span.start);
   findings.push(...kept.slice(0, MAX_SCHEMA_FINDINGS));
   if (kept.length > MAX_SCHEMA_FINDINGS || undescribed.count > 0) {
     const rest = Math.max(0, kept.length - MAX_SCHEMA_FINDINGS) + undescribed.count;
     const count = undescribed.exact ? String(rest) : `at least ${rest}`;
-    findings.push(schemaFinding(`${count} more schema problems are not shown; fix the ones above first`, kept[Math.min(MAX_SCHEMA_FINDINGS, kept.length - 1)].span));
+    findings.push(
+      schemaFinding(
+        `${count} more schema problems are not shown; fix the ones above first`,
+        kept[Math.min(MAX_SCHEMA_FINDINGS, kept.length - 1)].span,
+      ),
+    );
   }
   return { spec, findings };
 }
@@ -244,7 +274,12 @@ function validateAgainstSchema(
     // The inner error of propertyNames carries the details; the outer one would repeat it.
     if (error.keyword === 'propertyNames') continue;
     const mixUp = misnamed.get(error.instancePath);
-    if (mixUp && (error.keyword === 'required' || (error.keyword === 'additionalProperties' && error.params.additionalProperty !== mixUp.unknown[0]))) continue;
+    if (
+      mixUp &&
+      (error.keyword === 'required' ||
+        (error.keyword === 'additionalProperties' && error.params.additionalProperty !== mixUp.unknown[0]))
+    )
+      continue;
     kept.push(error);
     nodes.push(locate(tree, properties, pointerSegments(error.instancePath)).node);
   }
@@ -313,7 +348,8 @@ function misnamedProperties(errors: readonly ErrorObject[]): Map<string, Misname
     if (error.keyword === 'required') entry.missing.push(String(error.params.missingProperty));
     else entry.unknown.push(String(error.params.additionalProperty));
   }
-  for (const [where, entry] of byObject) if (entry.missing.length === 0 || entry.unknown.length === 0) byObject.delete(where);
+  for (const [where, entry] of byObject)
+    if (entry.missing.length === 0 || entry.unknown.length === 0) byObject.delete(where);
   return byObject;
 }
 
@@ -359,22 +395,39 @@ const TYPE_PHRASE: Record<string, string> = {
   null: 'null',
 };
 
-function describeSchemaError(tree: JsonTree, properties: PropertyTables, node: number, segments: Array<string | number>, error: ErrorObject, misnamed?: Misnamed): Finding {
+function describeSchemaError(
+  tree: JsonTree,
+  properties: PropertyTables,
+  node: number,
+  segments: Array<string | number>,
+  error: ErrorObject,
+  misnamed?: Misnamed,
+): Finding {
   const path = jsonPath(segments);
   const subject = segments.length === 0 ? 'the spec' : path;
-  const parentSchema = (error.parentSchema ?? {}) as { description?: string; properties?: Record<string, { description?: string }>; type?: string | string[] };
+  const parentSchema = (error.parentSchema ?? {}) as {
+    description?: string;
+    properties?: Record<string, { description?: string }>;
+    type?: string | string[];
+  };
   const hint = parentSchema.description ? ` (${firstSentence(parentSchema.description)})` : '';
   const propertyName = (error as ErrorObject & { propertyName?: string }).propertyName;
 
   if (propertyName !== undefined) {
     const keyNode = properties.key(node, propertyName);
-    return schemaFinding(`${subject} has an empty key; ids and names must not be empty`, tree.span(keyNode !== NONE ? keyNode : node));
+    return schemaFinding(
+      `${subject} has an empty key; ids and names must not be empty`,
+      tree.span(keyNode !== NONE ? keyNode : node),
+    );
   }
 
   switch (error.keyword) {
     case 'type': {
       const types = Array.isArray(parentSchema.type) ? parentSchema.type : [String(error.params.type)];
-      return schemaFinding(`${subject} must be ${joinAlternatives(types.map((t) => TYPE_PHRASE[t] ?? t))}, not ${describeValue(error.data)}${hint}`, tree.span(node));
+      return schemaFinding(
+        `${subject} must be ${joinAlternatives(types.map((t) => TYPE_PHRASE[t] ?? t))}, not ${describeValue(error.data)}${hint}`,
+        tree.span(node),
+      );
     }
     case 'required': {
       const missing = String(error.params.missingProperty);
@@ -386,26 +439,55 @@ function describeSchemaError(tree: JsonTree, properties: PropertyTables, node: n
       const extra = String(error.params.additionalProperty);
       const known = Object.keys(parentSchema.properties ?? {});
       const keyNode = properties.key(node, extra);
-      if (misnamed) return schemaFinding(misnamedMessage(subject, misnamed, parentSchema, known), tree.span(keyNode !== NONE ? keyNode : node));
+      if (misnamed)
+        return schemaFinding(
+          misnamedMessage(subject, misnamed, parentSchema, known),
+          tree.span(keyNode !== NONE ? keyNode : node),
+        );
       const suggestion = closestName(extra, known);
-      const advice = suggestion ? `; did you mean "${suggestion}"?` : known.length > 0 ? `; known properties: ${known.join(', ')}` : '';
-      return schemaFinding(`unknown property "${extra}" in ${subject}${advice}`, tree.span(keyNode !== NONE ? keyNode : node));
+      const advice = suggestion
+        ? `; did you mean "${suggestion}"?`
+        : known.length > 0
+          ? `; known properties: ${known.join(', ')}`
+          : '';
+      return schemaFinding(
+        `unknown property "${extra}" in ${subject}${advice}`,
+        tree.span(keyNode !== NONE ? keyNode : node),
+      );
     }
     case 'enum': {
       const allowed = (error.params.allowedValues as unknown[]).map((v) => JSON.stringify(v));
-      const suggestion = typeof error.data === 'string' ? closestName(error.data, (error.params.allowedValues as unknown[]).map(String)) : undefined;
+      const suggestion =
+        typeof error.data === 'string'
+          ? closestName(error.data, (error.params.allowedValues as unknown[]).map(String))
+          : undefined;
       const advice = suggestion ? `; did you mean "${suggestion}"?` : '';
-      return schemaFinding(`${subject} must be ${joinAlternatives(allowed)}, not ${describeValue(error.data)}${advice}`, tree.span(node));
+      return schemaFinding(
+        `${subject} must be ${joinAlternatives(allowed)}, not ${describeValue(error.data)}${advice}`,
+        tree.span(node),
+      );
     }
     case 'minimum':
     case 'maximum':
     case 'exclusiveMinimum':
     case 'exclusiveMaximum': {
       const limit = Number(error.params.limit);
-      const bound = error.keyword === 'minimum' ? 'at least' : error.keyword === 'maximum' ? 'at most' : error.keyword === 'exclusiveMinimum' ? 'above' : 'below';
+      const bound =
+        error.keyword === 'minimum'
+          ? 'at least'
+          : error.keyword === 'maximum'
+            ? 'at most'
+            : error.keyword === 'exclusiveMinimum'
+              ? 'above'
+              : 'below';
       const value = typeof error.data === 'number' ? error.data : Number.NaN;
-      const shown = Number.isFinite(value) ? formatNumber(value) : `${formatNumber(value)} (the number is too large to represent)`;
-      return schemaFinding(`${subject} is ${shown}; it must be ${bound} ${formatNumber(limit)}${hint}`, tree.span(node));
+      const shown = Number.isFinite(value)
+        ? formatNumber(value)
+        : `${formatNumber(value)} (the number is too large to represent)`;
+      return schemaFinding(
+        `${subject} is ${shown}; it must be ${bound} ${formatNumber(limit)}${hint}`,
+        tree.span(node),
+      );
     }
     case 'minLength':
       return schemaFinding(`${subject} must not be an empty string${hint}`, tree.span(node));
@@ -418,7 +500,10 @@ function describeSchemaError(tree: JsonTree, properties: PropertyTables, node: n
       const earlier = Number(error.params.j);
       const item = tree.kinds[node] === NodeKind.Array ? (tree.children(node)[later] ?? node) : node;
       const value = item === node ? '' : `${describeValue(tree.toValue(item))} `;
-      return schemaFinding(`${subject} lists ${value}twice (entries ${Math.min(earlier, later)} and ${Math.max(earlier, later)}); list each once`, tree.span(item));
+      return schemaFinding(
+        `${subject} lists ${value}twice (entries ${Math.min(earlier, later)} and ${Math.max(earlier, later)}); list each once`,
+        tree.span(item),
+      );
     }
     default:
       return schemaFinding(`${subject} ${error.message ?? 'does not match the spec format'}${hint}`, tree.span(node));
@@ -426,12 +511,18 @@ function describeSchemaError(tree: JsonTree, properties: PropertyTables, node: n
 }
 
 /** One message for an object's unknown and missing properties (one misnamed property, usually). */
-function misnamedMessage(subject: string, { missing, unknown }: Misnamed, parentSchema: { properties?: Record<string, { description?: string }> }, known: string[]): string {
+function misnamedMessage(
+  subject: string,
+  { missing, unknown }: Misnamed,
+  parentSchema: { properties?: Record<string, { description?: string }> },
+  known: string[],
+): string {
   const quoted = (names: string[]) => joinAlternatives(names.map((n) => `"${n}"`)).replace(/ or /, ' and ');
   if (missing.length === 1 && unknown.length === 1) {
     const about = parentSchema.properties?.[missing[0]]?.description;
     const what = about ? ` (${lowerFirst(firstSentence(about))})` : '';
-    if (closestName(unknown[0], known) === missing[0]) return `unknown property "${unknown[0]}" in ${subject}; did you mean "${missing[0]}"? It is required${what}`;
+    if (closestName(unknown[0], known) === missing[0])
+      return `unknown property "${unknown[0]}" in ${subject}; did you mean "${missing[0]}"? It is required${what}`;
     return `unknown property "${unknown[0]}" in ${subject}, which is missing the required property "${missing[0]}"${what}: if "${unknown[0]}" is meant as "${missing[0]}", rename it`;
   }
   return `${subject} has the unknown properties ${quoted(unknown)} and lacks the required ${quoted(missing)}; its properties are ${known.join(', ')}`;
@@ -457,7 +548,11 @@ function pointerSegments(pointer: string): string[] {
  * The node at a JSON Pointer's segments, and the segments with array indices as numbers. Object
  * keys match the last property of that name (the one JSON.parse keeps, so the one ajv validated).
  */
-function locate(tree: JsonTree, properties: PropertyTables, pointer: readonly string[]): { node: number; segments: Array<string | number> } {
+function locate(
+  tree: JsonTree,
+  properties: PropertyTables,
+  pointer: readonly string[],
+): { node: number; segments: Array<string | number> } {
   let node = 0;
   const segments: Array<string | number> = [];
   for (const segment of pointer) {
@@ -493,7 +588,8 @@ class PropertyTables {
     if (!table) {
       const children = tree.children(object);
       if (children.length <= 16) {
-        for (let i = children.length - 1; i >= 0; i--) if (tree.str(tree.keyOf(children[i])) === key) return children[i];
+        for (let i = children.length - 1; i >= 0; i--)
+          if (tree.str(tree.keyOf(children[i])) === key) return children[i];
         return NONE;
       }
       table = new Map();
@@ -534,7 +630,8 @@ function reportDuplicateKeys(tree: JsonTree, out: Finding[]): void {
     for (let at: Visit | undefined = visit; at?.parent; at = at.parent) path.push(at.segment!);
     return path.reverse();
   };
-  const isContainer = (node: number) => node !== NONE && (tree.kinds[node] === NodeKind.Object || tree.kinds[node] === NodeKind.Array);
+  const isContainer = (node: number) =>
+    node !== NONE && (tree.kinds[node] === NodeKind.Object || tree.kinds[node] === NodeKind.Array);
   const stack: Visit[] = [{ node: 0 }];
   while (stack.length > 0) {
     const visit = stack.pop()!;
@@ -546,7 +643,12 @@ function reportDuplicateKeys(tree: JsonTree, out: Finding[]): void {
         const key = tree.keyOf(properties[i]);
         const value = tree.valueOf(properties[i]);
         if (key !== NONE && repeated?.has(i)) {
-          out.push(schemaFinding(`${jsonPath(pathTo(visit))} has the key "${tree.str(key)}" more than once; only the last one counts, so this one is ignored`, tree.span(key)));
+          out.push(
+            schemaFinding(
+              `${jsonPath(pathTo(visit))} has the key "${tree.str(key)}" more than once; only the last one counts, so this one is ignored`,
+              tree.span(key),
+            ),
+          );
         }
         if (isContainer(value)) stack.push({ node: value, parent: visit, segment: String(tree.str(key)) });
       }
@@ -642,9 +744,11 @@ class SpecReader {
     }
 
     const discount = topValue('discount');
-    if (tree.kinds[discount] === NodeKind.Number) spec.discount = { value: tree.numbers[discount], span: tree.span(discount) };
+    if (tree.kinds[discount] === NodeKind.Number)
+      spec.discount = { value: tree.numbers[discount], span: tree.span(discount) };
     const horizon = topValue('horizon');
-    if (tree.kinds[horizon] === NodeKind.Number) spec.horizon = { value: tree.numbers[horizon], span: tree.span(horizon) };
+    if (tree.kinds[horizon] === NodeKind.Number)
+      spec.horizon = { value: tree.numbers[horizon], span: tree.span(horizon) };
 
     const actions = topValue('actions');
     if (tree.kinds[actions] === NodeKind.Array) {
@@ -714,7 +818,12 @@ class SpecReader {
     } else if (kind === NodeKind.Object) {
       for (const [id, member] of membersOf(tree, node)) {
         if (tree.kinds[member.value] !== NodeKind.Number) continue;
-        start.push({ state: id, probability: tree.numbers[member.value], span: tree.span(member.key), probabilitySpan: tree.span(member.value) });
+        start.push({
+          state: id,
+          probability: tree.numbers[member.value],
+          span: tree.span(member.key),
+          probabilitySpan: tree.span(member.value),
+        });
       }
     } else {
       return;
@@ -729,7 +838,12 @@ class SpecReader {
     this.spec.shapingSpan = tree.span(node);
     for (const [id, member] of membersOf(tree, tree.member(node, 'potential'))) {
       if (tree.kinds[member.value] !== NodeKind.Number) continue;
-      this.spec.potential.push({ state: id, value: tree.numbers[member.value], span: tree.span(member.key), valueSpan: tree.span(member.value) });
+      this.spec.potential.push({
+        state: id,
+        value: tree.numbers[member.value],
+        span: tree.span(member.key),
+        valueSpan: tree.span(member.value),
+      });
     }
   }
 
@@ -738,7 +852,8 @@ class SpecReader {
     if (tree.kinds[node] !== NodeKind.Array) return;
     this.spec.transitionsSpan = tree.span(node);
     let index = 0;
-    for (let item = tree.firstChildren[node]; item !== NONE; item = tree.nextSiblings[item]) this.readTransition(item, index++);
+    for (let item = tree.firstChildren[node]; item !== NONE; item = tree.nextSiblings[item])
+      this.readTransition(item, index++);
   }
 
   private readTransition(node: number, index: number): void {
@@ -776,7 +891,10 @@ class SpecReader {
   }
 
   private declaredActionNames(): Set<string> {
-    this.actionNames ??= new Set([...this.spec.actions.map((a) => a.value), ...this.spec.states.flatMap((s) => (s.actions ?? []).map((a) => a.value))]);
+    this.actionNames ??= new Set([
+      ...this.spec.actions.map((a) => a.value),
+      ...this.spec.states.flatMap((s) => (s.actions ?? []).map((a) => a.value)),
+    ]);
     return this.actionNames;
   }
 
@@ -832,7 +950,11 @@ class SpecReader {
   }
 
   /** The outcomes of `to`, in any of its three forms; `complete` is false when some could not be read. */
-  private readOutcomes(node: number, reward: RewardPart[], index: number): { outcomes: SpecOutcome[]; complete: boolean } {
+  private readOutcomes(
+    node: number,
+    reward: RewardPart[],
+    index: number,
+  ): { outcomes: SpecOutcome[]; complete: boolean } {
     const tree = this.tree;
     const outcomes: SpecOutcome[] = [];
     let complete = true;
@@ -864,7 +986,11 @@ class SpecReader {
         const probability = tree.member(item, 'probability');
         const ownRewardNode = tree.member(item, 'reward');
         const ownReward = ownRewardNode !== NONE ? this.readReward(ownRewardNode, [index, 'to', i, 'reward']) : reward;
-        if (tree.kinds[state] !== NodeKind.String || tree.kinds[probability] !== NodeKind.Number || ownReward === undefined) {
+        if (
+          tree.kinds[state] !== NodeKind.String ||
+          tree.kinds[probability] !== NodeKind.Number ||
+          ownReward === undefined
+        ) {
           complete = false;
           continue;
         }
@@ -956,7 +1082,9 @@ function describeValue(value: unknown): string {
   if (Array.isArray(value)) return 'a list';
   switch (typeof value) {
     case 'string':
-      return value.length > 40 ? `the string ${JSON.stringify(value.slice(0, 40))}…` : `the string ${JSON.stringify(value)}`;
+      return value.length > 40
+        ? `the string ${JSON.stringify(value.slice(0, 40))}…`
+        : `the string ${JSON.stringify(value)}`;
     case 'number':
       return formatNumber(value);
     case 'boolean':

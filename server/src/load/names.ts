@@ -21,7 +21,12 @@ export function editDistance(a: string, b: string, limit = Number.POSITIVE_INFIN
     for (let j = 1; j <= b.length; j++) {
       const cost = a.charCodeAt(i - 1) === b.charCodeAt(j - 1) ? 0 : 1;
       let best = Math.min(previous[j] + 1, current[j - 1] + 1, previous[j - 1] + cost);
-      if (i > 1 && j > 1 && a.charCodeAt(i - 1) === b.charCodeAt(j - 2) && a.charCodeAt(i - 2) === b.charCodeAt(j - 1)) {
+      if (
+        i > 1 &&
+        j > 1 &&
+        a.charCodeAt(i - 1) === b.charCodeAt(j - 2) &&
+        a.charCodeAt(i - 2) === b.charCodeAt(j - 1)
+      ) {
         best = Math.min(best, beforePrevious[j - 2] + 1);
       }
       current[j] = best;
@@ -92,7 +97,10 @@ export function formatNumber(value: number): string {
   const magnitude = Math.abs(value);
   if (magnitude >= 1e-4 && magnitude < 1e9) return String(Number(value.toPrecision(6)));
   // 1.50e-7 -> 1.5e-7, 1.00e12 -> 1e12
-  return value.toExponential(2).replace(/\.?0+e/, 'e').replace('e+', 'e');
+  return value
+    .toExponential(2)
+    .replace(/\.?0+e/, 'e')
+    .replace('e+', 'e');
 }
 
 /** "a, b and c" */

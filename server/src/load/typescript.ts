@@ -11,7 +11,14 @@ import type { Finding } from '../findings';
 import { schemaFinding } from '../rules/schema';
 import { syntaxFinding } from '../rules/syntax';
 import type { RandomnessSite, TypeScriptEvidence, TypeScriptMember } from './typescript-evidence';
-import { emptySpec, type Objective, type ParsedSpec, type RewardTermSpec, type Span, type TermDirection } from './types';
+import {
+  emptySpec,
+  type Objective,
+  type ParsedSpec,
+  type RewardTermSpec,
+  type Span,
+  type TermDirection,
+} from './types';
 
 export interface TypeScriptReading {
   spec: ParsedSpec;
@@ -82,7 +89,13 @@ export function readTypeScriptSpec(text: string): TypeScriptReading {
     nondeterminism: [],
   };
   spec.typescript = evidence;
-  const reading: TypeScriptReading = { spec, findings: [], found: false, syntaxErrors: false, dynamicFields: new Set() };
+  const reading: TypeScriptReading = {
+    spec,
+    findings: [],
+    found: false,
+    syntaxErrors: false,
+    dynamicFields: new Set(),
+  };
   try {
     const file = sourceFileOf(text);
     try {
@@ -98,11 +111,21 @@ export function readTypeScriptSpec(text: string): TypeScriptReading {
 
 function readFile(file: SourceFile, reading: TypeScriptReading, evidence: TypeScriptEvidence): void {
   const { spec } = reading;
-  const diagnostics = (file.compilerNode as unknown as { parseDiagnostics?: Array<{ start?: number; length?: number; messageText: unknown }> }).parseDiagnostics ?? [];
+  const diagnostics =
+    (
+      file.compilerNode as unknown as {
+        parseDiagnostics?: Array<{ start?: number; length?: number; messageText: unknown }>;
+      }
+    ).parseDiagnostics ?? [];
   for (const diagnostic of diagnostics.slice(0, 20)) {
     const start = diagnostic.start ?? 0;
-    const message = typeof diagnostic.messageText === 'string' ? diagnostic.messageText : String((diagnostic.messageText as { messageText?: string }).messageText ?? 'syntax error');
-    reading.findings.push(syntaxFinding(`syntax error: ${message}`, { start, end: start + Math.max(1, diagnostic.length ?? 1) }));
+    const message =
+      typeof diagnostic.messageText === 'string'
+        ? diagnostic.messageText
+        : String((diagnostic.messageText as { messageText?: string }).messageText ?? 'syntax error');
+    reading.findings.push(
+      syntaxFinding(`syntax error: ${message}`, { start, end: start + Math.max(1, diagnostic.length ?? 1) }),
+    );
     reading.syntaxErrors = true;
   }
   evidence.staticRandomness = findRandomness(file);
@@ -111,7 +134,10 @@ function readFile(file: SourceFile, reading: TypeScriptReading, evidence: TypeSc
   const object = findDefinition(file);
   if (!object) {
     reading.findings.push(
-      schemaFinding('the spec has no default export of an object: write `export default defineMdp({ ... })`', firstLineSpan(file)),
+      schemaFinding(
+        'the spec has no default export of an object: write `export default defineMdp({ ... })`',
+        firstLineSpan(file),
+      ),
     );
     return;
   }
@@ -127,12 +153,18 @@ function readFile(file: SourceFile, reading: TypeScriptReading, evidence: TypeSc
     evidence.members[member.name] = member.info;
     if (!KNOWN_MEMBERS.has(member.name)) {
       reading.findings.push(
-        schemaFinding(`unknown member "${member.name}"; a spec has ${[...KNOWN_MEMBERS].join(', ')}`, member.info.nameSpan),
+        schemaFinding(
+          `unknown member "${member.name}"; a spec has ${[...KNOWN_MEMBERS].join(', ')}`,
+          member.info.nameSpan,
+        ),
       );
       continue;
     }
     if (member.info.isFunction || !member.value) {
-      if (['name', 'objective', 'discount', 'horizon', 'rewardTerms', 'startDistribution'].includes(member.name) || (member.name === 'start' && !member.info.isFunction)) {
+      if (
+        ['name', 'objective', 'discount', 'horizon', 'rewardTerms', 'startDistribution'].includes(member.name) ||
+        (member.name === 'start' && !member.info.isFunction)
+      ) {
         reading.dynamicFields.add(member.name);
       }
       continue;
@@ -142,10 +174,20 @@ function readFile(file: SourceFile, reading: TypeScriptReading, evidence: TypeSc
   const members = evidence.members;
   evidence.form = members.outcomes ? 'enumerable' : members.sample ? 'sampled' : 'unknown';
   if (!members.discount && !reading.dynamicFields.has('...')) {
-    reading.findings.push(schemaFinding('the spec has no discount (0 <= discount <= 1)', spanOf(object.getFirstChildByKind(SyntaxKind.OpenBraceToken) ?? object)));
+    reading.findings.push(
+      schemaFinding(
+        'the spec has no discount (0 <= discount <= 1)',
+        spanOf(object.getFirstChildByKind(SyntaxKind.OpenBraceToken) ?? object),
+      ),
+    );
   }
   if (!members.actions && !reading.dynamicFields.has('...')) {
-    reading.findings.push(schemaFinding('the spec has no actions(state) function', spanOf(object.getFirstChildByKind(SyntaxKind.OpenBraceToken) ?? object)));
+    reading.findings.push(
+      schemaFinding(
+        'the spec has no actions(state) function',
+        spanOf(object.getFirstChildByKind(SyntaxKind.OpenBraceToken) ?? object),
+      ),
+    );
   }
   if (!members.outcomes && !members.sample && !reading.dynamicFields.has('...')) {
     reading.findings.push(
@@ -156,7 +198,12 @@ function readFile(file: SourceFile, reading: TypeScriptReading, evidence: TypeSc
     );
   }
   if (!members.start && !members.startDistribution && !reading.dynamicFields.has('...')) {
-    reading.findings.push(schemaFinding('the spec has no start state', spanOf(object.getFirstChildByKind(SyntaxKind.OpenBraceToken) ?? object)));
+    reading.findings.push(
+      schemaFinding(
+        'the spec has no start state',
+        spanOf(object.getFirstChildByKind(SyntaxKind.OpenBraceToken) ?? object),
+      ),
+    );
   }
 }
 
@@ -169,7 +216,13 @@ function firstLineSpan(file: SourceFile): Span {
 /** Strips `as`, `satisfies`, `!` and parentheses. */
 function unwrap(node: Node | undefined): Node | undefined {
   let current = node;
-  while (current && (Node.isAsExpression(current) || Node.isSatisfiesExpression(current) || Node.isParenthesizedExpression(current) || Node.isNonNullExpression(current))) {
+  while (
+    current &&
+    (Node.isAsExpression(current) ||
+      Node.isSatisfiesExpression(current) ||
+      Node.isParenthesizedExpression(current) ||
+      Node.isNonNullExpression(current))
+  ) {
     current = current.getExpression();
   }
   return current;
@@ -200,25 +253,40 @@ function findDefinition(file: SourceFile): ObjectLiteralExpression | undefined {
   return expression && Node.isObjectLiteralExpression(expression) ? expression : undefined;
 }
 
-function memberOf(file: SourceFile, property: Node): { name: string; info: TypeScriptMember; value?: Expression } | undefined {
+function memberOf(
+  file: SourceFile,
+  property: Node,
+): { name: string; info: TypeScriptMember; value?: Expression } | undefined {
   if (Node.isMethodDeclaration(property)) {
     const nameNode = property.getNameNode();
-    return { name: propertyName(nameNode), info: { name: propertyName(nameNode), nameSpan: spanOf(nameNode), span: spanOf(property), isFunction: true } };
+    return {
+      name: propertyName(nameNode),
+      info: { name: propertyName(nameNode), nameSpan: spanOf(nameNode), span: spanOf(property), isFunction: true },
+    };
   }
   if (Node.isShorthandPropertyAssignment(property)) {
     const name = property.getName();
     const target = functionDeclarationNamed(file, name);
     return {
       name,
-      info: { name, nameSpan: target ? spanOf(target.name) : spanOf(property.getNameNode()), span: target ? target.span : spanOf(property), isFunction: Boolean(target) },
-      value: target ? undefined : (unwrap(file.getVariableDeclaration(name)?.getInitializer()) as Expression | undefined),
+      info: {
+        name,
+        nameSpan: target ? spanOf(target.name) : spanOf(property.getNameNode()),
+        span: target ? target.span : spanOf(property),
+        isFunction: Boolean(target),
+      },
+      value: target
+        ? undefined
+        : (unwrap(file.getVariableDeclaration(name)?.getInitializer()) as Expression | undefined),
     };
   }
   if (Node.isPropertyAssignment(property)) {
     const nameNode = property.getNameNode();
     const name = propertyName(nameNode);
     const initializer = unwrap(property.getInitializer());
-    let isFunction = Boolean(initializer && (Node.isArrowFunction(initializer) || Node.isFunctionExpression(initializer)));
+    let isFunction = Boolean(
+      initializer && (Node.isArrowFunction(initializer) || Node.isFunctionExpression(initializer)),
+    );
     let value = initializer as Expression | undefined;
     if (initializer && Node.isIdentifier(initializer)) {
       const target = functionDeclarationNamed(file, initializer.getText());
@@ -228,7 +296,11 @@ function memberOf(file: SourceFile, property: Node): { name: string; info: TypeS
       } else value = resolveConst(file, initializer) as Expression | undefined;
       if (value && (Node.isArrowFunction(value) || Node.isFunctionExpression(value))) isFunction = true;
     }
-    return { name, info: { name, nameSpan: spanOf(nameNode), span: spanOf(property), isFunction }, value: isFunction ? undefined : value };
+    return {
+      name,
+      info: { name, nameSpan: spanOf(nameNode), span: spanOf(property), isFunction },
+      value: isFunction ? undefined : value,
+    };
   }
   return undefined;
 }
@@ -255,7 +327,8 @@ export function literalValue(node: Node | undefined): { value: unknown } | undef
   const bare = unwrap(node);
   if (!bare) return undefined;
   if (Node.isNumericLiteral(bare)) return { value: bare.getLiteralValue() };
-  if (Node.isStringLiteral(bare) || Node.isNoSubstitutionTemplateLiteral(bare)) return { value: bare.getLiteralValue() };
+  if (Node.isStringLiteral(bare) || Node.isNoSubstitutionTemplateLiteral(bare))
+    return { value: bare.getLiteralValue() };
   if (Node.isPrefixUnaryExpression(bare) && bare.getOperatorToken() === SyntaxKind.MinusToken) {
     const inner = literalValue(bare.getOperand());
     return inner && typeof inner.value === 'number' ? { value: -inner.value } : undefined;
@@ -299,24 +372,33 @@ function readField(name: string, node: Expression, member: TypeScriptMember, rea
  * Checks one field's value and writes it into the spec; returns what is wrong with it. Used for
  * literals read from the source and for values read from the running code alike.
  */
-export function applyField(spec: ParsedSpec, name: string, value: unknown, valueSpan: Span, memberSpan: Span): string[] {
+export function applyField(
+  spec: ParsedSpec,
+  name: string,
+  value: unknown,
+  valueSpan: Span,
+  memberSpan: Span,
+): string[] {
   switch (name) {
     case 'name':
       if (typeof value !== 'string') return [`name must be a string, not ${describe(value)}`];
       spec.name = { value, span: valueSpan };
       return [];
     case 'objective':
-      if (value !== 'maximize' && value !== 'minimize') return [`objective must be "maximize" or "minimize", not ${describe(value)}`];
+      if (value !== 'maximize' && value !== 'minimize')
+        return [`objective must be "maximize" or "minimize", not ${describe(value)}`];
       spec.objective = value as Objective;
       spec.objectiveSpan = valueSpan;
       return [];
     case 'discount':
-      if (typeof value !== 'number' || !(value >= 0 && value <= 1)) return [`discount must be a number between 0 and 1, not ${describe(value)}`];
+      if (typeof value !== 'number' || !(value >= 0 && value <= 1))
+        return [`discount must be a number between 0 and 1, not ${describe(value)}`];
       spec.discount = { value, span: valueSpan };
       return [];
     case 'horizon':
       if (value === undefined) return [];
-      if (typeof value !== 'number' || !Number.isInteger(value) || value < 1) return [`horizon must be a whole number of steps of at least 1, not ${describe(value)}`];
+      if (typeof value !== 'number' || !Number.isInteger(value) || value < 1)
+        return [`horizon must be a whole number of steps of at least 1, not ${describe(value)}`];
       spec.horizon = { value, span: valueSpan };
       return [];
     case 'rewardTerms':
@@ -337,7 +419,8 @@ export function applyField(spec: ParsedSpec, name: string, value: unknown, value
 }
 
 function applyRewardTerms(spec: ParsedSpec, value: unknown, span: Span): string[] {
-  if (typeof value !== 'object' || value === null || Array.isArray(value)) return [`rewardTerms must be an object of term declarations, not ${describe(value)}`];
+  if (typeof value !== 'object' || value === null || Array.isArray(value))
+    return [`rewardTerms must be an object of term declarations, not ${describe(value)}`];
   const problems: string[] = [];
   const terms: RewardTermSpec[] = [];
   for (const [name, declaration] of Object.entries(value as Record<string, unknown>)) {
@@ -346,7 +429,8 @@ function applyRewardTerms(spec: ParsedSpec, value: unknown, span: Span): string[
       problems.push(`rewardTerms.${name} needs a direction: "bonus", "penalty" or "either"`);
       continue;
     }
-    if (d.shaping !== undefined && typeof d.shaping !== 'boolean') problems.push(`rewardTerms.${name}.shaping must be true or false`);
+    if (d.shaping !== undefined && typeof d.shaping !== 'boolean')
+      problems.push(`rewardTerms.${name}.shaping must be true or false`);
     terms.push({ name, direction: d.direction as TermDirection, shaping: d.shaping === true, span });
   }
   spec.rewardTerms = terms;
@@ -355,16 +439,26 @@ function applyRewardTerms(spec: ParsedSpec, value: unknown, span: Span): string[
 }
 
 function applyStartDistribution(spec: ParsedSpec, value: unknown, span: Span, memberSpan: Span): string[] {
-  if (!Array.isArray(value) || value.length === 0) return [`startDistribution must be a non-empty array of { state, probability }, not ${describe(value)}`];
+  if (!Array.isArray(value) || value.length === 0)
+    return [`startDistribution must be a non-empty array of { state, probability }, not ${describe(value)}`];
   const entries: ParsedSpec['start'] = [];
   let sum = 0;
   for (const [i, item] of value.entries()) {
     const entry = item as { state?: unknown; probability?: unknown };
-    if (typeof entry !== 'object' || entry === null || typeof entry.probability !== 'number' || !(entry.probability >= 0 && entry.probability <= 1)) {
+    if (
+      typeof entry !== 'object' ||
+      entry === null ||
+      typeof entry.probability !== 'number' ||
+      !(entry.probability >= 0 && entry.probability <= 1)
+    ) {
       return [`startDistribution[${i}] needs a state and a probability between 0 and 1`];
     }
     try {
-      entries.push({ state: canonicalKey(entry.state, `startDistribution[${i}].state`), probability: entry.probability, span });
+      entries.push({
+        state: canonicalKey(entry.state, `startDistribution[${i}].state`),
+        probability: entry.probability,
+        span,
+      });
     } catch (error) {
       return [error instanceof Error ? error.message : String(error)];
     }
@@ -410,7 +504,8 @@ function stateLiterals(file: SourceFile): Array<{ key: string; span: Span }> {
       literals.push({ key: JSON.stringify(node.getLiteralValue()), span: spanOf(node) });
     } else if (Node.isNumericLiteral(node)) {
       const parent = node.getParent();
-      const negated = parent && Node.isPrefixUnaryExpression(parent) && parent.getOperatorToken() === SyntaxKind.MinusToken;
+      const negated =
+        parent && Node.isPrefixUnaryExpression(parent) && parent.getOperatorToken() === SyntaxKind.MinusToken;
       const value = negated ? -node.getLiteralValue() : node.getLiteralValue();
       if (Number.isFinite(value)) literals.push({ key: JSON.stringify(value), span: spanOf(negated ? parent : node) });
     }
@@ -427,7 +522,8 @@ function findRandomness(file: SourceFile): RandomnessSite[] {
     const namespace = declaration.getNamespaceImport() ?? declaration.getDefaultImport();
     if (namespace) importedCrypto.set(namespace.getText(), '*');
     for (const named of declaration.getNamedImports()) {
-      if (RANDOM_MEMBERS.crypto.has(named.getName())) importedCrypto.set((named.getAliasNode() ?? named.getNameNode()).getText(), named.getName());
+      if (RANDOM_MEMBERS.crypto.has(named.getName()))
+        importedCrypto.set((named.getAliasNode() ?? named.getNameNode()).getText(), named.getName());
     }
   }
   file.forEachDescendant((node) => {
@@ -436,14 +532,18 @@ function findRandomness(file: SourceFile): RandomnessSite[] {
       const member = node.getName();
       const ownerName = Node.isIdentifier(owner)
         ? owner.getText()
-        : Node.isPropertyAccessExpression(owner) && ['globalThis', 'window', 'self'].includes(owner.getExpression().getText())
+        : Node.isPropertyAccessExpression(owner) &&
+            ['globalThis', 'window', 'self'].includes(owner.getExpression().getText())
           ? owner.getName()
           : undefined;
       if (!ownerName) return;
-      const known = RANDOM_MEMBERS[ownerName] ?? (importedCrypto.get(ownerName) === '*' ? RANDOM_MEMBERS.crypto : undefined);
-      if (known?.has(member)) sites.push({ api: `${RANDOM_MEMBERS[ownerName] ? ownerName : 'crypto'}.${member}`, span: spanOf(node) });
+      const known =
+        RANDOM_MEMBERS[ownerName] ?? (importedCrypto.get(ownerName) === '*' ? RANDOM_MEMBERS.crypto : undefined);
+      if (known?.has(member))
+        sites.push({ api: `${RANDOM_MEMBERS[ownerName] ? ownerName : 'crypto'}.${member}`, span: spanOf(node) });
     } else if (Node.isNewExpression(node)) {
-      if (node.getExpression().getText() === 'Date' && node.getArguments().length === 0) sites.push({ api: 'new Date()', span: spanOf(node) });
+      if (node.getExpression().getText() === 'Date' && node.getArguments().length === 0)
+        sites.push({ api: 'new Date()', span: spanOf(node) });
     } else if (Node.isCallExpression(node)) {
       const callee = node.getExpression();
       if (Node.isIdentifier(callee)) {

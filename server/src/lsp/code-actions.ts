@@ -87,12 +87,20 @@ function fixEdit(context: CodeActionContext, fix: OffsetFix, version: number): W
     const start = context.mapOffset(edit.start, version);
     const end = context.mapOffset(edit.end, version);
     if (start === undefined || end === undefined || end < start) return undefined;
-    edits.push({ range: { start: context.document.positionAt(start), end: context.document.positionAt(end) }, newText: edit.newText });
+    edits.push({
+      range: { start: context.document.positionAt(start), end: context.document.positionAt(end) },
+      newText: edit.newText,
+    });
   }
   return documentEdit(context, context.document.uri, context.document.version, edits);
 }
 
-function documentEdit(context: CodeActionContext, uri: string, version: number | null, edits: TextEdit[]): WorkspaceEdit {
+function documentEdit(
+  context: CodeActionContext,
+  uri: string,
+  version: number | null,
+  edits: TextEdit[],
+): WorkspaceEdit {
   if (context.documentChanges) return { documentChanges: [{ textDocument: { uri, version }, edits }] };
   return { changes: { [uri]: edits } };
 }
@@ -129,7 +137,8 @@ function ignoreCommentAction(context: CodeActionContext, diagnostic: Diagnostic,
 function ignoreEntryAction(context: CodeActionContext, diagnostic: Diagnostic, rule: string): CodeAction | undefined {
   if (!ignorable(rule) || !context.path) return undefined;
   const existing = context.configFile;
-  const configPath = existing?.path ?? (context.newConfigFolder ? join(context.newConfigFolder, CONFIG_FILE_NAME) : undefined);
+  const configPath =
+    existing?.path ?? (context.newConfigFolder ? join(context.newConfigFolder, CONFIG_FILE_NAME) : undefined);
   if (!configPath) return undefined;
   const relative = relativePath(dirname(configPath), context.path);
   if (relative === undefined || relative === '') return undefined;
@@ -143,14 +152,20 @@ function ignoreEntryAction(context: CodeActionContext, diagnostic: Diagnostic, r
       context,
       configUri,
       existing.version,
-      result.edits.map((e) => ({ range: { start: lines.position(e.start), end: lines.position(e.end) }, newText: e.newText })),
+      result.edits.map((e) => ({
+        range: { start: lines.position(e.start), end: lines.position(e.end) },
+        newText: e.newText,
+      })),
     );
   } else {
     if (!context.documentChanges || !context.createFiles) return undefined;
     edit = {
       documentChanges: [
         { kind: 'create', uri: configUri, options: { ignoreIfExists: true } },
-        { textDocument: { uri: configUri, version: null }, edits: result.edits.map((e) => ({ range: zeroRange(), newText: e.newText })) },
+        {
+          textDocument: { uri: configUri, version: null },
+          edits: result.edits.map((e) => ({ range: zeroRange(), newText: e.newText })),
+        },
       ],
     };
   }
@@ -169,7 +184,10 @@ function reveal(title: string, uri: string, position: { line: number; character:
 }
 
 function toTextEdit(document: TextDocument, edit: OffsetEdit): TextEdit {
-  return { range: { start: document.positionAt(edit.start), end: document.positionAt(edit.end) }, newText: edit.newText };
+  return {
+    range: { start: document.positionAt(edit.start), end: document.positionAt(edit.end) },
+    newText: edit.newText,
+  };
 }
 
 function zeroRange() {

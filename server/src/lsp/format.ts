@@ -20,7 +20,8 @@ export function formatInterval(lower: number, upper: number): string {
   if (lower === upper) return formatNumber(lower);
   if (!Number.isFinite(lower) || !Number.isFinite(upper)) return `[${formatNumber(lower)}, ${formatNumber(upper)}]`;
   const width = upper - lower;
-  if (width > 1e-4 * Math.max(Math.abs(lower), Math.abs(upper), 1)) return `[${formatNumber(lower)}, ${formatNumber(upper)}]`;
+  if (width > 1e-4 * Math.max(Math.abs(lower), Math.abs(upper), 1))
+    return `[${formatNumber(lower)}, ${formatNumber(upper)}]`;
   const mid = (lower + upper) / 2;
   for (let decade = Math.ceil(Math.log10(Math.max(Math.abs(mid), width, 1e-300))); decade >= -15; decade--) {
     const step = 10 ** decade;

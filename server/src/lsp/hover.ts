@@ -35,7 +35,10 @@ export function hoverAt(snapshot: AnalysisSnapshot, offset: number): HoverAnswer
   }
   const transition = containing(index.transitionStart, index.transitionEnd, offset);
   if (transition >= 0) {
-    const choices = index.transitionChoices.subarray(index.transitionChoiceStart[transition], index.transitionChoiceStart[transition + 1]);
+    const choices = index.transitionChoices.subarray(
+      index.transitionChoiceStart[transition],
+      index.transitionChoiceStart[transition + 1],
+    );
     return {
       markdown: values ? transitionHover(values, choices) : notAnalysed(snapshot),
       start: index.transitionStart[transition],
@@ -114,7 +117,9 @@ function stateHover(values: ValueTables, state: number): string {
 }
 
 function reachCells(values: ValueTables, reach: ValueTables['optimalReach'], state: number): string {
-  return [reach.goal, reach.failure, reach.neutral, reach.none].map((a) => formatProbability(a[state], values.precision)).join(' | ');
+  return [reach.goal, reach.failure, reach.neutral, reach.none]
+    .map((a) => formatProbability(a[state], values.precision))
+    .join(' | ');
 }
 
 function transitionHover(values: ValueTables, choices: Int32Array): string {
@@ -136,8 +141,13 @@ function transitionHover(values: ValueTables, choices: Int32Array): string {
       const optimal = (values.optimalLower[state] + values.optimalUpper[state]) / 2;
       const mid = (values.qLower[c] + values.qUpper[c]) / 2;
       const gap = values.maximize ? optimal - mid : mid - optimal;
-      const bestName = bestChoice >= 0 ? ` (${code(values.actionNames[values.choiceAction[bestChoice]])}, ${formatNumber(optimal)})` : '';
-      verdict = Number.isFinite(gap) ? `${formatNumber(gap)} ${values.maximize ? 'below' : 'above'} the best action${bestName}` : `not the best action${bestName}`;
+      const bestName =
+        bestChoice >= 0
+          ? ` (${code(values.actionNames[values.choiceAction[bestChoice]])}, ${formatNumber(optimal)})`
+          : '';
+      verdict = Number.isFinite(gap)
+        ? `${formatNumber(gap)} ${values.maximize ? 'below' : 'above'} the best action${bestName}`
+        : `not the best action${bestName}`;
     }
     lines.push(`${code(stateName(values, state))} → ${code(action)}: Q* ${q}, ${verdict}`);
   }
@@ -159,7 +169,10 @@ function learnedHoverAt(tables: LearnedTables | undefined, offset: number): Hove
   const timed = tables.rowStep[first] >= 0;
   const method = tables.method === 'monte-carlo' ? 'Monte Carlo control' : 'Q-learning';
   const blocks = [`**${code(name)}** · learned by ${method} from samples: estimates, not bounds`];
-  const rows = [timed ? '| steps taken | action | learned Q | visits |' : '| action | learned Q | visits |', timed ? '|---|---|---|---|' : '|---|---|---|'];
+  const rows = [
+    timed ? '| steps taken | action | learned Q | visits |' : '| action | learned Q | visits |',
+    timed ? '|---|---|---|---|' : '|---|---|---|',
+  ];
   let visits = 0;
   for (let r = first; r < end; r++) {
     visits += tables.rowVisits[r];

@@ -49,10 +49,19 @@ export function ignoreEntryEdit(configText: string, rule: string, path: string):
     } else if (existing) return undefined;
     const eol = configText.includes('\r\n') ? '\r\n' : '\n';
     const indent = /^( +|\t)"/m.exec(configText)?.[1] ?? '  ';
-    const result = modify(configText, ['ignore', -1], { rule, path, reason: '' }, {
-      isArrayInsertion: true,
-      formattingOptions: { insertSpaces: !indent.startsWith('\t'), tabSize: indent.startsWith('\t') ? 1 : indent.length, eol },
-    });
+    const result = modify(
+      configText,
+      ['ignore', -1],
+      { rule, path, reason: '' },
+      {
+        isArrayInsertion: true,
+        formattingOptions: {
+          insertSpaces: !indent.startsWith('\t'),
+          tabSize: indent.startsWith('\t') ? 1 : indent.length,
+          eol,
+        },
+      },
+    );
     edits = result.map((e) => ({ start: e.offset, end: e.offset + e.length, newText: e.content }));
     newText = applyEdits(configText, result);
   }

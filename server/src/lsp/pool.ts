@@ -95,7 +95,9 @@ export class WorkerPool {
     Atomics.store(owner.cancelCell, 0, pending.job.jobId);
     pending.graceTimer = setTimeout(() => {
       if (owner.job === pending) {
-        this.options.log(`Terminating an analysis worker whose cancelled job did not stop within ${this.options.cancelGraceMs} ms.`);
+        this.options.log(
+          `Terminating an analysis worker whose cancelled job did not stop within ${this.options.cancelGraceMs} ms.`,
+        );
         void this.retire(owner, new JobCancelledError());
         this.pump();
       }

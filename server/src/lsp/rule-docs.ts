@@ -15,13 +15,31 @@ export function documentedRules(): DocumentedRule[] {
 }
 
 export function ruleMarkdown(rule: DocumentedRule): string {
-  const lines = [`# ${rule.id}`, '', `Default severity: **${rule.defaultSeverity}**`, '', rule.summary, '', `Runs on: ${sourcesText(rule)}.`, '', rule.documentation.trim()];
+  const lines = [
+    `# ${rule.id}`,
+    '',
+    `Default severity: **${rule.defaultSeverity}**`,
+    '',
+    rule.summary,
+    '',
+    `Runs on: ${sourcesText(rule)}.`,
+    '',
+    rule.documentation.trim(),
+  ];
   const thresholds = Object.entries(rule.thresholds ?? {});
   if (thresholds.length > 0) {
-    lines.push('', '## Thresholds', '', 'Set in `episcope.config.json` under `"thresholds"`, or in the editor setting `episcope.thresholds`.', '');
+    lines.push(
+      '',
+      '## Thresholds',
+      '',
+      'Set in `episcope.config.json` under `"thresholds"`, or in the editor setting `episcope.thresholds`.',
+      '',
+    );
     lines.push('| key | default | why |', '|---|---|---|');
     for (const [name, spec] of thresholds) {
-      lines.push(`| \`${rule.id}.${name}\` | ${spec.default} | ${spec.description.replace(/\|/g, '\\|').replace(/\n/g, ' ')} |`);
+      lines.push(
+        `| \`${rule.id}.${name}\` | ${spec.default} | ${spec.description.replace(/\|/g, '\\|').replace(/\n/g, ' ')} |`,
+      );
     }
   }
   lines.push(

@@ -122,7 +122,15 @@ export class AnalysisScheduler {
   private state(uri: string): DocumentState {
     let state = this.documents.get(uri);
     if (!state) {
-      state = { ticket: 0, latestTicket: -1, settledTicket: -1, waiters: [], lastDurationMs: 0, lastRequestAt: -Infinity, solutionTicket: -1 };
+      state = {
+        ticket: 0,
+        latestTicket: -1,
+        settledTicket: -1,
+        waiters: [],
+        lastDurationMs: 0,
+        lastRequestAt: -Infinity,
+        solutionTicket: -1,
+      };
       this.documents.set(uri, state);
     }
     return state;
@@ -143,7 +151,8 @@ export class AnalysisScheduler {
     try {
       job = await this.hooks.prepare(uri);
     } catch (error) {
-      if (this.documents.get(uri) === state && state.ticket === ticket) this.settle(state, ticket, this.hooks.failed(uri, undefined, asError(error)));
+      if (this.documents.get(uri) === state && state.ticket === ticket)
+        this.settle(state, ticket, this.hooks.failed(uri, undefined, asError(error)));
       return;
     }
     if (this.documents.get(uri) !== state || state.ticket !== ticket) return;

@@ -49,7 +49,11 @@ export function startServer(options: ServerOptions = {}): Connection {
   registerWorkspaceCommands(server);
 
   process.on('uncaughtException', (error) => server.logError(`Uncaught: ${error.stack ?? error.message}`));
-  process.on('unhandledRejection', (reason) => server.logError(`Unhandled rejection: ${reason instanceof Error ? (reason.stack ?? reason.message) : String(reason)}`));
+  process.on('unhandledRejection', (reason) =>
+    server.logError(
+      `Unhandled rejection: ${reason instanceof Error ? (reason.stack ?? reason.message) : String(reason)}`,
+    ),
+  );
 
   connection.listen();
   server.log(
@@ -64,7 +68,8 @@ function registerLifeCycle(server: ServerState): void {
     server.guard('initialize', { capabilities: {} } as InitializeResult, (params) => {
       server.capabilities = params.capabilities;
       server.pullDiagnostics = !!server.capabilities.textDocument?.diagnostic;
-      server.workspaceFolders = params.workspaceFolders ?? (params.rootUri ? [{ uri: params.rootUri, name: 'root' }] : []);
+      server.workspaceFolders =
+        params.workspaceFolders ?? (params.rootUri ? [{ uri: params.rootUri, name: 'root' }] : []);
       const init = (params.initializationOptions ?? {}) as { trusted?: unknown; settings?: unknown };
       if (typeof init.trusted === 'boolean') server.trusted = init.trusted;
       server.initialSettings = init.settings;
@@ -81,7 +86,11 @@ function registerLifeCycle(server: ServerState): void {
         },
       };
       if (server.pullDiagnostics) {
-        result.capabilities.diagnosticProvider = { identifier: 'episcope', interFileDependencies: false, workspaceDiagnostics: false };
+        result.capabilities.diagnosticProvider = {
+          identifier: 'episcope',
+          interFileDependencies: false,
+          workspaceDiagnostics: false,
+        };
       }
       return result;
     }),
@@ -95,11 +104,15 @@ function registerLifeCycle(server: ServerState): void {
         await connection.client.register(DidChangeConfigurationNotification.type, { section: 'episcope' });
       }
       if (workspace?.didChangeWatchedFiles?.dynamicRegistration) {
-        await connection.client.register(DidChangeWatchedFilesNotification.type, { watchers: [{ globPattern: '**/episcope.config.json' }] });
+        await connection.client.register(DidChangeWatchedFilesNotification.type, {
+          watchers: [{ globPattern: '**/episcope.config.json' }],
+        });
       }
       if (workspace?.workspaceFolders) {
         connection.workspace.onDidChangeWorkspaceFolders((event) => {
-          server.workspaceFolders = server.workspaceFolders.filter((f) => !event.removed.some((r) => r.uri === f.uri)).concat(event.added);
+          server.workspaceFolders = server.workspaceFolders
+            .filter((f) => !event.removed.some((r) => r.uri === f.uri))
+            .concat(event.added);
         });
       }
     }),

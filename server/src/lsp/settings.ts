@@ -52,7 +52,8 @@ export function readSettings(raw: unknown): EpiscopeSettings {
   settings.rollouts = wholeNumber(source.rollouts, 0);
   settings.seed = wholeNumber(source.seed, Number.MIN_SAFE_INTEGER);
   settings.stateCap = wholeNumber(source.stateCap, 1);
-  settings.precision = typeof source.precision === 'number' && source.precision > 0 && source.precision < 1 ? source.precision : null;
+  settings.precision =
+    typeof source.precision === 'number' && source.precision > 0 && source.precision < 1 ? source.precision : null;
   return settings;
 }
 

@@ -59,7 +59,11 @@ export function buildSnapshot(input: SnapshotInput): AnalysisSnapshot {
     version,
     diagnostics,
     rootOffset: report.spec.rootSpan.start,
-    lens: analysis ? lensLines(analysis, model?.maximize ?? true) : report.rollouts ? rolloutLensLines(report.rollouts) : [],
+    lens: analysis
+      ? lensLines(analysis, model?.maximize ?? true)
+      : report.rollouts
+        ? rolloutLensLines(report.rollouts)
+        : [],
     status: statusLine(report, input.durationMs),
     notAnalysed: report.notAnalysed,
     modelOutput: report.modelOutput,
@@ -72,7 +76,10 @@ export function buildSnapshot(input: SnapshotInput): AnalysisSnapshot {
   if (input.configFile) {
     const file = input.configFile;
     const configUri = pathToFileURL(file.path).href;
-    const configRange = (span: Span): Range => ({ start: file.lines.position(span.start), end: file.lines.position(span.end) });
+    const configRange = (span: Span): Range => ({
+      start: file.lines.position(span.start),
+      end: file.lines.position(span.end),
+    });
     snapshot.configFile = {
       path: file.path,
       uri: configUri,
@@ -122,7 +129,11 @@ function ruleDocLinker(docsFolder: string | undefined): (rule: string) => string
   };
 }
 
-const SEVERITY = { error: DiagnosticSeverity.Error, warning: DiagnosticSeverity.Warning, info: DiagnosticSeverity.Information };
+const SEVERITY = {
+  error: DiagnosticSeverity.Error,
+  warning: DiagnosticSeverity.Warning,
+  info: DiagnosticSeverity.Information,
+};
 
 function toDiagnostic(
   finding: Finding,
@@ -132,7 +143,8 @@ function toDiagnostic(
   docLink: (rule: string) => string | undefined,
 ): Diagnostic {
   const related: DiagnosticRelatedInformation[] = [];
-  for (const r of finding.related ?? []) related.push({ location: { uri, range: toRange(r.span) }, message: r.message });
+  for (const r of finding.related ?? [])
+    related.push({ location: { uri, range: toRange(r.span) }, message: r.message });
   (finding.trace ?? []).forEach((step, i) => {
     if (!step.span) return;
     const text = step.action ? `${step.state} → ${step.action}` : step.state;
@@ -169,7 +181,8 @@ function statusLine(report: FileReport, durationMs: number): string {
   const model = report.model;
   if (!model) return report.notAnalysed ? `not analysed: ${report.notAnalysed}` : 'not analysed';
   const parts = [plural(model.stateCount, 'state'), plural(model.choiceCount, 'state-action pair')];
-  if (report.analysis) parts.push(report.analysis.exact ? 'exact' : `bounds within ${formatNumber(report.analysis.precision)}`);
+  if (report.analysis)
+    parts.push(report.analysis.exact ? 'exact' : `bounds within ${formatNumber(report.analysis.precision)}`);
   else if (report.notAnalysed) parts.push(`no values: ${report.notAnalysed}`);
   parts.push(formatDuration(durationMs));
   return parts.join(' · ');
@@ -191,7 +204,9 @@ export function lensLines(analysis: Analysis, maximize: boolean): string[] {
   const reach =
     `Goal reach: optimal ${percent(optimal.goal)} · random ${percent(start.reach.random.goal)} · best possible ${percent(start.maxGoalReach)}` +
     (snapProbability(optimal.failure, p) > 0 ? ` · failure under optimal ${percent(optimal.failure)}` : '') +
-    (snapProbability(optimal.none, p) > 0 ? ` · never ends${horizon !== undefined ? ' or cut' : ''} ${percent(optimal.none)}` : '');
+    (snapProbability(optimal.none, p) > 0
+      ? ` · never ends${horizon !== undefined ? ' or cut' : ''} ${percent(optimal.none)}`
+      : '');
   return [returns, reach];
 }
 
@@ -211,7 +226,10 @@ export function rolloutLensLines(rollouts: RolloutReport): string[] {
   if (rollouts.learned) parts.push(`learned greedy ${estimate(rollouts.learned)}`);
   if (parts.length > 0) lines.push(`Estimated return from the start (sampled): ${parts.join(' · ')}`);
   const learning = rollouts.learning;
-  if (learning) lines.push(`Learning (${learning.method}): ${plural(learning.spent.steps, 'step')} in ${plural(learning.spent.episodes, 'episode')} spent`);
+  if (learning)
+    lines.push(
+      `Learning (${learning.method}): ${plural(learning.spent.steps, 'step')} in ${plural(learning.spent.episodes, 'episode')} spent`,
+    );
   return lines;
 }
 
@@ -425,7 +443,12 @@ function sortedByStart(starts: ArrayLike<number>): Int32Array {
  */
 function valueTables(model: CompiledModel, analysis: Analysis): ValueTables {
   const f = (a: Float64Array): Float64Array => Float64Array.from(a);
-  const reach = (r: Analysis['optimal']['reach']) => ({ goal: f(r.goal), failure: f(r.failure), neutral: f(r.neutral), none: f(r.none) });
+  const reach = (r: Analysis['optimal']['reach']) => ({
+    goal: f(r.goal),
+    failure: f(r.failure),
+    neutral: f(r.neutral),
+    none: f(r.none),
+  });
   const names: string[] = [];
   const nameStart = new Int32Array(model.stateCount + 1);
   let length = 0;
@@ -468,13 +491,21 @@ function valueTables(model: CompiledModel, analysis: Analysis): ValueTables {
 }
 
 /** Hovers on `discount` and `horizon`: what they mean for this spec's goals. */
-function fixedHovers(text: string, spec: ParsedSpec, model: CompiledModel, analysis: Analysis | undefined): FixedHover[] {
+function fixedHovers(
+  text: string,
+  spec: ParsedSpec,
+  model: CompiledModel,
+  analysis: Analysis | undefined,
+): FixedHover[] {
   const hovers: FixedHover[] = [];
   const goals = nearestGoals(model);
   const lines: string[] = [];
   if (spec.discount) {
     const discount = spec.discount.value;
-    const effective = discount < 1 ? `1/(1 - ${formatNumber(discount)}) = ${formatNumber(1 / (1 - discount))} steps` : '∞ (undiscounted)';
+    const effective =
+      discount < 1
+        ? `1/(1 - ${formatNumber(discount)}) = ${formatNumber(1 / (1 - discount))} steps`
+        : '∞ (undiscounted)';
     lines.push(`**discount ${formatNumber(discount)}** · effective horizon ${effective}`);
     if (goals.length === 0) lines.push('', 'No goal terminal is reachable from the start.');
     for (const goal of goals) {
@@ -487,15 +518,23 @@ function fixedHovers(text: string, spec: ParsedSpec, model: CompiledModel, analy
       );
     }
     if (analysis) {
-      lines.push('', `Optimal ${model.maximize ? 'return' : 'cost'} from the start: ${formatInterval(analysis.start.optimal.lower, analysis.start.optimal.upper)}.`);
+      lines.push(
+        '',
+        `Optimal ${model.maximize ? 'return' : 'cost'} from the start: ${formatInterval(analysis.start.optimal.lower, analysis.start.optimal.upper)}.`,
+      );
     }
     hovers.push({ ...propertyRange(text, 'discount', spec.discount.span), markdown: lines.join('\n') });
   }
   if (spec.horizon) {
     const horizon = spec.horizon.value;
-    const out = [`**horizon ${horizon}** · episodes are cut after ${plural(horizon, 'step')} (truncation, not termination); values count the steps left.`];
+    const out = [
+      `**horizon ${horizon}** · episodes are cut after ${plural(horizon, 'step')} (truncation, not termination); values count the steps left.`,
+    ];
     for (const goal of goals) {
-      out.push('', `Goal ${quote(model.stateIds[goal.state])}: ${plural(goal.distance, 'step')} from the start at the nearest${goal.distance > horizon ? ', beyond the time limit' : ''}.`);
+      out.push(
+        '',
+        `Goal ${quote(model.stateIds[goal.state])}: ${plural(goal.distance, 'step')} from the start at the nearest${goal.distance > horizon ? ', beyond the time limit' : ''}.`,
+      );
     }
     hovers.push({ ...propertyRange(text, 'horizon', spec.horizon.span), markdown: out.join('\n') });
   }
@@ -518,7 +557,10 @@ function propertyRange(text: string, name: string, valueSpan: Span): { start: nu
  * The goals nearest to the start by number of steps (breadth-first search over outcomes with
  * positive probability), with the best reward paid on entering each along a shortest route.
  */
-export function nearestGoals(model: CompiledModel, limit = 3): Array<{ state: number; distance: number; reward: number }> {
+export function nearestGoals(
+  model: CompiledModel,
+  limit = 3,
+): Array<{ state: number; distance: number; reward: number }> {
   const distance = new Int32Array(model.stateCount).fill(-1);
   const queue = new Int32Array(model.stateCount);
   let head = 0;
@@ -548,7 +590,8 @@ export function nearestGoals(model: CompiledModel, limit = 3): Array<{ state: nu
     for (let c = model.choiceStart[s]; c < model.choiceStart[s + 1]; c++) {
       for (let k = model.outcomeStart[c]; k < model.outcomeStart[c + 1]; k++) {
         const t = model.outcomeTarget[k];
-        if (model.terminal[t] !== TERMINAL_CODE.goal || model.outcomeProb[k] <= 0 || distance[t] !== distance[s] + 1) continue;
+        if (model.terminal[t] !== TERMINAL_CODE.goal || model.outcomeProb[k] <= 0 || distance[t] !== distance[s] + 1)
+          continue;
         const previous = best.get(t);
         if (previous === undefined || better(model.outcomeReward[k], previous)) best.set(t, model.outcomeReward[k]);
       }

@@ -5,7 +5,12 @@
  */
 import { existsSync } from 'node:fs';
 import { join } from 'node:path';
-import { ResponseError, type ClientCapabilities, type Connection, type WorkspaceFolder } from 'vscode-languageserver/node';
+import {
+  ResponseError,
+  type ClientCapabilities,
+  type Connection,
+  type WorkspaceFolder,
+} from 'vscode-languageserver/node';
 import { DocumentStore } from './documents';
 import { WorkerPool } from './pool';
 import { STATUS_NOTIFICATION, type AnalysisSnapshot, type StatusParams } from './protocol';
@@ -88,7 +93,11 @@ export class ServerState {
   }
 
   /** Wraps a request handler: a failure is logged and answered with `fallback`, never taking down the server. */
-  guard<P extends unknown[], R>(name: string, fallback: R, handler: (...args: P) => R | Promise<R>): (...args: P) => Promise<R> {
+  guard<P extends unknown[], R>(
+    name: string,
+    fallback: R,
+    handler: (...args: P) => R | Promise<R>,
+  ): (...args: P) => Promise<R> {
     return async (...args: P) => {
       try {
         return await handler(...args);
@@ -104,10 +113,15 @@ export class ServerState {
    * A notification handler returns nothing to the client, so its promise is settled here: a
    * failure is logged (by guard) and never left as an unhandled rejection.
    */
-  guardNotification<P extends unknown[]>(name: string, handler: (...args: P) => void | Promise<void>): (...args: P) => void {
+  guardNotification<P extends unknown[]>(
+    name: string,
+    handler: (...args: P) => void | Promise<void>,
+  ): (...args: P) => void {
     const guarded = this.guard(name, undefined, handler);
     return (...args: P) => {
-      guarded(...args).catch((error: unknown) => this.logError(`${name} failed: ${error instanceof Error ? error.message : String(error)}`));
+      guarded(...args).catch((error: unknown) =>
+        this.logError(`${name} failed: ${error instanceof Error ? error.message : String(error)}`),
+      );
     };
   }
 

@@ -46,7 +46,11 @@ async function runJob(job: AnalysisJob): Promise<void> {
     snapshot.solution = report.analysis?.solution;
     post({ kind: 'done', jobId: job.jobId, snapshot }, transferList(snapshot));
   } catch (error) {
-    post({ kind: 'failed', jobId: job.jobId, error: error instanceof Error ? (error.stack ?? error.message) : String(error) });
+    post({
+      kind: 'failed',
+      jobId: job.jobId,
+      error: error instanceof Error ? (error.stack ?? error.message) : String(error),
+    });
   }
 }
 

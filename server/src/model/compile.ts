@@ -67,7 +67,8 @@ function compileChecked(spec: ParsedSpec): CompileResult {
   };
   const written = spec.discount?.value;
   if (written === undefined) note('the spec has no discount, so returns are not defined');
-  else if (!Number.isFinite(written) || written < 0 || written > 1) note(`the discount ${formatNumber(written)} is not between 0 and 1`);
+  else if (!Number.isFinite(written) || written < 0 || written > 1)
+    note(`the discount ${formatNumber(written)} is not between 0 and 1`);
   // The declared part of a spec without a valid discount is only read for its graph.
   const discount = reason === undefined ? written! : 1;
   let horizon = spec.horizon?.value;
@@ -96,12 +97,15 @@ function compileChecked(spec: ParsedSpec): CompileResult {
     startProbability.set(entry.state, (startProbability.get(entry.state) ?? 0) + entry.probability);
     startSum += entry.probability;
   }
-  if (spec.start.length > 0 && Math.abs(startSum - 1) > PROBABILITY_SUM_TOLERANCE) note(`the start probabilities add up to ${formatNumber(startSum)}, not 1`);
+  if (spec.start.length > 0 && Math.abs(startSum - 1) > PROBABILITY_SUM_TOLERANCE)
+    note(`the start probabilities add up to ${formatNumber(startSum)}, not 1`);
 
   // Shaping potential.
   const potentialEntries = spec.potential.filter((entry) => {
-    if (!stateById.has(entry.state)) note(`the shaping potential names ${quote(entry.state)}, which is not a declared state`);
-    else if (!Number.isFinite(entry.value)) note(`the shaping potential of ${quote(entry.state)} is ${formatNumber(entry.value)}, not a finite number`);
+    if (!stateById.has(entry.state))
+      note(`the shaping potential names ${quote(entry.state)}, which is not a declared state`);
+    else if (!Number.isFinite(entry.value))
+      note(`the shaping potential of ${quote(entry.state)} is ${formatNumber(entry.value)}, not a finite number`);
     else return true;
     return false;
   });
@@ -112,7 +116,13 @@ function compileChecked(spec: ParsedSpec): CompileResult {
   let writtenOutcomes = 0;
   for (const transition of spec.transitions) writtenOutcomes += transition.outcomes.length;
   const reserve = { states: stateById.size, choices: spec.transitions.length, outcomes: writtenOutcomes };
-  const builder = new ModelBuilder({ discount, horizon, maximize: spec.objective !== 'minimize', terms: termNames, reserve });
+  const builder = new ModelBuilder({
+    discount,
+    horizon,
+    maximize: spec.objective !== 'minimize',
+    terms: termNames,
+    reserve,
+  });
   for (const state of stateById.values()) builder.addState(state.id, state.terminal, state.span, state.label);
   // States whose written dynamics lost a part to a problem: what they do is not fully known.
   const brokenStates = new Uint8Array(stateById.size);
@@ -173,7 +183,13 @@ function compileChecked(spec: ParsedSpec): CompileResult {
       continue;
     }
 
-    const outcomes: Array<{ target: number; probability: number; reward: number; terms: Array<[string, number]>; shaping?: number }> = [];
+    const outcomes: Array<{
+      target: number;
+      probability: number;
+      reward: number;
+      terms: Array<[string, number]>;
+      shaping?: number;
+    }> = [];
     let sum = 0;
     let broken = false;
     for (const outcome of transition.outcomes) {
@@ -184,7 +200,9 @@ function compileChecked(spec: ParsedSpec): CompileResult {
         continue;
       }
       if (!(outcome.probability >= 0 && outcome.probability <= 1)) {
-        note(`${label()} gives ${quote(outcome.state)} the probability ${formatNumber(outcome.probability)}, not between 0 and 1`);
+        note(
+          `${label()} gives ${quote(outcome.state)} the probability ${formatNumber(outcome.probability)}, not between 0 and 1`,
+        );
         broken = true;
         continue;
       }
@@ -212,7 +230,10 @@ function compileChecked(spec: ParsedSpec): CompileResult {
 
   // A transition without a readable from or action is the cause of any pair that looks missing.
   const unread = spec.unreadTransitions?.length ?? 0;
-  if (unread > 0) return { reason: `${unread === 1 ? 'a transition' : `${unread} transitions`} could not be read (no readable "from" or "action")` };
+  if (unread > 0)
+    return {
+      reason: `${unread === 1 ? 'a transition' : `${unread} transitions`} could not be read (no readable "from" or "action")`,
+    };
   for (const state of stateById.values()) {
     if (state.terminal) continue;
     for (const action of actionsOf(state) ?? []) {
@@ -229,7 +250,10 @@ function compileChecked(spec: ParsedSpec): CompileResult {
   return { reason, declared: { model, brokenStates } };
 }
 
-function sumReward(parts: readonly RewardPart[], tracked: ReadonlySet<string>): { reward: number; terms: Array<[string, number]>; problem?: string } {
+function sumReward(
+  parts: readonly RewardPart[],
+  tracked: ReadonlySet<string>,
+): { reward: number; terms: Array<[string, number]>; problem?: string } {
   let reward = 0;
   const terms: Array<[string, number]> = [];
   for (const part of parts) {

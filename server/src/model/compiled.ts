@@ -74,7 +74,8 @@ export type NumberColumn = Int32Array | Float64Array | Uint8Array;
  */
 export function withRoom<T extends NumberColumn>(column: T, needed: number): T {
   if (needed <= column.length) return column;
-  if (needed > MAX_ENTRIES) throw new Error(`the model has more than ${MAX_ENTRIES} outcomes or choices, more than the analysis can index`);
+  if (needed > MAX_ENTRIES)
+    throw new Error(`the model has more than ${MAX_ENTRIES} outcomes or choices, more than the analysis can index`);
   let size = Math.max(64, column.length * 2);
   while (size < needed) size *= 2;
   const bigger = new (column.constructor as new (length: number) => T)(Math.min(size, MAX_ENTRIES));
@@ -88,7 +89,9 @@ export function withRoom<T extends NumberColumn>(column: T, needed: number): T {
  * doubled buffer alive.
  */
 function fitted<T extends NumberColumn>(column: T, length: number): T {
-  return column.length - length <= column.length / 8 ? (column.subarray(0, length) as T) : (column.slice(0, length) as T);
+  return column.length - length <= column.length / 8
+    ? (column.subarray(0, length) as T)
+    : (column.slice(0, length) as T);
 }
 
 /** How many states, choices and outcomes to make room for up front (an estimate; more still fit). */
@@ -136,7 +139,13 @@ export class ModelBuilder {
   private finished = false;
 
   constructor(
-    private readonly options: { discount: number; horizon?: number; maximize: boolean; terms?: string[]; reserve?: BuilderReserve },
+    private readonly options: {
+      discount: number;
+      horizon?: number;
+      maximize: boolean;
+      terms?: string[];
+      reserve?: BuilderReserve;
+    },
   ) {
     for (const t of options.terms ?? []) this.term(t);
     const room = (n: number | undefined) => Math.max(0, Math.min(MAX_ENTRIES, Math.floor(n ?? 0)));
@@ -159,7 +168,8 @@ export class ModelBuilder {
     const index = this.stateIds.length;
     this.stateIds.push(id);
     this.stateIndex.set(id, index);
-    if (label !== undefined && !this.stateLabels) this.stateLabels = new Array<string | undefined>(index).fill(undefined);
+    if (label !== undefined && !this.stateLabels)
+      this.stateLabels = new Array<string | undefined>(index).fill(undefined);
     this.stateLabels?.push(label);
     this.stateSpans.push(span);
     this.terminal = withRoom(this.terminal, index + 1);
@@ -183,7 +193,13 @@ export class ModelBuilder {
     state: number,
     action: string,
     transition: number,
-    outcomes: ReadonlyArray<{ target: number; probability: number; reward: number; terms?: ReadonlyArray<[string, number]>; shaping?: number }>,
+    outcomes: ReadonlyArray<{
+      target: number;
+      probability: number;
+      reward: number;
+      terms?: ReadonlyArray<[string, number]>;
+      shaping?: number;
+    }>,
   ): void {
     this.checkOpen();
     let actionId = this.actionIndex.get(action);
@@ -280,7 +296,8 @@ export class ModelBuilder {
       for (let c = 0; c < choiceCount; c++) outcomeStart[c + 1] += outcomeStart[c];
       const reorder = <T extends Int32Array | Float64Array>(column: T): T => {
         const out = new (column.constructor as new (length: number) => T)(outcomeCount);
-        for (let c = 0; c < choiceCount; c++) out.set(column.subarray(this.choiceFirst[c], this.choiceFirst[c + 1]), outcomeStart[placeOf[c]]);
+        for (let c = 0; c < choiceCount; c++)
+          out.set(column.subarray(this.choiceFirst[c], this.choiceFirst[c + 1]), outcomeStart[placeOf[c]]);
         return out;
       };
       outcomeTarget = reorder(this.target);
@@ -342,7 +359,8 @@ export class ModelBuilder {
   }
 
   private checkOpen(): void {
-    if (this.finished) throw new Error('ModelBuilder.finish() was already called; start a new builder for another model');
+    if (this.finished)
+      throw new Error('ModelBuilder.finish() was already called; start a new builder for another model');
   }
 
   private term(name: string): number {

@@ -129,7 +129,10 @@ export interface EmpiricalOptions {
  * the mean over the samples of each outcome. A key seen only as a target is unexplored: it becomes
  * a neutral terminal (value 0) and is marked in `samples.unexplored`.
  */
-export function buildEmpiricalModel(counts: TransitionCounts, options: EmpiricalOptions): { model?: CompiledModel; reason?: string } {
+export function buildEmpiricalModel(
+  counts: TransitionCounts,
+  options: EmpiricalOptions,
+): { model?: CompiledModel; reason?: string } {
   if (counts.stopped) return { reason: counts.stopped };
   if (counts.starts.length === 0) return { reason: 'no episode was recorded' };
   const nodeCount = counts.nodes.length;
@@ -138,7 +141,12 @@ export function buildEmpiricalModel(counts: TransitionCounts, options: Empirical
   for (const node of counts.nodes) kindsOfKey.set(node.key, (kindsOfKey.get(node.key) ?? 0) + 1);
   const hasChoices = new Uint8Array(nodeCount);
   for (const pair of counts.pairs) hasChoices[pair.node] = 1;
-  const builder = new ModelBuilder({ discount: options.discount, horizon: options.horizon, maximize: options.maximize, terms: options.terms });
+  const builder = new ModelBuilder({
+    discount: options.discount,
+    horizon: options.horizon,
+    maximize: options.maximize,
+    terms: options.terms,
+  });
   const unexploredList: number[] = [];
   for (let n = 0; n < nodeCount; n++) {
     const { key, terminal } = counts.nodes[n];
@@ -207,7 +215,10 @@ export function buildEmpiricalModel(counts: TransitionCounts, options: Empirical
  * (at least 1). Without a trace only the rewards count, over the whole model. Common practice, not a
  * theorem: the finding's own margin is not propagated through the analysis.
  */
-export function withSampleEvidence(model: CompiledModel, input: FindingInput): FindingInput & { fromSamples: SampleSupport } {
+export function withSampleEvidence(
+  model: CompiledModel,
+  input: FindingInput,
+): FindingInput & { fromSamples: SampleSupport } {
   const samples = model.samples!;
   const used: Array<{ choice: number; outcome: number }> = [];
   const trace = input.trace ?? [];
@@ -220,7 +231,8 @@ export function withSampleEvidence(model: CompiledModel, input: FindingInput): F
       if (from === undefined || to === undefined || action === undefined) continue;
       for (let c = model.choiceStart[from]; c < model.choiceStart[from + 1]; c++) {
         if (model.actionNames[model.choiceAction[c]] !== action) continue;
-        for (let k = model.outcomeStart[c]; k < model.outcomeStart[c + 1]; k++) if (model.outcomeTarget[k] === to) used.push({ choice: c, outcome: k });
+        for (let k = model.outcomeStart[c]; k < model.outcomeStart[c + 1]; k++)
+          if (model.outcomeTarget[k] === to) used.push({ choice: c, outcome: k });
       }
     }
   }
@@ -248,21 +260,36 @@ export function withSampleEvidence(model: CompiledModel, input: FindingInput): F
     pairs = model.choiceCount;
     for (let c = 0; c < model.choiceCount; c++) {
       fewest = Math.min(fewest, samples.choiceSamples[c]);
-      for (let k = model.outcomeStart[c]; k < model.outcomeStart[c + 1]; k++) if (!rewardKnown(model, k)) survives = false;
+      for (let k = model.outcomeStart[c]; k < model.outcomeStart[c + 1]; k++)
+        if (!rewardKnown(model, k)) survives = false;
     }
   }
   if (!samples.complete) survives = false;
   const total = samples.steps + samples.exploreSamples;
-  const parts = [`from samples: ${total} sampled steps (${samples.episodes} episodes, ${samples.steps} steps; ${samples.exploreSamples} exploration samples)`];
-  if (Number.isFinite(fewest)) parts.push(`${used.length > 0 ? 'the trace uses' : 'the model has'} ${pairs} state-action pair${pairs === 1 ? '' : 's'}, each tried at least ${fewest} times`);
+  const parts = [
+    `from samples: ${total} sampled steps (${samples.episodes} episodes, ${samples.steps} steps; ${samples.exploreSamples} exploration samples)`,
+  ];
+  if (Number.isFinite(fewest))
+    parts.push(
+      `${used.length > 0 ? 'the trace uses' : 'the model has'} ${pairs} state-action pair${pairs === 1 ? '' : 's'}, each tried at least ${fewest} times`,
+    );
   if (worst) {
     const n = samples.choiceSamples[worst.choice];
     const x = samples.outcomeSamples[worst.outcome];
     const interval = wilsonInterval(x, n);
-    parts.push(`least certain probability ${x}/${n}, 95% Wilson interval [${interval.lower.toFixed(3)}, ${interval.upper.toFixed(3)}]`);
+    parts.push(
+      `least certain probability ${x}/${n}, 95% Wilson interval [${interval.lower.toFixed(3)}, ${interval.upper.toFixed(3)}]`,
+    );
   }
-  if (samples.unexploredCount > 0) parts.push(`${samples.unexploredCount} state${samples.unexploredCount === 1 ? '' : 's'} seen but never tried (counted as ending the episode)`);
-  parts.push(survives ? 'it holds within the sampling error' : 'it may not survive the sampling error: sample more (more rollouts or a larger exploration budget)');
+  if (samples.unexploredCount > 0)
+    parts.push(
+      `${samples.unexploredCount} state${samples.unexploredCount === 1 ? '' : 's'} seen but never tried (counted as ending the episode)`,
+    );
+  parts.push(
+    survives
+      ? 'it holds within the sampling error'
+      : 'it may not survive the sampling error: sample more (more rollouts or a larger exploration budget)',
+  );
   const support: SampleSupport = { samples: total, pairs, fewest: Number.isFinite(fewest) ? fewest : 0, survives };
   return { ...input, message: `${input.message} [${parts.join('; ')}]`, fromSamples: support };
 }

@@ -60,7 +60,9 @@ end it is: \`"goal"\`, \`"failure"\` or \`"neutral"\` (offered as quick fixes).
       ctx.report({
         message: `${quote(state.id)} is not terminal but offers no action (${why}): an episode that enters it can neither continue nor end, so the MDP is undefined there and the spec is not compiled`,
         span: state.span,
-        related: state.actionsSpan ? [{ span: state.actionsSpan, message: `the empty action set of ${quote(state.id)}` }] : undefined,
+        related: state.actionsSpan
+          ? [{ span: state.actionsSpan, message: `the empty action set of ${quote(state.id)}` }]
+          : undefined,
         fixes,
       });
     });
@@ -71,7 +73,10 @@ end it is: \`"goal"\`, \`"failure"\` or \`"neutral"\` (offered as quick fixes).
 function declaresNoActions(spec: ParsedSpec): boolean {
   // TypeScript specs give actions by a function; their dead ends come from running it.
   if (spec.format !== 'json' || spec.actionsSpan !== undefined || spec.actions.length > 0) return false;
-  return spec.states.every((state) => state.actions === undefined) && spec.states.some((state) => !state.terminal && !state.terminalUnread);
+  return (
+    spec.states.every((state) => state.actions === undefined) &&
+    spec.states.some((state) => !state.terminal && !state.terminalUnread)
+  );
 }
 
 /** One finding for the one omission, instead of one per state; the fix declares what the transitions use. */

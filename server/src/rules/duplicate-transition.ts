@@ -59,14 +59,18 @@ the earlier one instead.
       if (!duplicates) continue;
       const pairs = expansionsOf(spec, written.sourceIndex);
       const wholeIsDuplicate = duplicates.length === pairs.length;
-      const described = duplicates.map(({ pair, earlier }) => `${arrow(pair.from, pair.action)} (first defined by transitions[${earlier.sourceIndex}], line ${lineOf(earlier)})`);
+      const described = duplicates.map(
+        ({ pair, earlier }) =>
+          `${arrow(pair.from, pair.action)} (first defined by transitions[${earlier.sourceIndex}], line ${lineOf(earlier)})`,
+      );
       const shown = described.length > 4 ? [...described.slice(0, 4), `${described.length - 4} more`] : described;
       const cost = wholeIsDuplicate
         ? 'this transition is never used: the first definition wins, so edits here change nothing'
         : 'for these pairs this transition is never used: the first definition wins';
       const related: RelatedLocation[] = [];
       for (const { earlier } of duplicates) {
-        if (!related.some((r) => r.span.start === earlier.span.start)) related.push({ span: earlier.span, message: `first definition (transitions[${earlier.sourceIndex}])` });
+        if (!related.some((r) => r.span.start === earlier.span.start))
+          related.push({ span: earlier.span, message: `first definition (transitions[${earlier.sourceIndex}])` });
       }
       const fixes: Fix[] = [];
       if (wholeIsDuplicate) {

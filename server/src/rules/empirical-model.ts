@@ -19,7 +19,8 @@ export const SEEN_FACT_RULES: ReadonlySet<string> = new Set([
 export const empiricalModel: Rule = {
   id: 'empirical-model',
   defaultSeverity: 'info',
-  summary: 'The model built from a sampled model\'s transitions could not be built, or does not cover every state it saw.',
+  summary:
+    "The model built from a sampled model's transitions could not be built, or does not cover every state it saw.",
   needs: 'spec',
   sources: ['sampled'],
   thresholds: {
@@ -43,7 +44,7 @@ export const empiricalModel: Rule = {
     },
     exploreBudget: {
       default: 100000,
-      description: 'Samples the exploration pass may draw in all: about a second of a typical model\'s code.',
+      description: "Samples the exploration pass may draw in all: about a second of a typical model's code.",
     },
     tolerance: {
       default: 0.1,
@@ -82,7 +83,10 @@ the like) do not run on it.
       return;
     }
     if (empirical.complete) return;
-    const unexplored = empirical.unexplored > 0 ? `; ${empirical.unexplored} of its ${empirical.states} state keys were seen but never tried and count as ending the episode` : '';
+    const unexplored =
+      empirical.unexplored > 0
+        ? `; ${empirical.unexplored} of its ${empirical.states} state keys were seen but never tried and count as ending the episode`
+        : '';
     ctx.report({
       message:
         `${empirical.exploreCut ?? 'the exploration stopped'} before every state key was tried ${empirical.tries} times with every action ` +

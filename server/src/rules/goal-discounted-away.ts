@@ -47,7 +47,8 @@ steps ahead, 0.999 about 1000), or give intermediate rewards through potential-b
     const rewarding = new Uint8Array(model.stateCount);
     for (let k = 0; k < model.outcomeCount; k++) {
       const t = model.outcomeTarget[k];
-      if (model.terminal[t] === TERMINAL_CODE.goal && model.outcomeProb[k] > 0 && sign * reward[k] > 0) rewarding[t] = 1;
+      if (model.terminal[t] === TERMINAL_CODE.goal && model.outcomeProb[k] > 0 && sign * reward[k] > 0)
+        rewarding[t] = 1;
     }
     if (!rewarding.includes(1)) return;
     const layering = stepsTo(model, rewarding);

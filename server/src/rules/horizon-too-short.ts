@@ -50,7 +50,8 @@ leaves no slack for stochastic detours, so allow a margin.
       ctx.spec.horizon && /^\s*\d+\s*$/.test(ctx.text.slice(span.start, span.end))
         ? [{ title: `Raise the horizon to ${needed}`, edits: [{ span, newText: String(needed) }] }]
         : [];
-    const share = affected >= 1 - 1e-12 ? 'every episode' : `${formatProbability(affected)} of episodes (by start probability)`;
+    const share =
+      affected >= 1 - 1e-12 ? 'every episode' : `${formatProbability(affected)} of episodes (by start probability)`;
     ctx.report({
       message:
         `the horizon ${horizon} cuts ${share} before any goal can be reached: from '${stateName(model, worst)}' the nearest goal, ` +

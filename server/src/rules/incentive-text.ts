@@ -107,7 +107,12 @@ export function choiceSpan(spec: ParsedSpec, model: CompiledModel, choice: numbe
  * outcome of a choice is the k-th outcome of its transition when the counts agree; otherwise (a
  * declared part that lost a broken outcome) the first written outcome into the same state.
  */
-export function writtenOutcome(spec: ParsedSpec, model: CompiledModel, choice: number, outcome: number): SpecOutcome | undefined {
+export function writtenOutcome(
+  spec: ParsedSpec,
+  model: CompiledModel,
+  choice: number,
+  outcome: number,
+): SpecOutcome | undefined {
   const transition = spec.transitions[model.choiceTransition[choice]];
   if (!transition) return undefined;
   const index = outcome - model.outcomeStart[choice];
@@ -133,7 +138,11 @@ export function stateSpan(spec: ParsedSpec, model: CompiledModel, state: number)
 export function traceOfPath(spec: ParsedSpec, model: CompiledModel, steps: readonly PathStep[]): TraceStep[] {
   return steps.map((step) =>
     step.choice >= 0
-      ? { state: stateName(model, step.state), action: actionOf(model, step.choice), span: choiceSpan(spec, model, step.choice) }
+      ? {
+          state: stateName(model, step.state),
+          action: actionOf(model, step.choice),
+          span: choiceSpan(spec, model, step.choice),
+        }
       : { state: stateName(model, step.state), span: stateSpan(spec, model, step.state) },
   );
 }
@@ -171,7 +180,11 @@ export function relatedOfPath(
 export function midpoint(interval: { lower: number; upper: number }): number {
   if (interval.lower === interval.upper) return interval.lower;
   if (!Number.isFinite(interval.lower) || !Number.isFinite(interval.upper)) {
-    return interval.lower === -Infinity && interval.upper === Infinity ? NaN : Number.isFinite(interval.lower) ? interval.upper : interval.lower;
+    return interval.lower === -Infinity && interval.upper === Infinity
+      ? NaN
+      : Number.isFinite(interval.lower)
+        ? interval.upper
+        : interval.lower;
   }
   return (interval.lower + interval.upper) / 2;
 }
@@ -203,17 +216,25 @@ export interface RewardAmount {
  * each term's part, or the scalar reward when the model has no terms. Shaping from a potential is
  * not a written reward and is left out.
  */
-export function forEachRewardAmount(spec: ParsedSpec, model: CompiledModel, visit: (amount: RewardAmount) => void): void {
+export function forEachRewardAmount(
+  spec: ParsedSpec,
+  model: CompiledModel,
+  visit: (amount: RewardAmount) => void,
+): void {
   for (let c = 0; c < model.choiceCount; c++) {
     for (let k = model.outcomeStart[c]; k < model.outcomeStart[c + 1]; k++) {
       const written = writtenOutcome(spec, model, c, k);
       if (written) {
-        for (const part of written.reward) visit({ value: part.value, term: part.term, choice: c, outcome: k, span: part.span });
+        for (const part of written.reward)
+          visit({ value: part.value, term: part.term, choice: c, outcome: k, span: part.span });
         continue;
       }
       const span = choiceSpan(spec, model, c);
-      if (model.termNames.length === 0) visit({ value: model.outcomeReward[k], term: null, choice: c, outcome: k, span });
-      model.termNames.forEach((term, t) => visit({ value: model.outcomeTermReward[t][k], term, choice: c, outcome: k, span }));
+      if (model.termNames.length === 0)
+        visit({ value: model.outcomeReward[k], term: null, choice: c, outcome: k, span });
+      model.termNames.forEach((term, t) =>
+        visit({ value: model.outcomeTermReward[t][k], term, choice: c, outcome: k, span }),
+      );
     }
   }
 }

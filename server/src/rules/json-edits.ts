@@ -14,7 +14,9 @@ export function inlineJson(value: unknown): string {
   if (Array.isArray(value)) return `[${value.map(inlineJson).join(', ')}]`;
   if (value !== null && typeof value === 'object') {
     const entries = Object.entries(value);
-    return entries.length === 0 ? '{}' : `{ ${entries.map(([k, v]) => `${JSON.stringify(k)}: ${inlineJson(v)}`).join(', ')} }`;
+    return entries.length === 0
+      ? '{}'
+      : `{ ${entries.map(([k, v]) => `${JSON.stringify(k)}: ${inlineJson(v)}`).join(', ')} }`;
   }
   return JSON.stringify(value);
 }
@@ -33,7 +35,8 @@ export class JsonEditor {
     if (object?.type !== 'object') return undefined;
     const entry = `${JSON.stringify(key)}: ${inlineJson(value)}`;
     const properties = object.children ?? [];
-    if (properties.length === 0) return [{ span: { start: object.offset + 1, end: object.offset + 1 }, newText: ` ${entry} ` }];
+    if (properties.length === 0)
+      return [{ span: { start: object.offset + 1, end: object.offset + 1 }, newText: ` ${entry} ` }];
     const last = properties[properties.length - 1];
     const lastEnd = last.offset + last.length;
     if (this.lineStart(last.offset) === this.lineStart(object.offset)) {
@@ -49,7 +52,8 @@ export class JsonEditor {
     const object = this.nodeAt(path);
     if (object?.type !== 'object') return undefined;
     const existing = this.nodeAt([...path, key]);
-    if (existing && existing !== object) return [{ span: { start: existing.offset, end: existing.offset + existing.length }, newText: inlineJson(value) }];
+    if (existing && existing !== object)
+      return [{ span: { start: existing.offset, end: existing.offset + existing.length }, newText: inlineJson(value) }];
     return this.addProperty(path, key, value);
   }
 
@@ -58,7 +62,8 @@ export class JsonEditor {
     const list = this.nodeAt(path);
     if (list?.type !== 'array') return undefined;
     const items = list.children ?? [];
-    if (items.length === 0) return [{ span: { start: list.offset + 1, end: list.offset + 1 }, newText: inlineJson(value) }];
+    if (items.length === 0)
+      return [{ span: { start: list.offset + 1, end: list.offset + 1 }, newText: inlineJson(value) }];
     const last = items[items.length - 1];
     const end = last.offset + last.length;
     return [{ span: { start: end, end }, newText: `, ${inlineJson(value)}` }];
@@ -74,10 +79,12 @@ export class JsonEditor {
     const previous = items[index - 1];
     if (next) {
       const end = this.endOfItemSeparator(item);
-      if (end !== undefined && this.ownsLineStart(item)) return [{ span: { start: this.lineStart(item.offset), end }, newText: '' }];
+      if (end !== undefined && this.ownsLineStart(item))
+        return [{ span: { start: this.lineStart(item.offset), end }, newText: '' }];
       return [{ span: { start: item.offset, end: next.offset }, newText: '' }];
     }
-    if (previous) return [{ span: { start: previous.offset + previous.length, end: item.offset + item.length }, newText: '' }];
+    if (previous)
+      return [{ span: { start: previous.offset + previous.length, end: item.offset + item.length }, newText: '' }];
     return [{ span: { start: item.offset, end: item.offset + item.length }, newText: '' }];
   }
 

@@ -4,7 +4,16 @@ import { maximalEndComponents } from '../analysis/end-components';
 import { goalRouteOf } from '../analysis/goal-route';
 import { buildModelGraph } from '../analysis/graph';
 import type { PathStep } from '../analysis/paths';
-import { choiceSpan, describePath, formatAmount, formatSigned, ownerOfChoice, relatedOfPath, traceOfPath, valueAt } from './incentive-text';
+import {
+  choiceSpan,
+  describePath,
+  formatAmount,
+  formatSigned,
+  ownerOfChoice,
+  relatedOfPath,
+  traceOfPath,
+  valueAt,
+} from './incentive-text';
 import type { Rule } from './types';
 
 export const livingReward: Rule = {
@@ -66,7 +75,9 @@ reaching the goal; if the alive bonus is wanted, make the goal's reward larger t
       for (const c of bestChoice.values()) perStep = Math.min(perStep, guaranteed[c]);
       // The member from which a goal is likeliest; without one, the goal is not on offer here.
       let entry = -1;
-      for (const s of members) if (analysis.maxGoalReach[s] > 0 && (entry < 0 || analysis.maxGoalReach[s] > analysis.maxGoalReach[entry])) entry = s;
+      for (const s of members)
+        if (analysis.maxGoalReach[s] > 0 && (entry < 0 || analysis.maxGoalReach[s] > analysis.maxGoalReach[entry]))
+          entry = s;
       if (entry < 0) continue;
       const stay = perStep * length;
       route ??= goalRouteOf(model, analysis, ctx.config.precision) ?? undefined;
@@ -101,7 +112,13 @@ function discountedLength(model: CompiledModel): number {
 }
 
 /** A concrete loop inside the component from `entry`, along each state's best paying choice. */
-function loopInside(model: CompiledModel, entry: number, bestChoice: Map<number, number>, componentOf: Int32Array, component: number): PathStep[] {
+function loopInside(
+  model: CompiledModel,
+  entry: number,
+  bestChoice: Map<number, number>,
+  componentOf: Int32Array,
+  component: number,
+): PathStep[] {
   const steps: PathStep[] = [];
   const position = new Map<number, number>();
   let s = entry;

@@ -48,7 +48,11 @@ transitions (check that this is what you meant: it removes the choice from the a
       const has = defined.get(state.id);
       // A transition that could not be read is its schema finding; saying again that its pair
       // has no transition would bury the cause.
-      const missing = offered.filter((action) => !has?.has(action) && !unread.some((u) => (!u.from || u.from.includes(state.id)) && (!u.action || u.action.includes(action))));
+      const missing = offered.filter(
+        (action) =>
+          !has?.has(action) &&
+          !unread.some((u) => (!u.from || u.from.includes(state.id)) && (!u.action || u.action.includes(action))),
+      );
       if (missing.length === 0) return;
       const present = offered.filter((action) => !missing.includes(action));
       const them = missing.length === 1 ? 'it does' : 'they do';

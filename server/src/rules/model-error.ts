@@ -7,7 +7,9 @@ export function describeCall(problem: Pick<LocatedProblem, 'phase' | 'state' | '
   // Failures only the sandbox host saw (a kill, an abort) name the job, not a call.
   if (problem.phase === 'enumeration') return 'the model code, while enumerating its states,';
   if (problem.phase === 'rollouts') return 'the model code, during the rollouts,';
-  const args = [problem.state, problem.action === undefined ? undefined : JSON.stringify(problem.action)].filter((a) => a !== undefined);
+  const args = [problem.state, problem.action === undefined ? undefined : JSON.stringify(problem.action)].filter(
+    (a) => a !== undefined,
+  );
   const call = problem.phase === 'start' ? 'start(rng)' : `${problem.phase}(${args.join(', ')})`;
   const when = problem.episode !== undefined ? ` in rollout episode ${problem.episode}, step ${problem.step ?? 0}` : '';
   return `${call}${when}`;

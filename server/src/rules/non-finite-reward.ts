@@ -51,5 +51,7 @@ and \`failure-preferred\`.
 function describe(value: number, format: 'json' | 'ts'): string {
   if (Number.isNaN(value)) return 'NaN (not a number)';
   // In JSON the only way to write an infinite number is a literal beyond the float range.
-  return format === 'json' ? `${formatNumber(value)} (the number is too large for a 64-bit float)` : formatNumber(value);
+  return format === 'json'
+    ? `${formatNumber(value)} (the number is too large for a 64-bit float)`
+    : formatNumber(value);
 }

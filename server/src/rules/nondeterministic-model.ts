@@ -24,7 +24,10 @@ level that changes as the code runs; a state object changed in place and kept be
 `.trim(),
   check(ctx) {
     for (const site of ctx.spec.typescript?.nondeterminism ?? []) {
-      ctx.report({ message: `${site.message}; the results cannot be trusted until the model is deterministic`, span: site.span });
+      ctx.report({
+        message: `${site.message}; the results cannot be trusted until the model is deterministic`,
+        span: site.span,
+      });
     }
   },
 };

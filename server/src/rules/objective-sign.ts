@@ -1,6 +1,13 @@
 import { TERMINAL_CODE, stateName } from '../model/compiled';
 import { unshapedReward } from '../analysis/shaping';
-import { choiceOfOutcome, describeStep, formatAmount, formatSigned, outcomeSpan, ownerOfChoice } from './incentive-text';
+import {
+  choiceOfOutcome,
+  describeStep,
+  formatAmount,
+  formatSigned,
+  outcomeSpan,
+  ownerOfChoice,
+} from './incentive-text';
 import type { Rule } from './types';
 
 export const objectiveSign: Rule = {

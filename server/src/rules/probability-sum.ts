@@ -54,13 +54,26 @@ divides each probability by their sum, which keeps their ratios.
     for (const transition of writtenTransitions(spec)) {
       if (transition.incomplete || transition.outcomes.length === 0) continue;
       const probabilities = transition.outcomes.map((o) => ({ value: o.probability, span: o.probabilitySpan }));
-      checkDistribution(ctx, probabilities, transition.toSpan, () => `the outcome probabilities of ${transitionLabel(spec, transition)}`, 'of the episodes that take it have no defined next state', transition);
+      checkDistribution(
+        ctx,
+        probabilities,
+        transition.toSpan,
+        () => `the outcome probabilities of ${transitionLabel(spec, transition)}`,
+        'of the episodes that take it have no defined next state',
+        transition,
+      );
     }
     // The list form of `start` is uniform by construction; only a map can be off.
     const startMap = spec.start.filter((e) => e.probabilitySpan !== undefined);
     if (startMap.length > 0 && spec.startSpan) {
       const probabilities = startMap.map((e) => ({ value: e.probability, span: e.probabilitySpan! }));
-      checkDistribution(ctx, probabilities, spec.startSpan, 'the start probabilities', 'of the episodes have no start state');
+      checkDistribution(
+        ctx,
+        probabilities,
+        spec.startSpan,
+        'the start probabilities',
+        'of the episodes have no start state',
+      );
     }
   },
 };
@@ -92,5 +105,9 @@ function checkDistribution(
   }
   // Six digits would print a sum just off 1 as "1"; twelve always show a gap above the tolerance.
   const shownSum = formatNumber(sum) === '1' ? String(Number(sum.toPrecision(12))) : formatNumber(sum);
-  ctx.report({ message: `${typeof what === 'string' ? what : what()} add up to ${shownSum}, not 1: ${cost}`, span, fixes });
+  ctx.report({
+    message: `${typeof what === 'string' ? what : what()} add up to ${shownSum}, not 1: ${cost}`,
+    span,
+    fixes,
+  });
 }

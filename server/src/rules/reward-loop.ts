@@ -23,7 +23,7 @@ export const rewardLoop: Rule = {
     probabilityGap: {
       default: 0.2,
       description:
-        'How much lower than the best achievable goal probability the optimal policy\'s probability of ending ' +
+        "How much lower than the best achievable goal probability the optimal policy's probability of ending " +
         'the episode must be. 0.2 means at least one episode in five that could reach a goal circles instead: ' +
         'far more than stochastic slips in typical specs, so a finding is a change of behaviour, not noise. ' +
         'Lower it (for example to 0.05) for specs where rare loops matter.',
@@ -64,7 +64,8 @@ potential-based shaping (\`shaping.potential\`), or move the reward to entering 
     // The step that pays most is the likeliest culprit: the finding points at it.
     const sign = model.maximize ? 1 : -1;
     let culprit = loop.cycle[0];
-    for (const step of loop.cycle) if (sign * model.outcomeReward[step.outcome] > sign * model.outcomeReward[culprit.outcome]) culprit = step;
+    for (const step of loop.cycle)
+      if (sign * model.outcomeReward[step.outcome] > sign * model.outcomeReward[culprit.outcome]) culprit = step;
     const routeText = Number.isFinite(routeValue)
       ? `the most direct route to a goal ${model.maximize ? 'earns' : 'costs'} ${formatAmount(routeValue)} (goal reached with ${formatProbability(route!.evaluation.start.reach.optimal.goal)})`
       : 'no route to a goal has a finite return';

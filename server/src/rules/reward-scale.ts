@@ -73,15 +73,24 @@ orders of magnitude: a tiny term may be dead weight, and a huge one may dominate
       return `${step}${place.term !== null ? ` term ${quote(place.term)}` : ''}`;
     };
     const problems: string[] = [];
-    if (tooLarge) problems.push(`the ${unit} ${formatNumber(largest.value)} of ${where(largest)} exceeds ${formatNumber(maxMagnitude)} in magnitude`);
-    if (tooWide) problems.push(`${unit}s span a factor of ${formatNumber(ratio)} in magnitude, from ${formatNumber(smallest.value)} (${where(smallest)}) to ${formatNumber(largest.value)}, more than ${formatNumber(maxRatio)}`);
+    if (tooLarge)
+      problems.push(
+        `the ${unit} ${formatNumber(largest.value)} of ${where(largest)} exceeds ${formatNumber(maxMagnitude)} in magnitude`,
+      );
+    if (tooWide)
+      problems.push(
+        `${unit}s span a factor of ${formatNumber(ratio)} in magnitude, from ${formatNumber(smallest.value)} (${where(smallest)}) to ${formatNumber(largest.value)}, more than ${formatNumber(maxRatio)}`,
+      );
     const finding: FindingInput = {
       message:
         `${problems.join('; ')}: learners tuned to one scale treat the smallest ${unit}s as noise and large value targets destabilise training; ` +
         `dividing every ${unit} by the same positive factor keeps the optimal policy`,
       span: largest.span,
     };
-    if (tooWide) finding.related = [{ span: smallest.span, message: `the smallest non-zero ${unit}, ${formatNumber(smallest.value)}` }];
+    if (tooWide)
+      finding.related = [
+        { span: smallest.span, message: `the smallest non-zero ${unit}, ${formatNumber(smallest.value)}` },
+      ];
     ctx.report(finding);
   },
 };

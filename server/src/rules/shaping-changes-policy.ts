@@ -66,8 +66,13 @@ are cut, or accept that the shaped task is a different task.
         `${describe(first)}${elsewhere}${cost}`,
       span: choiceSpan(ctx.spec, model, first.shapedChoice),
       related: [
-        { span: choiceSpan(ctx.spec, model, first.plainChoice), message: `best without shaping: '${actionOf(model, first.plainChoice)}'` },
-        ...comparison.differences.slice(1).map((d) => ({ span: choiceSpan(ctx.spec, model, d.shapedChoice), message: describe(d) })),
+        {
+          span: choiceSpan(ctx.spec, model, first.plainChoice),
+          message: `best without shaping: '${actionOf(model, first.plainChoice)}'`,
+        },
+        ...comparison.differences
+          .slice(1)
+          .map((d) => ({ span: choiceSpan(ctx.spec, model, d.shapedChoice), message: describe(d) })),
         ...sources,
       ],
     });

@@ -69,7 +69,10 @@ function messageFor(model: CompiledModel, terms: string[], conflict: PotentialCo
   const more = inconsistent > 1 ? ` (${inconsistent} outcomes disagree with the potential the others imply)` : '';
   if (conflict.net !== undefined) {
     // The cycle in walking order: the first derivation, then the second one walked back.
-    const cycle = [...conflict.first.steps, ...[...conflict.second.steps].reverse().map((s) => ({ ...s, forward: !s.forward }))];
+    const cycle = [
+      ...conflict.first.steps,
+      ...[...conflict.second.steps].reverse().map((s) => ({ ...s, forward: !s.forward })),
+    ];
     const directed = cycle.every((s) => s.forward) || cycle.every((s) => !s.forward);
     const lap = directed
       ? `so a policy gains ${formatAmount(Math.abs(conflict.net))} per lap going ${conflict.net * (cycle[0].forward ? 1 : -1) > 0 ? 'this way round' : 'the other way round'}`
@@ -108,7 +111,10 @@ function stepText(model: CompiledModel, step: ShapingStep): string {
 /** Derivations run from the anchor to the state; read from the state outwards they follow the transitions. */
 function derivationText(model: CompiledModel, steps: readonly ShapingStep[]): string {
   if (steps.length === 0) return 'the anchor';
-  const shown = [...steps].reverse().slice(0, 8).map((s) => stepText(model, s));
+  const shown = [...steps]
+    .reverse()
+    .slice(0, 8)
+    .map((s) => stepText(model, s));
   if (steps.length > 8) shown.push(`and ${steps.length - 8} more`);
   return shown.join(', ');
 }
@@ -116,7 +122,9 @@ function derivationText(model: CompiledModel, steps: readonly ShapingStep[]): st
 /** Every outcome of both derivations once. */
 function allSteps(conflict: PotentialConflict): ShapingStep[] {
   const seen = new Set<number>();
-  return [...[...conflict.first.steps].reverse(), ...conflict.second.steps].filter((s) => !seen.has(s.outcome) && seen.add(s.outcome));
+  return [...[...conflict.first.steps].reverse(), ...conflict.second.steps].filter(
+    (s) => !seen.has(s.outcome) && seen.add(s.outcome),
+  );
 }
 
 /**
@@ -127,7 +135,10 @@ function allSteps(conflict: PotentialConflict): ShapingStep[] {
  * the transition on its own. Of the route and its reverse, the one with fewer breaks is shown.
  */
 function traceOf(spec: ParsedSpec, model: CompiledModel, conflict: PotentialConflict): TraceStep[] {
-  const route = conflict.net !== undefined ? [...conflict.first.steps, ...[...conflict.second.steps].reverse()] : [...conflict.second.steps].reverse();
+  const route =
+    conflict.net !== undefined
+      ? [...conflict.first.steps, ...[...conflict.second.steps].reverse()]
+      : [...conflict.second.steps].reverse();
   const reversed = [...route].reverse();
   const steps = breaksOf(reversed) < breaksOf(route) ? reversed : route;
   const trace: TraceStep[] = [];
@@ -135,7 +146,11 @@ function traceOf(spec: ParsedSpec, model: CompiledModel, conflict: PotentialConf
   let at: number | undefined;
   for (const step of steps) {
     if (at !== undefined && at !== step.from) standAt(at);
-    trace.push({ state: stateName(model, step.from), action: actionOf(model, step.choice), span: outcomeSpan(spec, model, step.choice, step.outcome) });
+    trace.push({
+      state: stateName(model, step.from),
+      action: actionOf(model, step.choice),
+      span: outcomeSpan(spec, model, step.choice, step.outcome),
+    });
     at = step.to;
   }
   if (at !== undefined) standAt(at);

@@ -97,9 +97,16 @@ export function malformedCost(spec: ParsedSpec, transition: SpecTransition, when
 }
 
 /** Each written outcome once with the first transition that has it, and each written reward part once: per spec, as many rules walk them. */
-const writtenCache = new WeakMap<ParsedSpec, { outcomes: SpecOutcome[]; transitions: SpecTransition[]; parts?: Array<{ part: RewardPart; at: number }> }>();
+const writtenCache = new WeakMap<
+  ParsedSpec,
+  { outcomes: SpecOutcome[]; transitions: SpecTransition[]; parts?: Array<{ part: RewardPart; at: number }> }
+>();
 
-function writtenOutcomes(spec: ParsedSpec): { outcomes: SpecOutcome[]; transitions: SpecTransition[]; parts?: Array<{ part: RewardPart; at: number }> } {
+function writtenOutcomes(spec: ParsedSpec): {
+  outcomes: SpecOutcome[];
+  transitions: SpecTransition[];
+  parts?: Array<{ part: RewardPart; at: number }>;
+} {
   let written = writtenCache.get(spec);
   if (!written) {
     const seen = new Set<SpecOutcome>();
@@ -118,7 +125,10 @@ function writtenOutcomes(spec: ParsedSpec): { outcomes: SpecOutcome[]; transitio
 }
 
 /** Visits each written outcome once, with the first transition that has it. */
-export function forEachOutcome(spec: ParsedSpec, visit: (outcome: SpecOutcome, transition: SpecTransition) => void): void {
+export function forEachOutcome(
+  spec: ParsedSpec,
+  visit: (outcome: SpecOutcome, transition: SpecTransition) => void,
+): void {
   const { outcomes, transitions } = writtenOutcomes(spec);
   for (let i = 0; i < outcomes.length; i++) visit(outcomes[i], transitions[i]);
 }
@@ -127,7 +137,10 @@ export function forEachOutcome(spec: ParsedSpec, visit: (outcome: SpecOutcome, t
 const SPAN_KEY = 2 ** 25;
 
 /** Visits each written reward value once (a transition's reward is shared by its outcomes). */
-export function forEachRewardPart(spec: ParsedSpec, visit: (part: RewardPart, outcome: SpecOutcome, transition: SpecTransition) => void): void {
+export function forEachRewardPart(
+  spec: ParsedSpec,
+  visit: (part: RewardPart, outcome: SpecOutcome, transition: SpecTransition) => void,
+): void {
   const written = writtenOutcomes(spec);
   if (!written.parts) {
     const seen = new Set<number | string>();
@@ -160,7 +173,10 @@ export function renameFix(text: string, span: Span, replacement: string): Fix | 
 }
 
 /** Visits each declared non-terminal state once, with its action set (undefined when it has none). */
-export function forEachNonTerminalState(spec: ParsedSpec, visit: (state: SpecState, offered: readonly string[] | undefined) => void): void {
+export function forEachNonTerminalState(
+  spec: ParsedSpec,
+  visit: (state: SpecState, offered: readonly string[] | undefined) => void,
+): void {
   const seen = new Set<string>();
   for (const state of spec.states) {
     // A state with a misspelt terminal kind was meant to be terminal; its schema finding says why.

@@ -49,16 +49,28 @@ is allowed for both directions.
           const key = `${name}@${span.start}:${span.end}`;
           const known = places.get(key);
           if (known) known.count += part ? 0 : 1;
-          else places.set(key, { span, term, value: part?.value ?? value, where: describeStep(model, c, part ? -1 : k), count: 1 });
+          else
+            places.set(key, {
+              span,
+              term,
+              value: part?.value ?? value,
+              where: describeStep(model, c, part ? -1 : k),
+              count: 1,
+            });
         }
       }
     });
     for (const place of places.values()) {
-      const more = place.count > 1 ? ` (and in ${place.count - 1} more outcome${place.count > 2 ? 's' : ''} from the same code)` : '';
+      const more =
+        place.count > 1
+          ? ` (and in ${place.count - 1} more outcome${place.count > 2 ? 's' : ''} from the same code)`
+          : '';
       ctx.report({
         message: messageFor(place.term, place.value, maximize, place.where) + more,
         span: place.span,
-        related: [{ span: place.term.span, message: `'${place.term.name}' is declared a ${place.term.direction} here` }],
+        related: [
+          { span: place.term.span, message: `'${place.term.name}' is declared a ${place.term.direction} here` },
+        ],
       });
     }
   },

@@ -40,8 +40,12 @@ The analysis ignores the transition; the finding is marked as unnecessary code s
       if (terminalPairs.length === 0) continue;
       const states = [...new Set(terminalPairs.map((t) => t.from))];
       const kinds = states.map((id) => `${quote(id)} is a ${terminals.get(id)!.terminal} terminal`).join(', ');
-      const cost = 'entering a terminal ends the episode, so this transition is never taken and its outcomes and rewards count for nothing';
-      const related = states.map((id) => ({ span: terminals.get(id)!.terminalSpan ?? terminals.get(id)!.span, message: `${quote(id)} is declared terminal here` }));
+      const cost =
+        'entering a terminal ends the episode, so this transition is never taken and its outcomes and rewards count for nothing';
+      const related = states.map((id) => ({
+        span: terminals.get(id)!.terminalSpan ?? terminals.get(id)!.span,
+        message: `${quote(id)} is declared terminal here`,
+      }));
       if (terminalPairs.length === pairs.length) {
         const fixes: Fix[] = [];
         const edits = editor?.removeArrayItem(['transitions'], written.sourceIndex);
@@ -59,7 +63,9 @@ The analysis ignores the transition; the finding is marked as unnecessary code s
           message: `${quote(state.id)} is a ${state.terminal} terminal: entering it ends the episode, so transitions[${written.sourceIndex}] is never taken from it (it still applies to ${listNames([...new Set(pairs.filter((t) => !terminals.has(t.from)).map((t) => t.from))])})`,
           span: pair.fromSpan,
           tags: ['unnecessary'],
-          related: [{ span: state.terminalSpan ?? state.span, message: `${quote(state.id)} is declared terminal here` }],
+          related: [
+            { span: state.terminalSpan ?? state.span, message: `${quote(state.id)} is declared terminal here` },
+          ],
         });
       }
     }

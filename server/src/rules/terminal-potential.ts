@@ -41,7 +41,9 @@ terminal, write it as a reward on the transitions that enter it, where it is vis
           `every entry into it gets ${formatSigned(gain)} (discount * Phi) from the shaping that no later step takes back, ` +
           `so the shaping ${gain > 0 ? 'rewards' : 'penalises'} ending there and can change which policy is optimal`,
         span: entry.span,
-        related: state.terminalSpan ? [{ span: state.terminalSpan, message: `'${entry.state}' is declared terminal here` }] : [],
+        related: state.terminalSpan
+          ? [{ span: state.terminalSpan, message: `'${entry.state}' is declared terminal here` }]
+          : [],
         fixes: entry.valueSpan
           ? [{ title: `Set the potential of '${entry.state}' to 0`, edits: [{ span: entry.valueSpan, newText: '0' }] }]
           : [],

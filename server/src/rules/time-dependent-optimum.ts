@@ -71,8 +71,13 @@ that the analysis matches the stationary problem.
       trace: traceOfPath(ctx.spec, model, flip.path),
       related: [
         { span: choiceSpan(ctx.spec, model, flip.earlierChoice), message: `'${keep}': best with ${range}` },
-        { span: choiceSpan(ctx.spec, model, flip.bestChoice), message: `'${now}': best with ${stepsLeft(flip.stepsLeft)}` },
-        ...(ctx.spec.horizon ? [{ span: ctx.spec.horizon.span, message: `the horizon, ${solution.horizon} steps` }] : []),
+        {
+          span: choiceSpan(ctx.spec, model, flip.bestChoice),
+          message: `'${now}': best with ${stepsLeft(flip.stepsLeft)}`,
+        },
+        ...(ctx.spec.horizon
+          ? [{ span: ctx.spec.horizon.span, message: `the horizon, ${solution.horizon} steps` }]
+          : []),
       ],
     });
   },

@@ -57,12 +57,18 @@ deserves its own check, not a rounding-level probability).
           known.count += written ? 0 : 1;
           continue;
         }
-        const what = written && transition ? `${quote(written.state)} after ${transitionLabel(spec, transition)}` : `${describeStep(model, c, k)}`;
+        const what =
+          written && transition
+            ? `${quote(written.state)} after ${transitionLabel(spec, transition)}`
+            : `${describeStep(model, c, k)}`;
         places.set(key, { span, probability: written?.probability ?? p, what, count: 1 });
       }
     }
     for (const place of places.values()) {
-      const more = place.count > 1 ? ` (and ${place.count - 1} more such outcome${place.count > 2 ? 's' : ''} from the same code)` : '';
+      const more =
+        place.count > 1
+          ? ` (and ${place.count - 1} more such outcome${place.count > 2 ? 's' : ''} from the same code)`
+          : '';
       ctx.report({
         message:
           `the probability ${formatNumber(place.probability)} of ${place.what} is below ${formatNumber(minimum)}${more}: ` +

@@ -4,7 +4,15 @@ import { canReach, reachableFromStart } from '../analysis/reachability';
 import type { Analysis } from '../analysis/types';
 import { stateName, type CompiledModel } from '../model/compiled';
 import { listNames, quote } from '../load/names';
-import { describePath, formatAmount, formatProbability, formatSigned, incompleteNote, stateSpan, traceOfPath } from './incentive-text';
+import {
+  describePath,
+  formatAmount,
+  formatProbability,
+  formatSigned,
+  incompleteNote,
+  stateSpan,
+  traceOfPath,
+} from './incentive-text';
 import type { RelatedLocation, Rule } from './types';
 
 /** A reachable region of an episodic spec that no policy can leave and that reaches no terminal. */
@@ -116,7 +124,13 @@ function regionsOf(model: CompiledModel, marked: Uint8Array): number[][] {
 }
 
 /** What the trap costs in return terms: what a step inside pays, its value, and how often the random policy falls in. */
-function costOf(model: CompiledModel, analysis: Analysis | undefined, reward: Float64Array, region: number[], entry: number): string {
+function costOf(
+  model: CompiledModel,
+  analysis: Analysis | undefined,
+  reward: Float64Array,
+  region: number[],
+  entry: number,
+): string {
   let low = Infinity;
   let high = -Infinity;
   for (const s of region) {
@@ -127,12 +141,18 @@ function costOf(model: CompiledModel, analysis: Analysis | undefined, reward: Fl
   }
   const parts: string[] = [];
   if (low === 0 && high === 0) parts.push('nothing is earned or lost in there');
-  else parts.push(`each step inside pays ${low === high ? formatSigned(low) : `${formatSigned(low)} to ${formatSigned(high)}`}`);
+  else
+    parts.push(
+      `each step inside pays ${low === high ? formatSigned(low) : `${formatSigned(low)} to ${formatSigned(high)}`}`,
+    );
   if (analysis) {
-    parts.push(`V* at ${quote(stateName(model, entry))} is ${formatInterval(analysis.optimal.values.lower[entry], analysis.optimal.values.upper[entry])}`);
+    parts.push(
+      `V* at ${quote(stateName(model, entry))} is ${formatInterval(analysis.optimal.values.lower[entry], analysis.optimal.values.upper[entry])}`,
+    );
     if (model.horizon === undefined) {
       const fallIn = analysis.start.reach.random.none;
-      if (fallIn > 0) parts.push(`the uniformly random policy never ends an episode with probability ${formatProbability(fallIn)}`);
+      if (fallIn > 0)
+        parts.push(`the uniformly random policy never ends an episode with probability ${formatProbability(fallIn)}`);
     }
   }
   return parts.join(', ');

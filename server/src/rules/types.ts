@@ -4,7 +4,6 @@ import type { ResolvedConfig } from '../config';
 import type { CompiledModel } from '../model/compiled';
 import type { ParsedSpec } from '../load/types';
 
-
 // Finding and its kin live in findings.ts; re-exported here for the rules.
 export { SEVERITY_ORDER, severityCount } from '../findings';
 export type { Finding, FindingInput, Fix, RelatedLocation, Severity, TextEdit, TraceStep } from '../findings';

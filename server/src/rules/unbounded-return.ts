@@ -63,11 +63,17 @@ completes the task), set a discount below 1, or set a \`horizon\`.
       const steps = loop.slice(0, -1);
       let perRound = 0;
       for (const step of steps) perRound += reward[step.choice];
-      const shown = steps.map((step) => `${quote(stateName(model, step.state))} --${model.actionNames[model.choiceAction[step.choice]]}-->`).join(' ');
+      const shown = steps
+        .map(
+          (step) => `${quote(stateName(model, step.state))} --${model.actionNames[model.choiceAction[step.choice]]}-->`,
+        )
+        .join(' ');
       const round = `${shown} ${quote(stateName(model, loop[loop.length - 1].state))}`;
       const length = `${steps.length} step${steps.length === 1 ? '' : 's'}`;
       const pays = model.maximize ? 'earns' : 'costs';
-      const stochastic = steps.some((step) => model.outcomeStart[step.choice + 1] - model.outcomeStart[step.choice] > 1);
+      const stochastic = steps.some(
+        (step) => model.outcomeStart[step.choice + 1] - model.outcomeStart[step.choice] > 1,
+      );
       const earning =
         Math.sign(perRound) === favourable
           ? `${pays} ${formatSigned(perRound)} per round (${length}${stochastic ? ', on average' : ''})`
@@ -87,7 +93,10 @@ completes the task), set a discount below 1, or set a \`horizon\`.
         message:
           `the optimal return is unbounded (discount 1, no horizon): the loop ${round} ${earning} and a policy can repeat it forever, ${atStart}; ` +
           `make a round cost something, end the episode on the loop, lower the discount or set a horizon`,
-        span: first.choice >= 0 ? outcomeSpan(ctx.spec, model, first.choice, first.outcome) : stateSpan(ctx.spec, model, entry),
+        span:
+          first.choice >= 0
+            ? outcomeSpan(ctx.spec, model, first.choice, first.outcome)
+            : stateSpan(ctx.spec, model, entry),
         trace: traceOfPath(ctx.spec, model, [...route.slice(0, -1), ...found.walk]),
         related,
       });

@@ -63,7 +63,10 @@ where they apply.
       const suggestion = closestName(action, offered);
       const offeredByAll = suggestion !== undefined && states.every((s) => actionSetOf(spec, s)?.includes(suggestion));
       const advice = offeredByAll ? ` (did you mean ${quote(suggestion)}?)` : '';
-      const whose = states.length === 1 ? `${quote(first.id)} (it offers ${listNames(offered)})` : listNames(states.map((s) => s.id));
+      const whose =
+        states.length === 1
+          ? `${quote(first.id)} (it offers ${listNames(offered)})`
+          : listNames(states.map((s) => s.id));
       const message =
         `${quote(action)} is not an action of ${whose}${advice}: no policy can take it there, so transitions[${transition.sourceIndex}] is never used ` +
         'and the spec is not compiled until the action is offered or renamed';
@@ -79,7 +82,9 @@ where they apply.
       ctx.report({
         message,
         span: transition.actionSpan,
-        related: first.actionsSpan ? [{ span: first.actionsSpan, message: `the action set of ${quote(first.id)}` }] : undefined,
+        related: first.actionsSpan
+          ? [{ span: first.actionsSpan, message: `the action set of ${quote(first.id)}` }]
+          : undefined,
         fixes,
       });
     }

@@ -43,7 +43,12 @@ looks like a typo of one) or declare the state. Both are offered as quick fixes.
     const editor = jsonEditorFor(ctx);
     // `where` and `cost` may be functions: a spec's outcomes are many and nearly all declared, so
     // their messages are only built for the names that are reported.
-    const flag = (name: string, span: Span, whereText: string | (() => string), costText: string | (() => string)): void => {
+    const flag = (
+      name: string,
+      span: Span,
+      whereText: string | (() => string),
+      costText: string | (() => string),
+    ): void => {
       if (declared.has(name) || reported.has(span.start)) return;
       reported.add(span.start);
       const where = typeof whereText === 'string' ? whereText : whereText();
@@ -57,26 +62,47 @@ looks like a typo of one) or declare the state. Both are offered as quick fixes.
       });
     };
     for (const transition of spec.transitions) {
-      flag(transition.from, transition.fromSpan, `transitions[${transition.sourceIndex}] leaves`, 'the transition belongs to no state, so the MDP is undefined and no values are computed');
+      flag(
+        transition.from,
+        transition.fromSpan,
+        `transitions[${transition.sourceIndex}] leaves`,
+        'the transition belongs to no state, so the MDP is undefined and no values are computed',
+      );
     }
     forEachOutcome(spec, (outcome, transition) => {
       flag(
         outcome.state,
         outcome.stateSpan,
         () => `${transitionLabel(spec, transition)} leads to`,
-        () => malformedCost(spec, transition, 'episodes that take it have no next state, so the MDP is undefined and no values are computed'),
+        () =>
+          malformedCost(
+            spec,
+            transition,
+            'episodes that take it have no next state, so the MDP is undefined and no values are computed',
+          ),
       );
     });
     for (const entry of spec.start) {
       flag(entry.state, entry.span, 'the start names', 'episodes may begin nowhere, so no values are computed');
     }
     for (const entry of spec.potential) {
-      flag(entry.state, entry.span, 'shaping.potential names', 'the potential belongs to no state (a typo here silently changes the shaping), so the spec is not compiled');
+      flag(
+        entry.state,
+        entry.span,
+        'shaping.potential names',
+        'the potential belongs to no state (a typo here silently changes the shaping), so the spec is not compiled',
+      );
     }
   },
 };
 
-function fixesFor(text: string, editor: JsonEditor | undefined, name: string, span: Span, suggestion: string | undefined): Fix[] {
+function fixesFor(
+  text: string,
+  editor: JsonEditor | undefined,
+  name: string,
+  span: Span,
+  suggestion: string | undefined,
+): Fix[] {
   const fixes: Fix[] = [];
   const rename = suggestion ? renameFix(text, span, suggestion) : undefined;
   if (rename) fixes.push(rename);

@@ -42,7 +42,8 @@ it is obsolete.
     const reachable = ctx.analysis?.reachable ?? reachableFromStart(model);
     const graph = graphOf(model);
     const kindReachable = new Set<string>();
-    for (let s = 0; s < model.stateCount; s++) if (reachable[s] && model.terminal[s] !== 0) kindReachable.add(TERMINAL_OF_CODE[model.terminal[s]]!);
+    for (let s = 0; s < model.stateCount; s++)
+      if (reachable[s] && model.terminal[s] !== 0) kindReachable.add(TERMINAL_OF_CODE[model.terminal[s]]!);
 
     for (let s = 0; s < model.stateCount; s++) {
       if (reachable[s] || model.terminal[s] === 0) continue;
@@ -58,7 +59,10 @@ it is obsolete.
           low = Math.min(low, model.outcomeReward[k]);
           high = Math.max(high, model.outcomeReward[k]);
           if (related.length < 10) {
-            related.push({ span: outcomeSpan(ctx.spec, model, c, k), message: `${describeStep(model, c, k)} leads here but is itself never reached` });
+            related.push({
+              span: outcomeSpan(ctx.spec, model, c, k),
+              message: `${describeStep(model, c, k)} leads here but is itself never reached`,
+            });
           }
         }
       }

@@ -49,7 +49,8 @@ Keep time in the state (a step counter) instead of reading the clock.
       reported.add(`${site.api}@${lineOf(site.span.start)}`);
     }
     for (const site of evidence.runtimeRandomness) {
-      if (evidence.staticRandomness.some((s) => s.api === site.api && lineOf(s.span.start) === lineOf(site.span.start))) continue;
+      if (evidence.staticRandomness.some((s) => s.api === site.api && lineOf(s.span.start) === lineOf(site.span.start)))
+        continue;
       if (reported.has(`${site.api}@${lineOf(site.span.start)}`)) continue;
       const where = site.elsewhere ? ` (first call at ${site.elsewhere})` : '';
       ctx.report({

@@ -4,7 +4,13 @@
  * same exact analysis and rules as a JSON spec; a sampled model gets seeded rollouts. Never throws.
  */
 import { isAbsolute, relative, resolve } from 'node:path';
-import { effectiveStepCap, END_NONE, summarizeEpisodes, type EpisodeRecords, type RolloutReport } from '../analysis/rollouts';
+import {
+  effectiveStepCap,
+  END_NONE,
+  summarizeEpisodes,
+  type EpisodeRecords,
+  type RolloutReport,
+} from '../analysis/rollouts';
 import { DEFAULT_CONFIG, ruleThreshold, type ResolvedConfig } from '../config';
 import type { Finding } from '../findings';
 import type { AnalyzeOptions, LoadedSpec } from '../report';
@@ -40,7 +46,11 @@ const REPLAYED_EPISODES = 16;
  * code in the sandbox. The result holds the enumerated model (or why there is none) and the
  * rollouts; analyze.ts continues from there. Never throws.
  */
-export async function loadTypeScriptSpec(path: string, text: string, options: AnalyzeOptions = {}): Promise<LoadedSpec> {
+export async function loadTypeScriptSpec(
+  path: string,
+  text: string,
+  options: AnalyzeOptions = {},
+): Promise<LoadedSpec> {
   const config = options.config ?? DEFAULT_CONFIG;
   const reading = readTypeScriptSpec(text);
   const evidence = reading.spec.typescript!;
@@ -53,10 +63,13 @@ export async function loadTypeScriptSpec(path: string, text: string, options: An
     evidence.notExecuted = 'the model code was not run because the spec could not be read';
     enumerated = { reason: reading.internalError };
   } else if (options.exec === false) {
-    evidence.notExecuted = 'the model code was not run (static checks only: --no-exec, or a workspace that is not trusted)';
+    evidence.notExecuted =
+      'the model code was not run (static checks only: --no-exec, or a workspace that is not trusted)';
     enumerated = { reason: evidence.notExecuted };
   } else if (!reading.found || reading.syntaxErrors) {
-    evidence.notExecuted = reading.syntaxErrors ? 'the model code was not run because it has syntax errors' : 'the model code was not run because the spec could not be read';
+    evidence.notExecuted = reading.syntaxErrors
+      ? 'the model code was not run because it has syntax errors'
+      : 'the model code was not run because the spec could not be read';
     enumerated = { reason: evidence.notExecuted };
   } else {
     try {
@@ -71,7 +84,16 @@ export async function loadTypeScriptSpec(path: string, text: string, options: An
       internalErrors.push(reason);
     }
   }
-  return { spec: reading.spec, findings, enumerated, rollouts, empirical, internalErrors, cancelled: options.isCancelled?.() === true, modelOutput: sandboxOutput.get(findings) };
+  return {
+    spec: reading.spec,
+    findings,
+    enumerated,
+    rollouts,
+    empirical,
+    internalErrors,
+    cancelled: options.isCancelled?.() === true,
+    modelOutput: sandboxOutput.get(findings),
+  };
 }
 
 interface RunResult {
@@ -84,10 +106,20 @@ interface RunResult {
 const sandboxOutput = new WeakMap<Finding[], string>();
 
 /** Records what model code printed, and says where the boundary is weaker than documented on this machine. */
-function recordSandbox(findings: Finding[], spec: ParsedSpec, output: string | undefined, notices: readonly string[]): void {
+function recordSandbox(
+  findings: Finding[],
+  spec: ParsedSpec,
+  output: string | undefined,
+  notices: readonly string[],
+): void {
   if (output) sandboxOutput.set(findings, output);
   for (const notice of notices) {
-    findings.push({ rule: 'model-error', severity: 'warning', message: `sandbox weaker than usual: ${notice}`, span: spec.rootSpan });
+    findings.push({
+      rule: 'model-error',
+      severity: 'warning',
+      message: `sandbox weaker than usual: ${notice}`,
+      span: spec.rootSpan,
+    });
   }
 }
 
@@ -128,18 +160,24 @@ async function runModel(
         evidence.modelErrors.push({
           kind: 'malformed',
           phase: 'load',
-          message: 'the default export needs an actions(state) function and outcomes(state, action) or sample(state, action, rng)',
+          message:
+            'the default export needs an actions(state) function and outcomes(state, action) or sample(state, action, rng)',
           span: spec.rootSpan,
         });
       }
       return { prebuilt: { reason: 'the spec does not define its dynamics' } };
     }
-    if (spec.discount === undefined || fieldProblems.length > 0) return { prebuilt: { reason: 'the spec has no valid discount' } };
+    if (spec.discount === undefined || fieldProblems.length > 0)
+      return { prebuilt: { reason: 'the spec has no valid discount' } };
     const declaredTerms = spec.rewardTerms.map((t) => t.name);
     if (members.outcomes === 'function') {
       evidence.form = 'enumerable';
       const began = Date.now();
-      const enumerated = await sandbox.enumerate({ stateCap: config.stateCap, declaredTerms, recheckChoices: RECHECKED_STATES });
+      const enumerated = await sandbox.enumerate({
+        stateCap: config.stateCap,
+        declaredTerms,
+        recheckChoices: RECHECKED_STATES,
+      });
       addRandomness(evidence, enumerated.randomness, place);
       if (enumerated.failure) {
         place.failure(evidence, enumerated.failure);
@@ -160,7 +198,8 @@ async function runModel(
       if (result.problem) {
         place.failure(evidence, sandbox.locate(result.problem), findings);
         const kind = result.problem.kind;
-        const rule = kind === 'dead-end' || kind === 'probability-sum' || kind === 'non-finite-reward' ? kind : 'model-error';
+        const rule =
+          kind === 'dead-end' || kind === 'probability-sum' || kind === 'non-finite-reward' ? kind : 'model-error';
         return { prebuilt: { reason: `the model code describes no well-defined MDP (see ${rule})` } };
       }
       for (const site of result.nondeterminism) {
@@ -170,9 +209,14 @@ async function runModel(
           span: place.memberName(site.phase),
         });
       }
-      if (evidence.nondeterminism.length > 0) return { prebuilt: { reason: 'the model is not deterministic (see nondeterministic-model)' } };
+      if (evidence.nondeterminism.length > 0)
+        return { prebuilt: { reason: 'the model is not deterministic (see nondeterministic-model)' } };
       if (spec.start.length === 0) {
-        spec.start = Array.from(result.startStates, (s, i) => ({ state: result.stateKeys[s], probability: result.startProbs[i], span: place.memberName('start') }));
+        spec.start = Array.from(result.startStates, (s, i) => ({
+          state: result.stateKeys[s],
+          probability: result.startProbs[i],
+          span: place.memberName('start'),
+        }));
       }
       if (!result.capped) return { prebuilt: { model: compiledFromEnumeration(result, spec, evidence, producer) } };
       // Past the cap: estimate by sampling the listed outcomes.
@@ -182,7 +226,9 @@ async function runModel(
     helpers = await startHelpers(sandbox, config.jobs - 1, evidence, place);
     // With a second child, training runs there beside the random rollouts; the others roll out.
     const trainer = config.learning.method !== 'off' ? helpers[0] : undefined;
-    const training = trainer?.train(learnOptions(spec, config, declaredTerms, config.rollouts > 0 ? config.rollouts : DEFAULT_SAMPLED_ROLLOUTS));
+    const training = trainer?.train(
+      learnOptions(spec, config, declaredTerms, config.rollouts > 0 ? config.rollouts : DEFAULT_SAMPLED_ROLLOUTS),
+    );
     const rollers = [sandbox, ...helpers.filter((helper) => helper !== trainer)];
     const sampled = await sampleByRollouts(rollers, spec, config, declaredTerms, evidence, place, findings);
     const stats = sampled.stats;
@@ -194,17 +240,49 @@ async function runModel(
       !findings.some((f) => f.rule === 'non-finite-reward') &&
       !evidence.modelErrors.some((p) => p.phase === 'stateKey');
     if (rollouts && config.learning.method !== 'off' && clean && !isCancelled()) {
-      if (trainer && training) await learnInParts(trainer, training, rollers, spec, config, declaredTerms, stats!.episodes, evidence, place, findings, rollouts);
-      else await learnFromSamples(sandbox, spec, config, declaredTerms, stats!.episodes, evidence, place, findings, rollouts);
+      if (trainer && training)
+        await learnInParts(
+          trainer,
+          training,
+          rollers,
+          spec,
+          config,
+          declaredTerms,
+          stats!.episodes,
+          evidence,
+          place,
+          findings,
+          rollouts,
+        );
+      else
+        await learnFromSamples(
+          sandbox,
+          spec,
+          config,
+          declaredTerms,
+          stats!.episodes,
+          evidence,
+          place,
+          findings,
+          rollouts,
+        );
     }
     return {
-      prebuilt: { reason: evidence.form === 'sampled' ? 'a sampled model has no exact values; see the rollout estimates' : 'enumeration stopped at the state cap; see the rollout estimates' },
+      prebuilt: {
+        reason:
+          evidence.form === 'sampled'
+            ? 'a sampled model has no exact values; see the rollout estimates'
+            : 'enumeration stopped at the state cap; see the rollout estimates',
+      },
       rollouts,
       empirical: sampled.empirical,
     };
   } finally {
     // What model code printed, child by child (the first child's first): each child printed only during its own jobs.
-    const output = [sandbox, ...helpers].map((child) => child.output()).filter((text) => text !== '').join('\n');
+    const output = [sandbox, ...helpers]
+      .map((child) => child.output())
+      .filter((text) => text !== '')
+      .join('\n');
     if (output) sandboxOutput.set(findings, output);
     // A helper still busy (training that is no longer wanted) is killed; the others wait warm.
     for (const helper of helpers) await helper.close();
@@ -223,7 +301,13 @@ async function sampleByRollouts(
 ) {
   const episodes = config.rollouts > 0 ? config.rollouts : DEFAULT_SAMPLED_ROLLOUTS;
   const stepCap = ruleThreshold(config, episodeNeverEnds, 'stepCap');
-  const common = { seed: config.seed, discount: spec.discount!.value, horizon: spec.horizon?.value, stepCap, declaredTerms };
+  const common = {
+    seed: config.seed,
+    discount: spec.discount!.value,
+    horizon: spec.horizon?.value,
+    stepCap,
+    declaredTerms,
+  };
   // Only a black box gets an empirical model: an enumerable one past the state cap has too many keys anyway.
   const record: RecordOptions | undefined =
     evidence.form === 'sampled'
@@ -235,7 +319,10 @@ async function sampleByRollouts(
         }
       : undefined;
   const sandbox = rollers[0];
-  const ran = rollers.length > 1 ? await rolloutsInParts(rollers, common, episodes, record, evidence, place) : await sandbox.rollouts({ ...common, episodes, fingerprintEpisodes: REPLAYED_EPISODES, record });
+  const ran =
+    rollers.length > 1
+      ? await rolloutsInParts(rollers, common, episodes, record, evidence, place)
+      : await sandbox.rollouts({ ...common, episodes, fingerprintEpisodes: REPLAYED_EPISODES, record });
   addRandomness(evidence, ran.randomness, place);
   if (ran.failure) {
     place.failure(evidence, ran.failure);
@@ -251,7 +338,11 @@ async function sampleByRollouts(
     const problem = place.problem({ ...run.firstNonFinite, location: undefined });
     findings.push(nonFiniteFinding(problem, run.nonFiniteEpisodes, episodes));
   }
-  const replay = await sandbox.rollouts({ ...common, episodes: Math.min(REPLAYED_EPISODES, episodes), fingerprintEpisodes: REPLAYED_EPISODES });
+  const replay = await sandbox.rollouts({
+    ...common,
+    episodes: Math.min(REPLAYED_EPISODES, episodes),
+    fingerprintEpisodes: REPLAYED_EPISODES,
+  });
   addRandomness(evidence, replay.randomness, place);
   const again = replay.value?.fingerprints ?? [];
   const differs = again.findIndex((hash, i) => hash !== run.fingerprints[i]);
@@ -262,7 +353,11 @@ async function sampleByRollouts(
     });
   }
   const finite = onlyFinite(run.records);
-  const stats = summarizeEpisodes(finite, { policy: 'random', seed: config.seed, stepCap: effectiveStepCap(common.discount, stepCap) });
+  const stats = summarizeEpisodes(finite, {
+    policy: 'random',
+    seed: config.seed,
+    stepCap: effectiveStepCap(common.discount, stepCap),
+  });
   evidence.rollouts = stats;
   return { stats, empirical };
 }
@@ -271,7 +366,12 @@ async function sampleByRollouts(
  * Starts `count` more children for the same bundle (--jobs N), each loaded like the first. A child
  * that does not start is left out: fewer children change the time, never a figure.
  */
-async function startHelpers(sandbox: ModelSandbox, count: number, evidence: TypeScriptEvidence, place: Placer): Promise<ModelSandbox[]> {
+async function startHelpers(
+  sandbox: ModelSandbox,
+  count: number,
+  evidence: TypeScriptEvidence,
+  place: Placer,
+): Promise<ModelSandbox[]> {
   if (count <= 0) return [];
   ModelSandbox.keepWarm(count + 1);
   const started = await Promise.all(Array.from({ length: count }, () => sandbox.sibling()));
@@ -322,7 +422,10 @@ async function rolloutsInParts(
   const run = joinRolloutRuns(runs, REPLAYED_EPISODES);
   if (!record || run.problem) return { value: run, randomness: [] };
   const recorded = await rollers[0].record(
-    runs.slice(1).map((part) => part.log!).filter((log) => log !== undefined),
+    runs
+      .slice(1)
+      .map((part) => part.log!)
+      .filter((log) => log !== undefined),
     common.seed,
     common.declaredTerms,
   );
@@ -383,7 +486,8 @@ function empiricalOf(
 function declaredTerminalKinds(place: Placer): Set<number> {
   const kinds = new Set<number>();
   for (const name of ['sample', 'terminal']) {
-    for (const match of place.memberSource(name).matchAll(/['"`](goal|failure|neutral)['"`]/g)) kinds.add(TERMINAL_CODE[match[1] as TerminalKind]);
+    for (const match of place.memberSource(name).matchAll(/['"`](goal|failure|neutral)['"`]/g))
+      kinds.add(TERMINAL_CODE[match[1] as TerminalKind]);
   }
   return kinds;
 }
@@ -417,12 +521,21 @@ async function learnFromSamples(
     place.failure(evidence, sandbox.locate(run.problem), findings);
     return;
   }
-  rollouts.learned = summarizeEpisodes(run.evaluation, { policy: 'learned', seed: config.seed, stepCap: effectiveStepCap(spec.discount!.value, stepCap) });
+  rollouts.learned = summarizeEpisodes(run.evaluation, {
+    policy: 'learned',
+    seed: config.seed,
+    stepCap: effectiveStepCap(spec.discount!.value, stepCap),
+  });
   rollouts.learning = run.summary;
 }
 
 /** The learning job's options; `episodes` is the number of measured episodes (as many as the random policy's). */
-function learnOptions(spec: ParsedSpec, config: ResolvedConfig, declaredTerms: string[], episodes: number): LearnJobOptions {
+function learnOptions(
+  spec: ParsedSpec,
+  config: ResolvedConfig,
+  declaredTerms: string[],
+  episodes: number,
+): LearnJobOptions {
   const method = config.learning.method === 'off' ? DEFAULT_LEARNING.method : config.learning.method;
   return {
     settings: { ...DEFAULT_LEARNING, ...config.learning, method, evaluationEpisodes: episodes },
@@ -444,7 +557,11 @@ function learnOptions(spec: ParsedSpec, config: ResolvedConfig, declaredTerms: s
  */
 async function learnInParts(
   trainer: ModelSandbox,
-  training: Promise<{ value?: { trained?: TrainedPart; problem?: RuntimeProblem }; failure?: ModelFailure; randomness: RandomnessUse[] }>,
+  training: Promise<{
+    value?: { trained?: TrainedPart; problem?: RuntimeProblem };
+    failure?: ModelFailure;
+    randomness: RandomnessUse[];
+  }>,
   rollers: ModelSandbox[],
   spec: ParsedSpec,
   config: ResolvedConfig,
@@ -471,7 +588,9 @@ async function learnInParts(
   const work = await Promise.all(
     children.map(async (child, k) => {
       const range = ranges[k];
-      const measured = range ? await child.measure({ ...options, table: trained.table, first: range.first, count: range.count }) : undefined;
+      const measured = range
+        ? await child.measure({ ...options, table: trained.table, first: range.first, count: range.count })
+        : undefined;
       const decided = k === 0 ? await child.decide(episodes) : undefined;
       return { measured, decided };
     }),
@@ -487,7 +606,11 @@ async function learnInParts(
   addRandomness(evidence, decided.randomness, place);
   if (failed(decided.failure, decided.value?.problem)) return;
   const run = joinLearning(options.settings, trained, parts, decided.value!.decision);
-  rollouts.learned = summarizeEpisodes(run.evaluation, { policy: 'learned', seed: config.seed, stepCap: effectiveStepCap(spec.discount!.value, options.stepCap) });
+  rollouts.learned = summarizeEpisodes(run.evaluation, {
+    policy: 'learned',
+    seed: config.seed,
+    stepCap: effectiveStepCap(spec.discount!.value, options.stepCap),
+  });
   rollouts.learning = run.summary;
 }
 
@@ -505,7 +628,10 @@ function onlyFinite(records: EpisodeRecords): EpisodeRecords {
 
 function nonFiniteFinding(problem: LocatedProblem, episodes: number | undefined, total: number | undefined): Finding {
   const rule = findRule('non-finite-reward');
-  const share = episodes !== undefined && total ? `; ${episodes} of ${total} rollouts got a non-finite reward and are left out of the estimates` : '';
+  const share =
+    episodes !== undefined && total
+      ? `; ${episodes} of ${total} rollouts got a non-finite reward and are left out of the estimates`
+      : '';
   return {
     rule: 'non-finite-reward',
     severity: rule?.defaultSeverity ?? 'error',
@@ -531,7 +657,12 @@ function applyDescription(spec: ParsedSpec, reading: TypeScriptReading, descript
     }
   }
   if (spec.discount === undefined && !reading.findings.some((f) => f.rule === 'schema')) {
-    problems.push({ rule: 'schema', severity: 'error', message: 'the spec has no discount (0 <= discount <= 1)', span: spec.rootSpan });
+    problems.push({
+      rule: 'schema',
+      severity: 'error',
+      message: 'the spec has no discount (0 <= discount <= 1)',
+      span: spec.rootSpan,
+    });
   }
   return problems;
 }
@@ -563,7 +694,9 @@ class Placer {
   /** The name of the member that defines a model function, else the whole definition. */
   memberName(phase: ModelFunction | string): Span {
     const members = this.spec.typescript!.members;
-    return (members[phase] ?? (phase === 'start' ? members.startDistribution : undefined))?.nameSpan ?? this.spec.rootSpan;
+    return (
+      (members[phase] ?? (phase === 'start' ? members.startDistribution : undefined))?.nameSpan ?? this.spec.rootSpan
+    );
   }
 
   /** The source text of a member of the default export ('' when it has none). */
@@ -582,7 +715,9 @@ class Placer {
       const indent = lineText.length - lineText.trimStart().length;
       return { span: { start: start + indent, end: start + Math.max(indent + 1, lineText.length) } };
     }
-    const shown = isAbsolute(location.file) ? relative(resolve(this.file, '..'), location.file) || location.file : location.file;
+    const shown = isAbsolute(location.file)
+      ? relative(resolve(this.file, '..'), location.file) || location.file
+      : location.file;
     return { span: this.memberName(phase), elsewhere: `${shown}:${location.line + 1}:${location.column + 1}` };
   }
 
@@ -630,7 +765,12 @@ function indexOfKeys(keys: readonly string[]): Map<string, number> {
  * The CompiledModel of an enumeration. State ids are the canonical keys; every state points at
  * the function that produced it (`start` for start states, `outcomes` for the others).
  */
-function compiledFromEnumeration(result: Enumeration, spec: ParsedSpec, evidence: TypeScriptEvidence, producer: Span): CompiledModel {
+function compiledFromEnumeration(
+  result: Enumeration,
+  spec: ParsedSpec,
+  evidence: TypeScriptEvidence,
+  producer: Span,
+): CompiledModel {
   const stateCount = result.stateKeys.length;
   const startSpan = (evidence.members.start ?? evidence.members.startDistribution)?.nameSpan ?? producer;
   const stateSpan = new Array<Span>(stateCount).fill(producer);

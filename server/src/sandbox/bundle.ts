@@ -26,7 +26,6 @@ export interface ModelBundle {
   insertions: Map<number, Array<{ column: number; length: number }>>;
 }
 
-
 export interface BundleFailure {
   message: string;
   location?: SourceLocation;
@@ -39,7 +38,10 @@ export interface BundleFailure {
 const definePlugin: Plugin = {
   name: 'episcope-define',
   setup(pluginBuild) {
-    pluginBuild.onResolve({ filter: /^episcope(\/.*)?$/ }, (args) => ({ path: args.path, namespace: 'episcope-define' }));
+    pluginBuild.onResolve({ filter: /^episcope(\/.*)?$/ }, (args) => ({
+      path: args.path,
+      namespace: 'episcope-define',
+    }));
     pluginBuild.onLoad({ filter: /.*/, namespace: 'episcope-define' }, () => ({
       contents: 'export function defineMdp(definition) { return definition; }\nexport default defineMdp;\n',
       loader: 'js',
@@ -73,7 +75,12 @@ export async function bundleModel(path: string, text: string): Promise<ModelBund
     const map = result.outputFiles.find((file) => file.path.endsWith('.js.map'));
     if (!js || !map) return { message: 'the bundler produced no output' };
     const instrumented = instrumentLoops(js.text);
-    return { code: instrumented.code, map: new SourceMap(JSON.parse(map.text)), root, insertions: instrumented.insertions };
+    return {
+      code: instrumented.code,
+      map: new SourceMap(JSON.parse(map.text)),
+      root,
+      insertions: instrumented.insertions,
+    };
   } catch (error) {
     const messages = (error as { errors?: Message[] }).errors;
     const first = messages?.[0];
@@ -136,9 +143,17 @@ function uninstrumentedColumn(bundle: ModelBundle, line: number, column: number)
 }
 
 /** Maps a generated 0-based position of the (instrumented) bundle to the original file and position. */
-export function originalPosition(bundle: ModelBundle, line: number, generatedColumn: number): SourceLocation | undefined {
+export function originalPosition(
+  bundle: ModelBundle,
+  line: number,
+  generatedColumn: number,
+): SourceLocation | undefined {
   const column = uninstrumentedColumn(bundle, line, generatedColumn);
-  const entry = bundle.map.findEntry(line, column) as { originalSource?: string; originalLine?: number; originalColumn?: number };
+  const entry = bundle.map.findEntry(line, column) as {
+    originalSource?: string;
+    originalLine?: number;
+    originalColumn?: number;
+  };
   if (entry.originalSource === undefined || entry.originalLine === undefined) return undefined;
   const source = entry.originalSource.replace(/^file:\/\//, '');
   return {
@@ -152,7 +167,11 @@ export function originalPosition(bundle: ModelBundle, line: number, generatedCol
  * The original location of the innermost stack frame that lies in model code (frames of Episcope's
  * own runtime are skipped). Stack lines look like "at fn (episcope-model.js:12:5)".
  */
-export function locateStack(bundle: ModelBundle, stack: string | undefined, scriptName: string): SourceLocation | undefined {
+export function locateStack(
+  bundle: ModelBundle,
+  stack: string | undefined,
+  scriptName: string,
+): SourceLocation | undefined {
   if (!stack) return undefined;
   const escaped = scriptName.replace(/[.*+?^${}()|[\]\\]/g, '\\$&');
   const frame = new RegExp(`${escaped}:(\\d+):(\\d+)`);

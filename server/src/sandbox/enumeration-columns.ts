@@ -46,7 +46,8 @@ export function writeColumns(fd: number, chunks: ChunkedEnumeration, keys: reado
     for (const chunk of column) write(new Uint8Array(chunk.buffer, chunk.byteOffset, chunk.byteLength));
   }
   const start = position;
-  for (let i = 0; i < keys.length; i += KEYS_PER_PIECE) write(Buffer.from(`${keys.slice(i, i + KEYS_PER_PIECE).join('\n')}\n`, 'utf8'));
+  for (let i = 0; i < keys.length; i += KEYS_PER_PIECE)
+    write(Buffer.from(`${keys.slice(i, i + KEYS_PER_PIECE).join('\n')}\n`, 'utf8'));
   return { count: keys.length, bytes: position - start };
 }
 
@@ -55,7 +56,7 @@ function readKeys(fd: number, position: number, listing: KeyListing): string[] |
   const bytes = Buffer.allocUnsafe(listing.bytes);
   readFully(fd, bytes, position);
   const keys: string[] = [];
-  for (let from = 0; from < bytes.length; ) {
+  for (let from = 0; from < bytes.length;) {
     // Cut at a newline at least KEY_TEXT_BYTES on: a newline byte never occurs inside a UTF-8 character.
     const cut = bytes.length - from > KEY_TEXT_BYTES ? bytes.indexOf(10, from + KEY_TEXT_BYTES) : bytes.length - 1;
     if (cut < 0 || bytes[cut] !== 10) return undefined;
@@ -82,16 +83,26 @@ function readFully(fd: number, bytes: Uint8Array, position: number): void {
 export function readColumns(head: EnumerationHead, listing: KeyListing, fd: number): Enumeration | string {
   try {
     const outcomes = (head as { outcomesListed?: unknown } | null)?.outcomesListed;
-    if (typeof outcomes !== 'number' || !Number.isInteger(outcomes) || outcomes < 0 || outcomes > MOST_OUTCOMES) return 'the outcome count is not a whole number in range';
-    if (!Array.isArray(head.termNames) || !head.termNames.every((name) => typeof name === 'string')) return 'the term names are not strings';
+    if (typeof outcomes !== 'number' || !Number.isInteger(outcomes) || outcomes < 0 || outcomes > MOST_OUTCOMES)
+      return 'the outcome count is not a whole number in range';
+    if (!Array.isArray(head.termNames) || !head.termNames.every((name) => typeof name === 'string'))
+      return 'the term names are not strings';
     const count = (listing as KeyListing | null)?.count;
     const keyBytes = (listing as KeyListing | null)?.bytes;
-    if (typeof count !== 'number' || typeof keyBytes !== 'number' || !Number.isInteger(count) || !Number.isInteger(keyBytes) || count < 0 || keyBytes < count) {
+    if (
+      typeof count !== 'number' ||
+      typeof keyBytes !== 'number' ||
+      !Number.isInteger(count) ||
+      !Number.isInteger(keyBytes) ||
+      count < 0 ||
+      keyBytes < count
+    ) {
       return 'the key listing is not two whole numbers in range';
     }
     const expected = columnBytes(outcomes, head.termNames.length) + keyBytes;
     const size = fstatSync(fd).size;
-    if (size !== expected) return `the column file holds ${size} bytes, not the ${expected} of ${outcomes} outcomes and ${count} state keys`;
+    if (size !== expected)
+      return `the column file holds ${size} bytes, not the ${expected} of ${outcomes} outcomes and ${count} state keys`;
     let position = 0;
     const read = <T extends Int32Array | Float64Array>(column: T): T => {
       readFully(fd, new Uint8Array(column.buffer, column.byteOffset, column.byteLength), position);

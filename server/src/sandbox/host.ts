@@ -20,7 +20,15 @@ import type { TransitionCounts } from '../model/empirical';
 import type { LearnedTable, LearnJobOptions, LearnRun, MeasuredPart, MeasureJobOptions, TrainedPart } from './learn';
 import type { TrajectoryLog } from './transition-record';
 import { launchPlan } from './launch';
-import { BEAT_FD, MODEL_SCRIPT_NAME, OUTPUT_MARK, type HostRequest, type ModelDescription, type RandomnessCall, type WorkerReply } from './protocol';
+import {
+  BEAT_FD,
+  MODEL_SCRIPT_NAME,
+  OUTPUT_MARK,
+  type HostRequest,
+  type ModelDescription,
+  type RandomnessCall,
+  type WorkerReply,
+} from './protocol';
 import type { Enumeration, ModelFunction, RolloutRun, RuntimeProblem } from './runtime';
 
 export interface SandboxLimits {
@@ -278,9 +286,13 @@ class Child {
 
   /** Whether this process keeps the host's event loop alive (not while it waits idle). */
   hold(held: boolean): void {
-    const handles = [this.process, this.process.stdout, this.process.stderr, this.process.stdio[BEAT_FD], this.process.channel] as Array<
-      { ref?: () => void; unref?: () => void } | null | undefined
-    >;
+    const handles = [
+      this.process,
+      this.process.stdout,
+      this.process.stderr,
+      this.process.stdio[BEAT_FD],
+      this.process.channel,
+    ] as Array<{ ref?: () => void; unref?: () => void } | null | undefined>;
     for (const handle of handles) {
       if (held) handle?.ref?.();
       else handle?.unref?.();
@@ -393,7 +405,10 @@ export class ModelSandbox {
   ): Promise<Outcome<{ sandbox: ModelSandbox; description: ModelDescription }>> {
     const bundle = await bundleModel(path, text);
     if (!('code' in bundle)) {
-      return { failure: { kind: 'bundle', phase: 'load', message: bundle.message, location: bundle.location }, randomness: [] };
+      return {
+        failure: { kind: 'bundle', phase: 'load', message: bundle.message, location: bundle.location },
+        randomness: [],
+      };
     }
     const folder = existsSync(dirname(resolve(path))) ? dirname(resolve(path)) : bundle.root;
     const key = `${folder}\n${limits.memoryMb}\n${createHash('sha256').update(bundle.code).digest('hex')}`;
@@ -408,7 +423,12 @@ export class ModelSandbox {
   }
 
   private async load(): Promise<Outcome<ModelDescription>> {
-    const reply = await this.request({ type: 'load', code: this.bundle.code, specPath: this.specPath, limits: this.limits });
+    const reply = await this.request({
+      type: 'load',
+      code: this.bundle.code,
+      specPath: this.specPath,
+      limits: this.limits,
+    });
     return this.outcomeOf(reply, (r) => (r.type === 'loaded' ? r.description : undefined));
   }
 
@@ -458,27 +478,51 @@ export class ModelSandbox {
   }
 
   /** Replays the later ranges' logs into the recorder held since the last rollouts, then explores (--jobs N). */
-  async record(logs: TrajectoryLog[], seed: number, declaredTerms: string[]): Promise<Outcome<{ counts?: TransitionCounts; countsProblem?: RuntimeProblem }>> {
+  async record(
+    logs: TrajectoryLog[],
+    seed: number,
+    declaredTerms: string[],
+  ): Promise<Outcome<{ counts?: TransitionCounts; countsProblem?: RuntimeProblem }>> {
     const reply = await this.request({ type: 'record', logs, seed, declaredTerms });
-    return this.outcomeOf(reply, (r) => (r.type === 'recorded' && optionalProblem(r.countsProblem) && typeof r.counts === 'object' && r.counts !== null ? r : undefined));
+    return this.outcomeOf(reply, (r) =>
+      r.type === 'recorded' && optionalProblem(r.countsProblem) && typeof r.counts === 'object' && r.counts !== null
+        ? r
+        : undefined,
+    );
   }
 
   /** The training phase of learning; the child keeps the learner for `decide`. */
   async train(options: LearnJobOptions): Promise<Outcome<{ trained?: TrainedPart; problem?: RuntimeProblem }>> {
     const reply = await this.request({ type: 'train', options });
-    return this.outcomeOf(reply, (r) => (r.type === 'trained' && optionalProblem(r.problem) && (r.problem !== undefined || validTable(r.trained?.table)) ? r : undefined));
+    return this.outcomeOf(reply, (r) =>
+      r.type === 'trained' && optionalProblem(r.problem) && (r.problem !== undefined || validTable(r.trained?.table))
+        ? r
+        : undefined,
+    );
   }
 
   /** The greedy policy of a learned table on a range of measured episodes. */
   async measure(options: MeasureJobOptions): Promise<Outcome<{ part?: MeasuredPart; problem?: RuntimeProblem }>> {
     const reply = await this.request({ type: 'measure', options });
-    return this.outcomeOf(reply, (r) => (r.type === 'measured' && optionalProblem(r.problem) && (r.problem !== undefined || validPart(r.part, options.count)) ? r : undefined));
+    return this.outcomeOf(reply, (r) =>
+      r.type === 'measured' &&
+      optionalProblem(r.problem) &&
+      (r.problem !== undefined || validPart(r.part, options.count))
+        ? r
+        : undefined,
+    );
   }
 
   /** The decision on the start actions of the learner this child trained last. */
-  async decide(measuredEpisodes: number): Promise<Outcome<{ decision: Pick<LearningSummary, 'decision' | 'noDecision'>; problem?: RuntimeProblem }>> {
+  async decide(
+    measuredEpisodes: number,
+  ): Promise<Outcome<{ decision: Pick<LearningSummary, 'decision' | 'noDecision'>; problem?: RuntimeProblem }>> {
     const reply = await this.request({ type: 'decide', measuredEpisodes });
-    return this.outcomeOf(reply, (r) => (r.type === 'decided' && optionalProblem(r.problem) && typeof r.decision === 'object' && r.decision !== null ? r : undefined));
+    return this.outcomeOf(reply, (r) =>
+      r.type === 'decided' && optionalProblem(r.problem) && typeof r.decision === 'object' && r.decision !== null
+        ? r
+        : undefined,
+    );
   }
 
   /** Ends the sandbox: a child that did its jobs well waits for the next load of the same bundle, any other is killed. */
@@ -493,11 +537,19 @@ export class ModelSandbox {
 
   /** Maps a runtime problem's stack (or else its phase) to a source location. */
   locate(problem: RuntimeProblem): ModelFailure {
-    return { ...problem, message: clip(problem.message), location: locateStack(this.bundle, problem.stack, MODEL_SCRIPT_NAME) };
+    return {
+      ...problem,
+      message: clip(problem.message),
+      location: locateStack(this.bundle, problem.stack, MODEL_SCRIPT_NAME),
+    };
   }
 
   mapRandomness(calls: RandomnessCall[]): RandomnessUse[] {
-    return calls.map((call) => ({ api: clip(call.api, 80), count: call.count, location: locateStack(this.bundle, call.stack, MODEL_SCRIPT_NAME) }));
+    return calls.map((call) => ({
+      api: clip(call.api, 80),
+      count: call.count,
+      location: locateStack(this.bundle, call.stack, MODEL_SCRIPT_NAME),
+    }));
   }
 
   private outcomeOf<T>(reply: Settled, pick: (reply: WorkerReply | Assembled) => T | undefined): Outcome<T> {
@@ -519,7 +571,14 @@ export class ModelSandbox {
 
   private malformedReply(): Outcome<never> {
     this.failed = true;
-    return { failure: { kind: 'crashed', phase: this.jobPhase(), message: "sent a reply that is not what the sandbox sends (model code wrote to the sandbox's channel?)" }, randomness: [] };
+    return {
+      failure: {
+        kind: 'crashed',
+        phase: this.jobPhase(),
+        message: "sent a reply that is not what the sandbox sends (model code wrote to the sandbox's channel?)",
+      },
+      randomness: [],
+    };
   }
 
   private request(message: HostRequest): Promise<Settled> {
@@ -533,10 +592,19 @@ export class ModelSandbox {
       if (message.type === 'enumerate') emptyColumnFile(this.child.columnFd);
       try {
         this.child.process.send(message, (error) => {
-          if (error) this.stop({ kind: 'crashed', phase: this.jobPhase(), message: `could not be reached: ${clip(error.message)}` });
+          if (error)
+            this.stop({
+              kind: 'crashed',
+              phase: this.jobPhase(),
+              message: `could not be reached: ${clip(error.message)}`,
+            });
         });
       } catch (error) {
-        this.stop({ kind: 'crashed', phase: this.jobPhase(), message: `could not be reached: ${error instanceof Error ? clip(error.message) : 'unknown error'}` });
+        this.stop({
+          kind: 'crashed',
+          phase: this.jobPhase(),
+          message: `could not be reached: ${error instanceof Error ? clip(error.message) : 'unknown error'}`,
+        });
         return;
       }
       this.watch();
@@ -547,7 +615,11 @@ export class ModelSandbox {
     // A fault can come between jobs (a rejection after loading); the next request answers with it.
     if (!this.pending && (message as { type?: unknown } | null)?.type !== 'fault') return;
     if (typeof message !== 'object' || message === null || typeof (message as { type?: unknown }).type !== 'string') {
-      this.settle({ kind: 'crashed', phase: this.jobPhase(), message: "sent a reply that is not what the sandbox sends (model code wrote to the sandbox's channel?)" });
+      this.settle({
+        kind: 'crashed',
+        phase: this.jobPhase(),
+        message: "sent a reply that is not what the sandbox sends (model code wrote to the sandbox's channel?)",
+      });
       return;
     }
     const reply = message as WorkerReply;
@@ -560,7 +632,8 @@ export class ModelSandbox {
         kind: 'crashed',
         phase: this.jobPhase(),
         message: `failed outside a model call: ${clip(String(reply.message))}`,
-        location: typeof reply.stack === 'string' ? locateStack(this.bundle, reply.stack, MODEL_SCRIPT_NAME) : undefined,
+        location:
+          typeof reply.stack === 'string' ? locateStack(this.bundle, reply.stack, MODEL_SCRIPT_NAME) : undefined,
       };
       this.exitFailure = failure;
       this.failed = true;
@@ -582,8 +655,16 @@ export class ModelSandbox {
 
   /** The enumeration of a head and the columns the child wrote to the column file, or a malformed reply. */
   private withColumns(reply: Extract<WorkerReply, { type: 'enumerated' }>): Assembled | ModelFailure {
-    const result = this.job === 'enumerate' ? readColumns(reply.head, reply.keys, this.child.columnFd) : 'no enumeration was asked for';
-    if (typeof result === 'string') return { kind: 'crashed', phase: this.jobPhase(), message: `sent an enumeration that does not fit together: ${result}` };
+    const result =
+      this.job === 'enumerate'
+        ? readColumns(reply.head, reply.keys, this.child.columnFd)
+        : 'no enumeration was asked for';
+    if (typeof result === 'string')
+      return {
+        kind: 'crashed',
+        phase: this.jobPhase(),
+        message: `sent an enumeration that does not fit together: ${result}`,
+      };
     return { type: 'assembled', result, randomness: reply.randomness };
   }
 
@@ -618,12 +699,20 @@ export class ModelSandbox {
       if (at - this.jobBegan > jobTimeoutMs + margin) {
         clearInterval(timer);
         const seconds = Math.round(jobTimeoutMs / 1000);
-        this.stop({ kind: 'timeout', phase: this.jobPhase(), message: `was still running when the job's time limit of ${seconds} s ran out (the model is too slow or too large, or ignored the sandbox's stops)` });
+        this.stop({
+          kind: 'timeout',
+          phase: this.jobPhase(),
+          message: `was still running when the job's time limit of ${seconds} s ran out (the model is too slow or too large, or ignored the sandbox's stops)`,
+        });
         return;
       }
       if (at - Math.max(this.child.lastBeat, this.jobBegan) > callLimit) {
         clearInterval(timer);
-        this.stop({ kind: 'timeout', phase: this.jobPhase(), message: `made no progress for ${callLimit} ms: a model call did not return within ${callTimeoutMs} ms (an endless loop?)` });
+        this.stop({
+          kind: 'timeout',
+          phase: this.jobPhase(),
+          message: `made no progress for ${callLimit} ms: a model call did not return within ${callTimeoutMs} ms (an endless loop?)`,
+        });
       }
     }, interval);
   }
@@ -644,8 +733,13 @@ export class ModelSandbox {
       return { kind: 'memory', phase, message: `ran out of memory (the limit is ${this.limits.memoryMb} MB of heap)` };
     }
     const { exitCode, exitSignal } = this.child;
-    if (exitCode === 134 || exitSignal === 'SIGABRT') return { kind: 'crashed', phase, message: 'made the sandbox process abort (exit code 134)' };
-    const how = exitSignal ? `was killed by ${exitSignal}` : exitCode === null ? 'could not be started' : `stopped with exit code ${exitCode}`;
+    if (exitCode === 134 || exitSignal === 'SIGABRT')
+      return { kind: 'crashed', phase, message: 'made the sandbox process abort (exit code 134)' };
+    const how = exitSignal
+      ? `was killed by ${exitSignal}`
+      : exitCode === null
+        ? 'could not be started'
+        : `stopped with exit code ${exitCode}`;
     return { kind: 'crashed', phase, message: `ended the sandbox process: it ${how}` };
   }
 }
@@ -663,12 +757,24 @@ type Settled = WorkerReply | Assembled | ModelFailure;
 
 function validRandomness(call: unknown): call is RandomnessCall {
   const c = call as RandomnessCall;
-  return typeof c === 'object' && c !== null && typeof c.api === 'string' && typeof c.count === 'number' && typeof c.stack === 'string';
+  return (
+    typeof c === 'object' &&
+    c !== null &&
+    typeof c.api === 'string' &&
+    typeof c.count === 'number' &&
+    typeof c.stack === 'string'
+  );
 }
 
 function validProblem(problem: unknown): problem is RuntimeProblem {
   const p = problem as RuntimeProblem;
-  return typeof p === 'object' && p !== null && typeof p.kind === 'string' && typeof p.phase === 'string' && typeof p.message === 'string';
+  return (
+    typeof p === 'object' &&
+    p !== null &&
+    typeof p.kind === 'string' &&
+    typeof p.phase === 'string' &&
+    typeof p.message === 'string'
+  );
 }
 
 function indices(array: unknown, limit: number): boolean {
@@ -679,7 +785,8 @@ function indices(array: unknown, limit: number): boolean {
 
 /** Row starts of a CSR array: from 0, never decreasing, ending at `end`. */
 function rowStarts(array: unknown, end: number): boolean {
-  if (!(array instanceof Int32Array) || array.length === 0 || array[0] !== 0 || array[array.length - 1] !== end) return false;
+  if (!(array instanceof Int32Array) || array.length === 0 || array[0] !== 0 || array[array.length - 1] !== end)
+    return false;
   for (let i = 1; i < array.length; i++) if (array[i] < array[i - 1]) return false;
   return true;
 }
@@ -689,8 +796,14 @@ export function validEnumeration(result: Enumeration): boolean {
   const states = Array.isArray(result.stateKeys) ? result.stateKeys.length : -1;
   if (states < 0 || !result.stateKeys.every((key) => typeof key === 'string')) return false;
   if (!Array.isArray(result.actionNames) || !result.actionNames.every((name) => typeof name === 'string')) return false;
-  if (!Array.isArray(result.termNames) || !Array.isArray(result.termRewards) || !Array.isArray(result.nondeterminism)) return false;
-  if (!(result.terminal instanceof Uint8Array) || !(result.outcomeProb instanceof Float64Array) || !(result.outcomeReward instanceof Float64Array)) return false;
+  if (!Array.isArray(result.termNames) || !Array.isArray(result.termRewards) || !Array.isArray(result.nondeterminism))
+    return false;
+  if (
+    !(result.terminal instanceof Uint8Array) ||
+    !(result.outcomeProb instanceof Float64Array) ||
+    !(result.outcomeReward instanceof Float64Array)
+  )
+    return false;
   if (!(result.startProbs instanceof Float64Array)) return false;
   const choices = result.choiceAction instanceof Int32Array ? result.choiceAction.length : -1;
   const outcomes = result.outcomeTarget instanceof Int32Array ? result.outcomeTarget.length : -1;
@@ -698,20 +811,36 @@ export function validEnumeration(result: Enumeration): boolean {
   if (result.outcomeProb.length !== outcomes || result.outcomeReward.length !== outcomes) return false;
   if (!result.termRewards.every((column) => column instanceof Float64Array && column.length === outcomes)) return false;
   if (!rowStarts(result.choiceStart, choices) || !rowStarts(result.outcomeStart, outcomes)) return false;
-  if (!(result.startStates instanceof Int32Array) || result.startStates.length !== result.startProbs.length) return false;
-  if (!indices(result.choiceAction, result.actionNames.length - 1) || !indices(result.outcomeTarget, states - 1) || !indices(result.startStates, states - 1)) return false;
+  if (!(result.startStates instanceof Int32Array) || result.startStates.length !== result.startProbs.length)
+    return false;
+  if (
+    !indices(result.choiceAction, result.actionNames.length - 1) ||
+    !indices(result.outcomeTarget, states - 1) ||
+    !indices(result.startStates, states - 1)
+  )
+    return false;
   if (result.problem !== undefined && !validProblem(result.problem)) return false;
   // A capped or failed enumeration stops part-way; a complete one has a choice range per state.
-  return result.capped || result.problem !== undefined || (result.choiceStart.length === states + 1 && result.outcomeStart.length === choices + 1 && result.terminal.length === states);
+  return (
+    result.capped ||
+    result.problem !== undefined ||
+    (result.choiceStart.length === states + 1 &&
+      result.outcomeStart.length === choices + 1 &&
+      result.terminal.length === states)
+  );
 }
 
 function validRun(run: RolloutRun, episodes: number): boolean {
   if (typeof run !== 'object' || run === null || typeof run.records !== 'object' || run.records === null) return false;
   const { returns, lengths, ends } = run.records;
-  if (!(returns instanceof Float64Array) || !(lengths instanceof Int32Array) || !(ends instanceof Uint8Array)) return false;
+  if (!(returns instanceof Float64Array) || !(lengths instanceof Int32Array) || !(ends instanceof Uint8Array))
+    return false;
   if (returns.length > episodes || lengths.length !== returns.length || ends.length !== returns.length) return false;
   if (!Array.isArray(run.fingerprints) || !run.fingerprints.every((f) => typeof f === 'string')) return false;
-  return (run.problem === undefined || validProblem(run.problem)) && (run.firstNonFinite === undefined || validProblem(run.firstNonFinite));
+  return (
+    (run.problem === undefined || validProblem(run.problem)) &&
+    (run.firstNonFinite === undefined || validProblem(run.firstNonFinite))
+  );
 }
 
 function optionalProblem(problem: unknown): boolean {
@@ -722,15 +851,23 @@ function optionalProblem(problem: unknown): boolean {
 function validTable(table: LearnedTable | undefined): boolean {
   if (typeof table !== 'object' || table === null || !Array.isArray(table.keys)) return false;
   const { stateKey, stateStep, slotStart, q, visits } = table;
-  if (!(stateStep instanceof Int32Array) || !(q instanceof Float64Array) || !(visits instanceof Int32Array) || q.length !== visits.length) return false;
+  if (
+    !(stateStep instanceof Int32Array) ||
+    !(q instanceof Float64Array) ||
+    !(visits instanceof Int32Array) ||
+    q.length !== visits.length
+  )
+    return false;
   if (!indices(stateKey, table.keys.length - 1) || stateStep.length !== stateKey.length) return false;
   return rowStarts(slotStart, q.length) && slotStart.length === stateKey.length + 1;
 }
 
 function validPart(part: MeasuredPart | undefined, episodes: number): boolean {
-  if (typeof part !== 'object' || part === null || typeof part.records !== 'object' || part.records === null) return false;
+  if (typeof part !== 'object' || part === null || typeof part.records !== 'object' || part.records === null)
+    return false;
   const { returns, lengths, ends } = part.records;
-  if (!(returns instanceof Float64Array) || !(lengths instanceof Int32Array) || !(ends instanceof Uint8Array)) return false;
+  if (!(returns instanceof Float64Array) || !(lengths instanceof Int32Array) || !(ends instanceof Uint8Array))
+    return false;
   if (returns.length !== episodes || lengths.length !== episodes || ends.length !== episodes) return false;
   return Array.isArray(part.newKeys) && Array.isArray(part.newStates) && typeof part.unlearnedSteps === 'number';
 }

@@ -26,7 +26,12 @@ let cachedBinary: NodeBinary | undefined;
 
 function versionOf(path: string): number | undefined {
   try {
-    const text = execFileSync(path, ['--version'], { env: {}, timeout: 10_000, encoding: 'utf8', stdio: ['ignore', 'pipe', 'ignore'] });
+    const text = execFileSync(path, ['--version'], {
+      env: {},
+      timeout: 10_000,
+      encoding: 'utf8',
+      stdio: ['ignore', 'pipe', 'ignore'],
+    });
     const match = /^v(\d+)\./.exec(text.trim());
     return match ? Number(match[1]) : undefined;
   } catch {
@@ -73,7 +78,11 @@ export function chooseSandboxNode(host: HostRuntime): NodeBinary {
 
 /** chooseSandboxNode for this process, decided once. */
 export function sandboxNode(): NodeBinary {
-  cachedBinary ??= chooseSandboxNode({ execPath: process.execPath, versions: process.versions, path: process.env.PATH ?? '' });
+  cachedBinary ??= chooseSandboxNode({
+    execPath: process.execPath,
+    versions: process.versions,
+    path: process.env.PATH ?? '',
+  });
   return cachedBinary;
 }
 
@@ -87,7 +96,12 @@ export function processMemoryMb(heapMb: number): number {
  * `readable`; no writes, child processes, workers or native addons), an empty environment, a heap
  * limit and, where `/bin/sh` has `ulimit`, a limit on the whole process's data segment.
  */
-export function launchPlan(script: string, readable: string[], heapMb: number, node: NodeBinary = sandboxNode()): LaunchPlan {
+export function launchPlan(
+  script: string,
+  readable: string[],
+  heapMb: number,
+  node: NodeBinary = sandboxNode(),
+): LaunchPlan {
   const notices: string[] = [];
   const nodeArgs = [`--max-old-space-size=${heapMb}`, '--no-warnings'];
   if (node.electron) {
@@ -98,7 +112,9 @@ export function launchPlan(script: string, readable: string[], heapMb: number, n
     nodeArgs.push(node.major >= 22 ? '--permission' : '--experimental-permission');
     for (const path of readable) nodeArgs.push(`--allow-fs-read=${path}`);
   } else {
-    notices.push(`model code ran without Node's permission model: ${node.path} is Node ${node.major}, which lacks it (Node 20 or later has it)`);
+    notices.push(
+      `model code ran without Node's permission model: ${node.path} is Node ${node.major}, which lacks it (Node 20 or later has it)`,
+    );
   }
   nodeArgs.push(script);
   const env: Record<string, string> = node.electron ? { ELECTRON_RUN_AS_NODE: '1' } : {};
@@ -108,8 +124,15 @@ export function launchPlan(script: string, readable: string[], heapMb: number, n
     // the memory it was held in, so the same size (in 512-byte blocks) bounds what hostile code can put on disk.
     const blocks = kb * 2;
     // exec keeps the child's pid that of node itself, so that killing it kills the model.
-    return { command: '/bin/sh', args: ['-c', `ulimit -d ${kb} && ulimit -f ${blocks} && exec "$0" "$@"`, node.path, ...nodeArgs], env, notices };
+    return {
+      command: '/bin/sh',
+      args: ['-c', `ulimit -d ${kb} && ulimit -f ${blocks} && exec "$0" "$@"`, node.path, ...nodeArgs],
+      env,
+      notices,
+    };
   }
-  notices.push(`model code ran without an OS memory limit (only the ${heapMb} MB heap limit applies): this system has no /bin/sh ulimit`);
+  notices.push(
+    `model code ran without an OS memory limit (only the ${heapMb} MB heap limit applies): this system has no /bin/sh ulimit`,
+  );
   return { command: node.path, args: nodeArgs, env, notices };
 }

@@ -19,8 +19,21 @@
  *
  * Like runtime.ts this runs inside the sandbox worker and must not import anything of the host.
  */
-import { effectiveStepCap, END_NONE, END_STEP_CAP, summarizeEpisodes, Xoshiro128, type EpisodeRecords } from '../analysis/rollouts';
-import type { LearningMethod, LearningSummary, LearnedAction, LearnedState, RolloutStats } from '../analysis/rollout-stats';
+import {
+  effectiveStepCap,
+  END_NONE,
+  END_STEP_CAP,
+  summarizeEpisodes,
+  Xoshiro128,
+  type EpisodeRecords,
+} from '../analysis/rollouts';
+import type {
+  LearningMethod,
+  LearningSummary,
+  LearnedAction,
+  LearnedState,
+  RolloutStats,
+} from '../analysis/rollout-stats';
 import { DEFAULT_CONFIG } from '../config';
 import type { CompiledModel } from '../model/compiled';
 import {
@@ -259,7 +272,8 @@ export class Learner {
       learned.keys.forEach((key, i) => keys.set(key, i));
       const states = new Map<number, number>();
       const span = (options.horizon ?? 0) + 1;
-      for (let id = 0; id < learned.stateKey.length; id++) states.set(learned.stateKey[id] * span + learned.stateStep[id], id);
+      for (let id = 0; id < learned.stateKey.length; id++)
+        states.set(learned.stateKey[id] * span + learned.stateStep[id], id);
       this.imported = { size: learned.stateKey.length, keys, states };
     }
   }
@@ -410,7 +424,19 @@ export class Learner {
   /** The greedy policy on `count` fresh episodes from `first` (streams 0 and 1, never used in training). */
   measure(first: number, count: number, path?: LearningSummary['path']): EpisodeRecords {
     const { horizon, discount, seed } = this.options;
-    return rolloutGreedy(this.sampler, count, seed, first, this.limit, horizon, discount, this.greedyAction, this.policy, undefined, path);
+    return rolloutGreedy(
+      this.sampler,
+      count,
+      seed,
+      first,
+      this.limit,
+      horizon,
+      discount,
+      this.greedyAction,
+      this.policy,
+      undefined,
+      path,
+    );
   }
 
   /** Learning states so far (training and measuring). */
@@ -434,7 +460,8 @@ export class Learner {
     for (let id = 0; id < table.size && kept.length < SOURCE_STATES; id++) {
       if (table.sampleState[id] < 0 || !watched.has(sampler.keyOf(table.sampleState[id]))) continue;
       let tried = false;
-      for (let k = table.slotStart[id]; k < table.slotStart[id] + table.slotCount[id]; k++) if (table.visits[k] > 0) tried = true;
+      for (let k = table.slotStart[id]; k < table.slotStart[id] + table.slotCount[id]; k++)
+        if (table.visits[k] > 0) tried = true;
       if (tried) kept.push(keptState(sampler, table, id, timed));
     }
     return kept;
@@ -477,12 +504,26 @@ export class Learner {
     if (this.startVaries) summary.noDecision = 'the start state varies between episodes';
     else if (this.fixedStart < 0 || this.episodes === 0) summary.noDecision = 'no training episode ran';
     else if (this.startEnds) summary.noDecision = 'the start state is terminal';
-    else decideStart(this.sampler, this.table, this.options, this.limit, measuredEpisodes, this.learningState(this.fixedStart, 0), this.greedyAction, this.policy, summary);
+    else
+      decideStart(
+        this.sampler,
+        this.table,
+        this.options,
+        this.limit,
+        measuredEpisodes,
+        this.learningState(this.fixedStart, 0),
+        this.greedyAction,
+        this.policy,
+        summary,
+      );
   }
 }
 
 /** The summary's fields that do not depend on what was measured. */
-function summaryHead(settings: LearningSettings, spent: { episodes: number; steps: number }): Pick<LearningSummary, 'method' | 'visits' | 'epsilon' | 'budget' | 'spent'> {
+function summaryHead(
+  settings: LearningSettings,
+  spent: { episodes: number; steps: number },
+): Pick<LearningSummary, 'method' | 'visits' | 'epsilon' | 'budget' | 'spent'> {
   return {
     method: settings.method,
     visits: settings.method === 'monte-carlo' ? (settings.firstVisit ? 'first' : 'every') : undefined,
@@ -496,7 +537,10 @@ function summaryHead(settings: LearningSettings, spent: { episodes: number; step
  * Learns Q within the budget, then rolls out the greedy policy of the learned Q. Errors of the
  * sampler (model code) propagate; `learnModel` turns them into a RuntimeProblem.
  */
-export function learnWithSampler(sampler: LearningSampler, options: LearnOptions): { summary: LearningSummary; evaluation: EpisodeRecords } {
+export function learnWithSampler(
+  sampler: LearningSampler,
+  options: LearnOptions,
+): { summary: LearningSummary; evaluation: EpisodeRecords } {
   const learner = new Learner(sampler, options);
   learner.train();
   const path: LearningSummary['path'] = { keys: [], actions: [], truncated: false };
@@ -626,7 +670,9 @@ function rolloutGreedy(
 
 /** The start state(s) first, then the most visited states, with each action's Q and visit count. */
 function keptStates(sampler: LearningSampler, table: Table, timed: boolean): LearnedState[] {
-  const order = Array.from({ length: table.size }, (_, i) => i).sort((x, y) => table.stateVisits[y] - table.stateVisits[x] || x - y);
+  const order = Array.from({ length: table.size }, (_, i) => i).sort(
+    (x, y) => table.stateVisits[y] - table.stateVisits[x] || x - y,
+  );
   return order.slice(0, KEPT_STATES).map((id) => keptState(sampler, table, id, timed));
 }
 
@@ -635,9 +681,18 @@ function keptState(sampler: LearningSampler, table: Table, id: number, timed: bo
   const actions: LearnedAction[] = [];
   for (let a = 0; a < table.slotCount[id]; a++) {
     const visits = table.visits[first + a];
-    actions.push({ action: sampler.actionNameOf(table.sampleState[id], a), q: visits > 0 ? table.q[first + a] : NaN, visits });
+    actions.push({
+      action: sampler.actionNameOf(table.sampleState[id], a),
+      q: visits > 0 ? table.q[first + a] : NaN,
+      visits,
+    });
   }
-  return { key: sampler.keyOf(table.sampleState[id]), step: timed ? table.stepOf[id] : undefined, visits: table.stateVisits[id], actions };
+  return {
+    key: sampler.keyOf(table.sampleState[id]),
+    step: timed ? table.stepOf[id] : undefined,
+    visits: table.stateVisits[id],
+    actions,
+  };
 }
 
 function decideStart(
@@ -660,7 +715,8 @@ function decideStart(
   const tried: number[] = [];
   for (let a = 0; a < table.slotCount[startId]; a++) if (table.visits[first + a] > 0) tried.push(a);
   if (tried.length < 2) {
-    summary.noDecision = table.slotCount[startId] < 2 ? 'the start state has one action' : 'fewer than two start actions were tried';
+    summary.noDecision =
+      table.slotCount[startId] < 2 ? 'the start state has one action' : 'fewer than two start actions were tried';
     return;
   }
   const sign = options.maximize ? 1 : -1;
@@ -670,13 +726,28 @@ function decideStart(
   // Fresh episodes past the measured ones, so the decision uses draws of its own.
   const base = measuredEpisodes;
   const arm = (action: number, offset: number) => {
-    const records = rolloutGreedy(sampler, episodes, options.seed, base + offset, limit, options.horizon, options.discount, choose, policy, action);
+    const records = rolloutGreedy(
+      sampler,
+      episodes,
+      options.seed,
+      base + offset,
+      limit,
+      options.horizon,
+      options.discount,
+      choose,
+      policy,
+      action,
+    );
     let mean = 0;
     for (const r of records.returns) mean += r;
     mean /= episodes;
     let squares = 0;
     for (const r of records.returns) squares += (r - mean) ** 2;
-    return { action: sampler.actionNameOf(start, action), mean, standardDeviation: Math.sqrt(squares / (episodes - 1)) };
+    return {
+      action: sampler.actionNameOf(start, action),
+      mean,
+      standardDeviation: Math.sqrt(squares / (episodes - 1)),
+    };
   };
   const best = arm(a, 0);
   const runnerUp = arm(b, episodes);
@@ -685,7 +756,10 @@ function decideStart(
   const z = standardError > 0 ? difference / standardError : difference > 0 ? Infinity : difference < 0 ? -Infinity : 0;
   const decided = z >= 1.96;
   // n = 1.96^2 (sd1^2 + sd2^2) / d^2 per action (see StartDecision).
-  const needed = Math.abs(difference) > 0 ? Math.ceil((1.96 * 1.96 * (best.standardDeviation ** 2 + runnerUp.standardDeviation ** 2)) / difference ** 2) : Infinity;
+  const needed =
+    Math.abs(difference) > 0
+      ? Math.ceil((1.96 * 1.96 * (best.standardDeviation ** 2 + runnerUp.standardDeviation ** 2)) / difference ** 2)
+      : Infinity;
   summary.decision = {
     key: sampler.keyOf(start),
     best,
@@ -816,7 +890,8 @@ export class FunctionSampler implements LearningSampler {
     this.enter('start', 1);
     let value: unknown;
     if (typeof model.start === 'function') value = (model.start as (rng: unknown) => unknown)(this.rng);
-    else if (model.startDistribution !== undefined) value = drawStart(listOf(model.startDistribution, 'startDistribution'), this.generator);
+    else if (model.startDistribution !== undefined)
+      value = drawStart(listOf(model.startDistribution, 'startDistribution'), this.generator);
     else value = structuredClone(model.start);
     this.current = value;
     this.live = value;
@@ -850,7 +925,11 @@ export class FunctionSampler implements LearningSampler {
     let said: unknown;
     if (this.model.sample) {
       this.enter('sample', 5);
-      const result = this.model.sample(value, chosen, this.rng) as { state?: unknown; reward?: unknown; terminal?: unknown };
+      const result = this.model.sample(value, chosen, this.rng) as {
+        state?: unknown;
+        reward?: unknown;
+        terminal?: unknown;
+      };
       if (typeof result !== 'object' || result === null || !('state' in result)) {
         if (result && typeof (result as { then?: unknown }).then === 'function') {
           throw new MalformedValue('the result is a Promise; model functions must return their value synchronously');
@@ -862,11 +941,17 @@ export class FunctionSampler implements LearningSampler {
       said = result.terminal;
     } else {
       this.enter('outcomes', 3);
-      const drawn = drawOutcome(listOf(this.model.outcomes!(value, chosen), 'the returned outcome list'), this.generator.nextFloat());
+      const drawn = drawOutcome(
+        listOf(this.model.outcomes!(value, chosen), 'the returned outcome list'),
+        this.generator.nextFloat(),
+      );
       next = drawn.state;
       reward = drawn.reward;
     }
-    const r = typeof reward === 'number' ? reward : readReward(reward, this.termIndex, this.scratch, this.strictTerms, 'the reward');
+    const r =
+      typeof reward === 'number'
+        ? reward
+        : readReward(reward, this.termIndex, this.scratch, this.strictTerms, 'the reward');
     if (!Number.isFinite(r)) throw new MalformedValue(`the reward is ${r}; learning needs finite rewards`);
     this.steps++;
     this.reward = r;
@@ -938,7 +1023,11 @@ export function learnModel(model: ModelFunctions, options: LearnJobOptions, prog
   try {
     return learnWithSampler(sampler, options);
   } catch (error) {
-    return { summary: emptySummary(options), evaluation: { returns: new Float64Array(0), lengths: new Int32Array(0), ends: new Uint8Array(0) }, problem: samplerProblem(error, sampler) };
+    return {
+      summary: emptySummary(options),
+      evaluation: { returns: new Float64Array(0), lengths: new Int32Array(0), ends: new Uint8Array(0) },
+      problem: samplerProblem(error, sampler),
+    };
   }
 }
 
@@ -961,7 +1050,11 @@ export interface TrainedSession {
 }
 
 /** The training phase over model functions (the `train` job). */
-export function trainModel(model: ModelFunctions, options: LearnJobOptions, progress?: Progress): { trained?: TrainedPart; problem?: RuntimeProblem; session?: TrainedSession } {
+export function trainModel(
+  model: ModelFunctions,
+  options: LearnJobOptions,
+  progress?: Progress,
+): { trained?: TrainedPart; problem?: RuntimeProblem; session?: TrainedSession } {
   const sampler = new FunctionSampler(model, options.declaredTerms, progress);
   try {
     const learner = new Learner(sampler, options);
@@ -986,11 +1079,16 @@ export interface MeasureJobOptions extends LearnJobOptions {
 }
 
 /** The greedy policy of a learned table on a range of measured episodes (the `measure` job). */
-export function measureModel(model: ModelFunctions, options: MeasureJobOptions, progress?: Progress): { part?: MeasuredPart; problem?: RuntimeProblem } {
+export function measureModel(
+  model: ModelFunctions,
+  options: MeasureJobOptions,
+  progress?: Progress,
+): { part?: MeasuredPart; problem?: RuntimeProblem } {
   const sampler = new FunctionSampler(model, options.declaredTerms, progress);
   try {
     const learner = new Learner(sampler, options, options.table);
-    const path: LearningSummary['path'] | undefined = options.first === 0 ? { keys: [], actions: [], truncated: false } : undefined;
+    const path: LearningSummary['path'] | undefined =
+      options.first === 0 ? { keys: [], actions: [], truncated: false } : undefined;
     const records = learner.measure(options.first, options.count, path);
     return { part: learner.measuredBeyond(records, path) };
   } catch (error) {
@@ -999,7 +1097,10 @@ export function measureModel(model: ModelFunctions, options: MeasureJobOptions, 
 }
 
 /** The decision on the start actions of a trained session (the `decide` job). */
-export function decideModel(session: TrainedSession, measuredEpisodes: number): { decision: Pick<LearningSummary, 'decision' | 'noDecision'>; problem?: RuntimeProblem } {
+export function decideModel(
+  session: TrainedSession,
+  measuredEpisodes: number,
+): { decision: Pick<LearningSummary, 'decision' | 'noDecision'>; problem?: RuntimeProblem } {
   const decision: Pick<LearningSummary, 'decision' | 'noDecision'> = {};
   try {
     session.learner.decide(decision, measuredEpisodes);
@@ -1043,7 +1144,11 @@ export function exactModelLearning(
     stepCap: options.stepCap,
     maximize: model.maximize,
   });
-  const learned = summarizeEpisodes(run.evaluation, { policy: 'learned', seed: options.seed, stepCap: effectiveStepCap(model.discount, options.stepCap) });
+  const learned = summarizeEpisodes(run.evaluation, {
+    policy: 'learned',
+    seed: options.seed,
+    stepCap: effectiveStepCap(model.discount, options.stepCap),
+  });
   const exact = (optimal.lower + optimal.upper) / 2;
   const { lower, upper } = learned.return.ci95;
   run.summary.exact = {

@@ -44,7 +44,10 @@ export interface ModelDescription {
   discount?: unknown;
   horizon?: unknown;
   rewardTerms?: unknown;
-  members: Record<'start' | 'startDistribution' | 'actions' | 'outcomes' | 'terminal' | 'sample' | 'stateKey', 'function' | 'value' | 'absent'>;
+  members: Record<
+    'start' | 'startDistribution' | 'actions' | 'outcomes' | 'terminal' | 'sample' | 'stateKey',
+    'function' | 'value' | 'absent'
+  >;
 }
 
 /**
@@ -79,6 +82,11 @@ export type WorkerReply =
   | { type: 'recorded'; counts?: TransitionCounts; countsProblem?: RuntimeProblem; randomness: RandomnessCall[] }
   | { type: 'trained'; trained?: TrainedPart; problem?: RuntimeProblem; randomness: RandomnessCall[] }
   | { type: 'measured'; part?: MeasuredPart; problem?: RuntimeProblem; randomness: RandomnessCall[] }
-  | { type: 'decided'; decision: Pick<LearningSummary, 'decision' | 'noDecision'>; problem?: RuntimeProblem; randomness: RandomnessCall[] }
+  | {
+      type: 'decided';
+      decision: Pick<LearningSummary, 'decision' | 'noDecision'>;
+      problem?: RuntimeProblem;
+      randomness: RandomnessCall[];
+    }
   /** An error outside any model call (an unhandled rejection, an uncaught throw in a timer); the child ends after it. */
   | { type: 'fault'; message: string; stack?: string };

@@ -7,7 +7,16 @@
 import { withRoom, type NumberColumn } from '../model/compiled';
 import type { TransitionCounts } from '../model/empirical';
 import type { RecordOptions, TrajectoryLog } from './transition-record';
-import { effectiveStepCap, END_FAILURE, END_GOAL, END_NEUTRAL, END_NONE, END_STEP_CAP, Xoshiro128, type EpisodeRecords } from '../analysis/rollouts';
+import {
+  effectiveStepCap,
+  END_FAILURE,
+  END_GOAL,
+  END_NEUTRAL,
+  END_NONE,
+  END_STEP_CAP,
+  Xoshiro128,
+  type EpisodeRecords,
+} from '../analysis/rollouts';
 
 /** What a model function did wrong; `phase` names the function. */
 export interface RuntimeProblem {
@@ -24,7 +33,15 @@ export interface RuntimeProblem {
 }
 
 export type ModelFunction = 'load' | 'start' | 'actions' | 'outcomes' | 'terminal' | 'sample' | 'stateKey';
-export const PHASE_CODES: readonly ModelFunction[] = ['load', 'start', 'actions', 'outcomes', 'terminal', 'sample', 'stateKey'];
+export const PHASE_CODES: readonly ModelFunction[] = [
+  'load',
+  'start',
+  'actions',
+  'outcomes',
+  'terminal',
+  'sample',
+  'stateKey',
+];
 
 /**
  * Progress shared with the host (a SharedArrayBuffer in the worker): [0] calls made, [1] phase
@@ -159,7 +176,9 @@ function canonicalCopy(value: unknown, path: string, depth: number): unknown {
       const proto = Object.getPrototypeOf(value);
       if (proto !== OBJECT_PROTOTYPE && proto !== null) {
         const kind = (value as object).constructor?.name ?? 'object';
-        throw new MalformedValue(`${path} is a ${kind}; states must be plain JSON values (objects, arrays, numbers, strings)`);
+        throw new MalformedValue(
+          `${path} is a ${kind}; states must be plain JSON values (objects, arrays, numbers, strings)`,
+        );
       }
       const copy: Record<string, unknown> = {};
       for (const key of Object.keys(value).sort()) {
@@ -167,13 +186,16 @@ function canonicalCopy(value: unknown, path: string, depth: number): unknown {
         // JSON leaves out undefined properties; so does the key.
         if (item === undefined) continue;
         const plain = canonicalCopy(item, `${path}.${key}`, depth + 1);
-        if (key === '__proto__') Object.defineProperty(copy, key, { value: plain, enumerable: true, writable: true, configurable: true });
+        if (key === '__proto__')
+          Object.defineProperty(copy, key, { value: plain, enumerable: true, writable: true, configurable: true });
         else copy[key] = plain;
       }
       return copy;
     }
     default:
-      throw new MalformedValue(`${path} is ${value === undefined ? 'undefined' : `a ${typeof value}`}; states must be plain JSON values`);
+      throw new MalformedValue(
+        `${path} is ${value === undefined ? 'undefined' : `a ${typeof value}`}; states must be plain JSON values`,
+      );
   }
 }
 
@@ -261,12 +283,19 @@ export const TERMINAL_CODES: Record<string, number> = { goal: END_GOAL, failure:
 export function terminalCode(value: unknown, what: string): number {
   if (value === undefined || value === null || value === false) return 0;
   const code = typeof value === 'string' ? TERMINAL_CODES[value] : undefined;
-  if (code === undefined) throw new MalformedValue(`${what} is ${describeValue(value)}; expected "goal", "failure", "neutral" or undefined`);
+  if (code === undefined)
+    throw new MalformedValue(`${what} is ${describeValue(value)}; expected "goal", "failure", "neutral" or undefined`);
   return code;
 }
 
 /** Adds a reward (number or term map) into `terms` and returns its scalar total. */
-export function readReward(reward: unknown, termIndex: Map<string, number> | undefined, termValues: number[] | undefined, strictTerms: boolean, what: string): number {
+export function readReward(
+  reward: unknown,
+  termIndex: Map<string, number> | undefined,
+  termValues: number[] | undefined,
+  strictTerms: boolean,
+  what: string,
+): number {
   if (typeof reward === 'number') return reward;
   if (typeof reward !== 'object' || reward === null || Array.isArray(reward)) {
     throw new MalformedValue(`${what} is ${describeValue(reward)}; expected a number or an object of reward terms`);
@@ -274,12 +303,14 @@ export function readReward(reward: unknown, termIndex: Map<string, number> | und
   let total = 0;
   for (const term of Object.keys(reward)) {
     const value = (reward as Record<string, unknown>)[term];
-    if (typeof value !== 'number') throw new MalformedValue(`${what}.${term} is ${describeValue(value)}; expected a number`);
+    if (typeof value !== 'number')
+      throw new MalformedValue(`${what}.${term} is ${describeValue(value)}; expected a number`);
     total += value;
     if (termIndex && termValues) {
       let index = termIndex.get(term);
       if (index === undefined) {
-        if (strictTerms) throw new MalformedValue(`${what} names the reward term "${term}", which rewardTerms does not declare`);
+        if (strictTerms)
+          throw new MalformedValue(`${what} names the reward term "${term}", which rewardTerms does not declare`);
         index = termIndex.size;
         termIndex.set(term, index);
       }
@@ -311,7 +342,8 @@ export function problemOf(error: unknown, phase: ModelFunction, context: Partial
 export function thrownProblem(error: unknown, phase: ModelFunction): RuntimeProblem {
   if (error instanceof MalformedValue) return { kind: 'malformed', phase, message: error.message };
   if (error instanceof ModelExitCall) return { kind: 'exit', phase, message: error.message, stack: error.stack };
-  if (error instanceof SandboxLimitReached) return { kind: error.kind, phase, message: error.message, stack: error.stack };
+  if (error instanceof SandboxLimitReached)
+    return { kind: error.kind, phase, message: error.message, stack: error.stack };
   // The rule puts "threw" before the message, so a thrown number reads "threw 42".
   return { kind: 'threw', phase, message: thrownText(error), stack: thrownStack(error) };
 }
@@ -468,7 +500,10 @@ class ChunkedColumn<T extends Int32Array | Float64Array> {
 }
 
 /** One contiguous column from its chunks (for callers in the same process: tests and the benchmark). */
-export function joinChunks<T extends Int32Array | Float64Array>(chunks: readonly T[], kind: new (length: number) => T): T {
+export function joinChunks<T extends Int32Array | Float64Array>(
+  chunks: readonly T[],
+  kind: new (length: number) => T,
+): T {
   let length = 0;
   for (const chunk of chunks) length += chunk.length;
   const out = new kind(length);
@@ -517,7 +552,9 @@ export function enumerateInChunks(model: ModelFunctions, options: EnumerationOpt
   const termIndex = new Map<string, number>();
   for (const term of options.declaredTerms) termIndex.set(term, termIndex.size);
   const strictTerms = options.declaredTerms.length > 0;
-  const termColumns: (ChunkedColumn<Float64Array> | undefined)[] = options.declaredTerms.map(() => new ChunkedColumn(Float64Array));
+  const termColumns: (ChunkedColumn<Float64Array> | undefined)[] = options.declaredTerms.map(
+    () => new ChunkedColumn(Float64Array),
+  );
   const termScratch: number[] = [];
   const actionIndex = new Map<string, number>();
   const actionNames: string[] = [];
@@ -602,7 +639,12 @@ export function enumerateInChunks(model: ModelFunctions, options: EnumerationOpt
       let sum = 0;
       entries.forEach((entry, i) => {
         const e = entry as { state?: unknown; probability?: unknown };
-        if (typeof e !== 'object' || e === null || typeof e.probability !== 'number' || !(e.probability >= 0 && e.probability <= 1)) {
+        if (
+          typeof e !== 'object' ||
+          e === null ||
+          typeof e.probability !== 'number' ||
+          !(e.probability >= 0 && e.probability <= 1)
+        ) {
           throw new MalformedValue(`startDistribution[${i}] needs a state and a probability between 0 and 1`);
         }
         sum += e.probability;
@@ -611,11 +653,15 @@ export function enumerateInChunks(model: ModelFunctions, options: EnumerationOpt
           startProbs.push(e.probability);
         }
       });
-      if (Math.abs(sum - 1) > 1e-9) throw new MalformedValue(`the startDistribution probabilities add up to ${sum}, not 1`);
+      if (Math.abs(sum - 1) > 1e-9)
+        throw new MalformedValue(`the startDistribution probabilities add up to ${sum}, not 1`);
     } else {
-      if (model.start === undefined) throw new MalformedValue('the model has no start state (give `start` or `startDistribution`)');
+      if (model.start === undefined)
+        throw new MalformedValue('the model has no start state (give `start` or `startDistribution`)');
       if (typeof model.start === 'function') {
-        throw new MalformedValue('an enumerable model needs `start` as a state value (or `startDistribution`), not a function that draws one');
+        throw new MalformedValue(
+          'an enumerable model needs `start` as a state value (or `startDistribution`), not a function that draws one',
+        );
       }
       startStates.push(addState(model.start, 'start'));
       startProbs.push(1);
@@ -643,7 +689,12 @@ export function enumerateInChunks(model: ModelFunctions, options: EnumerationOpt
       progress[0]++;
       const list = listOf(actions(state), 'the returned action list');
       if (list.length === 0) {
-        problem = { kind: 'dead-end', phase, message: 'actions() returned no action for a state that is not terminal', state: keys[current] };
+        problem = {
+          kind: 'dead-end',
+          phase,
+          message: 'actions() returned no action for a state that is not terminal',
+          state: keys[current],
+        };
         break;
       }
       const firstChoice = choiceAction.length;
@@ -667,20 +718,36 @@ export function enumerateInChunks(model: ModelFunctions, options: EnumerationOpt
         outcomeStart.push(target.length);
         progress[0]++;
         const outs = listOf(outcomes(state, action), 'the returned outcome list');
-        if (outs.length === 0) throw new MalformedValue('outcomes() returned an empty list; every action needs at least one outcome');
+        if (outs.length === 0)
+          throw new MalformedValue('outcomes() returned an empty list; every action needs at least one outcome');
         let sum = 0;
         for (let o = 0; o < outs.length; o++) {
           const out = outs[o] as { state?: unknown; probability?: unknown; reward?: unknown };
-          if (typeof out !== 'object' || out === null) throw new MalformedValue(`outcome ${o} is ${describeValue(out)}; expected { state, probability, reward }`);
+          if (typeof out !== 'object' || out === null)
+            throw new MalformedValue(`outcome ${o} is ${describeValue(out)}; expected { state, probability, reward }`);
           const p = out.probability;
-          if (typeof p !== 'number' || Number.isNaN(p)) throw new MalformedValue(p === undefined ? noProbability(out, o) : `outcome ${o} has probability ${describeValue(p)}; expected a number`);
+          if (typeof p !== 'number' || Number.isNaN(p))
+            throw new MalformedValue(
+              p === undefined
+                ? noProbability(out, o)
+                : `outcome ${o} has probability ${describeValue(p)}; expected a number`,
+            );
           if (p < 0 || p > 1) throw new MalformedValue(`outcome ${o} has probability ${p}, outside [0, 1]`);
           sum += p;
           if (p === 0) continue;
           if (typeof out.reward !== 'number') termScratch.length = 0;
-          const r = typeof out.reward === 'number' ? out.reward : readReward(out.reward, termIndex, termScratch, strictTerms, `outcome ${o}'s reward`);
+          const r =
+            typeof out.reward === 'number'
+              ? out.reward
+              : readReward(out.reward, termIndex, termScratch, strictTerms, `outcome ${o}'s reward`);
           if (!Number.isFinite(r)) {
-            problem = { kind: 'non-finite-reward', phase, message: `the reward ${r} in outcome ${o}`, state: keys[current], action: name };
+            problem = {
+              kind: 'non-finite-reward',
+              phase,
+              message: `the reward ${r} in outcome ${o}`,
+              state: keys[current],
+              action: name,
+            };
             break;
           }
           const next = addState(out.state, () => `outcome ${o}'s state`);
@@ -700,7 +767,13 @@ export function enumerateInChunks(model: ModelFunctions, options: EnumerationOpt
         }
         if (problem || capped) break;
         if (Math.abs(sum - 1) > 1e-9) {
-          problem = { kind: 'probability-sum', phase, message: `the outcome probabilities add up to ${sum}, not 1`, state: keys[current], action: name };
+          problem = {
+            kind: 'probability-sum',
+            phase,
+            message: `the outcome probabilities add up to ${sum}, not 1`,
+            state: keys[current],
+            action: name,
+          };
           break;
         }
       }
@@ -751,7 +824,13 @@ interface OutcomeReader {
  * Calls `actions` and `outcomes` again on evenly spread states and compares the answers with the
  * enumerated ones; a model that answers differently cannot be analysed exactly.
  */
-function recheckDeterminism(model: ModelFunctions, values: unknown[], result: EnumerationHead, outcomes: OutcomeReader, options: EnumerationOptions): void {
+function recheckDeterminism(
+  model: ModelFunctions,
+  values: unknown[],
+  result: EnumerationHead,
+  outcomes: OutcomeReader,
+  options: EnumerationOptions,
+): void {
   const stateCount = result.stateKeys.length;
   const picks = Math.min(options.recheckChoices, stateCount);
   if (picks <= 0) return;
@@ -783,7 +862,13 @@ function recheckDeterminism(model: ModelFunctions, values: unknown[], result: En
           })
           .join('; ');
         if (firstText !== secondText) {
-          result.nondeterminism.push({ phase, state: result.stateKeys[s], action: result.actionNames[result.choiceAction[c]], first: firstText, second: secondText });
+          result.nondeterminism.push({
+            phase,
+            state: result.stateKeys[s],
+            action: result.actionNames[result.choiceAction[c]],
+            first: firstText,
+            second: secondText,
+          });
           break;
         }
       }
@@ -796,7 +881,8 @@ function recheckDeterminism(model: ModelFunctions, values: unknown[], result: En
 
 function listedActions(result: EnumerationHead, s: number): string[] {
   const out: string[] = [];
-  for (let c = result.choiceStart[s]; c < result.choiceStart[s + 1]; c++) out.push(result.actionNames[result.choiceAction[c]]);
+  for (let c = result.choiceStart[s]; c < result.choiceStart[s + 1]; c++)
+    out.push(result.actionNames[result.choiceAction[c]]);
   return out;
 }
 
@@ -903,7 +989,8 @@ export function rolloutModel(model: ModelFunctions, options: RolloutOptions, rec
       progress[1] = 1;
       progress[0]++;
       if (startFunction) state = startFunction(rng);
-      else if (startDistribution !== undefined) state = drawStart(listOf(startDistribution, 'startDistribution'), generator);
+      else if (startDistribution !== undefined)
+        state = drawStart(listOf(startDistribution, 'startDistribution'), generator);
       else state = structuredClone(model.start);
       let hash = e < options.fingerprintEpisodes ? fnv(0x811c9dc5, describeValue(state)) : 0;
       let total = 0;
@@ -929,7 +1016,14 @@ export function rolloutModel(model: ModelFunctions, options: RolloutOptions, rec
         if (!Array.isArray(list)) listOf(list, 'the returned action list');
         const count = (list as unknown[]).length;
         if (count === 0) {
-          return stopped({ kind: 'dead-end', phase, message: 'actions() returned no action for a state that is not terminal', state: describeValue(state), episode, step: t });
+          return stopped({
+            kind: 'dead-end',
+            phase,
+            message: 'actions() returned no action for a state that is not terminal',
+            state: describeValue(state),
+            episode,
+            step: t,
+          });
         }
         action = (list as unknown[])[chooser.nextInt(count)];
         phase = sample ? 'sample' : 'outcomes';
@@ -939,11 +1033,20 @@ export function rolloutModel(model: ModelFunctions, options: RolloutOptions, rec
         const next = drawn.state;
         const reward = drawn.reward;
         if (recorder) scratch.length = 0;
-        const r = typeof reward === 'number' ? reward : readReward(reward, termIndex, scratch, strictTerms, 'the reward');
+        const r =
+          typeof reward === 'number' ? reward : readReward(reward, termIndex, scratch, strictTerms, 'the reward');
         if (!Number.isFinite(r) && !nonFinite) {
           nonFinite = true;
           nonFiniteEpisodes++;
-          firstNonFinite ??= { kind: 'non-finite-reward', phase, message: `the reward ${r}`, state: describeValue(state), action: String(action), episode, step: t };
+          firstNonFinite ??= {
+            kind: 'non-finite-reward',
+            phase,
+            message: `the reward ${r}`,
+            state: describeValue(state),
+            action: String(action),
+            episode,
+            step: t,
+          };
         }
         total += weight * r;
         weight *= discount;
@@ -965,7 +1068,14 @@ export function rolloutModel(model: ModelFunctions, options: RolloutOptions, rec
       if (e < options.fingerprintEpisodes) fingerprints.push((hash >>> 0).toString(16));
     }
   } catch (error) {
-    return stopped(problemOf(error, phase, { state: describeValue(state), action: action === undefined ? undefined : String(action), episode: firstEpisode + e, step: t }));
+    return stopped(
+      problemOf(error, phase, {
+        state: describeValue(state),
+        action: action === undefined ? undefined : String(action),
+        episode: firstEpisode + e,
+        step: t,
+      }),
+    );
   }
   return { records: { returns, lengths, ends }, nonFiniteEpisodes, firstNonFinite, fingerprints, completed: episodes };
 
@@ -985,7 +1095,12 @@ export function rolloutModel(model: ModelFunctions, options: RolloutOptions, rec
  * One sampled step from `state` under `action`: `sample` when the model has it, else an outcome of
  * `outcomes` drawn by its probability. `terminal` is the kind `sample` said (checked by the caller).
  */
-export function drawTransition(model: ModelFunctions, state: unknown, action: unknown, rng: ModelRng): { state: unknown; reward: unknown; terminal?: unknown } {
+export function drawTransition(
+  model: ModelFunctions,
+  state: unknown,
+  action: unknown,
+  rng: ModelRng,
+): { state: unknown; reward: unknown; terminal?: unknown } {
   if (model.sample) {
     const result = model.sample(state, action, rng) as { state?: unknown; reward?: unknown; terminal?: unknown };
     if (typeof result !== 'object' || result === null || !('state' in result)) {
@@ -996,7 +1111,10 @@ export function drawTransition(model: ModelFunctions, state: unknown, action: un
     }
     return result as { state: unknown; reward: unknown; terminal?: unknown };
   }
-  const drawn = drawOutcome(listOf(model.outcomes!(state, action), 'the returned outcome list'), rng.generator.nextFloat());
+  const drawn = drawOutcome(
+    listOf(model.outcomes!(state, action), 'the returned outcome list'),
+    rng.generator.nextFloat(),
+  );
   return { state: drawn.state, reward: drawn.reward };
 }
 

@@ -59,7 +59,12 @@ const EXPLORE_STREAM = 2;
 export class TransitionRecorder implements StepRecorder {
   private readonly nodes: Array<{ key: string; terminal: number }> = [];
   /** Per terminal code (0 to 3), key to node. */
-  private readonly nodeIndex = [new Map<string, number>(), new Map<string, number>(), new Map<string, number>(), new Map<string, number>()];
+  private readonly nodeIndex = [
+    new Map<string, number>(),
+    new Map<string, number>(),
+    new Map<string, number>(),
+    new Map<string, number>(),
+  ];
   /** A copy of the first state seen under each non-terminal key: where exploration starts from. */
   private readonly values: unknown[] = [];
   private readonly expanded: number[] = [];
@@ -133,7 +138,15 @@ export class TransitionRecorder implements StepRecorder {
         const reward = log.stepReward[k];
         // A non-finite reward stops recording before any key is formed, so its target is not logged.
         if (to < 0) this.step(log.actions[log.stepAction[k]], undefined, reward, terms, 0, '');
-        else this.step(log.actions[log.stepAction[k]], log.nodeValue[to], reward, terms, log.nodeCode[to], log.nodeKey[to]);
+        else
+          this.step(
+            log.actions[log.stepAction[k]],
+            log.nodeValue[to],
+            reward,
+            terms,
+            log.nodeCode[to],
+            log.nodeKey[to],
+          );
       }
       if (failsAt >= 0) {
         if (!this.stopped && this.current >= 0) {
@@ -170,7 +183,12 @@ export class TransitionRecorder implements StepRecorder {
         this.progress[0]++;
         const list = listOf(model.actions!(structuredClone(state)), 'the returned action list');
         if (list.length === 0) {
-          this.problem = { kind: 'dead-end', phase, message: 'actions() returned no action for a state that is not terminal', state: describeValue(state) };
+          this.problem = {
+            kind: 'dead-end',
+            phase,
+            message: 'actions() returned no action for a state that is not terminal',
+            state: describeValue(state),
+          };
           this.stopped = 'a state offered no action';
           return;
         }
@@ -189,7 +207,10 @@ export class TransitionRecorder implements StepRecorder {
             this.progress[0]++;
             const drawn = drawTransition(model, structuredClone(state), action, rng);
             terms.length = 0;
-            const reward = typeof drawn.reward === 'number' ? drawn.reward : readReward(drawn.reward, termIndex, terms, strictTerms, 'the reward');
+            const reward =
+              typeof drawn.reward === 'number'
+                ? drawn.reward
+                : readReward(drawn.reward, termIndex, terms, strictTerms, 'the reward');
             let code = terminalCode(drawn.terminal, 'the returned terminal kind');
             if (code === 0 && model.terminal) {
               phase = 'terminal';
@@ -204,7 +225,10 @@ export class TransitionRecorder implements StepRecorder {
       }
       this.exploreComplete = !this.stopped && !this.exploreCut;
     } catch (error) {
-      this.problem = problemOf(error, phase, { state: describeValue(state), action: action === undefined ? undefined : String(action) });
+      this.problem = problemOf(error, phase, {
+        state: describeValue(state),
+        action: action === undefined ? undefined : String(action),
+      });
       this.stopped = `the model code failed while it was explored (${this.problem.message})`;
     }
   }
@@ -227,7 +251,15 @@ export class TransitionRecorder implements StepRecorder {
   }
 
   /** Counts one transition; returns the target node, or -1 once recording has stopped. */
-  private record(from: number, action: string, next: unknown, reward: number, terms: readonly number[], code: number, key?: string): number {
+  private record(
+    from: number,
+    action: string,
+    next: unknown,
+    reward: number,
+    terms: readonly number[],
+    code: number,
+    key?: string,
+  ): number {
     if (!Number.isFinite(reward)) {
       this.stopped = `a sampled reward was ${reward}, so no mean reward can be formed`;
       return -1;
@@ -251,7 +283,14 @@ export class TransitionRecorder implements StepRecorder {
         outcome = mergeOutcomes(same);
         pair.outcomes = [...pair.outcomes.filter((o) => o.node !== to), outcome];
       } else {
-        outcome = { node: to, count: 0, rewardSum: 0, rewardLow: reward, rewardHigh: reward, termSums: this.termNames.map(() => 0) };
+        outcome = {
+          node: to,
+          count: 0,
+          rewardSum: 0,
+          rewardLow: reward,
+          rewardHigh: reward,
+          termSums: this.termNames.map(() => 0),
+        };
         pair.outcomes.push(outcome);
       }
     }
@@ -337,7 +376,12 @@ export interface TrajectoryLog {
  * non-finite reward, or more distinct keys than the cap.
  */
 export class TrajectoryLogger implements StepRecorder {
-  private readonly nodeIndex = [new Map<string, number>(), new Map<string, number>(), new Map<string, number>(), new Map<string, number>()];
+  private readonly nodeIndex = [
+    new Map<string, number>(),
+    new Map<string, number>(),
+    new Map<string, number>(),
+    new Map<string, number>(),
+  ];
   private readonly log = { nodeKey: [] as string[], nodeCode: [] as number[], nodeValue: [] as unknown[] };
   private readonly beginNode: number[] = [];
   private readonly episodeStart: number[] = [];
@@ -412,7 +456,11 @@ export class TrajectoryLogger implements StepRecorder {
       this.progress[1] = 6;
       key = keyOfState(this.model, state);
     } catch (error) {
-      this.failure = { episode: step < 0 ? this.beginNode.length : this.beginNode.length - 1, step, problem: problemOf(error, 'stateKey', { state: describeValue(state) }) };
+      this.failure = {
+        episode: step < 0 ? this.beginNode.length : this.beginNode.length - 1,
+        step,
+        problem: problemOf(error, 'stateKey', { state: describeValue(state) }),
+      };
       this.done = true;
       return -1;
     }

@@ -14,7 +14,18 @@ import { writeSync } from 'node:fs';
 import { createRequire } from 'node:module';
 import { getHeapStatistics } from 'node:v8';
 import { compileFunction } from 'node:vm';
-import { BEAT_FD, COLUMN_FD, LOOP_CHECK, MODEL_SCRIPT_NAME, OUTPUT_MARK, type ChildLimits, type HostRequest, type ModelDescription, type RandomnessCall, type WorkerReply } from './protocol';
+import {
+  BEAT_FD,
+  COLUMN_FD,
+  LOOP_CHECK,
+  MODEL_SCRIPT_NAME,
+  OUTPUT_MARK,
+  type ChildLimits,
+  type HostRequest,
+  type ModelDescription,
+  type RandomnessCall,
+  type WorkerReply,
+} from './protocol';
 import {
   describeValue,
   enumerateInChunks,
@@ -52,17 +63,25 @@ function refuseAll(target: object | undefined, what: string, only?: RegExp): voi
     const descriptor = Object.getOwnPropertyDescriptor(target, key);
     if (!descriptor || typeof descriptor.value !== 'function' || !descriptor.configurable) continue;
     const refusing = function refused(): never {
-      throw new Error(`${what}.${key} is not available to model code (the sandbox has no network and starts no processes)`);
+      throw new Error(
+        `${what}.${key} is not available to model code (the sandbox has no network and starts no processes)`,
+      );
     };
     try {
-      Object.defineProperty(target, key, { value: refusing, writable: false, configurable: false, enumerable: descriptor.enumerable });
+      Object.defineProperty(target, key, {
+        value: refusing,
+        writable: false,
+        configurable: false,
+        enumerable: descriptor.enumerable,
+      });
     } catch {
       // A property that cannot be redefined stays; the permission model still applies.
     }
   }
 }
 
-const OPENING = /^(connect|listen|bind|send|request|open|resolve|lookup|reverse|addMembership|addSourceSpecificMembership|setServers)/;
+const OPENING =
+  /^(connect|listen|bind|send|request|open|resolve|lookup|reverse|addMembership|addSourceSpecificMembership|setServers)/;
 
 /**
  * Node 20's permission model covers files, child processes and workers but not the network, so the
@@ -72,7 +91,21 @@ const OPENING = /^(connect|listen|bind|send|request|open|resolve|lookup|reverse|
  */
 function lockDown(): void {
   const load = createRequire(__filename);
-  const blocked = ['net', 'tls', 'http', 'https', 'http2', 'dgram', 'dns', 'dns/promises', 'child_process', 'cluster', 'worker_threads', 'inspector', 'inspector/promises'];
+  const blocked = [
+    'net',
+    'tls',
+    'http',
+    'https',
+    'http2',
+    'dgram',
+    'dns',
+    'dns/promises',
+    'child_process',
+    'cluster',
+    'worker_threads',
+    'inspector',
+    'inspector/promises',
+  ];
   for (const id of blocked) {
     let exported: Record<string, unknown> | undefined;
     try {
@@ -83,7 +116,8 @@ function lockDown(): void {
     // The classes first: refusing the module's functions replaces the references to them. Only
     // the methods that open something: the stdout and stderr streams are net.Socket objects too.
     for (const value of Object.values(exported)) {
-      if (typeof value === 'function' && value.prototype) refuseAll(value.prototype as object, `${id}.${value.name || 'class'}`, OPENING);
+      if (typeof value === 'function' && value.prototype)
+        refuseAll(value.prototype as object, `${id}.${value.name || 'class'}`, OPENING);
     }
     refuseAll(exported, id);
   }
@@ -117,7 +151,21 @@ function lockDown(): void {
   process.kill = refuse('process.kill') as typeof process.kill;
   process.abort = refuse('process.abort') as typeof process.abort;
   const internals = process as unknown as Record<string, unknown>;
-  for (const name of ['_kill', '_debugProcess', 'reallyExit', 'binding', '_linkedBinding', 'dlopen', 'setuid', 'setgid', 'seteuid', 'setegid', 'setgroups', 'initgroups', 'chdir']) {
+  for (const name of [
+    '_kill',
+    '_debugProcess',
+    'reallyExit',
+    'binding',
+    '_linkedBinding',
+    'dlopen',
+    'setuid',
+    'setgid',
+    'seteuid',
+    'setegid',
+    'setgroups',
+    'initgroups',
+    'chdir',
+  ]) {
     if (typeof internals[name] === 'function') internals[name] = refuse(`process.${name}`);
   }
   const os = load('os') as Record<string, unknown>;
@@ -138,7 +186,12 @@ function watch(target: object | undefined, property: string, api: string): void 
     return (original as (...a: unknown[]) => unknown).apply(this, args);
   };
   // Some of these are getter-only properties; redefine them as plain values.
-  Object.defineProperty(target, property, { value: watched, writable: true, configurable: true, enumerable: descriptor?.enumerable ?? true });
+  Object.defineProperty(target, property, {
+    value: watched,
+    writable: true,
+    configurable: true,
+    enumerable: descriptor?.enumerable ?? true,
+  });
 }
 
 function watchRandomness(): void {
@@ -149,7 +202,8 @@ function watchRandomness(): void {
   watch(globalThis.crypto, 'randomUUID', 'crypto.randomUUID');
   // The module object itself (a namespace import would be a frozen copy that patching cannot reach).
   const nodeCrypto = require('node:crypto') as Record<string, unknown>;
-  for (const name of ['randomInt', 'randomBytes', 'randomUUID', 'randomFillSync', 'getRandomValues']) watch(nodeCrypto, name, `crypto.${name}`);
+  for (const name of ['randomInt', 'randomBytes', 'randomUUID', 'randomFillSync', 'getRandomValues'])
+    watch(nodeCrypto, name, `crypto.${name}`);
 }
 
 // ---- Limits the child checks itself (an honest model is stopped with its call and line) ----
@@ -184,7 +238,10 @@ function nextStride(stride: number, elapsed: number, low: number, high: number):
 function checkJobTime(at: number): void {
   if (at - jobBegan > limits.jobTimeoutMs) {
     const seconds = Math.round(limits.jobTimeoutMs / 1000);
-    throw new SandboxLimitReached('timeout', `was still running when the job's time limit of ${seconds} s ran out (the model is too slow or too large)`);
+    throw new SandboxLimitReached(
+      'timeout',
+      `was still running when the job's time limit of ${seconds} s ran out (the model is too slow or too large)`,
+    );
   }
 }
 
@@ -270,7 +327,9 @@ function takeRandomness(): RandomnessCall[] {
 function load(code: string, specPath: string): WorkerReply {
   const module = { exports: {} as Record<string, unknown> };
   try {
-    const run = compileFunction(code, ['exports', 'require', 'module', '__filename', '__dirname'], { filename: MODEL_SCRIPT_NAME });
+    const run = compileFunction(code, ['exports', 'require', 'module', '__filename', '__dirname'], {
+      filename: MODEL_SCRIPT_NAME,
+    });
     run(module.exports, createRequire(specPath), module, specPath, specPath.replace(/[\\/][^\\/]*$/, ''));
   } catch (error) {
     return { type: 'problem', problem: thrownProblem(error, 'load'), randomness: takeRandomness() };
@@ -279,7 +338,11 @@ function load(code: string, specPath: string): WorkerReply {
   if (typeof exported !== 'object' || exported === null) {
     return {
       type: 'problem',
-      problem: { kind: 'malformed', phase: 'load', message: `the default export is ${describeValue(exported)}; expected defineMdp({...})` },
+      problem: {
+        kind: 'malformed',
+        phase: 'load',
+        message: `the default export is ${describeValue(exported)}; expected defineMdp({...})`,
+      },
       randomness: takeRandomness(),
     };
   }
@@ -360,11 +423,20 @@ function handle(request: HostRequest): WorkerReply {
     if (!recorder) return { type: 'fault', message: 'no recording is held in this process' };
     for (const log of request.logs) recorder.replay(log);
     recorder.explore(request.seed, request.declaredTerms);
-    return { type: 'recorded', counts: recorder.result(), countsProblem: recorder.problem, randomness: takeRandomness() };
+    return {
+      type: 'recorded',
+      counts: recorder.result(),
+      countsProblem: recorder.problem,
+      randomness: takeRandomness(),
+    };
   }
   const options: RolloutOptions = { ...request.options, progress };
-  const recorder = options.record ? new TransitionRecorder(model, options.record, options.declaredTerms, progress) : undefined;
-  const logger = options.log ? new TrajectoryLogger(model, options.log, options.declaredTerms.length, progress) : undefined;
+  const recorder = options.record
+    ? new TransitionRecorder(model, options.record, options.declaredTerms, progress)
+    : undefined;
+  const logger = options.log
+    ? new TrajectoryLogger(model, options.log, options.declaredTerms.length, progress)
+    : undefined;
   const run = rolloutModel(model, options, recorder ?? logger);
   if (logger) run.log = logger.result();
   if (recorder && options.holdRecording) heldRecorder = run.problem ? undefined : recorder;
@@ -392,7 +464,12 @@ function fault(error: unknown): void {
 
 lockDown();
 watchRandomness();
-Object.defineProperty(globalThis, LOOP_CHECK, { value: loopCheck, writable: false, configurable: false, enumerable: false });
+Object.defineProperty(globalThis, LOOP_CHECK, {
+  value: loopCheck,
+  writable: false,
+  configurable: false,
+  enumerable: false,
+});
 (globalThis as Record<string, unknown>).defineMdp = (definition: unknown) => definition;
 process.on('uncaughtException', fault);
 process.on('unhandledRejection', fault);

@@ -44,7 +44,10 @@ interface CliInterval {
 }
 
 /** `episcope check --format json --values` on a file, run on the extension host's own runtime. */
-function cliValues(file: string, cli: string): Record<string, { optimal: CliInterval; worst: CliInterval; random: CliInterval }> {
+function cliValues(
+  file: string,
+  cli: string,
+): Record<string, { optimal: CliInterval; worst: CliInterval; random: CliInterval }> {
   const result = spawnSync(process.execPath, [cli, 'check', '--format', 'json', '--values', file], {
     encoding: 'utf8',
     env: { ...process.env, ELECTRON_RUN_AS_NODE: '1' },
@@ -59,7 +62,10 @@ test('the extension is installed, declares limited support in untrusted folders,
   const extension = vscode.extensions.getExtension(EXTENSION_ID);
   check(extension, `extension ${EXTENSION_ID} is not installed`);
   const untrusted = extension.packageJSON?.capabilities?.untrustedWorkspaces;
-  check(untrusted?.supported === 'limited' && typeof untrusted.description === 'string', 'untrustedWorkspaces should be "limited" with a reason');
+  check(
+    untrusted?.supported === 'limited' && typeof untrusted.description === 'string',
+    'untrustedWorkspaces should be "limited" with a reason',
+  );
   const [uri] = await vscode.workspace.findFiles(`**/${SPEC}`);
   check(uri, `${SPEC} is not in the workspace`);
   document = await vscode.workspace.openTextDocument(uri);
@@ -74,29 +80,42 @@ test('a probability-sum error is reported with the rule id and source', async ()
   });
   check(diagnostic.severity === vscode.DiagnosticSeverity.Error, 'probability-sum is an error by default');
   check(/1\.1/.test(diagnostic.message), `the message should give the sum 1.1: ${diagnostic.message}`);
-  check(document.lineAt(diagnostic.range.start.line).text.includes('"action": "scan"'), 'the diagnostic sits on the "scan" transition');
+  check(
+    document.lineAt(diagnostic.range.start.line).text.includes('"action": "scan"'),
+    'the diagnostic sits on the "scan" transition',
+  );
 });
 
 test('the normalise quick fix removes the diagnostic', async () => {
   // The server may still be working on the version it analysed, and a request can come back
   // cancelled while it does: ask again until the fix is offered, as the lightbulb would.
   let offered = 'none';
-  const fix = await eventually('a normalise fix', async () => {
-    const [diagnostic] = episcopeDiagnostics(document.uri, 'probability-sum');
-    check(diagnostic, 'the probability-sum diagnostic went away before the fix');
-    try {
-      const actions = await vscode.commands.executeCommand<vscode.CodeAction[]>('vscode.executeCodeActionProvider', document.uri, diagnostic.range);
-      offered = actions.map((action) => action.title).join(' | ') || 'none';
-      return actions.find((action) => /normali[sz]e/i.test(action.title) && action.edit);
-    } catch (error) {
-      offered = `request failed: ${error instanceof Error ? error.message : String(error)}`;
-      return undefined;
-    }
-  }, 30_000).catch((error: Error) => {
+  const fix = await eventually(
+    'a normalise fix',
+    async () => {
+      const [diagnostic] = episcopeDiagnostics(document.uri, 'probability-sum');
+      check(diagnostic, 'the probability-sum diagnostic went away before the fix');
+      try {
+        const actions = await vscode.commands.executeCommand<vscode.CodeAction[]>(
+          'vscode.executeCodeActionProvider',
+          document.uri,
+          diagnostic.range,
+        );
+        offered = actions.map((action) => action.title).join(' | ') || 'none';
+        return actions.find((action) => /normali[sz]e/i.test(action.title) && action.edit);
+      } catch (error) {
+        offered = `request failed: ${error instanceof Error ? error.message : String(error)}`;
+        return undefined;
+      }
+    },
+    30_000,
+  ).catch((error: Error) => {
     throw new Error(`${error.message}; last answer: ${offered}`);
   });
   check(await vscode.workspace.applyEdit(fix.edit!), 'the edit applies');
-  await eventually('the probability-sum diagnostic to go', () => (episcopeDiagnostics(document.uri, 'probability-sum').length === 0 ? true : undefined));
+  await eventually('the probability-sum diagnostic to go', () =>
+    episcopeDiagnostics(document.uri, 'probability-sum').length === 0 ? true : undefined,
+  );
   check(await document.save(), 'the fixed spec saves');
 });
 
@@ -105,7 +124,11 @@ test('hovering a state shows the values the command line prints', async () => {
   let lastHover = 'none';
   const text = await eventually('a hover with values', async () => {
     try {
-      const hovers = await vscode.commands.executeCommand<vscode.Hover[]>('vscode.executeHoverProvider', document.uri, position);
+      const hovers = await vscode.commands.executeCommand<vscode.Hover[]>(
+        'vscode.executeHoverProvider',
+        document.uri,
+        position,
+      );
       lastHover = hoverText(hovers);
     } catch (error) {
       lastHover = `request failed: ${error instanceof Error ? error.message : String(error)}`;
@@ -114,7 +137,8 @@ test('hovering a state shows the values the command line prints', async () => {
   }).catch((error: Error) => {
     throw new Error(`${error.message}; last hover: ${lastHover}`);
   });
-  const cli = process.env.EPISCOPE_CLI ?? join(vscode.extensions.getExtension(EXTENSION_ID)!.extensionPath, 'dist', 'cli.js');
+  const cli =
+    process.env.EPISCOPE_CLI ?? join(vscode.extensions.getExtension(EXTENSION_ID)!.extensionPath, 'dist', 'cli.js');
   const values = cliValues(document.uri.fsPath, cli).incoming;
   for (const policy of ['optimal', 'worst', 'random'] as const) {
     const cell = new RegExp(`\\| ${policy} \\| ([^|]+) \\|`).exec(text);
@@ -129,7 +153,10 @@ test('hovering a state shows the values the command line prints', async () => {
   // Hand solution of the Bellman equations of this one-action-per-state spec after the fix
   // (common practice): V(incoming) = 24.91 / 7.58; see test/e2e/editor.e2e.test.ts.
   const optimal = shownInterval(new RegExp('\\| optimal \\| ([^|]+) \\|').exec(text)![1]);
-  check(Math.abs((optimal.lower + optimal.upper) / 2 - 24.91 / 7.58) < 0.01, `optimal value ${optimal.lower} should be about 3.286`);
+  check(
+    Math.abs((optimal.lower + optimal.upper) / 2 - 24.91 / 7.58) < 0.01,
+    `optimal value ${optimal.lower} should be about 3.286`,
+  );
 });
 
 export function run(): Promise<void> {

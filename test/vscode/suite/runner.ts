@@ -22,7 +22,9 @@ export async function runChecks(log: (line: string) => void = (line) => console.
       log(`  ok   ${name} (${Date.now() - started} ms)`);
     } catch (error) {
       failed.push(name);
-      log(`  FAIL ${name} (${Date.now() - started} ms)\n${error instanceof Error ? (error.stack ?? error.message) : String(error)}`);
+      log(
+        `  FAIL ${name} (${Date.now() - started} ms)\n${error instanceof Error ? (error.stack ?? error.message) : String(error)}`,
+      );
     }
   }
   log(`${passed} passed, ${failed.length} failed`);
@@ -30,7 +32,11 @@ export async function runChecks(log: (line: string) => void = (line) => console.
 }
 
 /** Polls `probe` until it returns a value other than undefined, or fails with `what` after `timeoutMs`. */
-export async function eventually<T>(what: string, probe: () => T | undefined | Promise<T | undefined>, timeoutMs = 60_000): Promise<T> {
+export async function eventually<T>(
+  what: string,
+  probe: () => T | undefined | Promise<T | undefined>,
+  timeoutMs = 60_000,
+): Promise<T> {
   const deadline = Date.now() + timeoutMs;
   for (;;) {
     const value = await probe();

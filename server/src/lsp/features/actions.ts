@@ -38,7 +38,10 @@ export function registerActions(server: ServerState): void {
         diagnostics,
         mapOffset: (offset, version) => server.documents.fromVersion(uri, offset, version),
         newConfigFolder: path ? folderFor(server.workspaceFolders, path) : undefined,
-        configFile: configFile && configText !== undefined ? { path: configFile.path, text: configText, version: openConfig?.version ?? null } : undefined,
+        configFile:
+          configFile && configText !== undefined
+            ? { path: configFile.path, text: configText, version: openConfig?.version ?? null }
+            : undefined,
         documentChanges: !!edits?.documentChanges,
         createFiles: !!edits?.resourceOperations?.includes('create'),
         commands: true,

@@ -64,16 +64,27 @@ export function analysisCompleted(server: ServerState, snapshot: AnalysisSnapsho
   if (server.scheduler.latest(snapshot.uri) === snapshot) server.documents.forgetBefore(snapshot.uri, snapshot.version);
   if (!current) return;
   server.sendStatus({ uri: snapshot.uri, state: 'done', text: snapshot.status });
-  if (!server.pullDiagnostics) void server.connection.sendDiagnostics({ uri: snapshot.uri, version: snapshot.version, diagnostics: snapshot.diagnostics });
+  if (!server.pullDiagnostics)
+    void server.connection.sendDiagnostics({
+      uri: snapshot.uri,
+      version: snapshot.version,
+      diagnostics: snapshot.diagnostics,
+    });
   refreshLensIfChanged(server, snapshot);
 }
 
-export function analysisFailed(server: ServerState, uri: string, job: JobInput | undefined, error: Error): AnalysisSnapshot {
+export function analysisFailed(
+  server: ServerState,
+  uri: string,
+  job: JobInput | undefined,
+  error: Error,
+): AnalysisSnapshot {
   server.logError(`Analysing ${uri} failed: ${error.stack ?? error.message}`);
   server.sendStatus({ uri, state: 'failed', text: `analysis failed: ${error.message}` });
   const snapshot = failedSnapshot(uri, job?.version ?? server.documents.get(uri)?.version ?? 0, error);
   server.nextResultId(snapshot);
-  if (!server.pullDiagnostics) void server.connection.sendDiagnostics({ uri, version: snapshot.version, diagnostics: snapshot.diagnostics });
+  if (!server.pullDiagnostics)
+    void server.connection.sendDiagnostics({ uri, version: snapshot.version, diagnostics: snapshot.diagnostics });
   return snapshot;
 }
 
@@ -124,23 +135,29 @@ export function pushConfigFindings(server: ServerState, snapshot: AnalysisSnapsh
 /** Answers `textDocument/diagnostic` (pull) from the current analysis, waiting for it if it runs. */
 export function registerDiagnostics(server: ServerState): void {
   server.connection.languages.diagnostics.on(
-    server.guard('textDocument/diagnostic', { kind: DocumentDiagnosticReportKind.Full, items: [] } as DocumentDiagnosticReport, async (params, token) => {
-      const uri = params.textDocument.uri;
-      if (isConfigUri(uri)) {
-        const file = server.configFiles.get(uri);
-        const current = file && file.text === server.documents.get(uri)?.getText();
-        return { kind: DocumentDiagnosticReportKind.Full, items: current ? file.diagnostics : [] };
-      }
-      if (!isSpecUri(uri) || !server.documents.get(uri)) return { kind: DocumentDiagnosticReportKind.Full, items: [] };
-      const snapshot = await Promise.race([
-        server.scheduler.current(uri),
-        new Promise<'cancelled'>((resolve) => token.onCancellationRequested(() => resolve('cancelled'))),
-      ]);
-      if (snapshot === 'cancelled') throw new ResponseError(LSPErrorCodes.RequestCancelled, 'cancelled');
-      if (!snapshot) return { kind: DocumentDiagnosticReportKind.Full, items: [] };
-      const resultId = server.resultIds.get(snapshot);
-      if (resultId !== undefined && params.previousResultId === resultId) return { kind: DocumentDiagnosticReportKind.Unchanged, resultId };
-      return { kind: DocumentDiagnosticReportKind.Full, resultId, items: snapshot.diagnostics };
-    }),
+    server.guard(
+      'textDocument/diagnostic',
+      { kind: DocumentDiagnosticReportKind.Full, items: [] } as DocumentDiagnosticReport,
+      async (params, token) => {
+        const uri = params.textDocument.uri;
+        if (isConfigUri(uri)) {
+          const file = server.configFiles.get(uri);
+          const current = file && file.text === server.documents.get(uri)?.getText();
+          return { kind: DocumentDiagnosticReportKind.Full, items: current ? file.diagnostics : [] };
+        }
+        if (!isSpecUri(uri) || !server.documents.get(uri))
+          return { kind: DocumentDiagnosticReportKind.Full, items: [] };
+        const snapshot = await Promise.race([
+          server.scheduler.current(uri),
+          new Promise<'cancelled'>((resolve) => token.onCancellationRequested(() => resolve('cancelled'))),
+        ]);
+        if (snapshot === 'cancelled') throw new ResponseError(LSPErrorCodes.RequestCancelled, 'cancelled');
+        if (!snapshot) return { kind: DocumentDiagnosticReportKind.Full, items: [] };
+        const resultId = server.resultIds.get(snapshot);
+        if (resultId !== undefined && params.previousResultId === resultId)
+          return { kind: DocumentDiagnosticReportKind.Unchanged, resultId };
+        return { kind: DocumentDiagnosticReportKind.Full, resultId, items: snapshot.diagnostics };
+      },
+    ),
   );
 }

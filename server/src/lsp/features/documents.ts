@@ -16,7 +16,8 @@ export function registerDocumentSync(server: ServerState): void {
       documents.open(uri, languageId, version, text);
       if (isConfigUri(uri)) configChanged(server, uri);
       else if (isSpecUri(uri)) {
-        if (server.workspacePushed.delete(uri) && server.pullDiagnostics) void connection.sendDiagnostics({ uri, diagnostics: [] });
+        if (server.workspacePushed.delete(uri) && server.pullDiagnostics)
+          void connection.sendDiagnostics({ uri, diagnostics: [] });
         server.scheduler.schedule(uri, true);
       }
     }),
@@ -85,5 +86,6 @@ function reanalyseAll(server: ServerState): void {
   for (const document of server.documents.all()) {
     if (isSpecUri(document.uri)) server.scheduler.schedule(document.uri, true);
   }
-  if (server.pullDiagnostics && server.capabilities.workspace?.diagnostics?.refreshSupport) server.connection.languages.diagnostics.refresh();
+  if (server.pullDiagnostics && server.capabilities.workspace?.diagnostics?.refreshSupport)
+    server.connection.languages.diagnostics.refresh();
 }

@@ -7,7 +7,12 @@ import type { AnalysisSnapshot } from '../protocol';
 import type { ServerState } from '../state';
 
 /** The hover at `position` of the current text, from `snapshot` (possibly of an older version). */
-export function hoverFor(documents: DocumentStore, document: TextDocument, snapshot: AnalysisSnapshot, position: Position): Hover | null {
+export function hoverFor(
+  documents: DocumentStore,
+  document: TextDocument,
+  snapshot: AnalysisSnapshot,
+  position: Position,
+): Hover | null {
   const uri = document.uri;
   const offset = documents.toVersion(uri, document.offsetAt(position), snapshot.version);
   if (offset === undefined) return null;
@@ -15,10 +20,16 @@ export function hoverFor(documents: DocumentStore, document: TextDocument, snaps
   if (!answer) return null;
   const start = documents.fromVersion(uri, answer.start, snapshot.version);
   const end = documents.fromVersion(uri, answer.end, snapshot.version);
-  const stale = snapshot.version !== document.version ? '\n\n_From the analysis of an earlier version; a newer one is running._' : '';
+  const stale =
+    snapshot.version !== document.version
+      ? '\n\n_From the analysis of an earlier version; a newer one is running._'
+      : '';
   return {
     contents: { kind: 'markdown', value: answer.markdown + stale },
-    range: start !== undefined && end !== undefined ? { start: document.positionAt(start), end: document.positionAt(end) } : undefined,
+    range:
+      start !== undefined && end !== undefined
+        ? { start: document.positionAt(start), end: document.positionAt(end) }
+        : undefined,
   };
 }
 

@@ -10,7 +10,12 @@ export function lensesFor(documents: DocumentStore, document: TextDocument, snap
   const offset = documents.fromVersion(document.uri, snapshot.rootOffset, snapshot.version) ?? 0;
   const position = document.positionAt(offset);
   const range = { start: { line: position.line, character: 0 }, end: { line: position.line, character: 0 } };
-  const titles = snapshot.lens.length > 0 ? snapshot.lens : snapshot.notAnalysed ? [`Episcope: no values (${snapshot.notAnalysed})`] : [];
+  const titles =
+    snapshot.lens.length > 0
+      ? snapshot.lens
+      : snapshot.notAnalysed
+        ? [`Episcope: no values (${snapshot.notAnalysed})`]
+        : [];
   return titles.map((title) => ({ range, command: { title, command: '' } }));
 }
 
@@ -19,7 +24,8 @@ export function refreshLensIfChanged(server: ServerState, snapshot: AnalysisSnap
   const key = snapshot.lens.join('\n') || (snapshot.notAnalysed ?? '');
   if (server.lensShown.get(snapshot.uri) === key) return;
   server.lensShown.set(snapshot.uri, key);
-  if (server.capabilities.workspace?.codeLens?.refreshSupport) void server.connection.sendRequest(CodeLensRefreshRequest.type).catch(() => undefined);
+  if (server.capabilities.workspace?.codeLens?.refreshSupport)
+    void server.connection.sendRequest(CodeLensRefreshRequest.type).catch(() => undefined);
 }
 
 export function registerLens(server: ServerState): void {

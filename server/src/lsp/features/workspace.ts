@@ -6,7 +6,13 @@ import type { WorkspaceFolder } from 'vscode-languageserver/node';
 import { DiagnosticSeverity } from 'vscode-languageserver-protocol';
 import { isSpecPath } from '../../load/paths';
 import { JobCancelledError } from '../pool';
-import { COMMAND_ANALYZE_WORKSPACE, COMMAND_REVEAL, COMMAND_SHOW_RULE_DOC, type AnalysisSnapshot, type WorkspaceAnalysisSummary } from '../protocol';
+import {
+  COMMAND_ANALYZE_WORKSPACE,
+  COMMAND_REVEAL,
+  COMMAND_SHOW_RULE_DOC,
+  type AnalysisSnapshot,
+  type WorkspaceAnalysisSummary,
+} from '../protocol';
 import type { ServerState } from '../state';
 import { fileName, filePath, readOrUndefined } from '../uris';
 import { pushConfigFindings } from './diagnostics';
@@ -44,7 +50,9 @@ async function showRuleDocumentation(server: ServerState, rule: string): Promise
   }
   const text = file ? readOrUndefined(file) : undefined;
   void server.connection.window.showInformationMessage(
-    text ? text.split('\n').slice(0, 5).join(' ').replace(/[#*`]/g, '').trim() : `Rule ${rule}: run 'episcope explain ${rule}' for its documentation.`,
+    text
+      ? text.split('\n').slice(0, 5).join(' ').replace(/[#*`]/g, '').trim()
+      : `Rule ${rule}: run 'episcope explain ${rule}' for its documentation.`,
   );
   return true;
 }
@@ -56,7 +64,9 @@ async function analyseWorkspace(server: ServerState): Promise<WorkspaceAnalysisS
     if (root) collectSpecs(root, files);
   }
   const summary: WorkspaceAnalysisSummary = { files: 0, errors: 0, warnings: 0, infos: 0, failed: 0 };
-  const reporter = server.capabilities.window?.workDoneProgress ? await server.connection.window.createWorkDoneProgress() : undefined;
+  const reporter = server.capabilities.window?.workDoneProgress
+    ? await server.connection.window.createWorkDoneProgress()
+    : undefined;
   reporter?.begin('Episcope', 0, `Analysing ${files.length} spec files`, false);
   let done = 0;
   await Promise.all(
@@ -68,11 +78,15 @@ async function analyseWorkspace(server: ServerState): Promise<WorkspaceAnalysisS
         if (open) snapshot = await server.scheduler.current(uri);
         else snapshot = await server.pool.run(await server.job(uri, path, 0, readFileSync(path, 'utf8'))).promise;
       } catch (error) {
-        if (!(error instanceof JobCancelledError)) server.logError(`Analysing ${path} failed: ${error instanceof Error ? error.message : String(error)}`);
+        if (!(error instanceof JobCancelledError))
+          server.logError(`Analysing ${path} failed: ${error instanceof Error ? error.message : String(error)}`);
         summary.failed++;
       }
       done++;
-      reporter?.report(Math.round((100 * done) / Math.max(files.length, 1)), `${done}/${files.length}: ${fileName(uri)}`);
+      reporter?.report(
+        Math.round((100 * done) / Math.max(files.length, 1)),
+        `${done}/${files.length}: ${fileName(uri)}`,
+      );
       if (!snapshot) return;
       summary.files++;
       for (const d of snapshot.diagnostics) {
@@ -96,7 +110,12 @@ export function folderFor(workspaceFolders: readonly WorkspaceFolder[], path: st
   let best: string | undefined;
   for (const folder of workspaceFolders) {
     const root = filePath(folder.uri);
-    if (root && (path === root || path.startsWith(root.endsWith('/') ? root : `${root}/`)) && (!best || root.length > best.length)) best = root;
+    if (
+      root &&
+      (path === root || path.startsWith(root.endsWith('/') ? root : `${root}/`)) &&
+      (!best || root.length > best.length)
+    )
+      best = root;
   }
   return best ?? join(path, '..');
 }
