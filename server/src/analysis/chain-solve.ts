@@ -17,7 +17,6 @@ import type { CompiledModel } from '../model/compiled';
 import type { ModelGraph } from './graph';
 import { scaledWidth } from './interval-iteration';
 import { guessAt } from './warm-start';
-import { dissectionRank } from './sparse-lu';
 import {
   BlockSolver,
   newSolverCounters,
@@ -78,7 +77,6 @@ export function buildLinearSystem(
   layout: RowLayout,
   discount: number,
   counters: SolverCounters = newSolverCounters(),
-  graph?: ModelGraph,
 ): LinearSystem {
   const { outcomeStart, outcomeTarget, outcomeProb } = model;
   const { rows, rowOf } = layout;
@@ -126,69 +124,7 @@ export function buildLinearSystem(
     sortRowByColumn(column, value, rowStart[i], rowStart[i + 1]);
   }
   const matrix: SparseMatrix = { n: rows, rowStart, column, value };
-  let rowRank: Int32Array | undefined | null = null;
-  const ranks = graph
-    ? () => (rowRank === null ? (rowRank = rowRanks(layout, eliminationRankOf(graph))) : rowRank)
-    : undefined;
-  return { model, layout, matrix, solver: new BlockSolver(matrix, counters, ranks), discount };
-}
-
-/** Each row's elimination rank: the least rank of its states (a collapsed component takes its first). */
-function rowRanks(layout: RowLayout, stateRank: Int32Array | undefined): Int32Array | undefined {
-  if (!stateRank) return undefined;
-  const rank = new Int32Array(layout.rows).fill(0x7fffffff);
-  for (let s = 0; s < layout.rowOf.length; s++) {
-    const row = layout.rowOf[s];
-    if (row >= 0 && stateRank[s] < rank[row]) rank[row] = stateRank[s];
-  }
-  return rank;
-}
-
-const eliminationRanks = new WeakMap<ModelGraph, Int32Array | null>();
-
-/**
- * A nested-dissection rank per state over the pattern of every choice among the states that do not
- * end the episode (absorbing states get none: no system has a row for them), found once per model
- * and shared by all its systems: each policy's chain and each policy-iteration step keeps a subset
- * of these edges, so the order still dissects it. Undefined where the model has no small
- * separators (random transitions).
- */
-function eliminationRankOf(graph: ModelGraph): Int32Array | undefined {
-  const known = eliminationRanks.get(graph);
-  if (known !== undefined) return known ?? undefined;
-  const { model, absorbing } = graph;
-  const { choiceStart, outcomeStart, outcomeTarget, outcomeProb } = model;
-  const n = model.stateCount;
-  const vertexOf = new Int32Array(n).fill(-1);
-  let vertices = 0;
-  for (let s = 0; s < n; s++) if (!absorbing[s]) vertexOf[s] = vertices++;
-  // Each neighbour once per row (a state's actions mostly share their targets), its own row left out.
-  const rowStart = new Int32Array(vertices + 1);
-  const seen = new Int32Array(vertices).fill(-1);
-  let column = new Int32Array(Math.max(16, outcomeStart[choiceStart[n]]));
-  let fill = 0;
-  for (let s = 0; s < n; s++) {
-    const v = vertexOf[s];
-    if (v < 0) continue;
-    seen[v] = v;
-    for (let k = outcomeStart[choiceStart[s]]; k < outcomeStart[choiceStart[s + 1]]; k++) {
-      const w = vertexOf[outcomeTarget[k]];
-      if (!(outcomeProb[k] > 0) || w < 0 || seen[w] === v) continue;
-      seen[w] = v;
-      column[fill++] = w;
-    }
-    rowStart[v + 1] = fill;
-  }
-  column = column.slice(0, fill);
-  const vertexRank =
-    vertices > 0 ? dissectionRank({ n: vertices, rowStart, column, value: new Float64Array(0) }) : undefined;
-  let rank: Int32Array | undefined;
-  if (vertexRank) {
-    rank = new Int32Array(n).fill(0x7fffffff);
-    for (let s = 0; s < n; s++) if (vertexOf[s] >= 0) rank[s] = vertexRank[vertexOf[s]];
-  }
-  eliminationRanks.set(graph, rank ?? null);
-  return rank;
+  return { model, layout, matrix, solver: new BlockSolver(matrix, counters), discount };
 }
 
 /**
@@ -216,7 +152,7 @@ export function buildChainSystem(
     first[row] = policy ? policy[s] : choiceStart[s];
     end[row] = policy ? policy[s] + 1 : choiceStart[s + 1];
   }
-  return { ...buildLinearSystem(model, { rows, rowOf, first, end }, discount, counters, graph), stateOf };
+  return { ...buildLinearSystem(model, { rows, rowOf, first, end }, discount, counters), stateOf };
 }
 
 /** The wanted blocks of a chain system for the `iterate` states, or undefined when a block is only partly covered. */

@@ -98,7 +98,7 @@ export function policyIterationBounds(
   // policy that no longer improves is then solved and certified, and if its certified values
   // still improve it, iteration goes on from there.
   for (;;) {
-    system = buildLinearSystem(model, layoutOf(nodes, nodeOf, policy), op.discount, counters, graph);
+    system = buildLinearSystem(model, layoutOf(nodes, nodeOf, policy), op.discount, counters);
     const all = new Uint8Array(system.solver.blockCount).fill(1);
     const guess = approximateSolve(system, reward, all, 0, previous);
     solves++;
@@ -420,7 +420,7 @@ function upperCertificate(
       // The final policy's system serves while the longest policy is that policy.
       const system = samePolicy(longest, policy)
         ? policySystem
-        : buildLinearSystem(model, layoutOf(nodes, nodeOf, longest), discount, counters, graph);
+        : buildLinearSystem(model, layoutOf(nodes, nodeOf, longest), discount, counters);
       // A node that stays counts one step for it, as the choice "stay" does in T. The lengths need
       // no certificate: the checks below read W's property off the model's coefficients.
       length = approximateSolve(system, lengthReward, new Uint8Array(system.solver.blockCount).fill(1), 1);

@@ -114,15 +114,9 @@ export class BlockSolver {
   /** Set by expectManySolves: large blocks are factored by sparse LU at once where it fits. */
   private factorFirst = false;
 
-  /**
-   * `rowRank`, when given, yields an elimination rank per row (a nested-dissection order shared by
-   * the systems of one model, or undefined when it has none); sparse LU then starts from it rather
-   * than searching each block's own. Asked for at the first factorization only.
-   */
   constructor(
     readonly matrix: SparseMatrix,
     readonly counters: SolverCounters = newSolverCounters(),
-    private readonly rowRank?: () => Int32Array | undefined,
   ) {
     const blocks = stronglyConnectedBlocks(matrix);
     this.blockCount = blocks.count;
@@ -230,9 +224,7 @@ export class BlockSolver {
   private refactored(blk: number, krylov: KrylovFactor): BlockFactor {
     this.spent[blk] = -1;
     const factors =
-      krylov.local.rowStart[krylov.local.n] <= SPARSE_LU_ENTRY_LIMIT
-        ? sparseFactors(krylov.local, this.localRank(blk))
-        : undefined;
+      krylov.local.rowStart[krylov.local.n] <= SPARSE_LU_ENTRY_LIMIT ? sparseFactors(krylov.local) : undefined;
     if (!factors) return krylov;
     this.counters.sparse++;
     const factor: SparseLuFactor = { kind: 'sparse', factors };
@@ -267,8 +259,7 @@ export class BlockSolver {
     const local = this.localBlock(blk);
     if (this.factorFirst) {
       this.spent[blk] = -1;
-      const factors =
-        local.rowStart[local.n] <= SPARSE_LU_ENTRY_LIMIT ? sparseFactors(local, this.localRank(blk)) : undefined;
+      const factors = local.rowStart[local.n] <= SPARSE_LU_ENTRY_LIMIT ? sparseFactors(local) : undefined;
       if (factors) {
         this.counters.sparse++;
         return { kind: 'sparse', factors };
@@ -277,14 +268,6 @@ export class BlockSolver {
     const prepared = iluZero(local);
     this.counters.krylov++;
     return prepared ? { kind: 'krylov', local, ilu: prepared.ilu, diagonalAt: prepared.diagonalAt } : null;
-  }
-
-  /** The shared elimination rank of each row of the block, in local indices, or undefined. */
-  private localRank(blk: number): Int32Array | undefined {
-    const rank = this.rowRank?.();
-    if (!rank) return undefined;
-    const first = this.blockStart[blk];
-    return Int32Array.from({ length: this.blockStart[blk + 1] - first }, (_, j) => rank[this.order[first + j]]);
   }
 
   /** The block's submatrix in local indices, columns sorted within each row (ILU(0) needs it). */

@@ -55,38 +55,10 @@ export interface SparseFactors {
  * The factors of `matrix` (rows with sorted, distinct columns), or undefined when the order finds
  * no small separators, the fill or the work passes its limit, or a pivot is not positive.
  */
-export function sparseFactors(matrix: SparseMatrix, rank?: Int32Array): SparseFactors | undefined {
-  const limit = Math.min(ENTRY_LIMIT, FILL_RATIO * Math.max(matrix.rowStart[matrix.n], 1000));
-  // A given order (the model's, restricted to this block) spares the search; if its fill is too
-  // large here, the block's own order is tried.
-  if (rank) {
-    const factors = eliminate(matrix, orderByRank(rank), limit);
-    if (factors) return factors;
-  }
+export function sparseFactors(matrix: SparseMatrix): SparseFactors | undefined {
   const perm = dissectionOrder(matrix);
   if (!perm) return undefined;
-  return eliminate(matrix, perm, limit);
-}
-
-/** The rows 0 .. n-1 sorted by rank (ties by row). */
-function orderByRank(rank: Int32Array): Int32Array {
-  const perm = Int32Array.from(rank, (_, i) => i);
-  perm.sort((a, b) => rank[a] - rank[b] || a - b);
-  return perm;
-}
-
-/**
- * A nested-dissection rank for every vertex of a pattern (rank[v]: its place in the elimination
- * order), or undefined when the pattern has no small separators. Restricted to any subset of the
- * vertices and any subset of the edges the order is still one of nested dissection, with
- * separators no larger: removing vertices or edges joins no two parts.
- */
-export function dissectionRank(pattern: SparseMatrix): Int32Array | undefined {
-  const perm = dissectionOrder(pattern);
-  if (!perm) return undefined;
-  const rank = new Int32Array(perm.length);
-  for (let i = 0; i < perm.length; i++) rank[perm[i]] = i;
-  return rank;
+  return eliminate(matrix, perm, Math.min(ENTRY_LIMIT, FILL_RATIO * Math.max(matrix.rowStart[matrix.n], 1000)));
 }
 
 /** x = A^-1 b with the factors (b and x may be the same array). */
