@@ -85,6 +85,8 @@ export function policyIterationBounds(
   solves += first.solves;
   const policy = first.policy ?? attractor;
   let previous = first.values;
+  // The chosen candidate's system and solve serve as the first round's evaluation.
+  let evaluated = first.evaluated;
   // A gain that the upper certificate can absorb within an eighth of the precision (rho W, with W
   // at most 1 / (1 - discount) steps) moves no bound enough to pay for a round: rounding noise
   // between near-tied choices otherwise keeps switching them (46 rounds of gains near 1e-13 for the
@@ -98,10 +100,14 @@ export function policyIterationBounds(
   // policy that no longer improves is then solved and certified, and if its certified values
   // still improve it, iteration goes on from there.
   for (;;) {
-    system = buildLinearSystem(model, layoutOf(nodes, nodeOf, policy), op.discount, counters);
+    system = evaluated?.system ?? buildLinearSystem(model, layoutOf(nodes, nodeOf, policy), op.discount, counters);
     const all = new Uint8Array(system.solver.blockCount).fill(1);
-    const guess = approximateSolve(system, reward, all, 0, previous);
-    solves++;
+    let guess = evaluated?.values;
+    evaluated = undefined;
+    if (!guess) {
+      guess = approximateSolve(system, reward, all, 0, previous);
+      solves++;
+    }
     if (!guess) return undefined;
     previous = guess;
     if (improve(model, nodes, nodeOf, allowed, reward, op.discount, guess, policy, negligible)) {
@@ -148,20 +154,31 @@ function firstPolicy(
   counters: SolverCounters,
   candidates: Array<Int32Array | undefined>,
   start: Float64Array | undefined,
-): { policy?: Int32Array; values?: Float64Array; solves: number } {
+): {
+  policy?: Int32Array;
+  values?: Float64Array;
+  evaluated?: { system: LinearSystem; values: Float64Array };
+  solves: number;
+} {
   const present = candidates.filter((c): c is Int32Array => c !== undefined);
   if (present.length === 0) return { solves: 0 };
   if (present.length === 1) return { policy: present[0], values: start, solves: 0 };
-  let best: { policy?: Int32Array; values?: Float64Array; total: number } = { total: -Infinity };
+  let best: { policy: Int32Array; system: LinearSystem; values: Float64Array; total: number } | undefined;
   for (const policy of present) {
     const system = buildLinearSystem(model, layoutOf(nodes, nodeOf, policy), discount, counters);
     const values = approximateSolve(system, reward, new Uint8Array(system.solver.blockCount).fill(1), 0, start);
     if (!values) continue;
     let total = 0;
     for (let i = 0; i < values.length; i++) total += values[i];
-    if (total > best.total) best = { policy, values, total };
+    if (!best || total > best.total) best = { policy, system, values, total };
   }
-  return { policy: best.policy ?? present[0], values: best.values ?? start, solves: present.length };
+  if (!best) return { policy: present[0], values: start, solves: present.length };
+  return {
+    policy: best.policy,
+    values: best.values,
+    evaluated: { system: best.system, values: best.values },
+    solves: present.length,
+  };
 }
 
 /** Values per state after WARM_SWEEPS sweeps from 0, in the problem's sign. */
