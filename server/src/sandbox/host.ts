@@ -623,10 +623,6 @@ export class ModelSandbox {
       return;
     }
     const reply = message as WorkerReply;
-    if (reply.type === 'enumerated') {
-      this.settle(this.withColumns(reply));
-      return;
-    }
     if (reply.type === 'fault') {
       const failure: ModelFailure = {
         kind: 'crashed',
@@ -641,9 +637,12 @@ export class ModelSandbox {
       return;
     }
     // The output printed during the job travels on other pipes; wait for it (see OUTPUT_MARK).
+    // Every reply but a fault follows a mark, so each one counts, or a warm child's next job
+    // would take an earlier job's mark for its own and report before its output arrived.
     const pending = this.pending;
     void this.child.outputCaughtUp(++this.child.replies).then(() => {
-      if (this.pending === pending) this.settle(reply);
+      if (this.pending !== pending) return;
+      this.settle(reply.type === 'enumerated' ? this.withColumns(reply) : reply);
     });
   }
 

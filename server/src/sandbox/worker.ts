@@ -49,8 +49,12 @@ const reallyExit = (process as unknown as { reallyExit: (code: number) => never 
 const realExit = (code: number): void => reallyExit(code);
 const now = performance.now.bind(performance);
 // Created now: the streams are built lazily on first use, from classes that are locked below.
-void process.stdout;
-void process.stderr;
+// Their write is kept for the end-of-job mark (see markOutput).
+const outputStreams = [process.stdout, process.stderr].map((stream) => ({
+  stream,
+  fd: stream === process.stdout ? 1 : 2,
+  write: stream.write.bind(stream) as (text: string) => boolean,
+}));
 
 /**
  * Replaces the functions of a module or prototype (those whose names `only` matches, if given) with
@@ -487,11 +491,17 @@ process.on('message', (request: HostRequest) => {
   send(reply);
 });
 
-/** Ends the job's output on both streams (see OUTPUT_MARK); a stream model code closed is skipped. */
+/**
+ * Ends the job's output on both streams (see OUTPUT_MARK). The mark goes through the stream, so it
+ * queues behind what model code printed and the pipe has not yet taken (a busy host reads late);
+ * written to the descriptor directly it would overtake that output. A stream model code ended gets
+ * the mark on its descriptor, and one that cannot take it is skipped.
+ */
 function markOutput(): void {
-  for (const fd of [1, 2]) {
+  for (const { stream, fd, write } of outputStreams) {
     try {
-      writeSync(fd, OUTPUT_MARK);
+      if (stream.destroyed || stream.writableEnded) writeSync(fd, OUTPUT_MARK);
+      else write(OUTPUT_MARK);
     } catch {
       // The host stops waiting for this stream's mark after a short while.
     }
