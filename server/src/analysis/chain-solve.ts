@@ -52,6 +52,13 @@ export interface LinearSystem {
    * expected remaining steps, when the discount is 1).
    */
   errorDirection?: { wanted: Uint8Array; vector: Float64Array };
+  /**
+   * An error direction per state from an earlier analysis (a warm start; NaN where it had none),
+   * tried before solving for one. It is only a candidate: it is kept when it passes the same
+   * row-by-row check as a solved direction, so an edit that changed the system costs a solve,
+   * never soundness.
+   */
+  earlierDirection?: Float64Array;
 }
 
 /**
@@ -300,7 +307,11 @@ function withRounding(x: Float64Array, radius: Float64Array): void {
   for (let i = 0; i < x.length; i++) radius[i] += 2 * Number.EPSILON * (Math.abs(x[i]) + radius[i]);
 }
 
-/** The system's error direction for the wanted blocks: the cached one when its blocks cover them, else a new one (undefined when none is found). */
+/**
+ * The system's error direction for the wanted blocks: the cached one when its blocks cover them,
+ * else the earlier analysis's one when it passes the check, else a new one (undefined when none
+ * is found).
+ */
 function errorDirectionOf(system: LinearSystem, want: Uint8Array): Float64Array | undefined {
   const cached = system.errorDirection;
   if (cached) {
@@ -309,10 +320,40 @@ function errorDirectionOf(system: LinearSystem, want: Uint8Array): Float64Array 
     if (covers) return cached.vector;
   }
   const ones = new Float64Array(system.layout.rows).fill(1);
-  const vector = scaledErrorBound(system, ones, new Float64Array(ones.length), want, 0, 1e-5);
+  const earlier = earlierDirectionRows(system, want);
+  const adopted = earlier && scaledToCover(system, earlier, ones, want);
+  const vector =
+    adopted instanceof Float64Array
+      ? adopted
+      : scaledErrorBound(system, ones, new Float64Array(ones.length), want, 0, 1e-5);
   if (!vector || vector === 'rounding') return undefined;
   system.errorDirection = { wanted: want.slice(), vector };
   return vector;
+}
+
+/** The earlier analysis's direction in the system's rows, or undefined when some wanted row has none. */
+function earlierDirectionRows(system: LinearSystem, want: Uint8Array): Float64Array | undefined {
+  const earlier = system.earlierDirection;
+  const stateOf = (system as Partial<ChainSystem>).stateOf;
+  if (!earlier || !stateOf || earlier.length !== system.model.stateCount) return undefined;
+  const rows = new Float64Array(system.layout.rows);
+  for (let i = 0; i < rows.length; i++) {
+    if (!want[system.solver.blockOf[i]]) continue;
+    const v = earlier[stateOf[i]];
+    if (!(v > 0) || !Number.isFinite(v)) return undefined;
+    rows[i] = v;
+  }
+  return rows;
+}
+
+/** The system's error direction per state (NaN for states without a row), for the next analysis's warm start. */
+export function directionByState(system: ChainSystem): Float64Array | undefined {
+  const direction = system.errorDirection;
+  if (!direction) return undefined;
+  const out = new Float64Array(system.model.stateCount).fill(NaN);
+  for (let i = 0; i < system.stateOf.length; i++)
+    if (direction.wanted[system.solver.blockOf[i]]) out[system.stateOf[i]] = direction.vector[i];
+  return out;
 }
 
 /**
@@ -526,9 +567,7 @@ function scaledErrorBound(
   floor: number,
   tolerance?: number,
 ): Float64Array | undefined | 'rounding' {
-  const { model, solver, discount, layout } = system;
-  const { rowOf } = layout;
-  const { outcomeStart, outcomeTarget, outcomeProb } = model;
+  const { solver, layout } = system;
   const n = layout.rows;
   const target = new Float64Array(n);
   const scaledTarget = new Float64Array(n);
@@ -539,6 +578,25 @@ function scaledErrorBound(
   }
   const bound = new Float64Array(n);
   if (!solver.solve(scaledTarget, bound, wanted, undefined, tolerance)) return undefined;
+  return scaledToCover(system, bound, target, wanted);
+}
+
+/**
+ * Scales `bound` (in place) until (m A) bound >= target holds on every wanted row with the
+ * rounding of the check included, and returns it; undefined when some wanted entry is not
+ * positive and finite, 'rounding' when a row's margin is lost in rounding. Nothing about where
+ * `bound` came from is trusted.
+ */
+function scaledToCover(
+  system: LinearSystem,
+  bound: Float64Array,
+  target: Float64Array,
+  wanted: Uint8Array,
+): Float64Array | undefined | 'rounding' {
+  const { model, solver, discount, layout } = system;
+  const { rowOf } = layout;
+  const { outcomeStart, outcomeTarget, outcomeProb } = model;
+  const n = layout.rows;
   let scale = 1;
   for (let i = 0; i < n; i++) {
     if (!wanted[solver.blockOf[i]]) continue;

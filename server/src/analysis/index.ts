@@ -283,11 +283,18 @@ function stationaryAnalysis(
   // A Markov chain (one choice per state) has one policy: the best, the worst and the random one
   // are the same problem, solved once (goal-route.ts analyses such chains).
   const chain = singleChoiceModel(graph);
-  const maxSolution = solveValues(ctx, { combine: COMBINE_MAX, reward, discount, name: 'max' });
+  // In a chain the best values solve the random policy's system (named for its error direction).
+  const maxSolution = solveValues(ctx, {
+    combine: COMBINE_MAX,
+    reward,
+    discount,
+    name: 'max',
+    system: chain ? 'random' : undefined,
+  });
   const minSolution = chain ? maxSolution : solveValues(ctx, { combine: COMBINE_MIN, reward, discount, name: 'min' });
   const randomSolution = chain
     ? maxSolution
-    : solveValues(ctx, { combine: COMBINE_AVERAGE, reward, discount, name: 'random' });
+    : solveValues(ctx, { combine: COMBINE_AVERAGE, reward, discount, name: 'random', system: 'random' });
   const optimalSolution = model.maximize ? maxSolution : minSolution;
   const worstSolution = model.maximize ? minSolution : maxSolution;
   const sigma = model.maximize ? 1 : -1;
@@ -304,9 +311,10 @@ function stationaryAnalysis(
     -sigma,
   );
 
-  // Each solve is named for warm starts; the reach and length problems are at discount 1 whatever the model's.
+  // Each solve is named for warm starts, and so is the system it solves (`system`: one per policy
+  // and discount); the reach and length problems are at discount 1 whatever the model's.
   const underPolicy =
-    (policy: Int32Array | undefined) =>
+    (policy: Int32Array | undefined, system: string) =>
     (name: string, perChoice: Float64Array, discountFactor: number, lowerBound?: number, upperBound?: number) =>
       solveValues(ctx, {
         combine: policy ? COMBINE_POLICY : COMBINE_AVERAGE,
@@ -316,9 +324,10 @@ function stationaryAnalysis(
         lowerBound,
         upperBound,
         name,
+        system,
       });
   const describe = (solution: ValueSolution, policy: Int32Array | undefined, label: string): PolicyAnalysis => {
-    const solve = underPolicy(policy);
+    const solve = underPolicy(policy, `${UNDISCOUNTED_PREFIX}${label}`);
     // The graph searches of every terminal kind read only the policy's choices: one restricted
     // copy of the predecessor lists serves them all.
     const chainGraph = policy ? graphWithin(graph, policyChoiceMask(graph, policy)) : graph;
@@ -379,7 +388,7 @@ function stationaryAnalysis(
   const termValues: Bounds[] = terms.map((t) => {
     if (terms.length === 1 && t.perChoice === shapedReward) return optimal.values;
     if (transform && t.name === 'shaping') return shapingTotal(transform.potentialShift, optimal.reach.none);
-    const solution = underPolicy(optimalPolicy)(`term:${t.name}`, t.perChoice, discount);
+    const solution = underPolicy(optimalPolicy, 'optimal')(`term:${t.name}`, t.perChoice, discount);
     return { lower: solution.lower, upper: solution.upper };
   });
 

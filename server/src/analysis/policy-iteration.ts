@@ -41,6 +41,8 @@ export interface PolicyIterationResult {
   /** Linear solves spent. */
   solves: number;
   improvements: number;
+  /** Per node: the final policy's choice, or -1 for staying (a later run's first policy, see earlierPolicy). */
+  policy: Int32Array;
 }
 
 /**
@@ -49,7 +51,10 @@ export interface PolicyIterationResult {
  * not apply or fails (then the caller sweeps). `guess` (per state, in the problem's sign; NaN:
  * none), e.g. the previous analysis' values, picks the first policy: the greedy one for the
  * guess where every node has a guess and (at discount 1) that policy is proper, else the
- * attractor policy. The certificate is the same either way.
+ * attractor policy. `earlierPolicy` (per state, see policyByState), the previous analysis' final
+ * policy, breaks that greedy policy's ties in place of the attractor: near-tied choices (a grid's
+ * worst values) otherwise fall to the attractor's and cost many improvements to win back. The
+ * certificate is the same either way.
  */
 export function policyIterationBounds(
   graph: ModelGraph,
@@ -58,6 +63,7 @@ export function policyIterationBounds(
   precision: number,
   counters: SolverCounters,
   guess?: Float64Array,
+  earlierPolicy?: Float64Array,
 ): PolicyIterationResult | undefined {
   const model = graph.model;
   const sigma = op.combine === COMBINE_MAX ? 1 : -1;
@@ -70,15 +76,15 @@ export function policyIterationBounds(
   const attractor = attractorPolicy(graph, nodes, nodeOf, allowed, op.discount);
   if (!attractor) return undefined;
   // The first policy: greedy for the sweeps' values and, given a guess, greedy for the guess.
-  const greedyFor = (values: Float64Array | undefined): Int32Array | undefined => {
+  const greedyFor = (values: Float64Array | undefined, fallback: Int32Array): Int32Array | undefined => {
     if (!values) return undefined;
-    const greedy = greedyPolicy(model, nodes, nodeOf, allowed, reward, op.discount, values, attractor);
+    const greedy = greedyPolicy(model, nodes, nodeOf, allowed, reward, op.discount, values, fallback);
     return op.discount < 1 || properPolicy(graph, nodes, nodeOf, greedy) ? greedy : undefined;
   };
   const swept = nodeGuess(nodes, sweptGuess(op, nodes), sigma);
   const warm = nodeGuess(nodes, guess, sigma);
-  const starts = [greedyFor(swept)];
-  if (warm) starts.push(greedyFor(warm));
+  const starts = [greedyFor(swept, attractor)];
+  if (warm) starts.push(greedyFor(warm, nodePolicyOf(model, nodes, allowed, earlierPolicy, attractor)));
   let solves = 0;
   let improvements = 0;
   const first = firstPolicy(model, nodes, nodeOf, reward, op.discount, counters, starts, warm ?? swept);
@@ -134,7 +140,60 @@ export function policyIterationBounds(
     lower[i] = sigma === 1 ? low : -high;
     upper[i] = sigma === 1 ? high : -low;
   }
-  return { lower, upper, estimate: x.map((v) => sigma * v), solves, improvements };
+  return { lower, upper, estimate: x.map((v) => sigma * v), solves, improvements, policy };
+}
+
+/**
+ * A node policy per state, for the next analysis: a node's choice is written at the state that
+ * owns it as its position among that state's choices (which survives edits elsewhere), staying
+ * as -1 at every member; NaN elsewhere.
+ */
+export function policyByState(graph: ModelGraph, nodes: Nodes, policy: Int32Array): Float64Array {
+  const model = graph.model;
+  const out = new Float64Array(model.stateCount).fill(NaN);
+  for (let i = 0; i < nodes.count; i++) {
+    const c = policy[i];
+    if (c === -1) {
+      for (let m = nodes.start[i]; m < nodes.start[i + 1]; m++) out[nodes.members[m]] = -1;
+    } else if (c >= 0) {
+      const s = graph.choiceState[c];
+      out[s] = c - model.choiceStart[s];
+    }
+  }
+  return out;
+}
+
+/**
+ * The node policy of an earlier analysis (policyByState) in this model: each node takes the
+ * recorded choice of one of its members where that choice exists and is allowed (or stays where
+ * it may), else the fallback's choice.
+ */
+function nodePolicyOf(
+  model: CompiledModel,
+  nodes: Nodes,
+  allowed: (c: number) => boolean,
+  earlier: Float64Array | undefined,
+  fallback: Int32Array,
+): Int32Array {
+  const policy = Int32Array.from(fallback);
+  if (!earlier || earlier.length !== model.stateCount) return policy;
+  for (let i = 0; i < nodes.count; i++) {
+    for (let m = nodes.start[i]; m < nodes.start[i + 1]; m++) {
+      const s = nodes.members[m];
+      const recorded = earlier[s];
+      if (recorded === -1 && nodes.stay[i]) {
+        policy[i] = -1;
+        break;
+      }
+      if (!Number.isInteger(recorded) || recorded < 0) continue;
+      const c = model.choiceStart[s] + recorded;
+      if (c < model.choiceStart[s + 1] && allowed(c)) {
+        policy[i] = c;
+        break;
+      }
+    }
+  }
+  return policy;
 }
 
 /**

@@ -31,8 +31,8 @@
  */
 import type { CompiledModel } from '../model/compiled';
 import { maximalEndComponents, type EndComponentDecomposition } from './end-components';
-import { buildChainSystem, certifiedChainSolve, type ChainSystem } from './chain-solve';
-import { policyIterationBounds } from './policy-iteration';
+import { buildChainSystem, certifiedChainSolve, directionByState, type ChainSystem } from './chain-solve';
+import { policyByState, policyIterationBounds } from './policy-iteration';
 import type { ModelGraph } from './graph';
 import {
   COMBINE_AVERAGE,
@@ -254,6 +254,12 @@ export interface ValueProblem {
   upperBound?: number;
   /** The problem's name for warm starts: its guess is looked up, and its solution kept, under it. */
   name?: string;
+  /**
+   * The name of the linear system a fixed-policy problem solves, shared by the problems that
+   * solve the same one (a policy's reach probabilities and lengths): its certificate's error
+   * direction is kept under it for the next analysis (chain-solve.ts, LinearSystem.errorDirection).
+   */
+  system?: string;
 }
 
 export interface ValueSolution {
@@ -423,14 +429,21 @@ function directSolve(
   const oneChain = singleChoiceModel(ctx.graph) && nodes.count === nodes.members.length && !nodes.stay.includes(1);
   if (problem.combine === COMBINE_POLICY || problem.combine === COMBINE_AVERAGE || oneChain) {
     const system = chainSystemOf(ctx, problem.policy, problem.discount);
+    const directionName = problem.system !== undefined ? `${problem.system}${DIRECTION_SUFFIX}` : undefined;
+    if (directionName) system.earlierDirection ??= ctx.guesses?.get(directionName);
     const estimate = new Float64Array(ctx.model.stateCount);
-    if (!certifiedChainSolve(system, problem.reward, iterate, options, bounds, options.guess, estimate))
-      return undefined;
+    const certified = certifiedChainSolve(system, problem.reward, iterate, options, bounds, options.guess, estimate);
+    if (directionName && ctx.solved) {
+      const direction = directionByState(system);
+      if (direction) ctx.solved.set(directionName, direction);
+    }
+    if (!certified) return undefined;
     return { sweeps: 0, exact: false, relativeWidth: measureWidth(nodes, bounds), estimate };
   }
   // Best or worst values: policy iteration where value iteration would need many sweeps (long
   // effective horizons); short ones converge in a few sweeps anyway.
   if (problem.discount < DIRECT_FROM_DISCOUNT) return undefined;
+  const policyName = problem.name !== undefined ? `${problem.name}${POLICY_SUFFIX}` : undefined;
   const solved = policyIterationBounds(
     ctx.graph,
     op,
@@ -438,8 +451,10 @@ function directSolve(
     options.precision,
     (ctx.counters ??= newSolverCounters()),
     options.guess,
+    policyName ? ctx.guesses?.get(policyName) : undefined,
   );
   if (!solved) return undefined;
+  if (policyName && ctx.solved) ctx.solved.set(policyName, policyByState(ctx.graph, nodes, solved.policy));
   const estimate = new Float64Array(ctx.model.stateCount);
   const floor = options.lowerBound ?? -Infinity;
   const ceiling = options.upperBound ?? Infinity;
@@ -453,6 +468,11 @@ function directSolve(
   }
   return { sweeps: 0, exact: false, relativeWidth: measureWidth(nodes, bounds), estimate };
 }
+
+/** Appended to a system's name (ValueProblem.system) to name its error direction in a warm start. */
+const DIRECTION_SUFFIX = ':error-direction';
+/** Appended to a best or worst problem's name to name its final policy in a warm start. */
+const POLICY_SUFFIX = ':policy';
 
 /** The most outcomes a model may have for the direct solves (memory). */
 const DIRECT_OUTCOME_LIMIT = 8_000_000;
