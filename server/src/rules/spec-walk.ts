@@ -145,10 +145,18 @@ export function forEachRewardPart(
   if (!written.parts) {
     const seen = new Set<number | string>();
     const parts: Array<{ part: RewardPart; at: number }> = [];
+    // In JSON a written value is known by where it starts (a small integer key, which a Set hashes
+    // far faster than start and end in one double); a TypeScript model's outcomes may share code spans.
+    const byStart = spec.format === 'json';
+    let previous: RewardPart[] | undefined;
     for (let i = 0; i < written.outcomes.length; i++) {
-      for (const part of written.outcomes[i].reward) {
+      const reward = written.outcomes[i].reward;
+      // The outcomes of a transition with one reward share its list: the first of them visited it.
+      if (reward === previous) continue;
+      previous = reward;
+      for (const part of reward) {
         const { start, end } = part.span;
-        const key = end < SPAN_KEY ? start * SPAN_KEY + end : `${start}:${end}`;
+        const key = byStart ? start : end < SPAN_KEY ? start * SPAN_KEY + end : `${start}:${end}`;
         if (seen.has(key)) continue;
         seen.add(key);
         parts.push({ part, at: i });
