@@ -49,6 +49,26 @@ testRule('non-finite-reward', {
       ],
     },
     {
+      name: "a transition's reward shared by its outcomes is reported once, also with an outcome of its own reward between them",
+      spec: specText(
+        chainSpec({
+          transitions: [
+            {
+              from: 'a',
+              action: 'go',
+              reward: 5,
+              to: [
+                { state: 'b', probability: 0.5 },
+                { state: 'goal', probability: 0.3, reward: 1 },
+                { state: 'a', probability: 0.2 },
+              ],
+            },
+          ],
+        }),
+      ).replace('"reward": 5', '"reward": 1e400'),
+      findings: [{ at: '1e400', message: /^the reward of transitions\[0\] \('a' --go-->\) toward 'b' is infinity/ }],
+    },
+    {
       name: 'an infinite shaping potential',
       spec: specText(chainSpec({ shaping: { potential: { b: 3 } } })).replace('"b": 3', '"b": 1e999'),
       findings: [

@@ -33,8 +33,12 @@ export function expansionsOf(spec: ParsedSpec, sourceIndex: number): SpecTransit
   return bySource.get(sourceIndex) ?? [];
 }
 
-/** The first SpecTransition of each written transition, in document order. */
+const firstExpansionCache = new WeakMap<ParsedSpec, SpecTransition[]>();
+
+/** The first SpecTransition of each written transition, in document order (one list per spec, shared: do not change it). */
 export function writtenTransitions(spec: ParsedSpec): SpecTransition[] {
+  const cached = firstExpansionCache.get(spec);
+  if (cached) return cached;
   const seen = new Set<number>();
   const result: SpecTransition[] = [];
   for (const transition of spec.transitions) {
@@ -42,6 +46,7 @@ export function writtenTransitions(spec: ParsedSpec): SpecTransition[] {
     seen.add(transition.sourceIndex);
     result.push(transition);
   }
+  firstExpansionCache.set(spec, result);
   return result;
 }
 
@@ -109,12 +114,17 @@ function writtenOutcomes(spec: ParsedSpec): {
 } {
   let written = writtenCache.get(spec);
   if (!written) {
-    const seen = new Set<SpecOutcome>();
+    // The loader makes each outcome in one list, which the pairs of a written transition (its
+    // `from` and `action` lists) share: a list seen before holds nothing new.
+    const seen = new Set<SpecOutcome[]>();
+    let previous: SpecOutcome[] | undefined;
     written = { outcomes: [], transitions: [] };
     for (const transition of spec.transitions) {
-      for (const outcome of transition.outcomes) {
-        if (seen.has(outcome)) continue;
-        seen.add(outcome);
+      const list = transition.outcomes;
+      if (list === previous || seen.has(list)) continue;
+      previous = list;
+      seen.add(list);
+      for (const outcome of list) {
         written.outcomes.push(outcome);
         written.transitions.push(transition);
       }
@@ -143,22 +153,36 @@ export function forEachRewardPart(
 ): void {
   const written = writtenOutcomes(spec);
   if (!written.parts) {
-    const seen = new Set<number | string>();
     const parts: Array<{ part: RewardPart; at: number }> = [];
-    // In JSON a written value is known by where it starts (a small integer key, which a Set hashes
-    // far faster than start and end in one double); a TypeScript model's outcomes may share code spans.
-    const byStart = spec.format === 'json';
+    // In JSON a written value is known by the offset it starts at: one bit per offset marks the
+    // values seen, with no hashing (the outcomes of a transition with one reward share it). Other
+    // sources are deduplicated by span, since a TypeScript model's outcomes may share code spans.
+    const json = spec.format === 'json';
+    let startSeen = new Uint8Array(json ? 1024 : 0);
+    const spanSeen = new Set<number | string>();
     let previous: RewardPart[] | undefined;
     for (let i = 0; i < written.outcomes.length; i++) {
       const reward = written.outcomes[i].reward;
-      // The outcomes of a transition with one reward share its list: the first of them visited it.
+      // The common sharing (one transition's outcomes in a row) is skipped without a lookup.
       if (reward === previous) continue;
       previous = reward;
       for (const part of reward) {
         const { start, end } = part.span;
-        const key = byStart ? start : end < SPAN_KEY ? start * SPAN_KEY + end : `${start}:${end}`;
-        if (seen.has(key)) continue;
-        seen.add(key);
+        if (json) {
+          const byte = start >> 3;
+          if (byte >= startSeen.length) {
+            const grown = new Uint8Array(Math.max(2 * startSeen.length, byte + 1));
+            grown.set(startSeen);
+            startSeen = grown;
+          }
+          const bit = 1 << (start & 7);
+          if (startSeen[byte] & bit) continue;
+          startSeen[byte] |= bit;
+        } else {
+          const key = end < SPAN_KEY ? start * SPAN_KEY + end : `${start}:${end}`;
+          if (spanSeen.has(key)) continue;
+          spanSeen.add(key);
+        }
         parts.push({ part, at: i });
       }
     }

@@ -1,6 +1,6 @@
 import { listNames, quote } from '../load/names';
 import type { SpecState } from '../load/types';
-import { expansionsOf, jsonEditorFor, writtenTransitions } from './spec-walk';
+import { expansionsOf, jsonEditorFor } from './spec-walk';
 import type { Fix, Rule } from './types';
 
 /** Entering a terminal ends the episode, so transitions out of it are never taken. */
@@ -33,11 +33,16 @@ The analysis ignores the transition; the finding is marked as unnecessary code s
     const terminals = new Map<string, SpecState>();
     for (const state of spec.states) if (state.terminal && !terminals.has(state.id)) terminals.set(state.id, state);
     if (terminals.size === 0) return;
+    // Only the written transitions with a pair out of a terminal are looked at (in document order):
+    // a per-transition list of pairs would cost an allocation for each of a large spec's transitions.
+    const flagged = new Set<number>();
+    for (const pair of spec.transitions) if (terminals.has(pair.from)) flagged.add(pair.sourceIndex);
+    if (flagged.size === 0) return;
     const editor = jsonEditorFor(ctx);
-    for (const written of writtenTransitions(spec)) {
-      const pairs = expansionsOf(spec, written.sourceIndex);
+    for (const sourceIndex of [...flagged].sort((a, b) => a - b)) {
+      const pairs = expansionsOf(spec, sourceIndex);
+      const written = pairs[0];
       const terminalPairs = pairs.filter((t) => terminals.has(t.from));
-      if (terminalPairs.length === 0) continue;
       const states = [...new Set(terminalPairs.map((t) => t.from))];
       const kinds = states.map((id) => `${quote(id)} is a ${terminals.get(id)!.terminal} terminal`).join(', ');
       const cost =
