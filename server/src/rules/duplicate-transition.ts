@@ -34,14 +34,17 @@ the earlier one instead.
   check(ctx) {
     const spec = ctx.spec;
     const terminal = new Set(spec.states.filter((s) => s.terminal).map((s) => s.id));
-    const first = new Map<string, SpecTransition>();
+    // By state, then action: the loader's names are shared strings whose hashes are kept, where
+    // a joined key would be a new string to build and hash for every transition.
+    const first = new Map<string, Map<string, SpecTransition>>();
     const duplicatesBySource = new Map<number, Array<{ pair: SpecTransition; earlier: SpecTransition }>>();
     for (const transition of spec.transitions) {
       if (terminal.has(transition.from)) continue;
-      const key = `${transition.from}\u0000${transition.action}`;
-      const earlier = first.get(key);
+      let byAction = first.get(transition.from);
+      if (!byAction) first.set(transition.from, (byAction = new Map()));
+      const earlier = byAction.get(transition.action);
       if (!earlier) {
-        first.set(key, transition);
+        byAction.set(transition.action, transition);
         continue;
       }
       // A pair repeated inside one transition's own lists is a schema finding (uniqueItems).
