@@ -14,7 +14,12 @@ export interface WarmStart {
   idStart: Int32Array;
   /** The discount the values were solved at (values of the discounted problems are dropped when it changes). */
   discount: number;
-  /** Per solved problem (see problem names in analysis/index.ts): a value per state, NaN where none was solved. */
+  /**
+   * Per solved problem (see problem names in analysis/index.ts): a value per state, NaN where none
+   * was solved. Also, under `<system>:error-direction`, each fixed-policy system's error direction
+   * and, under `max:policy` and `min:policy`, policy iteration's final policy (total-reward.ts):
+   * candidates that the next analysis checks or only starts from, like the values.
+   */
   values: Record<string, Float64Array>;
   /** The solutions of analyses derived from this one (e.g. the goal route's chain), by name. */
   derived?: Record<string, WarmStart>;
