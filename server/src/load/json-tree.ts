@@ -40,7 +40,7 @@ export class JsonTree {
   parents: Int32Array;
   /** The value of number nodes; 1 or 0 for booleans; for string nodes, the index in `strings`. */
   numbers: Float64Array;
-  /** The values of string nodes (keys included), in document order; dense, so appending is cheap. */
+  /** The values of string nodes (keys included); nodes with equal short strings may share an entry. */
   private readonly strings: string[] = [];
 
   constructor(capacity: number) {
@@ -71,6 +71,17 @@ export class JsonTree {
   setString(node: number, value: string): void {
     this.numbers[node] = this.strings.length;
     this.strings.push(value);
+  }
+
+  /** Gives a string node the value an earlier node has (`index` from addString or stringIndex): no new entry. */
+  setStringIndex(node: number, index: number): void {
+    this.numbers[node] = index;
+  }
+
+  /** Adds a string value without a node yet; returns its index for setStringIndex. */
+  addString(value: string): number {
+    this.strings.push(value);
+    return this.strings.length - 1;
   }
 
   /** The value of a string node (a key or a string value); only for string nodes. */
@@ -228,6 +239,8 @@ class TextReader {
   private at = 0;
   private readonly tree: JsonTree;
   private readonly interned: Array<string | undefined> = new Array<string | undefined>(INTERN_SLOTS).fill(undefined);
+  /** The tree's string index of each interned string. */
+  private readonly internedIndex = new Int32Array(INTERN_SLOTS);
   /** Number texts seen and their values, by a hash of the text (a spec repeats a few numbers). */
   private readonly numberTexts: Array<string | undefined> = new Array<string | undefined>(NUMBER_SLOTS).fill(undefined);
   private readonly numberValues = new Float64Array(NUMBER_SLOTS);
@@ -355,24 +368,31 @@ class TextReader {
       i++;
     }
     if (i >= n) throw GIVE_UP;
-    if (value === undefined) value = this.intern(start + 1, i, hash);
+    const index = value === undefined ? this.intern(start + 1, i, hash) : this.tree.addString(value);
     this.at = i + 1;
     const node = this.tree.add(NodeKind.String, start, parent);
     this.tree.ends[node] = this.at;
-    this.tree.setString(node, value);
+    this.tree.setStringIndex(node, index);
     return node;
   }
 
-  /** The text between `start` and `end`, shared with earlier equal short strings. */
-  private intern(start: number, end: number, hash: number): string {
+  /**
+   * The tree's string index of the text between `start` and `end`: an equal short string seen
+   * before shares its entry, so the thousands of repeated keys and state ids take one entry each
+   * (a list of a million entries costs its growth and every garbage collection a scan).
+   */
+  private intern(start: number, end: number, hash: number): number {
     const length = end - start;
-    if (length > INTERN_MAX_LENGTH) return this.text.slice(start, end);
+    if (length > INTERN_MAX_LENGTH) return this.tree.addString(this.text.slice(start, end));
     const slot = (hash ^ (length << 7)) & (INTERN_SLOTS - 1);
     const known = this.interned[slot];
-    if (known !== undefined && known.length === length && this.text.startsWith(known, start)) return known;
+    if (known !== undefined && known.length === length && this.text.startsWith(known, start))
+      return this.internedIndex[slot];
     const value = this.text.slice(start, end);
+    const index = this.tree.addString(value);
     this.interned[slot] = value;
-    return value;
+    this.internedIndex[slot] = index;
+    return index;
   }
 
   /** From a backslash inside a string, the offset of the closing quote; checks every escape. */
