@@ -53,12 +53,9 @@ divides each probability by their sum, which keeps their ratios.
     }
     for (const transition of writtenTransitions(spec)) {
       if (transition.incomplete || transition.outcomes.length === 0) continue;
-      // Most transitions add up: that is decided without the per-outcome list checkDistribution reads.
-      if (addsUpToOne(transition)) continue;
-      const probabilities = transition.outcomes.map((o) => ({ value: o.probability, span: o.probabilitySpan }));
       checkDistribution(
         ctx,
-        probabilities,
+        transition.outcomes,
         transition.toSpan,
         () => `the outcome probabilities of ${transitionLabel(spec, transition)}`,
         'of the episodes that take it have no defined next state',
@@ -68,7 +65,7 @@ divides each probability by their sum, which keeps their ratios.
     // The list form of `start` is uniform by construction; only a map can be off.
     const startMap = spec.start.filter((e) => e.probabilitySpan !== undefined);
     if (startMap.length > 0 && spec.startSpan) {
-      const probabilities = startMap.map((e) => ({ value: e.probability, span: e.probabilitySpan! }));
+      const probabilities = startMap.map((e) => ({ probability: e.probability, probabilitySpan: e.probabilitySpan! }));
       checkDistribution(
         ctx,
         probabilities,
@@ -80,26 +77,23 @@ divides each probability by their sum, which keeps their ratios.
   },
 };
 
-/** Whether the outcome probabilities are all probabilities and add up to 1 within the tolerance (the same sum checkDistribution forms). */
-function addsUpToOne(transition: SpecTransition): boolean {
-  let sum = 0;
-  for (const outcome of transition.outcomes) {
-    if (!isProbability(outcome.probability)) return false;
-    sum += outcome.probability;
-  }
-  return Math.abs(sum - 1) <= PROBABILITY_SUM_TOLERANCE;
-}
-
+/**
+ * Reports a distribution that does not add up to 1. It reads the outcomes (or start entries) as
+ * they are: most transitions add up, and are decided without building anything per outcome.
+ */
 function checkDistribution(
   ctx: RuleContext,
-  probabilities: Array<{ value: number; span: Span }>,
+  probabilities: ReadonlyArray<{ probability: number; probabilitySpan: Span }>,
   span: Span,
   what: string | (() => string),
   shortfall: string,
   transition?: SpecTransition,
 ): void {
-  if (!probabilities.every((p) => isProbability(p.value))) return;
-  const sum = probabilities.reduce((total, p) => total + p.value, 0);
+  let sum = 0;
+  for (const p of probabilities) {
+    if (!isProbability(p.probability)) return;
+    sum += p.probability;
+  }
   const gap = sum - 1;
   if (Math.abs(gap) <= PROBABILITY_SUM_TOLERANCE) return;
   // A transition the compiler never uses does not stop compilation: say what it really costs.
@@ -112,7 +106,10 @@ function checkDistribution(
   if (sum > 0) {
     fixes.push({
       title: 'Normalise the probabilities (divide each by their sum)',
-      edits: probabilities.map((p) => ({ span: p.span, newText: String(Number((p.value / sum).toPrecision(12))) })),
+      edits: probabilities.map((p) => ({
+        span: p.probabilitySpan,
+        newText: String(Number((p.probability / sum).toPrecision(12))),
+      })),
     });
   }
   // Six digits would print a sum just off 1 as "1"; twelve always show a gap above the tolerance.
