@@ -69,8 +69,7 @@ export class JsonTree {
 
   /** Gives a string node its value. */
   setString(node: number, value: string): void {
-    this.numbers[node] = this.strings.length;
-    this.strings.push(value);
+    this.setStringIndex(node, this.addString(value));
   }
 
   /** Gives a string node the value an earlier node has (`index` from addString or stringIndex): no new entry. */
