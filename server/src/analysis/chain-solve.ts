@@ -53,10 +53,10 @@ export interface LinearSystem {
    */
   errorDirection?: { wanted: Uint8Array; vector: Float64Array };
   /**
-   * An error direction per state from an earlier analysis (a warm start; NaN where it had none),
-   * tried before solving for one. It is only a candidate: it is kept when it passes the same
-   * row-by-row check as a solved direction, so an edit that changed the system costs a solve,
-   * never soundness.
+   * An error direction per row from an earlier analysis (a warm start, see offerEarlierDirection;
+   * NaN where it had none), tried before solving for one. It is only a candidate: it is kept when
+   * it passes the same row-by-row check as a solved direction, so an edit that changed the system
+   * costs a solve, never soundness.
    */
   earlierDirection?: Float64Array;
 }
@@ -331,19 +331,24 @@ function errorDirectionOf(system: LinearSystem, want: Uint8Array): Float64Array 
   return vector;
 }
 
-/** The earlier analysis's direction in the system's rows, or undefined when some wanted row has none. */
+/** A copy of the earlier direction on the wanted rows (0 elsewhere), or undefined when some wanted row has none. */
 function earlierDirectionRows(system: LinearSystem, want: Uint8Array): Float64Array | undefined {
   const earlier = system.earlierDirection;
-  const stateOf = (system as Partial<ChainSystem>).stateOf;
-  if (!earlier || !stateOf || earlier.length !== system.model.stateCount) return undefined;
+  if (!earlier) return undefined;
   const rows = new Float64Array(system.layout.rows);
   for (let i = 0; i < rows.length; i++) {
     if (!want[system.solver.blockOf[i]]) continue;
-    const v = earlier[stateOf[i]];
+    const v = earlier[i];
     if (!(v > 0) || !Number.isFinite(v)) return undefined;
     rows[i] = v;
   }
   return rows;
+}
+
+/** Gives a chain system an earlier analysis's direction (per state, directionByState), unless it has one. */
+export function offerEarlierDirection(system: ChainSystem, perState: Float64Array | undefined): void {
+  if (system.earlierDirection || !perState || perState.length !== system.model.stateCount) return;
+  system.earlierDirection = Float64Array.from(system.stateOf, (s) => perState[s]);
 }
 
 /** The system's error direction per state (NaN for states without a row), for the next analysis's warm start. */

@@ -31,7 +31,13 @@
  */
 import type { CompiledModel } from '../model/compiled';
 import { maximalEndComponents, type EndComponentDecomposition } from './end-components';
-import { buildChainSystem, certifiedChainSolve, directionByState, type ChainSystem } from './chain-solve';
+import {
+  buildChainSystem,
+  certifiedChainSolve,
+  directionByState,
+  offerEarlierDirection,
+  type ChainSystem,
+} from './chain-solve';
 import { policyByState, policyIterationBounds } from './policy-iteration';
 import type { ModelGraph } from './graph';
 import {
@@ -430,7 +436,7 @@ function directSolve(
   if (problem.combine === COMBINE_POLICY || problem.combine === COMBINE_AVERAGE || oneChain) {
     const system = chainSystemOf(ctx, problem.policy, problem.discount);
     const directionName = problem.system !== undefined ? `${problem.system}${DIRECTION_SUFFIX}` : undefined;
-    if (directionName) system.earlierDirection ??= ctx.guesses?.get(directionName);
+    if (directionName) offerEarlierDirection(system, ctx.guesses?.get(directionName));
     const estimate = new Float64Array(ctx.model.stateCount);
     const certified = certifiedChainSolve(system, problem.reward, iterate, options, bounds, options.guess, estimate);
     if (directionName && ctx.solved) {
