@@ -13,30 +13,7 @@ import outputSchema from '../../schemas/cli-output.schema.json';
 import { analyzeModel } from '../../server/src/analysis/index';
 import { analysisToJson } from '../../server/src/cli/json-output';
 import { textProbability } from '../../server/src/cli/numbers';
-import { ModelBuilder, type CompiledModel } from '../../server/src/model/compiled';
-
-const SPAN = { start: 0, end: 0 };
-
-/** The walk as a one-action MDP; reaching N pays 1, so V(i) is also the goal probability. */
-function walk(n: number, p: number, startAt: number): CompiledModel {
-  const builder = new ModelBuilder({ discount: 1, maximize: true });
-  for (let i = 0; i <= n; i++) builder.addState(`s${i}`, i === 0 ? 'failure' : i === n ? 'goal' : undefined, SPAN);
-  for (let i = 1; i < n; i++) {
-    builder.addChoice(i, 'step', -1, [
-      { target: i + 1, probability: p, reward: i + 1 === n ? 1 : 0 },
-      { target: i - 1, probability: 1 - p, reward: 0 },
-    ]);
-  }
-  return builder.finish([{ state: startAt, probability: 1 }]);
-}
-
-function ruin(n: number, p: number, i: number): { goal: number; duration: number } {
-  if (p === 0.5) return { goal: i / n, duration: i * (n - i) };
-  const q = 1 - p;
-  const r = q / p;
-  const goal = (1 - r ** i) / (1 - r ** n);
-  return { goal, duration: i / (q - p) - (n / (q - p)) * goal };
-}
+import { gamblersRuinWalk as walk, ruin } from '../helpers/gamblers-ruin';
 
 describe("gambler's ruin at N = 1000 (Feller, vol. 1, 3rd ed., ch. XIV)", () => {
   for (const p of [0.5, 0.49]) {

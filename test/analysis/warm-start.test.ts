@@ -14,14 +14,14 @@ import { scaledWidth } from '../../server/src/analysis/interval-iteration';
 import type { Analysis } from '../../server/src/analysis/types';
 import type { WarmStart } from '../../server/src/analysis/warm-start';
 import { analyzeJsonText, type FileReport } from '../../server/src/analyze';
-import { ModelBuilder, TERMINAL_CODE, type CompiledModel } from '../../server/src/model/compiled';
+import { TERMINAL_CODE, type CompiledModel } from '../../server/src/model/compiled';
+import { gamblersRuinWalk as walk, ruin } from '../helpers/gamblers-ruin';
 import { slipperyGridSpec } from '../../scripts/bench/generators';
 import { warehouseSpecText } from '../lsp/warehouse-spec';
 import { allPolicies, evaluate, properModel, uniform } from '../helpers/policy-values';
 import { randomModel, seededRandom } from '../reference/gridworlds';
 
 const PRECISION = 1e-6;
-const SPAN = { start: 0, end: 0 };
 const ROOT = join(__dirname, '..', '..');
 
 /** The best (maximize) or worst value per state over every deterministic policy, by enumeration. */
@@ -249,19 +249,6 @@ function withoutCell(spec: Record<string, unknown>, cell: string): Record<string
   return { ...spec, states, transitions };
 }
 
-/** The walk on 0..n as a one-action MDP at discount 1: a step up with probability p pays `prize` on reaching n. */
-function walk(n: number, p: number, prize: number): CompiledModel {
-  const builder = new ModelBuilder({ discount: 1, maximize: true });
-  for (let i = 0; i <= n; i++) builder.addState(`s${i}`, i === 0 ? 'failure' : i === n ? 'goal' : undefined, SPAN);
-  for (let i = 1; i < n; i++) {
-    builder.addChoice(i, 'step', -1, [
-      { target: i + 1, probability: p, reward: i + 1 === n ? prize : 0 },
-      { target: i - 1, probability: 1 - p, reward: 0 },
-    ]);
-  }
-  return builder.finish([{ state: n / 2, probability: 1 }]);
-}
-
 /** The warm start without the parts named `suffix` (the earlier error directions or policies). */
 function without(solution: WarmStart, suffix: string): WarmStart {
   return {
@@ -270,19 +257,21 @@ function without(solution: WarmStart, suffix: string): WarmStart {
   };
 }
 
-// Gambler's ruin with a fair coin on 0..N: from i the walk ends at N with probability i/N after
-// i(N - i) steps on average (W. Feller, An Introduction to Probability Theory and Its
-// Applications, vol. 1, 3rd ed., 1968, ch. XIV, sections 2 and 3).
+// Gambler's ruin with a fair coin on 0..N (test/helpers/gamblers-ruin.ts: W. Feller, vol. 1, 3rd
+// ed., ch. XIV): from i the walk ends at N with probability i/N after i(N - i) steps on average.
 describe("an earlier analysis's error direction and policies (gambler's ruin, Feller vol. 1, ch. XIV)", () => {
   const n = 400;
   const check = (analysis: Analysis, prize: number, label: string) => {
     for (const i of [1, n / 2, n - 1]) {
       const s = analysis.model.stateIndex.get(`s${i}`)!;
-      const value = (prize * i) / n;
+      const truth = ruin(n, 0.5, i);
+      const value = prize * truth.goal;
       expect(analysis.random.values.lower[s], `${label}: value at ${i}`).toBeLessThanOrEqual(value + 1e-12);
       expect(analysis.random.values.upper[s], `${label}: value at ${i}`).toBeGreaterThanOrEqual(value - 1e-12);
-      expect(Math.abs(analysis.random.reach.goal[s] - i / n), `${label}: reach at ${i}`).toBeLessThanOrEqual(PRECISION);
-      const steps = i * (n - i);
+      expect(Math.abs(analysis.random.reach.goal[s] - truth.goal), `${label}: reach at ${i}`).toBeLessThanOrEqual(
+        PRECISION,
+      );
+      const steps = truth.duration;
       expect(Math.abs(analysis.random.expectedLength[s] - steps), `${label}: length at ${i}`).toBeLessThanOrEqual(
         PRECISION * Math.max(1, steps / 1000),
       );
@@ -290,10 +279,10 @@ describe("an earlier analysis's error direction and policies (gambler's ruin, Fe
   };
 
   it('after a reward edit, the kept direction is checked and used: fewer solves, the same closed forms', () => {
-    const first = analyzeModel(walk(n, 0.5, 1), { precision: PRECISION, keepSolution: true });
+    const first = analyzeModel(walk(n, 0.5, n / 2, 1), { precision: PRECISION, keepSolution: true });
     const solution = first.solution!;
     expect(Object.keys(solution.values).some((name) => name.endsWith(':error-direction'))).toBe(true);
-    const edited = walk(n, 0.5, 2);
+    const edited = walk(n, 0.5, n / 2, 2);
     const withDirection = analyzeModel(edited, { precision: PRECISION, startFrom: solution });
     const withoutDirection = analyzeModel(edited, {
       precision: PRECISION,
@@ -305,8 +294,8 @@ describe("an earlier analysis's error direction and policies (gambler's ruin, Fe
   });
 
   it('a direction from a walk with other probabilities still gives sound bounds', () => {
-    const stale = analyzeModel(walk(n, 0.3, 1), { precision: PRECISION, keepSolution: true }).solution!;
-    check(analyzeModel(walk(n, 0.5, 1), { precision: PRECISION, startFrom: stale }), 1, 'stale direction');
+    const stale = analyzeModel(walk(n, 0.3, n / 2, 1), { precision: PRECISION, keepSolution: true }).solution!;
+    check(analyzeModel(walk(n, 0.5, n / 2, 1), { precision: PRECISION, startFrom: stale }), 1, 'stale direction');
     const scaled: WarmStart = {
       ...stale,
       values: Object.fromEntries(
@@ -316,6 +305,10 @@ describe("an earlier analysis's error direction and policies (gambler's ruin, Fe
         ]),
       ),
     };
-    check(analyzeModel(walk(n, 0.5, 1), { precision: PRECISION, startFrom: scaled }), 1, 'direction far too short');
+    check(
+      analyzeModel(walk(n, 0.5, n / 2, 1), { precision: PRECISION, startFrom: scaled }),
+      1,
+      'direction far too short',
+    );
   });
 });
