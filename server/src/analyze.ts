@@ -17,7 +17,7 @@ import type { AnalyzeOptions, FileReport, LoadedSpec } from './report';
 import { episodeNeverEnds } from './rules/episode-never-ends';
 import { RULES } from './rules/registry';
 import type { IncompleteModel, Rule, RuleContext } from './rules/types';
-import { MAX_DOCUMENT_LENGTH, MAX_NESTING_DEPTH, parseJsonSpec } from './load/json';
+import { MAX_DOCUMENT_LENGTH, MAX_NESTING_DEPTH, parseJsonSpec, type JsonReadMemory } from './load/json';
 import { LineIndex } from './load/lines';
 import { emptySpec, type ParsedSpec } from './load/types';
 import { suppressReport } from './suppress';
@@ -35,7 +35,9 @@ export { isSpecPath } from './load/paths';
 export async function analyzeFile(path: string, text: string, options: AnalyzeOptions = {}): Promise<FileReport> {
   let loaded: LoadedSpec;
   try {
-    loaded = path.endsWith('.mdp.ts') ? await loadTypeScript(path, text, options) : loadJsonSpec(text);
+    loaded = path.endsWith('.mdp.ts')
+      ? await loadTypeScript(path, text, options)
+      : loadJsonSpec(text, options.readMemory);
   } catch (error) {
     loaded = failedLoad(path, text, `loading the spec failed: ${errorText(error)}`);
   }
@@ -51,9 +53,9 @@ async function loadTypeScript(path: string, text: string, options: AnalyzeOption
   return loadTypeScriptSpec(path, text, options);
 }
 
-/** Loads a JSON spec (`*.mdp.json`). Never throws. */
-export function loadJsonSpec(text: string): LoadedSpec {
-  const parsed = parseJsonSpec(text);
+/** Loads a JSON spec (`*.mdp.json`). Never throws. `memory`: see AnalyzeOptions.readMemory. */
+export function loadJsonSpec(text: string, memory?: JsonReadMemory): LoadedSpec {
+  const parsed = parseJsonSpec(text, memory);
   const loaded: LoadedSpec = {
     spec: parsed.spec,
     findings: parsed.findings,

@@ -9,6 +9,7 @@ import type { WarmStart } from './analysis/warm-start';
 import type { ResolvedConfig } from './config';
 import type { Finding, SuppressedFinding } from './findings';
 import type { CompiledModel } from './model/compiled';
+import type { JsonReadMemory } from './load/json';
 import type { LineIndex } from './load/lines';
 import type { ParsedSpec } from './load/types';
 
@@ -30,6 +31,12 @@ export interface AnalyzeOptions {
   startFrom?: WarmStart;
   /** Keep the analysis' solution in Analysis.solution (the language server hands it to the next analysis). */
   keepSolution?: boolean;
+  /**
+   * Held by the caller from one analysis of a JSON spec to the next analysis of the same document
+   * (the language server keeps one per document): an edit inside one value is then read by
+   * patching the last read instead of reading the whole text (load/json-reread.ts).
+   */
+  readMemory?: JsonReadMemory;
 }
 
 /** What loading a spec of either format gives: the spec, the loader's findings, and for TypeScript the run's results. */

@@ -14,6 +14,7 @@ import { schemaFinding } from '../rules/schema';
 import type { Finding } from '../findings';
 import { maskLongBlanks } from './blanks';
 import { jsonTreeFromNodes, NodeKind, NONE, readJsonTree, type JsonTree } from './json-tree';
+import { patchScalarEdit } from './json-reread';
 import { closestName, formatNumber, jsonPath } from './names';
 import {
   emptySpec,
@@ -82,19 +83,33 @@ const PARSE_ERROR_TEXT: Record<number, string> = {
 
 const JSONC_OPTIONS = { allowTrailingComma: true, disallowComments: false, allowEmptyContent: false };
 
-let validator: ValidateFunction | undefined;
+interface CompiledSchema {
+  ajv: Ajv2020;
+  /** The schema with its definitions inlined, as compiled. */
+  inlined: object;
+  validate: ValidateFunction;
+  /** Validators of parts of `inlined`, compiled when a re-read first needs them. */
+  parts: Map<object, ValidateFunction>;
+}
+
+let compiledSchema: CompiledSchema | undefined;
 /** The inlined copies of `$defs/probability`; their range errors belong to negative-probability. */
 const probabilitySchemas = new Set<object>();
 
-/** The schema validator, compiled once on first use (the editor calls the loader on every change). */
-function schemaValidator(): ValidateFunction {
-  if (!validator) {
+/** The schema, compiled once on first use (the editor calls the loader on every change). */
+function schemaOnce(): CompiledSchema {
+  if (!compiledSchema) {
     // strictNumbers is off so that an overflowing literal (1e400 -> Infinity) reaches the rules
     // that explain it (non-finite-reward) instead of a bare type error.
     const ajv = new Ajv2020({ allErrors: true, verbose: true, strictNumbers: false, allowUnionTypes: true });
-    validator = ajv.compile(inlineDefinitions(schemaDocument));
+    const inlined = inlineDefinitions(schemaDocument);
+    compiledSchema = { ajv, inlined, validate: ajv.compile(inlined), parts: new Map() };
   }
-  return validator;
+  return compiledSchema;
+}
+
+function schemaValidator(): ValidateFunction {
+  return schemaOnce().validate;
 }
 
 /**
@@ -120,11 +135,40 @@ function inlineDefinitions(document: typeof schemaDocument): object {
   return copy(document) as object;
 }
 
-/** Parses and validates a JSON spec. Never throws, whatever the text. */
-export function parseJsonSpec(text: string): JsonSpecResult {
+/**
+ * What the last read of a document leaves for the next read of the same document (the language
+ * server keeps one per open document): its text and tree, when that read gave no finding. So a
+ * re-read has no earlier findings to carry over, and a read with findings always starts afresh.
+ */
+export class JsonReadMemory {
+  private text: string | undefined;
+  private tree: JsonTree | undefined;
+  /** Reads that re-used the remembered tree (tests and the bench check that this path is taken). */
+  rereads = 0;
+
+  remember(text: string, tree: JsonTree): void {
+    this.text = text;
+    this.tree = tree;
+  }
+
+  /** The remembered text and tree, forgotten: the caller changes the tree. */
+  take(): { text: string; tree: JsonTree } | undefined {
+    const { text, tree } = this;
+    this.text = undefined;
+    this.tree = undefined;
+    return text !== undefined && tree ? { text, tree } : undefined;
+  }
+}
+
+/**
+ * Parses and validates a JSON spec. Never throws, whatever the text. With `memory` (of earlier
+ * reads of this document), an edit inside one value is read by patching the earlier tree.
+ */
+export function parseJsonSpec(text: string, memory?: JsonReadMemory): JsonSpecResult {
   try {
-    return parseUnchecked(text);
+    return (memory && rereadAfterValueEdit(text, memory)) ?? parseUnchecked(text, memory);
   } catch (error) {
+    memory?.take();
     // Nothing above is expected to throw; if it does, say so with a position rather than crash.
     const reason = error instanceof Error ? error.message : String(error);
     return {
@@ -135,7 +179,107 @@ export function parseJsonSpec(text: string): JsonSpecResult {
   }
 }
 
-function parseUnchecked(text: string): JsonSpecResult {
+/**
+ * The read of `text` from the memory's earlier tree when the edit since is inside one value (see
+ * json-reread.ts) and the document stays clean: the spec reader finds nothing and the new value
+ * satisfies the schema where it stands. Otherwise undefined, and the caller reads afresh. The spec
+ * is read from the patched tree as on a full read, so every span and value is the full read's.
+ */
+function rereadAfterValueEdit(text: string, memory: JsonReadMemory): JsonSpecResult | undefined {
+  const earlier = memory.take();
+  if (!earlier || text.length > MAX_DOCUMENT_LENGTH) return undefined;
+  const { tree } = earlier;
+  const edit = patchScalarEdit(tree, earlier.text, text);
+  if (!edit) {
+    memory.remember(earlier.text, tree);
+    return undefined;
+  }
+  const problems: Finding[] = [];
+  const spec = new SpecReader(tree, problems).read();
+  if (problems.length > 0 || !editedValueFitsSchema(tree, edit.node)) return undefined;
+  memory.remember(text, tree);
+  memory.rereads++;
+  return { spec, findings: [] };
+}
+
+/**
+ * Whether the document, valid before its value at `node` changed, is still valid: the value
+ * satisfies the schema that applies where it stands and, inside a list whose items must differ,
+ * the list still does. That covers every keyword that reads a value of the schema's own (types,
+ * ranges, lengths, enums, `uniqueItems`); a schema with any other keyword on the way down is not
+ * decided here (false), and the caller validates the whole document.
+ */
+function editedValueFitsSchema(tree: JsonTree, node: number): boolean {
+  const compiled = schemaOnce();
+  const path: Array<string | number> = [];
+  let list = NONE;
+  for (let child = node, parent = tree.parents[node]; parent !== NONE; parent = tree.parents[child]) {
+    if (tree.kinds[parent] === NodeKind.Property) {
+      path.push(tree.str(tree.keyOf(parent)));
+      child = tree.parents[parent];
+    } else {
+      let index = 0;
+      for (let item = tree.firstChildren[parent]; item !== child; item = tree.nextSiblings[item]) index++;
+      path.push(index);
+      if (child === node) list = parent;
+      child = parent;
+    }
+  }
+  path.reverse();
+  let schema: Record<string, unknown> | undefined = compiled.inlined as Record<string, unknown>;
+  let listSchema: Record<string, unknown> | undefined;
+  for (const segment of path) {
+    if (!Object.keys(schema).every((keyword) => LOCAL_KEYWORDS.has(keyword))) return false;
+    if (typeof segment === 'number') listSchema = schema;
+    schema = partSchema(schema, segment);
+    if (!schema) return false;
+  }
+  if (!Object.keys(schema).every((keyword) => LOCAL_KEYWORDS.has(keyword))) return false;
+  const part = (s: object): ValidateFunction => {
+    let validate = compiled.parts.get(s);
+    if (!validate) compiled.parts.set(s, (validate = compiled.ajv.compile(s)));
+    return validate;
+  };
+  if (!part(schema)(tree.toValue(node))) return false;
+  if (list !== NONE && listSchema?.uniqueItems === true && !part(listSchema)(tree.toValue(list))) return false;
+  return true;
+}
+
+/**
+ * Keywords whose verdict on an object or list cannot change when a value inside it changes, apart
+ * from the value's own schema, and `uniqueItems`, which editedValueFitsSchema checks on the list.
+ */
+const LOCAL_KEYWORDS = new Set([
+  'type',
+  'properties',
+  'additionalProperties',
+  'required',
+  'propertyNames',
+  'items',
+  'minItems',
+  'minProperties',
+  'uniqueItems',
+  'minLength',
+  'minimum',
+  'maximum',
+  'enum',
+  'description',
+  'title',
+  'default',
+  '$schema',
+]);
+
+/** The schema of a property or item of a value of `schema`, or undefined when the schema has none to name. */
+function partSchema(schema: Record<string, unknown>, segment: string | number): Record<string, unknown> | undefined {
+  const asSchema = (value: unknown) =>
+    value && typeof value === 'object' && !Array.isArray(value) ? (value as Record<string, unknown>) : undefined;
+  if (typeof segment === 'number') return asSchema(schema.items);
+  const properties = asSchema(schema.properties);
+  if (properties && Object.prototype.hasOwnProperty.call(properties, segment)) return asSchema(properties[segment]);
+  return asSchema(schema.additionalProperties);
+}
+
+function parseUnchecked(text: string, memory?: JsonReadMemory): JsonSpecResult {
   const findings: Finding[] = [];
   const wholeText: Span = { start: 0, end: text.length };
   if (text.length > MAX_DOCUMENT_LENGTH) {
@@ -207,6 +351,7 @@ function parseUnchecked(text: string): JsonSpecResult {
   );
 
   kept.sort((a, b) => a.span.start - b.span.start);
+  if (memory && kept.length === 0 && undescribed.count === 0 && findings.length === 0) memory.remember(text, tree);
   findings.push(...kept.slice(0, MAX_SCHEMA_FINDINGS));
   if (kept.length > MAX_SCHEMA_FINDINGS || undescribed.count > 0) {
     const rest = Math.max(0, kept.length - MAX_SCHEMA_FINDINGS) + undescribed.count;

@@ -5,7 +5,7 @@
  * holds a core while the user types.
  */
 import { Worker } from 'node:worker_threads';
-import type { AnalysisJob, AnalysisSnapshot, WorkerReply } from './protocol';
+import { REMEMBERED_DOCUMENTS, type AnalysisJob, type AnalysisSnapshot, type WorkerReply } from './protocol';
 
 export class JobCancelledError extends Error {
   constructor() {
@@ -34,6 +34,8 @@ interface PooledWorker {
   job?: PendingJob;
   /** Set once the worker is being terminated; it takes no further jobs. */
   retired: boolean;
+  /** The documents of its last jobs, most recent last (as many as the worker remembers reads of). */
+  recentUris: string[];
 }
 
 interface PendingJob {
@@ -106,13 +108,20 @@ export class WorkerPool {
 
   private pump(): void {
     while (this.queue.length > 0 && !this.disposed) {
-      let idle = this.workers.find((w) => !w.job && !w.retired);
+      const next = this.queue[0];
+      // A worker that read this document last re-reads an edit of it fastest (lsp/worker.ts).
+      let idle =
+        this.workers.find((w) => !w.job && !w.retired && w.recentUris.includes(next.job.uri)) ??
+        this.workers.find((w) => !w.job && !w.retired);
       if (!idle) {
         if (this.workers.filter((w) => !w.retired).length >= this.options.size) return;
         idle = this.spawn();
       }
       const pending = this.queue.shift()!;
       idle.job = pending;
+      idle.recentUris = [...idle.recentUris.filter((uri) => uri !== pending.job.uri), pending.job.uri].slice(
+        -REMEMBERED_DOCUMENTS,
+      );
       Atomics.store(idle.cancelCell, 0, 0);
       idle.worker.postMessage(pending.job);
     }
@@ -121,7 +130,7 @@ export class WorkerPool {
   private spawn(): PooledWorker {
     const cancelBuffer = new SharedArrayBuffer(4);
     const worker = new Worker(this.options.script, { workerData: { cancelBuffer } });
-    const pooled: PooledWorker = { worker, cancelCell: new Int32Array(cancelBuffer), retired: false };
+    const pooled: PooledWorker = { worker, cancelCell: new Int32Array(cancelBuffer), retired: false, recentUris: [] };
     worker.on('message', (reply: WorkerReply) => this.onReply(pooled, reply));
     worker.on('error', (error) => {
       this.options.log(`An analysis worker failed: ${error.stack ?? error.message}`);

@@ -29,6 +29,9 @@ export interface AnalysisJob {
 
 export type WorkerRequest = AnalysisJob;
 
+/** How many documents' last reads an analysis worker keeps (JsonReadMemory), so the pool knows where a re-read is cheap. */
+export const REMEMBERED_DOCUMENTS = 4;
+
 export type WorkerReply =
   | { kind: 'ready' }
   | { kind: 'done'; jobId: number; snapshot: AnalysisSnapshot }

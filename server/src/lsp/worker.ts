@@ -9,13 +9,29 @@ import { parentPort, workerData } from 'node:worker_threads';
 import { analyzeFile } from '../analyze';
 import { DEFAULT_CONFIG } from '../config';
 import { findConfigFile, loadConfigFile, parseConfigText, type ConfigFile } from '../config-file';
+import { JsonReadMemory } from '../load/json';
 import { mergeSettings } from './settings';
-import type { AnalysisJob, WorkerReply } from './protocol';
+import { REMEMBERED_DOCUMENTS, type AnalysisJob, type WorkerReply } from './protocol';
 import { buildSnapshot, transferList } from './snapshot';
 
 const port = parentPort;
 if (!port) throw new Error('analysis-worker.js must run as a worker thread');
 const cancelCell = new Int32Array((workerData as { cancelBuffer: SharedArrayBuffer }).cancelBuffer);
+
+/**
+ * The last read of each recently analysed document, most recent last (the pool sends a document's
+ * jobs to the worker that read it last when it is free): an edit inside one value is then read by
+ * patching that read. A few documents only, since each holds its text and tree.
+ */
+const readMemories = new Map<string, JsonReadMemory>();
+
+function readMemoryOf(uri: string): JsonReadMemory {
+  const memory = readMemories.get(uri) ?? new JsonReadMemory();
+  readMemories.delete(uri);
+  readMemories.set(uri, memory);
+  if (readMemories.size > REMEMBERED_DOCUMENTS) readMemories.delete(readMemories.keys().next().value!);
+  return memory;
+}
 
 port.on('message', (job: AnalysisJob) => {
   void runJob(job);
@@ -33,6 +49,7 @@ async function runJob(job: AnalysisJob): Promise<void> {
       analysis: true,
       startFrom: job.startFrom,
       keepSolution: true,
+      readMemory: readMemoryOf(job.uri),
       isCancelled: () => Atomics.load(cancelCell, 0) === job.jobId,
     });
     const snapshot = buildSnapshot({
