@@ -81,10 +81,12 @@ export function policyIterationBounds(
     const greedy = greedyPolicy(model, nodes, nodeOf, allowed, reward, op.discount, values, fallback);
     return op.discount < 1 || properPolicy(graph, nodes, nodeOf, greedy) ? greedy : undefined;
   };
-  const swept = nodeGuess(nodes, sweptGuess(op, nodes), sigma);
   const warm = nodeGuess(nodes, guess, sigma);
-  const starts = [greedyFor(swept, attractor)];
-  if (warm) starts.push(greedyFor(warm, nodePolicyOf(model, nodes, allowed, earlierPolicy, attractor)));
+  // With the earlier policy breaking the guess's ties, its greedy policy starts well; the sweeps'
+  // greedy policy is the better start only where those ties would fall to the attractor.
+  const warmStart = warm && greedyFor(warm, nodePolicyOf(model, nodes, allowed, earlierPolicy, attractor));
+  const swept = warmStart && earlierPolicy ? undefined : nodeGuess(nodes, sweptGuess(op, nodes), sigma);
+  const starts = [warmStart, greedyFor(swept, attractor)];
   let solves = 0;
   let improvements = 0;
   const first = firstPolicy(model, nodes, nodeOf, reward, op.discount, counters, starts, warm ?? swept);
