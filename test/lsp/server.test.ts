@@ -118,6 +118,45 @@ describe('a push client (no pull diagnostics)', () => {
     expect(result.capabilities.diagnosticProvider).toBeUndefined();
   });
 
+  it('gives edits inside one value the diagnostics and hovers of a fresh open of the edited text', async () => {
+    // Each edit changes one number, so the worker re-reads it from its last read (load/json-reread.ts);
+    // the first edit makes the text longer, so every later position moves.
+    const uri = writeSpec('edited.mdp.json', LEAKY);
+    await client.open(uri, LEAKY);
+    await client.pushed(uri, 1);
+    const steps = [
+      { before: '"to": "b", "reward": 1 }', after: '"to": "b", "reward": 12.5 }' },
+      { before: '"a": 0.4 }', after: '"a": 0.5 }' },
+    ];
+    let text = LEAKY;
+    for (const [index, step] of steps.entries()) {
+      const offset = text.indexOf(step.before);
+      const start = positionOf(text, step.before, 0, 0);
+      const end = positionOf(text, step.before, 0, step.before.length);
+      await client.change(uri, index + 2, [{ range: { start, end }, text: step.after }]);
+      text = text.slice(0, offset) + step.after + text.slice(offset + step.before.length);
+      const edited = await client.pushed(uri, index + 2);
+      const freshUri = writeSpec(`fresh-${index}.mdp.json`, text);
+      await client.open(freshUri, text);
+      const fresh = await client.pushed(freshUri, 1);
+      // The diagnostics' data names the document version they belong to; all else must agree.
+      const unversioned = (list: Diagnostic[]) =>
+        list.map((d) => ({ ...d, data: { ...(d.data as object), version: undefined } }));
+      expect(unversioned(edited.diagnostics)).toEqual(unversioned(fresh.diagnostics));
+      expect(edited.diagnostics.length).toBe(index === 0 ? 1 : 0);
+    }
+    // Once b's outcomes add up to 1 the spec compiles. By hand: V*(b) = 10 + 0.9 (0.5 V*(a)) and
+    // V*(a) = 12.5 + 0.9 V*(b) (going beats staying), so V*(a) = 21.5 / 0.595 = 36.13.
+    const at = positionOf(text, '"a": {}');
+    const freshUri = writeSpec('fresh-final.mdp.json', text);
+    await client.open(freshUri, text);
+    await client.pushed(freshUri, 1);
+    const [editedHover, freshHover] = await Promise.all([client.hover(uri, at), client.hover(freshUri, at)]);
+    expect(editedHover!.contents).toEqual(freshHover!.contents);
+    expect(editedHover!.contents.value).toContain('| optimal | 36.13 |');
+    expect(byRule((await client.pushed(uri, 3)).diagnostics, 'probability-sum')).toEqual([]);
+  });
+
   it('pushes diagnostics with the rule id, source, a documentation link and the version', async () => {
     const uri = writeSpec('leaky.mdp.json', LEAKY);
     await client.open(uri, LEAKY);
