@@ -1004,24 +1004,11 @@ class SpecReader {
   private readTransition(node: number, index: number): void {
     const tree = this.tree;
     if (tree.kinds[node] !== NodeKind.Object) return;
-    // One pass over the properties (the last of a repeated key counts, as in member).
-    let fromNode = NONE;
-    let actionNode = NONE;
-    let rewardNode = NONE;
-    let toNode = NONE;
-    for (let property = tree.firstChildren[node]; property !== NONE; property = tree.nextSiblings[property]) {
-      const key = tree.firstChildren[property];
-      const value = key === NONE ? NONE : tree.nextSiblings[key];
-      if (value === NONE) continue;
-      const name = tree.str(key);
-      if (name === 'from') fromNode = value;
-      else if (name === 'action') actionNode = value;
-      else if (name === 'reward') rewardNode = value;
-      else if (name === 'to') toNode = value;
-    }
-    const froms = this.stringOrStrings(fromNode);
-    const actions = this.stringOrStrings(actionNode);
-    const reward = rewardNode !== NONE ? this.readReward(rewardNode, index) : [];
+    const froms = this.stringOrStrings(tree.member(node, 'from'));
+    const actions = this.stringOrStrings(tree.member(node, 'action'));
+    const rewardNode = tree.member(node, 'reward');
+    const reward = rewardNode !== NONE ? this.readReward(rewardNode, [index, 'reward']) : [];
+    const toNode = tree.member(node, 'to');
     const read = toNode !== NONE ? this.readOutcomes(toNode, reward ?? [], index) : { outcomes: [], complete: false };
     if (froms.length === 0 || actions.length === 0) {
       this.recordUnread(node, froms, actions);
@@ -1140,21 +1127,10 @@ class SpecReader {
     } else if (kind === NodeKind.Array) {
       let i = 0;
       for (let item = tree.firstChildren[node]; item !== NONE; item = tree.nextSiblings[item], i++) {
-        // One pass over the outcome's properties (the last of a repeated key counts, as in member).
-        let state = NONE;
-        let probability = NONE;
-        let ownRewardNode = NONE;
-        const first = tree.kinds[item] === NodeKind.Object ? tree.firstChildren[item] : NONE;
-        for (let property = first; property !== NONE; property = tree.nextSiblings[property]) {
-          const key = tree.firstChildren[property];
-          const value = key === NONE ? NONE : tree.nextSiblings[key];
-          if (value === NONE) continue;
-          const name = tree.str(key);
-          if (name === 'state') state = value;
-          else if (name === 'probability') probability = value;
-          else if (name === 'reward') ownRewardNode = value;
-        }
-        const ownReward = ownRewardNode !== NONE ? this.readReward(ownRewardNode, index, i) : reward;
+        const state = tree.member(item, 'state');
+        const probability = tree.member(item, 'probability');
+        const ownRewardNode = tree.member(item, 'reward');
+        const ownReward = ownRewardNode !== NONE ? this.readReward(ownRewardNode, [index, 'to', i, 'reward']) : reward;
         if (
           tree.kinds[state] !== NodeKind.String ||
           tree.kinds[probability] !== NodeKind.Number ||
@@ -1180,8 +1156,7 @@ class SpecReader {
   }
 
   /** A reward as parts: a number (term null) or one part per term. Undefined when it cannot be read. */
-  /** `outcome`: the outcome's position in the list of transition `index`, when the reward is an outcome's own. */
-  private readReward(node: number, index: number, outcome?: number): RewardPart[] | undefined {
+  private readReward(node: number, where: Array<string | number>): RewardPart[] | undefined {
     const tree = this.tree;
     if (tree.kinds[node] === NodeKind.Number) return [{ term: null, value: tree.numbers[node], span: tree.span(node) }];
     if (tree.kinds[node] !== NodeKind.Object) return undefined;
@@ -1193,12 +1168,12 @@ class SpecReader {
         continue;
       }
       parts.push({ term, value: tree.numbers[member.value], span: tree.span(member.value) });
-      this.checkTermDeclared(term, member.key, index, outcome);
+      this.checkTermDeclared(term, member.key, where);
     }
     return readable ? parts : undefined;
   }
 
-  private checkTermDeclared(term: string, keyNode: number, index: number, outcome: number | undefined): void {
+  private checkTermDeclared(term: string, keyNode: number, where: Array<string | number>): void {
     const offset = this.tree.starts[keyNode];
     if (!this.declaredTerms || this.declaredTerms.has(term) || this.reportedTermKeys.has(offset)) return;
     this.reportedTermKeys.add(offset);
@@ -1206,7 +1181,7 @@ class SpecReader {
     const advice = suggestion ? ` (did you mean "${suggestion}"?)` : '';
     this.findings.push(
       schemaFinding(
-        `reward term "${term}" in ${jsonPath(outcome === undefined ? ['transitions', index, 'reward'] : ['transitions', index, 'to', outcome, 'reward'])} is not declared in rewardTerms${advice}: its values count in the reward, but no term check (direction, shaping) applies to them`,
+        `reward term "${term}" in ${jsonPath(['transitions', ...where])} is not declared in rewardTerms${advice}: its values count in the reward, but no term check (direction, shaping) applies to them`,
         this.tree.span(keyNode),
       ),
     );
