@@ -33,7 +33,7 @@ export interface AnalyzeOptions {
   keepSolution?: boolean;
   /**
    * Held by the caller from one analysis of a JSON spec to the next analysis of the same document
-   * (the language server keeps one per document): an edit inside one value is then read by
+   * (each analysis worker of the language server keeps one per recent document): an edit inside one value is then read by
    * patching the last read instead of reading the whole text (load/json-reread.ts).
    */
   readMemory?: JsonReadMemory;

@@ -136,14 +136,15 @@ function inlineDefinitions(document: typeof schemaDocument): object {
 }
 
 /**
- * What the last read of a document leaves for the next read of the same document (the language
- * server keeps one per open document): its text and tree, when that read gave no finding. So a
+ * What the last read of a document leaves for the next read of the same document (each analysis
+ * worker of the language server keeps one per recent document): its text and tree, when that read
+ * gave no finding. So a
  * re-read has no earlier findings to carry over, and a read with findings always starts afresh.
  */
 export class JsonReadMemory {
   private text: string | undefined;
   private tree: JsonTree | undefined;
-  /** Reads that re-used the remembered tree (tests and the bench check that this path is taken). */
+  /** Reads that re-used the remembered tree (the tests check that this path is taken). */
   rereads = 0;
 
   remember(text: string, tree: JsonTree): void {
