@@ -6,6 +6,8 @@
  *   100x100 slippery grid at discount 0.99 (scripts/bench/generators.ts). An edit's analysis starts
  *   from the document's last solution (warm); closing and reopening the document drops it, so
  *   the time from reopening to diagnostics is the same analysis cold;
+ * - the 1k-state spec's first edits when the user pauses a second after opening it (in a server of
+ *   its own, since its worker practises once);
  * - hover latency with nothing else to do;
  * - hover latency, and the small spec's edit-to-diagnostics time, while the 100k-state spec is being
  *   analysed, which shows whether the big analysis blocks the editor.
@@ -22,6 +24,9 @@ import { slipperyGridSpec } from './generators';
 const EDITS = 20;
 const GRID_EDITS = 5;
 const HOVERS = 200;
+/** A user reads the new diagnostics before the first edit; the worker practises meanwhile (lsp/practice.ts). */
+const PAUSE_MS = 1000;
+const PAUSED_EDITS = 3;
 /** The 100k-state analysis may take minutes on a loaded machine; the bench waits for it. */
 const LARGE_TIMEOUT_MS = 30 * 60_000;
 
@@ -43,6 +48,10 @@ export async function run(): Promise<void> {
     console.log(`  edit -> fresh diagnostics (warm), ${EDITS} edits: ${summary(smallEdits)}   (target p95 <= 100 ms)`);
     console.log(
       `    of which the pipeline in the worker (analyzeFile and the snapshot): ${summary(workerTimes(client, small.uri, statusMark))}`,
+    );
+    const paused = await firstEditsAfterPause(folder);
+    console.log(
+      `  first ${PAUSED_EDITS} edits ${PAUSE_MS} ms after opening, in a server of its own (its worker practises meanwhile): ${summary(paused)}`,
     );
     const smallCold = await timeReopens(client, small, 5);
     console.log(`  reopen -> diagnostics (cold), 5 reopens: ${summary(smallCold)}`);
@@ -112,6 +121,19 @@ export async function run(): Promise<void> {
   } finally {
     if (client.process.exitCode === null) client.process.kill();
     rmSync(folder, { recursive: true, force: true });
+  }
+}
+
+/** The first edits of the 1k-state spec in a new server, the first one PAUSE_MS after its first diagnostics. */
+async function firstEditsAfterPause(folder: string): Promise<number[]> {
+  const client = new TestClient({ pull: false, workspaceFolder: folder, dist: __dirname });
+  try {
+    await client.initialize();
+    const spec = await openSpec(client, folder, 'small-paused', warehouseSpecText(1_000), '"action":"hop"');
+    await new Promise((resolve) => setTimeout(resolve, PAUSE_MS));
+    return await timeEdits(client, spec, PAUSED_EDITS);
+  } finally {
+    await client.stop();
   }
 }
 

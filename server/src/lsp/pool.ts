@@ -30,7 +30,8 @@ export interface JobHandle {
 
 interface PooledWorker {
   worker: Worker;
-  cancelCell: Int32Array;
+  /** [0]: the id of the job to cancel; [1]: jobs posted (lsp/worker.ts). */
+  sharedCells: Int32Array;
   job?: PendingJob;
   /** Set once the worker is being terminated; it takes no further jobs. */
   retired: boolean;
@@ -94,7 +95,7 @@ export class WorkerPool {
     }
     const owner = this.workers.find((w) => w.job === pending);
     if (!owner) return;
-    Atomics.store(owner.cancelCell, 0, pending.job.jobId);
+    Atomics.store(owner.sharedCells, 0, pending.job.jobId);
     pending.graceTimer = setTimeout(() => {
       if (owner.job === pending) {
         this.options.log(
@@ -122,15 +123,17 @@ export class WorkerPool {
       idle.recentUris = [...idle.recentUris.filter((uri) => uri !== pending.job.uri), pending.job.uri].slice(
         -REMEMBERED_DOCUMENTS,
       );
-      Atomics.store(idle.cancelCell, 0, 0);
+      Atomics.store(idle.sharedCells, 0, 0);
+      // Counted before posting, so that a worker practising on its own (practice.ts) stops for the job.
+      Atomics.add(idle.sharedCells, 1, 1);
       idle.worker.postMessage(pending.job);
     }
   }
 
   private spawn(): PooledWorker {
-    const cancelBuffer = new SharedArrayBuffer(4);
+    const cancelBuffer = new SharedArrayBuffer(8);
     const worker = new Worker(this.options.script, { workerData: { cancelBuffer } });
-    const pooled: PooledWorker = { worker, cancelCell: new Int32Array(cancelBuffer), retired: false, recentUris: [] };
+    const pooled: PooledWorker = { worker, sharedCells: new Int32Array(cancelBuffer), retired: false, recentUris: [] };
     worker.on('message', (reply: WorkerReply) => this.onReply(pooled, reply));
     worker.on('error', (error) => {
       this.options.log(`An analysis worker failed: ${error.stack ?? error.message}`);
