@@ -64,6 +64,21 @@ describe('practise', () => {
     expect(seen).toEqual(Array.from({ length: PRACTICE_ROUNDS }, (_, i) => (i % 2 === 0 ? 'e' : 'o')));
   });
 
+  it('runs nothing when a job comes during the pause before it', async () => {
+    let waiting = false;
+    setTimeout(() => (waiting = true), 10);
+    const seen: string[] = [];
+    const rounds = await practise(
+      { original: 'o', edited: 'e' },
+      async (text) => void seen.push(text),
+      () => waiting,
+      PRACTICE_ROUNDS,
+      100,
+    );
+    expect(rounds).toBe(0);
+    expect(seen).toEqual([]);
+  });
+
   it('stops as soon as a job is waiting', async () => {
     let waiting = false;
     const seen: string[] = [];
