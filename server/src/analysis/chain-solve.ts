@@ -16,7 +16,7 @@
 import type { CompiledModel } from '../model/compiled';
 import type { ModelGraph } from './graph';
 import { scaledWidth } from './interval-iteration';
-import { guessAt } from './warm-start';
+import { guessesAt } from './warm-start';
 import {
   BlockSolver,
   newSolverCounters,
@@ -194,7 +194,7 @@ export function certifiedChainSolve(
 ): boolean {
   const wanted = wantedBlocksOf(system, iterate);
   if (!wanted) return false;
-  const rowGuess = guess ? Float64Array.from(system.stateOf, (s) => guessAt(guess, s, 0)) : undefined;
+  const rowGuess = guess ? guessesAt(guess, system.stateOf, 0) : undefined;
   const solved = certifiedSolve(system, reward, wanted, 0, rowGuess, options.precision);
   if (!solved) return false;
   const { x, radius } = solved;
@@ -348,7 +348,7 @@ function earlierDirectionRows(system: LinearSystem, want: Uint8Array): Float64Ar
 /** Gives a chain system an earlier analysis's direction (per state, directionByState), unless it has one. */
 export function offerEarlierDirection(system: ChainSystem, perState: Float64Array | undefined): void {
   if (system.earlierDirection || !perState || perState.length !== system.model.stateCount) return;
-  system.earlierDirection = Float64Array.from(system.stateOf, (s) => perState[s]);
+  system.earlierDirection = guessesAt(perState, system.stateOf);
 }
 
 /** The system's error direction per state (NaN for states without a row), for the next analysis's warm start. */

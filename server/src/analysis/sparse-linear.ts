@@ -166,7 +166,6 @@ export class BlockSolver {
       const first = this.blockStart[blk];
       const size = this.blockStart[blk + 1] - first;
       if (scratch.length < size) scratch = new Float64Array(Math.max(size, 2 * scratch.length));
-      const rhs = scratch.subarray(0, size);
       // The right-hand side of the block: b minus the couplings to rows already solved.
       for (let j = 0; j < size; j++) {
         const i = this.order[first + j];
@@ -175,7 +174,7 @@ export class BlockSolver {
           const col = column[e];
           if (this.blockOf[col] !== blk) sum -= value[e] * x[col];
         }
-        rhs[j] = sum;
+        scratch[j] = sum;
       }
       let factor = this.factorOf(blk);
       if (!factor) return false;
@@ -185,8 +184,12 @@ export class BlockSolver {
       )
         factor = this.refactored(blk, factor);
       if (factor.kind === 'scalar') {
-        x[this.order[first]] = rhs[0] / factor.diagonal;
-      } else if (factor.kind === 'dense') {
+        x[this.order[first]] = scratch[0] / factor.diagonal;
+        continue;
+      }
+      // Most blocks are scalar (one per state of an acyclic part); only the others need a view of their own length.
+      const rhs = scratch.subarray(0, size);
+      if (factor.kind === 'dense') {
         luSolve(factor, rhs);
         for (let j = 0; j < size; j++) x[this.order[first + j]] = rhs[j];
       } else if (factor.kind === 'sparse') {

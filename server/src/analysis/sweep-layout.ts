@@ -10,6 +10,7 @@
  * probabilities and the allowed set, so the sweeps compute the same numbers in the same order and
  * the certificates of interval-iteration.ts hold unchanged.
  */
+import { guessesAt } from './warm-start';
 import { solveBounds, type Nodes, type Operator, type SolveOptions, type SolveResult } from './interval-iteration';
 
 /**
@@ -49,7 +50,7 @@ export function solveBoundsOnCopy(
     packedBounds[2 * s] = bounds[2 * stateOf[s]];
     packedBounds[2 * s + 1] = bounds[2 * stateOf[s] + 1];
   }
-  const guess = options.guess ? Float64Array.from(stateOf, (old) => options.guess![old]) : undefined;
+  const guess = options.guess ? guessesAt(options.guess, stateOf) : undefined;
   const result = solveBounds(packed.op, packed.nodes, packedBounds, { ...options, guess });
   for (let s = 0; s < n; s++) {
     bounds[2 * stateOf[s]] = packedBounds[2 * s];

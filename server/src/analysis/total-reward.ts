@@ -640,13 +640,16 @@ function classifyChainTotal(
   const undecided = new Uint8Array(n);
   const zeroBottom = new Uint8Array(n);
   const local = new Int32Array(n).fill(-1);
+  const { order } = scc;
   for (let i = 0; i < scc.count; i++) {
-    const members = scc.order.subarray(scc.start[i], scc.start[i + 1]);
+    // Indices into scc.order rather than a subarray per component: most components are single states.
+    const first = scc.start[i];
+    const end = scc.start[i + 1];
     let bottom = true;
     let hasPositive = false;
     let hasNegative = false;
-    for (let j = 0; j < members.length && bottom; j++) {
-      const s = members[j];
+    for (let j = first; j < end && bottom; j++) {
+      const s = order[j];
       let sum = 0;
       let magnitude = 0;
       let used = 0;
@@ -670,7 +673,8 @@ function classifyChainTotal(
     else if (!hasNegative) sign = GAIN_POSITIVE;
     else if (!hasPositive) sign = GAIN_NEGATIVE;
     else {
-      const b = gainBounds(graph, Int32Array.from(members), chainMask, problem.reward, 1, local, ctx.gainBudget, true);
+      const members = order.slice(first, end);
+      const b = gainBounds(graph, members, chainMask, problem.reward, 1, local, ctx.gainBudget, true);
       sign = b.lower > 0 ? GAIN_POSITIVE : b.upper < 0 ? GAIN_NEGATIVE : GAIN_UNDECIDED;
     }
     const mark =
@@ -681,7 +685,7 @@ function classifyChainTotal(
           : sign === GAIN_NEGATIVE
             ? negative
             : undecided;
-    for (let j = 0; j < members.length; j++) mark[members[j]] = 1;
+    for (let j = first; j < end; j++) mark[order[j]] = 1;
   }
   const reachesPositive = canReach(graph, positive, chainMask);
   const reachesNegative = canReach(graph, negative, chainMask);

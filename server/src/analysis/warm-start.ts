@@ -74,6 +74,21 @@ export function warmStartOf(model: CompiledModel, solved: Map<string, Float64Arr
   return { ids: model.stateIds.join(''), idStart, discount: model.discount, values: Object.fromEntries(solved) };
 }
 
+/**
+ * The guesses of the states `states` lists, in that order (NaN, or `fallback` when given, where
+ * there is none). A loop, not Float64Array.from with a mapping function, which goes through an
+ * iterator and boxes every number: 7x slower on 400k rows, and the 100k-state analysis' largest
+ * source of garbage.
+ */
+export function guessesAt(guess: Float64Array, states: Int32Array, fallback?: number): Float64Array {
+  const out = new Float64Array(states.length);
+  for (let i = 0; i < states.length; i++) {
+    const v = guess[states[i]];
+    out[i] = fallback === undefined || Number.isFinite(v) ? v : fallback;
+  }
+  return out;
+}
+
 /** The guess of one state, or `fallback` where there is none. */
 export function guessAt(guess: Float64Array | undefined, s: number, fallback: number): number {
   const v = guess ? guess[s] : NaN;
